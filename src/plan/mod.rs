@@ -1,0 +1,307 @@
+//! Plan files: raw TOML structs that mirror the file, and the validated [`Plan`]
+//! whose types cannot hold a value outside PLAN.md's allowed ranges.
+
+pub mod raw;
+pub mod starter;
+mod validate;
+
+use crate::activity::Activity;
+use crate::model::{Compensation, Constants, Subject};
+use chrono::{NaiveDate, Weekday};
+use serde::Serialize;
+
+pub use validate::{load_plan, parse_plan};
+
+/// A validated plan.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct Plan {
+    /// Where it came from (a path, or "built-in demo plan").
+    pub source_name: String,
+    /// The participant.
+    pub participant: Participant,
+    /// The protocol.
+    pub protocol: Protocol,
+    /// The activity.
+    pub activity: Activity,
+    /// Model constants.
+    pub constants: Constants,
+    /// One or more scenarios, names unique.
+    pub scenarios: Vec<Scenario>,
+}
+
+/// The participant: a pseudonymous code, the model's inputs and the screening answers.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct Participant {
+    /// Pseudonymous code.
+    pub id: String,
+    /// What the model needs.
+    pub subject: Subject,
+    /// ACSM 2015 pre-participation screening answers, if recorded.
+    pub screening: Option<Screening>,
+}
+
+/// Answers for the ACSM 2015 pre-participation screening algorithm.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
+pub struct Screening {
+    /// Planned exercise of at least 30 min, moderate, 3 days a week, for 3 months.
+    pub exercises_regularly: bool,
+    /// Known cardiovascular, metabolic or renal disease.
+    pub known_disease: bool,
+    /// Signs or symptoms suggestive of such disease.
+    pub signs_or_symptoms: bool,
+    /// Medical clearance obtained and on file.
+    pub medical_clearance: bool,
+}
+
+/// What happens to a session longer than the maximum (MODEL.md 4).
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
+#[serde(rename_all = "kebab-case")]
+pub enum OverMax {
+    /// Keep the minutes and warn.
+    Flag,
+    /// Cut to the maximum and report the shortfall.
+    Cap,
+    /// Spread the week's energy over extra sessions on spare weekdays.
+    AddSession,
+    /// Give each session as two equal bouts on the same day.
+    Split,
+}
+
+impl OverMax {
+    /// The plan-file word.
+    pub fn name(self) -> &'static str {
+        match self {
+            OverMax::Flag => "flag",
+            OverMax::Cap => "cap",
+            OverMax::AddSession => "add-session",
+            OverMax::Split => "split",
+        }
+    }
+}
+
+/// The amount of the dose: exactly one of the four kinds.
+#[derive(Debug, Clone, Copy, PartialEq, Serialize)]
+#[serde(rename_all = "snake_case")]
+pub enum DoseAmount {
+    /// kcal per session.
+    KcalPerSession(f64),
+    /// kcal per week.
+    KcalPerWeek(f64),
+    /// kcal per kg of body mass per week.
+    KcalPerKgWeek(f64),
+    /// Minutes per week (time-fixed; energy varies).
+    MinutesPerWeek(f64),
+}
+
+impl DoseAmount {
+    /// The plan key of this kind (also the JSON `dose_unit`).
+    pub fn key(&self) -> &'static str {
+        match self {
+            DoseAmount::KcalPerSession(_) => "kcal_per_session",
+            DoseAmount::KcalPerWeek(_) => "kcal_per_week",
+            DoseAmount::KcalPerKgWeek(_) => "kcal_per_kg_week",
+            DoseAmount::MinutesPerWeek(_) => "minutes_per_week",
+        }
+    }
+
+    /// The amount in its own unit.
+    pub fn value(&self) -> f64 {
+        match *self {
+            DoseAmount::KcalPerSession(v)
+            | DoseAmount::KcalPerWeek(v)
+            | DoseAmount::KcalPerKgWeek(v)
+            | DoseAmount::MinutesPerWeek(v) => v,
+        }
+    }
+
+    /// The same kind with another amount.
+    pub fn with_value(&self, v: f64) -> DoseAmount {
+        match self {
+            DoseAmount::KcalPerSession(_) => DoseAmount::KcalPerSession(v),
+            DoseAmount::KcalPerWeek(_) => DoseAmount::KcalPerWeek(v),
+            DoseAmount::KcalPerKgWeek(_) => DoseAmount::KcalPerKgWeek(v),
+            DoseAmount::MinutesPerWeek(_) => DoseAmount::MinutesPerWeek(v),
+        }
+    }
+
+    /// Unit for display.
+    pub fn unit(&self) -> &'static str {
+        match self {
+            DoseAmount::KcalPerSession(_) => "kcal/session",
+            DoseAmount::KcalPerWeek(_) => "kcal/week",
+            DoseAmount::KcalPerKgWeek(_) => "kcal/kg/week",
+            DoseAmount::MinutesPerWeek(_) => "min/week",
+        }
+    }
+}
+
+/// Whether dose energy counts the resting energy (gross) or not (net).
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
+#[serde(rename_all = "lowercase")]
+pub enum EnergyBasis {
+    /// Gross energy, rest included.
+    Gross,
+    /// Net of rest (MODEL.md 4, `rest_for_net`).
+    Net,
+}
+
+/// Which mass a per-kg dose is multiplied by.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
+#[serde(rename_all = "lowercase")]
+pub enum MassBasis {
+    /// The baseline mass, all protocol long.
+    Baseline,
+    /// Each week's reference mass.
+    Current,
+}
+
+/// The dose.
+#[derive(Debug, Clone, Copy, PartialEq, Serialize)]
+pub struct Dose {
+    /// The amount and its kind.
+    pub amount: DoseAmount,
+    /// Gross or net.
+    pub basis: EnergyBasis,
+    /// Baseline or current mass, for per-kg doses.
+    pub mass_basis: MassBasis,
+}
+
+/// A linear progression to the full dose.
+#[derive(Debug, Clone, Copy, PartialEq, Serialize)]
+pub struct Ramp {
+    /// Ramp weeks `R`; the full dose comes in week `R + 1`.
+    pub weeks: u32,
+    /// Fraction of the dose in week 1, `s`.
+    pub start_fraction: f64,
+}
+
+impl Ramp {
+    /// `r_w = s + (1 - s)(w - 1)/R` for `w <= R`, else 1 (MODEL.md 4).
+    pub fn fraction(&self, week: u32) -> f64 {
+        if week <= self.weeks {
+            self.start_fraction
+                + (1.0 - self.start_fraction) * f64::from(week - 1) / f64::from(self.weeks)
+        } else {
+            1.0
+        }
+    }
+}
+
+/// The protocol: dates, session days, dose and limits.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct Protocol {
+    /// First day of week 1.
+    pub start: NaiveDate,
+    /// Weeks of exercise.
+    pub weeks: u32,
+    /// Weeks simulated after exercise stops.
+    pub follow_up_weeks: u32,
+    /// Session weekdays, distinct, Monday first.
+    #[serde(serialize_with = "weekdays")]
+    pub session_days: Vec<Weekday>,
+    /// Spare weekdays for `add-session`, distinct, none a session day.
+    #[serde(serialize_with = "weekdays")]
+    pub spare_days: Vec<Weekday>,
+    /// Longest session (or bout), minutes.
+    pub max_session_minutes: Option<f64>,
+    /// What to do over the maximum.
+    pub over_max: OverMax,
+    /// Minutes round up to this step.
+    pub round_minutes_to: u32,
+    /// The dose.
+    pub dose: Dose,
+    /// The ramp, if any.
+    pub ramp: Option<Ramp>,
+}
+
+impl Protocol {
+    /// Protocol plus follow-up weeks.
+    pub fn total_weeks(&self) -> u32 {
+        self.weeks + self.follow_up_weeks
+    }
+
+    /// The ramp fraction of protocol week `week`.
+    pub fn ramp_fraction(&self, week: u32) -> f64 {
+        self.ramp.map_or(1.0, |r| r.fraction(week))
+    }
+
+    /// The morning after the last simulated day.
+    pub fn end_date(&self) -> NaiveDate {
+        self.start + chrono::Days::new(7 * u64::from(self.total_weeks()))
+    }
+}
+
+fn weekdays<S: serde::Serializer>(days: &[Weekday], s: S) -> Result<S::Ok, S::Error> {
+    s.collect_seq(days.iter().map(|d| weekday_name(*d)))
+}
+
+/// The plan-file word for a weekday (`mon` ... `sun`).
+pub fn weekday_name(d: Weekday) -> &'static str {
+    match d {
+        Weekday::Mon => "mon",
+        Weekday::Tue => "tue",
+        Weekday::Wed => "wed",
+        Weekday::Thu => "thu",
+        Weekday::Fri => "fri",
+        Weekday::Sat => "sat",
+        Weekday::Sun => "sun",
+    }
+}
+
+/// A named set of compensation assumptions.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct Scenario {
+    /// Unique name.
+    pub name: String,
+    /// The assumptions.
+    pub compensation: Compensation,
+}
+
+impl Scenario {
+    /// The assumptions in plain words.
+    pub fn assumptions(&self) -> String {
+        let c = &self.compensation;
+        let mut parts = Vec::new();
+        if c.intake_fraction > 0.0 {
+            let pct = c.intake_fraction * 100.0;
+            if c.intake_lag_days > 0.0 {
+                parts.push(format!(
+                    "intake rises by {pct:.0}% of exercise energy, reaching it with a {:.0}-day lag",
+                    c.intake_lag_days
+                ));
+            } else {
+                parts.push(format!(
+                    "intake rises by {pct:.0}% of exercise energy at once"
+                ));
+            }
+        }
+        if c.activity_fraction > 0.0 {
+            parts.push(format!(
+                "other daily movement falls by {:.0}% of exercise energy",
+                c.activity_fraction * 100.0
+            ));
+        }
+        if c.rmr_adaptation_kcal_per_kg > 0.0 {
+            parts.push(format!(
+                "resting metabolism falls by {:.1} kcal/day for each kg lost, beyond what the equation predicts",
+                c.rmr_adaptation_kcal_per_kg
+            ));
+        }
+        if c.diet_change_kcal_per_day != 0.0 {
+            let verb = if c.diet_change_kcal_per_day < 0.0 {
+                "falls"
+            } else {
+                "rises"
+            };
+            parts.push(format!(
+                "planned intake {verb} by {:.0} kcal/day",
+                c.diet_change_kcal_per_day.abs()
+            ));
+        }
+        if parts.is_empty() {
+            "every session delivered as prescribed; nothing compensated".to_string()
+        } else {
+            parts.join("; ")
+        }
+    }
+}

@@ -1,0 +1,157 @@
+#![allow(missing_docs)] // fields are the plan keys, documented in PLAN.md and the README
+//! Raw plan structs: exactly the TOML file, every value with its byte span, unknown
+//! keys refused. Validation into [`crate::plan::Plan`] happens in one place.
+
+use serde::Deserialize;
+use toml::Spanned;
+
+/// A value with its position in the file.
+pub type S<T> = Spanned<T>;
+
+/// A TOML value that should be a number, kept loose so the validator can say what
+/// was wrong in the user's terms.
+pub type Num = S<f64>;
+
+/// The whole file.
+#[derive(Debug, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct RawPlan {
+    /// `[participant]`.
+    pub participant: Option<S<RawParticipant>>,
+    /// `[protocol]`.
+    pub protocol: Option<S<RawProtocol>>,
+    /// `[activity]`.
+    pub activity: Option<S<RawActivity>>,
+    /// `[model]`.
+    pub model: Option<S<RawModel>>,
+    /// `[[scenario]]`.
+    pub scenario: Option<Vec<S<RawScenario>>>,
+}
+
+/// `[participant]`.
+#[derive(Debug, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct RawParticipant {
+    pub id: Option<S<String>>,
+    pub sex: Option<S<String>>,
+    pub age_years: Option<Num>,
+    pub height_cm: Option<Num>,
+    pub mass_kg: Option<Num>,
+    pub body_fat_percent: Option<Num>,
+    pub rmr_kcal_per_day: Option<Num>,
+    pub intake_kcal_per_day: Option<Num>,
+    pub pal: Option<Num>,
+    pub screening: Option<S<RawScreening>>,
+}
+
+/// `[participant.screening]`.
+#[derive(Debug, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct RawScreening {
+    pub exercises_regularly: Option<S<bool>>,
+    pub known_disease: Option<S<bool>>,
+    pub signs_or_symptoms: Option<S<bool>>,
+    pub medical_clearance: Option<S<bool>>,
+}
+
+/// A date: a TOML local date, or a quoted ISO string.
+#[derive(Debug, Deserialize)]
+#[serde(untagged)]
+pub enum RawDate {
+    /// `2027-01-04`.
+    Toml(toml::value::Datetime),
+    /// `"2027-01-04"`.
+    Text(String),
+}
+
+/// `[protocol]`.
+#[derive(Debug, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct RawProtocol {
+    pub start: Option<S<RawDate>>,
+    pub weeks: Option<Num>,
+    pub follow_up_weeks: Option<Num>,
+    pub session_days: Option<S<Vec<S<String>>>>,
+    pub spare_days: Option<S<Vec<S<String>>>>,
+    pub max_session_minutes: Option<Num>,
+    pub over_max: Option<S<String>>,
+    pub round_minutes_to: Option<Num>,
+    pub dose: Option<S<RawDose>>,
+    pub ramp: Option<S<RawRamp>>,
+}
+
+/// `[protocol.dose]`.
+#[derive(Debug, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct RawDose {
+    pub kcal_per_session: Option<Num>,
+    pub kcal_per_week: Option<Num>,
+    pub kcal_per_kg_week: Option<Num>,
+    pub minutes_per_week: Option<Num>,
+    pub basis: Option<S<String>>,
+    pub mass_basis: Option<S<String>>,
+}
+
+/// `[protocol.ramp]`.
+#[derive(Debug, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct RawRamp {
+    pub weeks: Option<Num>,
+    pub start_fraction: Option<Num>,
+}
+
+/// A compendium code: a string, or (wrongly) a number the validator explains.
+#[derive(Debug, Deserialize)]
+#[serde(untagged)]
+pub enum RawCode {
+    /// `"02010"`.
+    Text(String),
+    /// `2010`: refused with a hint.
+    Integer(i64),
+    /// `20.10`: refused.
+    Float(f64),
+}
+
+/// `walking = { ... }` / `running = { ... }`.
+#[derive(Debug, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct RawGait {
+    pub speed_kmh: Option<Num>,
+    pub grade_percent: Option<Num>,
+}
+
+/// `[activity]`.
+#[derive(Debug, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct RawActivity {
+    pub compendium_code: Option<S<RawCode>>,
+    pub met: Option<Num>,
+    pub walking: Option<S<RawGait>>,
+    pub running: Option<S<RawGait>>,
+    pub cycling_watts: Option<Num>,
+    pub label: Option<S<String>>,
+}
+
+/// `[model]`.
+#[derive(Debug, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct RawModel {
+    pub rmr_equation: Option<S<String>>,
+    pub rest_for_net: Option<S<String>>,
+    pub tef_fraction: Option<Num>,
+    pub fat_kcal_per_kg: Option<Num>,
+    pub lean_kcal_per_kg: Option<Num>,
+    pub forbes_constant_kg: Option<Num>,
+}
+
+/// `[[scenario]]`.
+#[derive(Debug, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct RawScenario {
+    pub name: Option<S<String>>,
+    pub intake_fraction: Option<Num>,
+    pub intake_lag_days: Option<Num>,
+    pub activity_fraction: Option<Num>,
+    pub rmr_adaptation_kcal_per_kg: Option<Num>,
+    pub diet_change_kcal_per_day: Option<Num>,
+}

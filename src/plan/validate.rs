@@ -1,0 +1,897 @@
+//! Raw plan -> validated [`Plan`]: every range of PLAN.md, every one-of group, every
+//! error with file, line, column, key, value and what is allowed.
+
+use super::raw::*;
+use super::*;
+use crate::activity::{Activity, Intensity, compendium};
+use crate::error::Error;
+use crate::model::energy::{CalibrationError, calibrate};
+use crate::model::{Compensation, Constants, RestForNet, RmrEquation, Sex, Subject};
+use std::ops::Range;
+
+/// Read and validate a plan file. A missing, unreadable or non-UTF-8 file is bad input.
+pub fn load_plan(path: &std::path::Path) -> Result<Plan, Error> {
+    let name = path.display().to_string();
+    let bytes = std::fs::read(path).map_err(|e| Error::Unreadable {
+        path: name.clone(),
+        reason: io_reason(&e),
+    })?;
+    let text = String::from_utf8(bytes).map_err(|e| Error::Unreadable {
+        path: name.clone(),
+        reason: format!(
+            "not UTF-8 text (invalid byte at offset {}); save the plan as UTF-8",
+            e.utf8_error().valid_up_to()
+        ),
+    })?;
+    parse_plan(&name, &text)
+}
+
+pub(crate) fn io_reason(e: &std::io::Error) -> String {
+    match e.kind() {
+        std::io::ErrorKind::NotFound => "no such file".to_string(),
+        std::io::ErrorKind::PermissionDenied => "permission denied".to_string(),
+        _ => e.to_string(),
+    }
+}
+
+/// Parse and validate plan text; `file` names it in errors.
+pub fn parse_plan(file: &str, text: &str) -> Result<Plan, Error> {
+    // A UTF-8 byte-order mark is accepted (editors on Windows write one).
+    let text = text.strip_prefix('\u{feff}').unwrap_or(text);
+    let cx = Cx { file, src: text };
+    if let Err(e) = toml::from_str::<toml::Table>(text) {
+        let off = e.span().map_or(0, |s| s.start);
+        return Err(Error::at(
+            file,
+            text,
+            off,
+            "",
+            format!("TOML syntax error: {}", tidy(e.message())),
+        ));
+    }
+    let raw: RawPlan = toml::from_str(text).map_err(|e| {
+        let off = e.span().map_or(0, |s| s.start);
+        let key = cx.key_at(off);
+        Error::at(file, text, off, &key, tidy(e.message()))
+    })?;
+    cx.plan(raw)
+}
+
+/// Make serde's wording read in the user's terms.
+fn tidy(msg: &str) -> String {
+    msg.trim()
+        .replace("expected f64", "expected a number")
+        .replace("expected a boolean", "expected true or false")
+        .replace(
+            "data did not match any variant of untagged enum RawDate",
+            "expected a date such as 2027-01-04",
+        )
+        .replace(
+            "data did not match any variant of untagged enum RawCode",
+            "expected a compendium code in quotes, such as \"17200\"",
+        )
+}
+
+struct Cx<'a> {
+    file: &'a str,
+    src: &'a str,
+}
+
+fn fmt_num(v: f64) -> String {
+    if v.is_finite() && v == v.trunc() && v.abs() < 1e15 {
+        format!("{v:.0}")
+    } else {
+        format!("{v}")
+    }
+}
+
+impl Cx<'_> {
+    fn err(&self, span: &Range<usize>, key: &str, msg: impl Into<String>) -> Error {
+        Error::at(self.file, self.src, span.start, key, msg)
+    }
+
+    /// The dotted key whose value starts at `offset`: the current table header plus the
+    /// text before `=` on that line.
+    fn key_at(&self, offset: usize) -> String {
+        let offset = offset.min(self.src.len());
+        let line_start = self.src[..offset].rfind('\n').map_or(0, |i| i + 1);
+        let line_end = self.src[offset..]
+            .find('\n')
+            .map_or(self.src.len(), |i| offset + i);
+        let line = &self.src[line_start..line_end];
+        let own = line.split('=').next().unwrap_or("").trim();
+        let mut table = String::new();
+        for l in self.src[..line_start].lines().rev() {
+            let t = l.trim();
+            if t.starts_with('[') {
+                table = t.trim_matches(|c| c == '[' || c == ']').trim().to_string();
+                break;
+            }
+        }
+        if own.starts_with('[') {
+            return own
+                .trim_matches(|c| c == '[' || c == ']')
+                .trim()
+                .to_string();
+        }
+        if !line.contains('=') {
+            return table;
+        }
+        if table.is_empty() {
+            own.to_string()
+        } else {
+            format!("{table}.{own}")
+        }
+    }
+
+    fn required<'v, T>(
+        &self,
+        v: &'v Option<S<T>>,
+        table: &Range<usize>,
+        table_name: &str,
+        key: &str,
+        hint: &str,
+    ) -> Result<&'v S<T>, Error> {
+        v.as_ref().ok_or_else(|| {
+            self.err(
+                table,
+                &format!("{table_name}.{key}"),
+                format!("missing required key; {hint}"),
+            )
+        })
+    }
+
+    /// A finite number within `lo..=hi`.
+    fn number(&self, v: &Num, key: &str, lo: f64, hi: f64, unit: &str) -> Result<f64, Error> {
+        let x = *v.get_ref();
+        if !x.is_finite() {
+            return Err(self.err(
+                &v.span(),
+                key,
+                format!(
+                    "value {x} is not a finite number; allowed {} to {}{unit}",
+                    fmt_num(lo),
+                    fmt_num(hi)
+                ),
+            ));
+        }
+        if x < lo || x > hi {
+            return Err(self.err(
+                &v.span(),
+                key,
+                format!(
+                    "value {} is out of range; allowed {} to {}{unit}",
+                    fmt_num(x),
+                    fmt_num(lo),
+                    fmt_num(hi)
+                ),
+            ));
+        }
+        Ok(x)
+    }
+
+    /// A finite number with `lo < x <= hi`.
+    fn number_above(&self, v: &Num, key: &str, lo: f64, hi: f64, unit: &str) -> Result<f64, Error> {
+        let x = *v.get_ref();
+        if !x.is_finite() || x <= lo || x > hi {
+            return Err(self.err(
+                &v.span(),
+                key,
+                format!(
+                    "value {} is out of range; allowed above {} and at most {}{unit}",
+                    fmt_num(x),
+                    fmt_num(lo),
+                    fmt_num(hi)
+                ),
+            ));
+        }
+        Ok(x)
+    }
+
+    /// A whole number within `lo..=hi`.
+    fn whole(&self, v: &Num, key: &str, lo: u32, hi: u32) -> Result<u32, Error> {
+        let x = *v.get_ref();
+        if !x.is_finite() || x.fract() != 0.0 {
+            return Err(self.err(
+                &v.span(),
+                key,
+                format!("value {x} is not a whole number; allowed whole numbers {lo} to {hi}"),
+            ));
+        }
+        if x < f64::from(lo) || x > f64::from(hi) {
+            return Err(self.err(
+                &v.span(),
+                key,
+                format!(
+                    "value {} is out of range; allowed whole numbers {lo} to {hi}",
+                    fmt_num(x)
+                ),
+            ));
+        }
+        Ok(x as u32)
+    }
+
+    fn opt_number(
+        &self,
+        v: &Option<Num>,
+        key: &str,
+        lo: f64,
+        hi: f64,
+        unit: &str,
+    ) -> Result<Option<f64>, Error> {
+        v.as_ref()
+            .map(|v| self.number(v, key, lo, hi, unit))
+            .transpose()
+    }
+
+    fn choice<T: Copy>(&self, v: &S<String>, key: &str, options: &[(&str, T)]) -> Result<T, Error> {
+        let s = v.get_ref().as_str();
+        options
+            .iter()
+            .find(|(n, _)| *n == s)
+            .map(|(_, t)| *t)
+            .ok_or_else(|| {
+                let allowed: Vec<&str> = options.iter().map(|(n, _)| *n).collect();
+                self.err(
+                    &v.span(),
+                    key,
+                    format!("unknown value \"{s}\"; allowed {}", allowed.join(", ")),
+                )
+            })
+    }
+
+    fn plan(&self, raw: RawPlan) -> Result<Plan, Error> {
+        let whole = 0..0;
+        let rp = raw.participant.as_ref().ok_or_else(|| {
+            self.err(
+                &whole,
+                "participant",
+                "missing required table [participant]",
+            )
+        })?;
+        let rprot = raw
+            .protocol
+            .as_ref()
+            .ok_or_else(|| self.err(&whole, "protocol", "missing required table [protocol]"))?;
+        let ract = raw.activity.as_ref().ok_or_else(|| self.err(&whole, "activity", "missing required table [activity]; give exactly one of compendium_code, met, walking, running, cycling_watts"))?;
+        let constants = self.constants(raw.model.as_ref())?;
+        let (id, subject, screening) = self.participant(rp)?;
+        let protocol = self.protocol(rprot)?;
+        let activity = self.activity(ract)?;
+        let scenarios = self.scenarios(raw.scenario.as_deref())?;
+
+        // Calibration needs the whole participant and the constants.
+        let (baseline, physiology) = calibrate(&subject, &constants).map_err(|e| match e {
+            CalibrationError::PalTooLow { activity_kcal_per_day, pal, minimum_pal } => {
+                let p = rp.get_ref();
+                let (span, key, what) = match (&p.pal, &p.intake_kcal_per_day) {
+                    (Some(v), _) => (v.span(), "participant.pal", format!("PAL {pal:.2}")),
+                    (None, Some(v)) => (v.span(), "participant.intake_kcal_per_day", format!("intake {} kcal/day (PAL {pal:.2})", fmt_num(*v.get_ref()))),
+                    (None, None) => (rp.span(), "participant", format!("PAL {pal:.2}")),
+                };
+                self.err(&span, key, format!("{what} is too low for the thermic effect of food: it leaves {activity_kcal_per_day:.0} kcal/day for non-exercise activity; allowed a PAL above {minimum_pal:.2} with this RMR and TEF"))
+            }
+            CalibrationError::EstimatedFatOutOfRange(p) => self.err(&rp.span(), "participant.body_fat_percent", format!("body fat estimated from BMI (Deurenberg 1991) is {p:.1}%, outside 3 to 70%; give a measured body_fat_percent")),
+        })?;
+
+        // The net energy per minute must be positive at baseline whatever the basis.
+        let met0 = activity.intensity.met_at(baseline.mass_kg);
+        let net0 = physiology.net_kcal_per_min(met0, baseline.mass_kg, baseline.rmr_kcal_per_day);
+        if net0 <= 0.0 {
+            let span = ract.span();
+            let rest = match constants.rest_for_net {
+                RestForNet::OwnRmr => "the participant's own resting rate",
+                RestForNet::OneMet => "one MET",
+            };
+            return Err(self.err(&span, "activity", format!("{} gives {met0:.2} MET, whose energy per minute ({:.3} kcal/min) is not above {rest} ({:.3} kcal/min): the net energy per minute is {net0:.3}, and must be positive; choose a higher intensity", activity.intensity.describe(), crate::activity::acsm::gross_kcal_per_min(met0, baseline.mass_kg), crate::activity::acsm::gross_kcal_per_min(met0, baseline.mass_kg) - net0)));
+        }
+        Ok(Plan {
+            source_name: self.file.to_string(),
+            participant: Participant {
+                id,
+                subject,
+                screening,
+            },
+            protocol,
+            activity,
+            constants,
+            scenarios,
+        })
+    }
+
+    fn participant(
+        &self,
+        rp: &S<RawParticipant>,
+    ) -> Result<(String, Subject, Option<Screening>), Error> {
+        let t = rp.span();
+        let p = rp.get_ref();
+        let tn = "participant";
+        let id = self.required(
+            &p.id,
+            &t,
+            tn,
+            "id",
+            "give a pseudonymous code such as \"R-104\" (never a name)",
+        )?;
+        if id.get_ref().trim().is_empty() {
+            return Err(self.err(
+                &id.span(),
+                "participant.id",
+                "empty; give a pseudonymous code such as \"R-104\"",
+            ));
+        }
+        let sex = self.choice(
+            self.required(&p.sex, &t, tn, "sex", "allowed female, male")?,
+            "participant.sex",
+            &[("female", Sex::Female), ("male", Sex::Male)],
+        )?;
+        let age = self.number(
+            self.required(&p.age_years, &t, tn, "age_years", "allowed 18 to 100 years")?,
+            "participant.age_years",
+            18.0,
+            100.0,
+            " years",
+        )?;
+        let hv = self.required(&p.height_cm, &t, tn, "height_cm", "allowed 120 to 230 cm")?;
+        let hx = *hv.get_ref();
+        if hx.is_finite() && (1.2..=2.3).contains(&hx) {
+            return Err(self.err(&hv.span(), "participant.height_cm", format!("value {hx} looks like metres; give the height in centimetres (e.g. {:.0}); allowed 120 to 230 cm", hx * 100.0)));
+        }
+        let height = self.number(hv, "participant.height_cm", 120.0, 230.0, " cm")?;
+        let mv = self.required(&p.mass_kg, &t, tn, "mass_kg", "allowed 30 to 350 kg")?;
+        let mass = self.number(mv, "participant.mass_kg", 30.0, 350.0, " kg")?;
+        let b = crate::model::composition::bmi(mass, height);
+        if !(13.0..=80.0).contains(&b) {
+            return Err(self.err(&mv.span(), "participant.mass_kg", format!("value {} with height {} cm gives BMI {b:.1}, outside the allowed 13 to 80 kg/m^2; check the units (kg, cm; a mass in pounds must be converted)", fmt_num(mass), fmt_num(height))));
+        }
+        let bf = match &p.body_fat_percent {
+            Some(v) if v.get_ref().is_finite() && *v.get_ref() > 0.0 && *v.get_ref() < 1.0 => {
+                return Err(self.err(&v.span(), "participant.body_fat_percent", format!("value {} looks like a fraction; give a percent (e.g. {:.0}); allowed 3 to 70", v.get_ref(), v.get_ref() * 100.0)));
+            }
+            v => self.opt_number(v, "participant.body_fat_percent", 3.0, 70.0, " %")?,
+        };
+        let rmr = self.opt_number(
+            &p.rmr_kcal_per_day,
+            "participant.rmr_kcal_per_day",
+            600.0,
+            5000.0,
+            " kcal/day",
+        )?;
+        let intake = self.opt_number(
+            &p.intake_kcal_per_day,
+            "participant.intake_kcal_per_day",
+            500.0,
+            10000.0,
+            " kcal/day",
+        )?;
+        let pal = self.opt_number(&p.pal, "participant.pal", 1.1, 2.5, "")?;
+        let screening = p
+            .screening
+            .as_ref()
+            .map(|s| self.screening(s))
+            .transpose()?;
+        Ok((
+            id.get_ref().trim().to_string(),
+            Subject {
+                sex,
+                age_years: age,
+                height_cm: height,
+                mass_kg: mass,
+                body_fat_percent: bf,
+                rmr_kcal_per_day: rmr,
+                intake_kcal_per_day: intake,
+                pal,
+            },
+            screening,
+        ))
+    }
+
+    fn screening(&self, rs: &S<RawScreening>) -> Result<Screening, Error> {
+        let t = rs.span();
+        let s = rs.get_ref();
+        let tn = "participant.screening";
+        let ans = |v: &Option<S<bool>>, key: &str| -> Result<bool, Error> {
+            Ok(*self
+                .required(v, &t, tn, key, "answer true or false (ACSM 2015 screening)")?
+                .get_ref())
+        };
+        Ok(Screening {
+            exercises_regularly: ans(&s.exercises_regularly, "exercises_regularly")?,
+            known_disease: ans(&s.known_disease, "known_disease")?,
+            signs_or_symptoms: ans(&s.signs_or_symptoms, "signs_or_symptoms")?,
+            medical_clearance: s.medical_clearance.as_ref().is_some_and(|v| *v.get_ref()),
+        })
+    }
+
+    fn date(&self, v: &S<RawDate>, key: &str) -> Result<NaiveDate, Error> {
+        let bad = |what: &str| {
+            self.err(
+                &v.span(),
+                key,
+                format!("{what}; give an ISO date YYYY-MM-DD such as 2027-01-04"),
+            )
+        };
+        let d = match v.get_ref() {
+            RawDate::Toml(dt) => {
+                if dt.time.is_some() || dt.offset.is_some() {
+                    return Err(bad(&format!("value {dt} has a time of day")));
+                }
+                let d = dt.date.ok_or_else(|| bad("not a date"))?;
+                NaiveDate::from_ymd_opt(i32::from(d.year), u32::from(d.month), u32::from(d.day))
+                    .ok_or_else(|| bad("impossible date"))?
+            }
+            RawDate::Text(s) => NaiveDate::parse_from_str(s.trim(), "%Y-%m-%d")
+                .map_err(|_| bad(&format!("value \"{s}\" is not a valid date")))?,
+        };
+        if !(1900..=2200).contains(&chrono::Datelike::year(&d)) {
+            return Err(bad(&format!(
+                "year {} is outside 1900 to 2200",
+                chrono::Datelike::year(&d)
+            )));
+        }
+        Ok(d)
+    }
+
+    fn days(
+        &self,
+        v: &S<Vec<S<String>>>,
+        key: &str,
+        allow_empty: bool,
+    ) -> Result<Vec<Weekday>, Error> {
+        const DAYS: [(&str, Weekday); 7] = [
+            ("mon", Weekday::Mon),
+            ("tue", Weekday::Tue),
+            ("wed", Weekday::Wed),
+            ("thu", Weekday::Thu),
+            ("fri", Weekday::Fri),
+            ("sat", Weekday::Sat),
+            ("sun", Weekday::Sun),
+        ];
+        if v.get_ref().is_empty() && !allow_empty {
+            return Err(self.err(
+                &v.span(),
+                key,
+                "empty; give one or more of mon tue wed thu fri sat sun",
+            ));
+        }
+        let mut out: Vec<Weekday> = Vec::new();
+        for d in v.get_ref() {
+            let w = self.choice(d, key, &DAYS)?;
+            if out.contains(&w) {
+                return Err(self.err(
+                    &d.span(),
+                    key,
+                    format!(
+                        "\"{}\" is listed twice; weekdays must be distinct",
+                        d.get_ref()
+                    ),
+                ));
+            }
+            out.push(w);
+        }
+        out.sort_by_key(|w| w.num_days_from_monday());
+        Ok(out)
+    }
+
+    fn protocol(&self, rp: &S<RawProtocol>) -> Result<Protocol, Error> {
+        let t = rp.span();
+        let p = rp.get_ref();
+        let tn = "protocol";
+        let start = self.date(
+            self.required(
+                &p.start,
+                &t,
+                tn,
+                "start",
+                "give the first day of week 1, e.g. start = 2027-01-04",
+            )?,
+            "protocol.start",
+        )?;
+        let weeks = self.whole(
+            self.required(&p.weeks, &t, tn, "weeks", "allowed whole numbers 1 to 520")?,
+            "protocol.weeks",
+            1,
+            520,
+        )?;
+        let follow_up_weeks = p
+            .follow_up_weeks
+            .as_ref()
+            .map(|v| self.whole(v, "protocol.follow_up_weeks", 0, 519))
+            .transpose()?
+            .unwrap_or(0);
+        if weeks + follow_up_weeks > 520 {
+            let span = p.follow_up_weeks.as_ref().map_or(t.clone(), |v| v.span());
+            return Err(self.err(&span, "protocol.follow_up_weeks", format!("weeks ({weeks}) plus follow_up_weeks ({follow_up_weeks}) is {}, over the 520-week (10-year) horizon", weeks + follow_up_weeks)));
+        }
+        let session_days = self.days(
+            self.required(
+                &p.session_days,
+                &t,
+                tn,
+                "session_days",
+                "give one or more of mon tue wed thu fri sat sun",
+            )?,
+            "protocol.session_days",
+            false,
+        )?;
+        let spare_days = match &p.spare_days {
+            Some(v) => {
+                let d = self.days(v, "protocol.spare_days", true)?;
+                if let Some(clash) = d.iter().find(|w| session_days.contains(w)) {
+                    return Err(self.err(
+                        &v.span(),
+                        "protocol.spare_days",
+                        format!(
+                            "\"{}\" is also a session day; spare days must be other weekdays",
+                            weekday_name(*clash)
+                        ),
+                    ));
+                }
+                d
+            }
+            None => Vec::new(),
+        };
+        let max_session_minutes = self.opt_number(
+            &p.max_session_minutes,
+            "protocol.max_session_minutes",
+            5.0,
+            600.0,
+            " minutes",
+        )?;
+        let over_max = match &p.over_max {
+            Some(v) => self.choice(
+                v,
+                "protocol.over_max",
+                &[
+                    ("flag", OverMax::Flag),
+                    ("cap", OverMax::Cap),
+                    ("add-session", OverMax::AddSession),
+                    ("split", OverMax::Split),
+                ],
+            )?,
+            None => OverMax::Flag,
+        };
+        if over_max != OverMax::Flag && max_session_minutes.is_none() {
+            let span = p.over_max.as_ref().map_or(t.clone(), |v| v.span());
+            return Err(self.err(
+                &span,
+                "protocol.over_max",
+                format!(
+                    "\"{}\" needs protocol.max_session_minutes (5 to 600)",
+                    over_max.name()
+                ),
+            ));
+        }
+        let round_minutes_to = p
+            .round_minutes_to
+            .as_ref()
+            .map(|v| self.whole(v, "protocol.round_minutes_to", 1, 30))
+            .transpose()?
+            .unwrap_or(1);
+        let dose = self.dose(self.required(&p.dose, &t, tn, "dose", "add a [protocol.dose] table with exactly one of kcal_per_session, kcal_per_week, kcal_per_kg_week, minutes_per_week")?)?;
+        let ramp = match &p.ramp {
+            Some(r) => {
+                let rr = r.get_ref();
+                let rw = self.whole(
+                    self.required(
+                        &rr.weeks,
+                        &r.span(),
+                        "protocol.ramp",
+                        "weeks",
+                        &format!("allowed whole numbers 1 to {weeks}"),
+                    )?,
+                    "protocol.ramp.weeks",
+                    1,
+                    weeks,
+                )?;
+                let sf = match &rr.start_fraction {
+                    Some(v) => {
+                        self.number_above(v, "protocol.ramp.start_fraction", 0.0, 1.0, "")?
+                    }
+                    None => 0.5,
+                };
+                Some(Ramp {
+                    weeks: rw,
+                    start_fraction: sf,
+                })
+            }
+            None => None,
+        };
+        Ok(Protocol {
+            start,
+            weeks,
+            follow_up_weeks,
+            session_days,
+            spare_days,
+            max_session_minutes,
+            over_max,
+            round_minutes_to,
+            dose,
+            ramp,
+        })
+    }
+
+    fn dose(&self, rd: &S<RawDose>) -> Result<Dose, Error> {
+        let d = rd.get_ref();
+        let given: Vec<(&Num, &str)> = [
+            (&d.kcal_per_session, "kcal_per_session"),
+            (&d.kcal_per_week, "kcal_per_week"),
+            (&d.kcal_per_kg_week, "kcal_per_kg_week"),
+            (&d.minutes_per_week, "minutes_per_week"),
+        ]
+        .into_iter()
+        .filter_map(|(v, k)| v.as_ref().map(|v| (v, k)))
+        .collect();
+        let (v, k) = match given.as_slice() {
+            [one] => *one,
+            [] => return Err(self.err(&rd.span(), "protocol.dose", "no dose amount; give exactly one of kcal_per_session, kcal_per_week, kcal_per_kg_week, minutes_per_week")),
+            [_, second, ..] => {
+                let names: Vec<&str> = given.iter().map(|(_, k)| *k).collect();
+                return Err(self.err(&second.0.span(), &format!("protocol.dose.{}", second.1), format!("two dose amounts given ({}); give exactly one", names.join(", "))));
+            }
+        };
+        let key = format!("protocol.dose.{k}");
+        let amount = match k {
+            "kcal_per_session" => {
+                DoseAmount::KcalPerSession(self.number(v, &key, 10.0, 3000.0, " kcal")?)
+            }
+            "kcal_per_week" => {
+                DoseAmount::KcalPerWeek(self.number(v, &key, 10.0, 15000.0, " kcal")?)
+            }
+            "kcal_per_kg_week" => {
+                DoseAmount::KcalPerKgWeek(self.number(v, &key, 0.5, 150.0, " kcal/kg/week")?)
+            }
+            _ => DoseAmount::MinutesPerWeek(self.number(v, &key, 5.0, 2100.0, " minutes")?),
+        };
+        let basis = match &d.basis {
+            Some(b) => self.choice(
+                b,
+                "protocol.dose.basis",
+                &[("gross", EnergyBasis::Gross), ("net", EnergyBasis::Net)],
+            )?,
+            None => EnergyBasis::Gross,
+        };
+        let mass_basis = match &d.mass_basis {
+            Some(b) => self.choice(
+                b,
+                "protocol.dose.mass_basis",
+                &[
+                    ("baseline", MassBasis::Baseline),
+                    ("current", MassBasis::Current),
+                ],
+            )?,
+            None => MassBasis::Baseline,
+        };
+        Ok(Dose {
+            amount,
+            basis,
+            mass_basis,
+        })
+    }
+
+    fn gait(&self, g: &S<RawGait>, key: &str, lo: f64, hi: f64) -> Result<(f64, f64), Error> {
+        let r = g.get_ref();
+        let speed = self.number(
+            self.required(
+                &r.speed_kmh,
+                &g.span(),
+                key,
+                "speed_kmh",
+                &format!("allowed {} to {} km/h", fmt_num(lo), fmt_num(hi)),
+            )?,
+            &format!("{key}.speed_kmh"),
+            lo,
+            hi,
+            " km/h",
+        )?;
+        let grade = self
+            .opt_number(
+                &r.grade_percent,
+                &format!("{key}.grade_percent"),
+                0.0,
+                40.0,
+                " %",
+            )?
+            .unwrap_or(0.0);
+        Ok((speed, grade))
+    }
+
+    fn activity(&self, ra: &S<RawActivity>) -> Result<Activity, Error> {
+        let a = ra.get_ref();
+        let mut given: Vec<(Range<usize>, &str)> = Vec::new();
+        if let Some(v) = &a.compendium_code {
+            given.push((v.span(), "compendium_code"));
+        }
+        if let Some(v) = &a.met {
+            given.push((v.span(), "met"));
+        }
+        if let Some(v) = &a.walking {
+            given.push((v.span(), "walking"));
+        }
+        if let Some(v) = &a.running {
+            given.push((v.span(), "running"));
+        }
+        if let Some(v) = &a.cycling_watts {
+            given.push((v.span(), "cycling_watts"));
+        }
+        given.sort_by_key(|(s, _)| s.start);
+        match given.as_slice() {
+            [] => return Err(self.err(&ra.span(), "activity", "no intensity; give exactly one of compendium_code, met, walking, running, cycling_watts")),
+            [_] => {}
+            [_, second, ..] => {
+                let names: Vec<&str> = given.iter().map(|(_, k)| *k).collect();
+                return Err(self.err(&second.0, &format!("activity.{}", second.1), format!("two ways of giving the intensity ({}); give exactly one", names.join(", "))));
+            }
+        }
+        let (intensity, default_label) = if let Some(c) = &a.compendium_code {
+            let code = match c.get_ref() {
+                RawCode::Text(s) => s.trim().to_string(),
+                RawCode::Integer(i) => return Err(self.err(&c.span(), "activity.compendium_code", format!("value {i} is a number; compendium codes are strings with leading zeros, write compendium_code = \"{i:05}\""))),
+                RawCode::Float(f) => return Err(self.err(&c.span(), "activity.compendium_code", format!("value {f} is a number; compendium codes are five-digit strings such as \"02010\""))),
+            };
+            let e = compendium::lookup(&code).ok_or_else(|| self.err(&c.span(), "activity.compendium_code", format!("unknown code \"{code}\"; the built-in table holds {} codes of the 2011 Compendium (list them with `dosewright activities`), or give met = ... instead", compendium::table().len())))?;
+            (
+                Intensity::Compendium {
+                    code: e.code.clone(),
+                    met: e.met,
+                    version: e.version,
+                },
+                e.label.clone(),
+            )
+        } else if let Some(m) = &a.met {
+            let met = self.number_above(m, "activity.met", 1.0, 25.0, " MET")?;
+            (Intensity::Met { met }, format!("activity at {met} MET"))
+        } else if let Some(g) = &a.walking {
+            let (speed_kmh, grade_percent) = self.gait(g, "activity.walking", 1.0, 12.0)?;
+            (
+                Intensity::Walking {
+                    speed_kmh,
+                    grade_percent,
+                },
+                format!("walking {speed_kmh} km/h, {grade_percent}% grade"),
+            )
+        } else if let Some(g) = &a.running {
+            let (speed_kmh, grade_percent) = self.gait(g, "activity.running", 4.0, 30.0)?;
+            (
+                Intensity::Running {
+                    speed_kmh,
+                    grade_percent,
+                },
+                format!("running {speed_kmh} km/h, {grade_percent}% grade"),
+            )
+        } else if let Some(w) = &a.cycling_watts {
+            let watts = self.number(w, "activity.cycling_watts", 10.0, 600.0, " W")?;
+            (
+                Intensity::CyclingWatts { watts },
+                format!("cycle ergometer {watts} W"),
+            )
+        } else {
+            unreachable!("one intensity was counted above")
+        };
+        let label = match &a.label {
+            Some(l) if l.get_ref().trim().is_empty() => {
+                return Err(self.err(
+                    &l.span(),
+                    "activity.label",
+                    "empty; leave the key out to use the activity's own label",
+                ));
+            }
+            Some(l) => l.get_ref().trim().to_string(),
+            None => default_label,
+        };
+        Ok(Activity { intensity, label })
+    }
+
+    fn constants(&self, rm: Option<&S<RawModel>>) -> Result<Constants, Error> {
+        let mut c = Constants::default();
+        let Some(rm) = rm else { return Ok(c) };
+        let m = rm.get_ref();
+        if let Some(v) = &m.rmr_equation {
+            let opts: Vec<(&str, RmrEquation)> =
+                RmrEquation::ALL.iter().map(|(e, n)| (*n, *e)).collect();
+            c.rmr_equation = self.choice(v, "model.rmr_equation", &opts)?;
+        }
+        if let Some(v) = &m.rest_for_net {
+            c.rest_for_net = self.choice(
+                v,
+                "model.rest_for_net",
+                &[
+                    ("own-rmr", RestForNet::OwnRmr),
+                    ("one-met", RestForNet::OneMet),
+                ],
+            )?;
+        }
+        if let Some(v) = &m.tef_fraction {
+            c.tef_fraction = self.number(v, "model.tef_fraction", 0.0, 0.25, "")?;
+        }
+        if let Some(v) = &m.fat_kcal_per_kg {
+            c.fat_kcal_per_kg =
+                self.number(v, "model.fat_kcal_per_kg", 8000.0, 10000.0, " kcal/kg")?;
+        }
+        if let Some(v) = &m.lean_kcal_per_kg {
+            c.lean_kcal_per_kg =
+                self.number(v, "model.lean_kcal_per_kg", 700.0, 2000.0, " kcal/kg")?;
+        }
+        if let Some(v) = &m.forbes_constant_kg {
+            c.forbes_constant_kg = self.number(v, "model.forbes_constant_kg", 5.0, 20.0, " kg")?;
+        }
+        Ok(c)
+    }
+
+    fn scenarios(&self, rs: Option<&[S<RawScenario>]>) -> Result<Vec<Scenario>, Error> {
+        let Some(rs) = rs.filter(|r| !r.is_empty()) else {
+            return Ok(vec![Scenario {
+                name: "as prescribed".to_string(),
+                compensation: Compensation::default(),
+            }]);
+        };
+        let mut out: Vec<Scenario> = Vec::new();
+        for (i, r) in rs.iter().enumerate() {
+            let s = r.get_ref();
+            let tn = format!("scenario[{}]", i + 1);
+            let name = self.required(
+                &s.name,
+                &r.span(),
+                &tn,
+                "name",
+                "every scenario needs a unique, non-empty name",
+            )?;
+            let n = name.get_ref().trim();
+            if n.is_empty() {
+                return Err(self.err(
+                    &name.span(),
+                    &format!("{tn}.name"),
+                    "empty; every scenario needs a unique, non-empty name",
+                ));
+            }
+            if out.iter().any(|o| o.name == n) {
+                return Err(self.err(
+                    &name.span(),
+                    &format!("{tn}.name"),
+                    format!("\"{n}\" is used by an earlier scenario; names must be unique"),
+                ));
+            }
+            let k = |key: &str| format!("{tn}.{key}");
+            let compensation = Compensation {
+                intake_fraction: self
+                    .opt_number(&s.intake_fraction, &k("intake_fraction"), 0.0, 1.5, "")?
+                    .unwrap_or(0.0),
+                intake_lag_days: self
+                    .opt_number(
+                        &s.intake_lag_days,
+                        &k("intake_lag_days"),
+                        0.0,
+                        365.0,
+                        " days",
+                    )?
+                    .unwrap_or(0.0),
+                activity_fraction: self
+                    .opt_number(&s.activity_fraction, &k("activity_fraction"), 0.0, 1.0, "")?
+                    .unwrap_or(0.0),
+                rmr_adaptation_kcal_per_kg: self
+                    .opt_number(
+                        &s.rmr_adaptation_kcal_per_kg,
+                        &k("rmr_adaptation_kcal_per_kg"),
+                        0.0,
+                        50.0,
+                        " kcal/day per kg",
+                    )?
+                    .unwrap_or(0.0),
+                diet_change_kcal_per_day: self
+                    .opt_number(
+                        &s.diet_change_kcal_per_day,
+                        &k("diet_change_kcal_per_day"),
+                        -2500.0,
+                        2500.0,
+                        " kcal/day",
+                    )?
+                    .unwrap_or(0.0),
+            };
+            out.push(Scenario {
+                name: n.to_string(),
+                compensation,
+            });
+        }
+        Ok(out)
+    }
+}

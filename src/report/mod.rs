@@ -1,0 +1,189 @@
+//! Renderers: each output format is a pure function of a finished, serializable
+//! report. Renderers never call back into the simulation.
+
+pub mod activities;
+pub mod check;
+pub mod csv;
+pub mod json;
+pub mod table;
+
+use crate::error::Error;
+use crate::model::Baseline;
+use crate::plan::{EnergyBasis, MassBasis, Plan, weekday_name};
+use crate::safety::{self, ScreeningOutcome, Warning};
+use crate::simulate::{ScenarioRun, Simulation};
+use chrono::NaiveDate;
+use serde::Serialize;
+
+/// Output formats of `schedule`.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Format {
+    /// A human-readable table with the cautions.
+    Table,
+    /// One row per session.
+    Csv,
+    /// The PLAN.md contract.
+    Json,
+}
+
+/// The activity as reports describe it.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct ActivitySummary {
+    /// Label.
+    pub label: String,
+    /// How the intensity is given.
+    pub intensity: String,
+    /// MET at baseline mass.
+    pub met_at_baseline: f64,
+    /// Relative intensity at baseline (multiples of own RMR).
+    pub relative_intensity_at_baseline: f64,
+}
+
+/// The dose as reports describe it.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct DoseSummary {
+    /// Plan key of the dose kind.
+    pub kind: &'static str,
+    /// Amount.
+    pub amount: f64,
+    /// Unit.
+    pub unit: &'static str,
+    /// gross | net.
+    pub basis: EnergyBasis,
+    /// baseline | current.
+    pub mass_basis: MassBasis,
+}
+
+/// The protocol dates as reports describe them.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct ProtocolSummary {
+    /// First day.
+    pub start: NaiveDate,
+    /// Exercise weeks.
+    pub weeks: u32,
+    /// Follow-up weeks.
+    pub follow_up_weeks: u32,
+    /// The morning after the last day.
+    pub end_date: NaiveDate,
+    /// Session weekdays.
+    pub session_days: Vec<&'static str>,
+    /// Maximum session minutes.
+    pub max_session_minutes: Option<f64>,
+    /// Over-maximum policy.
+    pub over_max: &'static str,
+}
+
+/// Everything `schedule` reports.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct ScheduleReport {
+    /// Tool and version.
+    pub tool: String,
+    /// The plan file.
+    pub plan: String,
+    /// Pseudonymous participant code.
+    pub participant_id: String,
+    /// Activity.
+    pub activity: ActivitySummary,
+    /// Dose.
+    pub dose: DoseSummary,
+    /// Protocol.
+    pub protocol: ProtocolSummary,
+    /// Calibrated baseline.
+    pub baseline: Baseline,
+    /// Screening.
+    pub screening: ScreeningOutcome,
+    /// Every scenario.
+    pub scenarios: Vec<ScenarioRun>,
+    /// Warnings with stable codes.
+    pub warnings: Vec<Warning>,
+    /// The standing cautions.
+    pub cautions: Vec<&'static str>,
+}
+
+impl ScheduleReport {
+    /// Assemble the report of a simulated plan.
+    pub fn new(plan: &Plan, sim: Simulation) -> ScheduleReport {
+        let max_met = sim
+            .scenarios
+            .iter()
+            .flat_map(|s| s.weeks.iter().map(|w| w.met))
+            .fold(0.0, f64::max);
+        let screening = safety::screen(plan.participant.screening.as_ref(), max_met);
+        let warnings = safety::warnings(plan, &sim, &screening);
+        let b = &sim.baseline;
+        let met0 = plan.activity.intensity.met_at(b.mass_kg);
+        let p = &plan.protocol;
+        ScheduleReport {
+            tool: format!("dosewright {}", env!("CARGO_PKG_VERSION")),
+            plan: plan.source_name.clone(),
+            participant_id: plan.participant.id.clone(),
+            activity: ActivitySummary {
+                label: plan.activity.label.clone(),
+                intensity: plan.activity.intensity.describe(),
+                met_at_baseline: met0,
+                relative_intensity_at_baseline: sim.physiology.relative_intensity(
+                    met0,
+                    b.mass_kg,
+                    b.rmr_kcal_per_day,
+                ),
+            },
+            dose: DoseSummary {
+                kind: p.dose.amount.key(),
+                amount: p.dose.amount.value(),
+                unit: p.dose.amount.unit(),
+                basis: p.dose.basis,
+                mass_basis: p.dose.mass_basis,
+            },
+            protocol: ProtocolSummary {
+                start: p.start,
+                weeks: p.weeks,
+                follow_up_weeks: p.follow_up_weeks,
+                end_date: p.end_date(),
+                session_days: p.session_days.iter().map(|d| weekday_name(*d)).collect(),
+                max_session_minutes: p.max_session_minutes,
+                over_max: p.over_max.name(),
+            },
+            baseline: sim.baseline.clone(),
+            screening,
+            scenarios: sim.scenarios,
+            warnings,
+            cautions: safety::CAUTIONS.to_vec(),
+        }
+    }
+
+    /// The index of the scenario named `name` (the first when None).
+    pub fn scenario_index(&self, name: Option<&str>) -> Result<usize, Error> {
+        match name {
+            None => Ok(0),
+            Some(n) => self
+                .scenarios
+                .iter()
+                .position(|s| s.name == n)
+                .ok_or_else(|| {
+                    let names: Vec<String> = self
+                        .scenarios
+                        .iter()
+                        .map(|s| format!("\"{}\"", s.name))
+                        .collect();
+                    Error::Usage(format!(
+                        "--scenario: no scenario named \"{n}\" in {}; the plan has {}",
+                        self.plan,
+                        names.join(", ")
+                    ))
+                }),
+        }
+    }
+}
+
+/// The cautions block of text outputs.
+pub fn cautions_text(screening: &ScreeningOutcome) -> String {
+    let mut s = String::from("Cautions\n");
+    s.push_str(&format!(
+        "  - Screening result: {}.\n",
+        screening.recommendation
+    ));
+    for c in safety::CAUTIONS {
+        s.push_str(&format!("  - {c}\n"));
+    }
+    s
+}

@@ -1,0 +1,262 @@
+//! The human-readable schedule: baseline, the dated sessions week by week, the
+//! outcome of every scenario, warnings and cautions.
+
+use crate::plan::EnergyBasis;
+use crate::report::{ScheduleReport, cautions_text};
+use crate::simulate::{MassSource, Phase};
+use comfy_table::{Cell, CellAlignment, Table, presets};
+
+/// A table in the house style: ASCII, as wide as its content.
+pub fn new_table(header: &[&str]) -> Table {
+    let mut t = Table::new();
+    t.load_style(presets::ASCII_FULL_CONDENSED);
+    t.set_header(header.iter().map(|h| Cell::new(h)).collect::<Vec<_>>());
+    t
+}
+
+/// Right-align every column but the first `left` ones.
+pub fn align_numbers(t: &mut Table, left: usize) {
+    for (i, c) in t.column_iter_mut().enumerate() {
+        if i >= left {
+            c.set_cell_alignment(CellAlignment::Right);
+        }
+    }
+}
+
+/// The baseline block shared by `schedule` and `check`.
+pub fn baseline_text(r: &ScheduleReport) -> String {
+    let b = &r.baseline;
+    let fat_note = if b.fat_mass_estimated {
+        "estimated from BMI, Deurenberg 1991"
+    } else {
+        "measured"
+    };
+    let rmr_note = if (b.rmr_factor - 1.0).abs() > 1e-12 {
+        format!(
+            "measured; the equation gives {:.0}, personal factor {:.3}",
+            b.rmr_equation_kcal_per_day, b.rmr_factor
+        )
+    } else {
+        "from the equation".to_string()
+    };
+    let intake_note = if b.intake_measured {
+        "measured"
+    } else {
+        "taken as energy balance"
+    };
+    let pal_note = match b.pal_source {
+        "plan" => "from the plan",
+        "intake" => "from measured intake, weight-stable",
+        _ => "default 1.5, FAO/WHO/UNU 2004 sedentary-light range",
+    };
+    format!(
+        "Baseline\n  mass {:.1} kg, BMI {:.1} kg/m^2\n  fat mass {:.1} kg ({:.1}% body fat, {fat_note}), fat-free mass {:.1} kg\n  RMR {:.0} kcal/day ({rmr_note})\n  intake {:.0} kcal/day ({intake_note}); expenditure {:.0} kcal/day; PAL {:.2} ({pal_note})\n  non-exercise activity {:.0} kcal/day\n",
+        b.mass_kg,
+        b.bmi,
+        b.fat_mass_kg,
+        b.body_fat_percent,
+        b.fat_free_mass_kg,
+        b.rmr_kcal_per_day,
+        b.intake_kcal_per_day,
+        b.tdee_kcal_per_day,
+        b.pal,
+        b.activity_kcal_per_day
+    )
+}
+
+/// Activity, dose and protocol in two lines.
+pub fn protocol_text(r: &ScheduleReport) -> String {
+    let a = &r.activity;
+    let d = &r.dose;
+    let p = &r.protocol;
+    let basis = match d.basis {
+        EnergyBasis::Gross => "gross",
+        EnergyBasis::Net => "net of rest",
+    };
+    let mass = match d.mass_basis {
+        crate::plan::MassBasis::Baseline => "baseline mass",
+        crate::plan::MassBasis::Current => "each week's mass",
+    };
+    let per_kg = if d.kind == "kcal_per_kg_week" {
+        format!(", {mass}")
+    } else {
+        String::new()
+    };
+    let energy = if d.kind == "minutes_per_week" {
+        String::new()
+    } else {
+        format!(", {basis}{per_kg}")
+    };
+    let max = p
+        .max_session_minutes
+        .map_or("no maximum session length".to_string(), |m| {
+            format!("maximum {m:.0} min per session ({})", p.over_max)
+        });
+    format!(
+        "Activity: {} - {}; {:.2} MET at baseline, {:.1} x own RMR\nDose: {} {}{energy}; sessions on {}; {max}\nProtocol: {} weeks from {}, {} follow-up weeks, ends {}\n",
+        a.label,
+        a.intensity,
+        a.met_at_baseline,
+        a.relative_intensity_at_baseline,
+        fmt_amount(d.amount),
+        d.unit,
+        p.session_days.join(" "),
+        p.weeks,
+        p.start,
+        p.follow_up_weeks,
+        p.end_date
+    )
+}
+
+fn fmt_amount(v: f64) -> String {
+    if v == v.trunc() {
+        format!("{v:.0}")
+    } else {
+        format!("{v}")
+    }
+}
+
+/// The outcome table of every scenario.
+pub fn outcome_table(r: &ScheduleReport) -> String {
+    let mut t = new_table(&[
+        "scenario",
+        "end date",
+        "mass [kg]",
+        "fat [kg]",
+        "fat-free [kg]",
+        "change [kg]",
+        "prescribed net [kcal]",
+        "achieved deficit [kcal]",
+        "dose share",
+    ]);
+    for s in &r.scenarios {
+        let o = &s.outcome;
+        t.add_row(vec![
+            s.name.clone(),
+            o.end_date.to_string(),
+            format!("{:.1}", o.mass_kg),
+            format!("{:.1}", o.fat_mass_kg),
+            format!("{:.1}", o.fat_free_mass_kg),
+            format!("{:+.1}", o.mass_change_kg),
+            format!("{:.0}", o.prescribed_net_kcal),
+            format!("{:.0}", o.achieved_deficit_kcal),
+            format!("{:.0}%", o.dose_share * 100.0),
+        ]);
+    }
+    align_numbers(&mut t, 2);
+    let mut s =
+        format!("Projected outcome by scenario (end of follow-up where there is one)\n{t}\n");
+    for sc in &r.scenarios {
+        s.push_str(&format!("  {}: {}\n", sc.name, sc.assumptions));
+    }
+    s
+}
+
+/// The warnings block.
+pub fn warnings_text(r: &ScheduleReport) -> String {
+    if r.warnings.is_empty() {
+        return "Warnings: none\n".to_string();
+    }
+    let mut s = String::from("Warnings\n");
+    for w in &r.warnings {
+        s.push_str(&format!("  - [{}] {}\n", w.code, w.message));
+    }
+    s
+}
+
+/// Render the schedule of scenario `index` and the outcome of all.
+pub fn render(r: &ScheduleReport, index: usize) -> String {
+    let sc = &r.scenarios[index];
+    let mut out = format!(
+        "dosewright session schedule: participant {} ({})\n\n",
+        r.participant_id, r.plan
+    );
+    out.push_str(&baseline_text(r));
+    out.push('\n');
+    out.push_str(&protocol_text(r));
+    out.push_str(&format!("Screening: {}\n\n", r.screening.recommendation));
+    let which = if r.scenarios.len() > 1 {
+        format!(
+            " ({} of {}; --scenario NAME shows another)",
+            index + 1,
+            r.scenarios.len()
+        )
+    } else {
+        String::new()
+    };
+    out.push_str(&format!(
+        "Schedule for scenario \"{}\"{which}: {}\n",
+        sc.name, sc.assumptions
+    ));
+    let mut t = new_table(&[
+        "week",
+        "date",
+        "day",
+        "minutes",
+        "MET",
+        "gross [kcal]",
+        "net [kcal]",
+        "x own rest",
+        "mass at week start [kg]",
+    ]);
+    for wk in &sc.weeks {
+        let mass = format!(
+            "{:.1} {}",
+            wk.reference_mass_kg,
+            match wk.mass_source {
+                MassSource::Measured => "measured",
+                MassSource::Projected => "projected",
+            }
+        );
+        if wk.phase == Phase::FollowUp {
+            t.add_row(vec![
+                wk.week.to_string(),
+                wk.start.to_string(),
+                "-".into(),
+                "follow-up".into(),
+                "".into(),
+                "".into(),
+                "".into(),
+                "".into(),
+                mass,
+            ]);
+            continue;
+        }
+        for (i, s) in wk.sessions.iter().enumerate() {
+            let first = i == 0;
+            t.add_row(vec![
+                if first {
+                    wk.week.to_string()
+                } else {
+                    String::new()
+                },
+                s.date.to_string(),
+                s.weekday.to_string(),
+                s.minutes.to_string(),
+                format!("{:.1}", s.met),
+                format!("{:.0}", s.gross_kcal),
+                format!("{:.0}", s.net_kcal),
+                format!("{:.1}", s.relative_intensity),
+                if first { mass.clone() } else { String::new() },
+            ]);
+        }
+    }
+    align_numbers(&mut t, 3);
+    out.push_str(&format!("{t}\n"));
+    let follow = r.protocol.follow_up_weeks;
+    if follow > 0 {
+        out.push_str(&format!(
+            "Exercise stops after week {}; weeks {}-{} are follow-up with no sessions.\n",
+            r.protocol.weeks,
+            r.protocol.weeks + 1,
+            r.protocol.weeks + follow
+        ));
+    }
+    out.push('\n');
+    out.push_str(&outcome_table(r));
+    out.push('\n');
+    out.push_str(&warnings_text(r));
+    out.push('\n');
+    out.push_str(&cautions_text(&r.screening));
+    out
+}

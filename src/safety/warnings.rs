@@ -1,0 +1,181 @@
+//! The warnings a plan earns, each with a stable code (they go into the JSON too).
+//!
+//! Thresholds: 300 min/week (US Physical Activity Guidelines 2018 upper range);
+//! loss above 1% of body mass a week (NHLBI 1998 target rate of 0.45-0.9 kg/week,
+//! common practice as a ceiling); BMI 18.5 (WHO underweight cut-off); MET 6 vigorous.
+
+use crate::model::composition::bmi;
+use crate::plan::{OverMax, Plan};
+use crate::safety::screening::{ScreeningOutcome, VIGOROUS_MET};
+use crate::simulate::{ScenarioRun, Simulation};
+use serde::Serialize;
+
+/// One warning.
+#[derive(Debug, Clone, PartialEq, Eq, Serialize)]
+pub struct Warning {
+    /// Stable machine-readable code.
+    pub code: &'static str,
+    /// Plain words.
+    pub message: String,
+}
+
+fn w(code: &'static str, message: String) -> Warning {
+    Warning { code, message }
+}
+
+/// Week numbers as compact ranges: "3, 5, 9-12".
+pub fn week_ranges(weeks: &[u32]) -> String {
+    let mut parts: Vec<String> = Vec::new();
+    let mut i = 0;
+    while i < weeks.len() {
+        let mut j = i;
+        while j + 1 < weeks.len() && weeks[j + 1] == weeks[j] + 1 {
+            j += 1;
+        }
+        parts.push(if i == j {
+            weeks[i].to_string()
+        } else {
+            format!("{}-{}", weeks[i], weeks[j])
+        });
+        i = j + 1;
+    }
+    parts.join(", ")
+}
+
+fn plural(weeks: &[u32]) -> &'static str {
+    if weeks.len() == 1 { "week" } else { "weeks" }
+}
+
+/// Every warning for a simulated plan, in a fixed order.
+pub fn warnings(plan: &Plan, sim: &Simulation, screening: &ScreeningOutcome) -> Vec<Warning> {
+    let mut out = Vec::new();
+    let subject = &plan.participant.subject;
+    let max_met = max_met(sim);
+    if !screening.recorded {
+        out.push(w("screening-not-recorded", "screening not recorded: the plan has no [participant.screening] answers; complete the ACSM pre-participation screening before the first session".to_string()));
+    }
+    if screening.clearance_missing {
+        out.push(w("clearance-missing", format!("the screening result is \"{}\" and the plan's intensity (up to {max_met:.1} MET) needs medical clearance, which medical_clearance does not record", screening.recommendation)));
+    }
+    let week1_met = sim
+        .scenarios
+        .first()
+        .and_then(|s| s.weeks.first())
+        .map_or(0.0, |w| w.met);
+    let regular = plan.participant.screening.map(|s| s.exercises_regularly);
+    if week1_met >= VIGOROUS_MET && regular != Some(true) {
+        out.push(w("vigorous-start", format!("vigorous intensity ({week1_met:.1} MET) from week 1 for someone not recorded as exercising regularly: start light to moderate and progress gradually")));
+    }
+    if let Some(note) = plan.activity.intensity.outside_valid_range() {
+        out.push(w("acsm-equation-range", note));
+    }
+    let b = &sim.baseline;
+    if b.fat_mass_estimated {
+        out.push(w("fat-mass-estimated", format!("fat mass {:.1} kg ({:.1}% body fat) is estimated from BMI (Deurenberg et al. 1991, SEE 4.1% body fat), not measured; a measured body_fat_percent (e.g. DXA) makes the projection firmer", b.fat_mass_kg, b.body_fat_percent)));
+    }
+    if subject.intake_kcal_per_day.is_some()
+        && subject.pal.is_some()
+        && b.drift_kcal_per_day.abs() >= 1.0
+    {
+        let verb = if b.drift_kcal_per_day > 0.0 {
+            "above"
+        } else {
+            "below"
+        };
+        out.push(w("intake-pal-drift", format!("measured intake ({:.0} kcal/day) is {:.0} kcal/day {verb} the expenditure implied by PAL {:.2} ({:.0} kcal/day): the participant is out of balance before any exercise, and the model keeps that drift ({:+.2} kg in 4 weeks with no exercise)", b.intake_kcal_per_day, b.drift_kcal_per_day.abs(), b.pal, b.tdee_kcal_per_day, sim.drift_mass_4_weeks_kg)));
+    }
+    if subject.age_years >= 60.0 {
+        out.push(w("older-adult-met", format!("age {:.0}: the 2011 Compendium's METs assume 3.5 ml/kg/min at rest and tend to overstate the cost of activity in adults aged 60 or more (the Older Adult Compendium uses 2.7 ml/kg/min; Willis et al. 2024, J Sport Health Sci 13:13), so minutes may be too few for the energy target", subject.age_years)));
+    }
+    for sc in &sim.scenarios {
+        scenario_warnings(plan, sc, &mut out);
+    }
+    out
+}
+
+fn max_met(sim: &Simulation) -> f64 {
+    sim.scenarios
+        .iter()
+        .flat_map(|s| s.weeks.iter().map(|w| w.met))
+        .fold(0.0, f64::max)
+}
+
+fn scenario_warnings(plan: &Plan, sc: &ScenarioRun, out: &mut Vec<Warning>) {
+    let p = &plan.protocol;
+    let name = &sc.name;
+    let over: Vec<_> = sc
+        .weeks
+        .iter()
+        .filter_map(|w| w.over_max.as_ref().map(|n| (w.week, n)))
+        .collect();
+    if let (Some(max), false) = (p.max_session_minutes, over.is_empty()) {
+        let weeks: Vec<u32> = over.iter().map(|(w, _)| *w).collect();
+        let still: Vec<u32> = over
+            .iter()
+            .filter(|(_, n)| n.still_over)
+            .map(|(w, _)| *w)
+            .collect();
+        let longest = over
+            .iter()
+            .map(|(_, n)| n.minutes_before)
+            .max()
+            .unwrap_or(0);
+        let what = match p.over_max {
+            OverMax::Flag => "flag: the minutes were kept".to_string(),
+            OverMax::Cap => {
+                let short: f64 = over.iter().map(|(_, n)| n.shortfall_kcal).sum();
+                format!(
+                    "cap: sessions cut to the maximum, {short:.0} kcal short of the prescribed dose in all"
+                )
+            }
+            OverMax::AddSession => {
+                let added = over
+                    .iter()
+                    .map(|(_, n)| n.added_sessions)
+                    .max()
+                    .unwrap_or(0);
+                format!("add-session: up to {added} extra session(s) a week on spare days")
+            }
+            OverMax::Split => {
+                "split: each session given as two equal bouts on the same day".to_string()
+            }
+        };
+        let mut msg = format!(
+            "scenario \"{name}\": sessions of up to {longest} min exceed the {max:.0}-minute maximum in {} {} ({what})",
+            plural(&weeks),
+            week_ranges(&weeks)
+        );
+        if p.over_max != OverMax::Flag && !still.is_empty() {
+            msg.push_str(&format!(
+                "; still over the maximum after that in {} {}",
+                plural(&still),
+                week_ranges(&still)
+            ));
+        }
+        out.push(w("session-over-max", msg));
+    }
+    let long: Vec<u32> = sc
+        .weeks
+        .iter()
+        .filter(|w| w.sessions.iter().map(|s| s.minutes).sum::<u32>() > 300)
+        .map(|w| w.week)
+        .collect();
+    if !long.is_empty() {
+        out.push(w("weekly-minutes-over-300", format!("scenario \"{name}\": more than 300 minutes of exercise a week in {} {} (above the upper end of the usual guideline range; check feasibility and recovery)", plural(&long), week_ranges(&long))));
+    }
+    let mut prev = plan.participant.subject.mass_kg;
+    let mut fast = Vec::new();
+    for wk in &sc.weeks {
+        if prev - wk.end.mass_kg > 0.01 * prev {
+            fast.push(wk.week);
+        }
+        prev = wk.end.mass_kg;
+    }
+    if !fast.is_empty() {
+        out.push(w("loss-rate-over-1-percent", format!("scenario \"{name}\": projected loss exceeds 1% of body mass per week in {} {}; faster loss needs clinical supervision", plural(&fast), week_ranges(&fast))));
+    }
+    let h = plan.participant.subject.height_cm;
+    if let Some(wk) = sc.weeks.iter().find(|wk| bmi(wk.end.mass_kg, h) < 18.5) {
+        out.push(w("bmi-below-18.5", format!("scenario \"{name}\": projected BMI falls below 18.5 kg/m^2 (underweight) by the end of week {} ({:.1} kg); stop or reduce the dose", wk.week, wk.end.mass_kg)));
+    }
+}

@@ -1,0 +1,446 @@
+//! The week-by-week driver: at the start of each week take the reference state,
+//! re-prescribe the minutes, integrate the week, check the model's valid range, and
+//! record what a report needs. Follow-up weeks run with no exercise.
+//!
+//! Reference: MODEL.md sections 4-6.
+
+pub mod integrate;
+pub mod prescription;
+
+use crate::error::{Error, RangeError};
+use crate::model::energy::calibrate;
+use crate::model::{Baseline, BodyState, Bout, Compensation, Physiology};
+use crate::plan::{Plan, Scenario, weekday_name};
+use chrono::{Datelike, NaiveDate};
+use integrate::{State, body_of, integrate, state_of};
+use prescription::{OverMaxNote, Reference, prescribe};
+use serde::Serialize;
+
+/// Lowest fat mass the model accepts, kg (MODEL.md 6).
+pub const MIN_FAT_KG: f64 = 2.0;
+
+/// Whether a week's reference mass was measured or projected.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
+#[serde(rename_all = "lowercase")]
+pub enum MassSource {
+    /// A weigh-in on the week's first day or in the 6 days before (the baseline
+    /// measurement counts for week 1).
+    Measured,
+    /// The model's projection.
+    Projected,
+}
+
+/// Protocol or follow-up.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
+#[serde(rename_all = "kebab-case")]
+pub enum Phase {
+    /// Exercise weeks.
+    Protocol,
+    /// Weeks after exercise stops.
+    FollowUp,
+}
+
+/// One dated session (or bout), energies at the week's reference state.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct SessionRecord {
+    /// Date.
+    pub date: NaiveDate,
+    /// Weekday (`mon` ... `sun`).
+    pub weekday: &'static str,
+    /// Minutes.
+    pub minutes: u32,
+    /// MET at the reference mass.
+    pub met: f64,
+    /// Gross energy, kcal.
+    pub gross_kcal: f64,
+    /// Energy above rest, kcal.
+    pub net_kcal: f64,
+    /// Cost in multiples of the participant's own RMR.
+    pub relative_intensity: f64,
+}
+
+/// The body at the end of a week, and the running energy account.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct WeekEnd {
+    /// Body mass, kg.
+    pub mass_kg: f64,
+    /// Fat mass, kg.
+    pub fat_mass_kg: f64,
+    /// Fat-free mass, kg.
+    pub fat_free_mass_kg: f64,
+    /// RMR, kcal/day.
+    pub rmr_kcal_per_day: f64,
+    /// Intake, kcal/day.
+    pub intake_kcal_per_day: f64,
+    /// Prescribed net exercise energy so far, kcal.
+    pub prescribed_net_kcal: f64,
+    /// Energy lost from the stores so far, kcal.
+    pub achieved_deficit_kcal: f64,
+    /// Deficit the exercise added, over the prescribed net energy, so far.
+    pub dose_share: f64,
+}
+
+/// One week of one scenario.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct WeekRecord {
+    /// Week number, 1-based; follow-up weeks go on counting.
+    pub week: u32,
+    /// First day.
+    pub start: NaiveDate,
+    /// Protocol or follow-up.
+    pub phase: Phase,
+    /// `M_w`, kg.
+    pub reference_mass_kg: f64,
+    /// Measured or projected.
+    pub mass_source: MassSource,
+    /// RMR at the reference state, kcal/day.
+    pub reference_rmr_kcal_per_day: f64,
+    /// `r_w` (0 in follow-up).
+    pub ramp_fraction: f64,
+    /// Minutes of each session (0 in follow-up).
+    pub minutes_per_session: u32,
+    /// Minutes of each session before rounding.
+    pub minutes_unrounded: f64,
+    /// Sessions this week.
+    pub sessions_per_week: u32,
+    /// Bouts per session.
+    pub bouts_per_session: u32,
+    /// Energy target per planned session on the plan's basis, kcal.
+    pub target_kcal_per_session: Option<f64>,
+    /// MET at the reference mass.
+    pub met: f64,
+    /// Sessions (bouts), date order.
+    pub sessions: Vec<SessionRecord>,
+    /// What the over-maximum policy did.
+    pub over_max: Option<OverMaxNote>,
+    /// State at the end of the week (day 7w).
+    pub end: WeekEnd,
+}
+
+/// The state at the end of the last listed week.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct Outcome {
+    /// The morning after the last day.
+    pub end_date: NaiveDate,
+    /// Body mass, kg.
+    pub mass_kg: f64,
+    /// Fat mass, kg.
+    pub fat_mass_kg: f64,
+    /// Fat-free mass, kg.
+    pub fat_free_mass_kg: f64,
+    /// Mass change from baseline, kg.
+    pub mass_change_kg: f64,
+    /// Fat-mass change, kg.
+    pub fat_mass_change_kg: f64,
+    /// Fat-free-mass change, kg.
+    pub fat_free_mass_change_kg: f64,
+    /// Prescribed net exercise energy, kcal.
+    pub prescribed_net_kcal: f64,
+    /// Energy lost from the stores, kcal.
+    pub achieved_deficit_kcal: f64,
+    /// Share of the dose that reached the stores.
+    pub dose_share: f64,
+    /// Mass at the end of the protocol (before follow-up), kg.
+    pub protocol_end_mass_kg: f64,
+}
+
+/// One scenario's projection.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct ScenarioRun {
+    /// Name.
+    pub name: String,
+    /// Assumptions in plain words.
+    pub assumptions: String,
+    /// The numbers behind them.
+    pub compensation: Compensation,
+    /// Protocol then follow-up weeks.
+    pub weeks: Vec<WeekRecord>,
+    /// The end state.
+    pub outcome: Outcome,
+}
+
+/// The simulation of a plan: baseline and every scenario.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct Simulation {
+    /// The calibrated baseline.
+    pub baseline: Baseline,
+    /// The calibrated physiology.
+    pub physiology: Physiology,
+    /// Mass change over 4 weeks with no exercise and no compensation, kg (the drift).
+    pub drift_mass_4_weeks_kg: f64,
+    /// Every scenario, in plan order.
+    pub scenarios: Vec<ScenarioRun>,
+}
+
+/// Simulate every scenario of a validated plan.
+pub fn simulate(plan: &Plan) -> Result<Simulation, Error> {
+    let (baseline, physiology) =
+        calibrate(&plan.participant.subject, &plan.constants).map_err(|e| {
+            Error::Usage(format!(
+                "{}: baseline cannot be calibrated: {e:?}",
+                plan.source_name
+            ))
+        })?;
+    let start_body = BodyState {
+        fat_kg: baseline.fat_mass_kg,
+        lean_kg: baseline.fat_free_mass_kg,
+        lagged_exercise_kcal_per_day: 0.0,
+    };
+    let drift = integrate(
+        &physiology,
+        &Compensation::default(),
+        &[],
+        state_of(&start_body, 0.0),
+        28.0,
+        28.0,
+    )
+    .map(|s| {
+        body_of(s.states.last().expect("dense output has points")).mass_kg() - baseline.mass_kg
+    })
+    .unwrap_or(0.0);
+    let mut scenarios = Vec::with_capacity(plan.scenarios.len());
+    for sc in &plan.scenarios {
+        let without = run(plan, &physiology, &baseline, sc, false, None)?;
+        let deficits: Vec<f64> = without
+            .iter()
+            .map(|w| w.end.achieved_deficit_kcal)
+            .collect();
+        let weeks = run(plan, &physiology, &baseline, sc, true, Some(&deficits))?;
+        let last = weeks.last().expect("a plan has at least one week");
+        let protocol_end = &weeks[plan.protocol.weeks as usize - 1];
+        let outcome = Outcome {
+            end_date: plan.protocol.end_date(),
+            mass_kg: last.end.mass_kg,
+            fat_mass_kg: last.end.fat_mass_kg,
+            fat_free_mass_kg: last.end.fat_free_mass_kg,
+            mass_change_kg: last.end.mass_kg - baseline.mass_kg,
+            fat_mass_change_kg: last.end.fat_mass_kg - baseline.fat_mass_kg,
+            fat_free_mass_change_kg: last.end.fat_free_mass_kg - baseline.fat_free_mass_kg,
+            prescribed_net_kcal: last.end.prescribed_net_kcal,
+            achieved_deficit_kcal: last.end.achieved_deficit_kcal,
+            dose_share: last.end.dose_share,
+            protocol_end_mass_kg: protocol_end.end.mass_kg,
+        };
+        scenarios.push(ScenarioRun {
+            name: sc.name.clone(),
+            assumptions: sc.assumptions(),
+            compensation: sc.compensation,
+            weeks,
+            outcome,
+        });
+    }
+    Ok(Simulation {
+        baseline,
+        physiology,
+        drift_mass_4_weeks_kg: drift,
+        scenarios,
+    })
+}
+
+/// Run one scenario week by week; `exercise = false` gives the same scenario with no
+/// exercise (the counterfactual `dose_share` needs), whose deficits are passed back in.
+fn run(
+    plan: &Plan,
+    physiology: &Physiology,
+    baseline: &Baseline,
+    scenario: &Scenario,
+    exercise: bool,
+    deficits_without: Option<&[f64]>,
+) -> Result<Vec<WeekRecord>, Error> {
+    let comp = &scenario.compensation;
+    let p = &plan.protocol;
+    let b0 = BodyState {
+        fat_kg: baseline.fat_mass_kg,
+        lean_kg: baseline.fat_free_mass_kg,
+        lagged_exercise_kcal_per_day: 0.0,
+    };
+    let mut y: State = state_of(&b0, 0.0);
+    let mut weeks = Vec::with_capacity(p.total_weeks() as usize);
+    for w in 1..=p.total_weeks() {
+        let start_day = 7 * (w - 1);
+        let week_start = p.start + chrono::Days::new(u64::from(start_day));
+        let body = body_of(&y);
+        let m_w = body.mass_kg();
+        let rmr_w = physiology.rmr(comp, body.fat_kg, body.lean_kg);
+        let reference = Reference {
+            mass_kg: m_w,
+            rmr_kcal_per_day: rmr_w,
+        };
+        let in_protocol = w <= p.weeks;
+        let rx = (exercise && in_protocol).then(|| {
+            prescribe(
+                plan,
+                physiology,
+                w,
+                week_start,
+                baseline.mass_kg,
+                &reference,
+            )
+        });
+        let bouts: Vec<Bout> = rx
+            .as_ref()
+            .map(|r| {
+                r.bouts
+                    .iter()
+                    .map(|(_, m)| Bout {
+                        minutes: f64::from(*m),
+                        intensity: plan.activity.intensity.clone(),
+                    })
+                    .collect()
+            })
+            .unwrap_or_default();
+        let samples = integrate(physiology, comp, &bouts, y, 7.0, 1.0).map_err(|(t, why)| {
+            let day = start_day + t.floor() as u32;
+            range_error(
+                plan,
+                scenario,
+                day,
+                &body,
+                format!("the ODE solver failed: {why}"),
+            )
+        })?;
+        for (i, s) in samples.states.iter().enumerate() {
+            check_state(plan, physiology, scenario, &bouts, start_day + i as u32, s)?;
+        }
+        y = *samples.states.last().expect("dense output has points");
+        if comp.intake_lag_days == 0.0 {
+            // With no lag Xbar is X itself; keep the state in step for the next week.
+            y[2] = physiology.fluxes(comp, &bouts, &body_of(&y)).exercise;
+        }
+        let end_body = body_of(&y);
+        let flux_end = physiology.fluxes(comp, &bouts, &end_body);
+        let deficit = -physiology.stored_energy_change(&b0, &end_body);
+        let prescribed = y[3];
+        let dose_share = match deficits_without {
+            Some(d) if prescribed > 0.0 => (deficit - d[w as usize - 1]) / prescribed,
+            _ => 0.0,
+        };
+        let met_w = plan.activity.intensity.met_at(m_w);
+        let sessions = rx
+            .as_ref()
+            .map(|r| {
+                r.bouts
+                    .iter()
+                    .map(|(date, m)| {
+                        let mins = f64::from(*m);
+                        SessionRecord {
+                            date: *date,
+                            weekday: weekday_name(date.weekday()),
+                            minutes: *m,
+                            met: met_w,
+                            gross_kcal: mins
+                                * crate::activity::acsm::gross_kcal_per_min(met_w, m_w),
+                            net_kcal: mins * physiology.net_kcal_per_min(met_w, m_w, rmr_w),
+                            relative_intensity: physiology.relative_intensity(met_w, m_w, rmr_w),
+                        }
+                    })
+                    .collect()
+            })
+            .unwrap_or_default();
+        weeks.push(WeekRecord {
+            week: w,
+            start: week_start,
+            phase: if in_protocol {
+                Phase::Protocol
+            } else {
+                Phase::FollowUp
+            },
+            reference_mass_kg: m_w,
+            mass_source: if w == 1 {
+                MassSource::Measured
+            } else {
+                MassSource::Projected
+            },
+            reference_rmr_kcal_per_day: rmr_w,
+            ramp_fraction: rx.as_ref().map_or(0.0, |r| r.ramp_fraction),
+            minutes_per_session: rx.as_ref().map_or(0, |r| r.minutes_per_session),
+            minutes_unrounded: rx.as_ref().map_or(0.0, |r| r.minutes_unrounded),
+            sessions_per_week: rx
+                .as_ref()
+                .map_or(0, |r| (r.bouts.len() as u32) / r.bouts_per_session),
+            bouts_per_session: rx.as_ref().map_or(0, |r| r.bouts_per_session),
+            target_kcal_per_session: rx.as_ref().and_then(|r| r.target_kcal_per_session),
+            met: if rx.is_some() { met_w } else { 0.0 },
+            sessions,
+            over_max: rx.and_then(|r| r.over_max),
+            end: WeekEnd {
+                mass_kg: end_body.mass_kg(),
+                fat_mass_kg: end_body.fat_kg,
+                fat_free_mass_kg: end_body.lean_kg,
+                rmr_kcal_per_day: flux_end.rmr,
+                intake_kcal_per_day: flux_end.intake,
+                prescribed_net_kcal: prescribed,
+                achieved_deficit_kcal: deficit,
+                dose_share,
+            },
+        });
+    }
+    Ok(weeks)
+}
+
+fn range_error(
+    plan: &Plan,
+    scenario: &Scenario,
+    day: u32,
+    body: &BodyState,
+    what: String,
+) -> Error {
+    Error::OutOfRange(RangeError {
+        file: plan.source_name.clone(),
+        scenario: scenario.name.clone(),
+        day,
+        date: plan.protocol.start + chrono::Days::new(u64::from(day)),
+        what,
+        fat_kg: body.fat_kg,
+        lean_kg: body.lean_kg,
+    })
+}
+
+/// MODEL.md 6: fat mass below 2 kg, RMR, activity or exercise net energy at or below
+/// zero, intake below zero, or any non-finite value is out of range.
+fn check_state(
+    plan: &Plan,
+    physiology: &Physiology,
+    scenario: &Scenario,
+    bouts: &[Bout],
+    day: u32,
+    y: &State,
+) -> Result<(), Error> {
+    let body = body_of(y);
+    let bad = |what: String| Err(range_error(plan, scenario, day, &body, what));
+    if !y.iter().all(|v| v.is_finite()) {
+        return bad("a state value is not finite".to_string());
+    }
+    if body.fat_kg < MIN_FAT_KG {
+        return bad(format!(
+            "fat mass {:.2} kg is below {MIN_FAT_KG} kg",
+            body.fat_kg
+        ));
+    }
+    let f = physiology.fluxes(&scenario.compensation, bouts, &body);
+    let checks = [
+        (f.rmr, "RMR", "at or below zero"),
+        (
+            f.activity,
+            "non-exercise activity energy",
+            "at or below zero (activity compensation larger than all other movement)",
+        ),
+        (
+            f.min_net_kcal_per_min,
+            "exercise energy above rest per minute",
+            "at or below zero (the activity no longer costs more than rest)",
+        ),
+    ];
+    for (v, name, why) in checks {
+        if !v.is_finite() && v != f64::INFINITY {
+            return bad(format!("{name} is not finite"));
+        }
+        if v <= 0.0 {
+            return bad(format!("{name} is {v:.2}, {why}"));
+        }
+    }
+    if f.intake < 0.0 {
+        return bad(format!("intake is {:.0} kcal/day, below zero", f.intake));
+    }
+    Ok(())
+}
