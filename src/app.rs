@@ -1,13 +1,15 @@
 //! The commands, as library calls: each returns what to print, or an error.
 
 use crate::activity::compendium;
-use crate::cli::{Command, FormatArg};
+use crate::cli::{Command, CompareFormat, FormatArg, GoalFormat};
 use crate::error::Error;
 use crate::files::{refuse_overwriting_inputs, write_atomic};
 use crate::plan::{self, Plan};
 use crate::report::{self, ScheduleReport};
+use crate::simulate::band::projection_band;
+use crate::simulate::goal::{GoalRequest, allowed_range, solve};
 use crate::simulate::simulate;
-use std::path::Path;
+use std::path::{Path, PathBuf};
 
 /// What a successful command prints.
 #[derive(Debug, Default, Clone, PartialEq, Eq)]
@@ -32,6 +34,94 @@ pub fn schedule_report(plan: &Plan) -> Result<ScheduleReport, Error> {
     Ok(ScheduleReport::new(plan, sim))
 }
 
+/// The schedule report with the projection band.
+pub fn schedule_report_with_band(plan: &Plan) -> Result<ScheduleReport, Error> {
+    let sim = simulate(plan)?;
+    let band = projection_band(plan, &sim)?;
+    let mut r = ScheduleReport::new(plan, sim);
+    r.projection_band = Some(band);
+    Ok(r)
+}
+
+/// The plan with ad-hoc scenarios from `--add-scenario` appended.
+pub fn with_added_scenarios(mut plan: Plan, specs: &[String]) -> Result<Plan, Error> {
+    for spec in specs {
+        let sc = plan::parse_scenario_spec(spec)?;
+        if plan.scenarios.iter().any(|s| s.name == sc.name) {
+            return Err(Error::Usage(format!(
+                "--add-scenario \"{spec}\": the plan already has a scenario named \"{}\"; choose another name",
+                sc.name
+            )));
+        }
+        plan.scenarios.push(sc);
+    }
+    Ok(plan)
+}
+
+/// The compare report: checkpoints, band, and the dose-response table when doses are given.
+pub fn compare_report(plan: &Plan, at_weeks: &[u32], doses: &[f64]) -> Result<report::compare::CompareReport, Error> {
+    let total = plan.protocol.total_weeks();
+    if let Some(bad) = at_weeks.iter().find(|w| **w < 1 || **w > total) {
+        return Err(Error::Usage(format!("--at-week {bad}: outside the plan's weeks; allowed 1 to {total} (protocol and follow-up)")));
+    }
+    let amount = plan.protocol.dose.amount;
+    let (lo, hi) = allowed_range(&amount);
+    if let Some(bad) = doses.iter().find(|d| !d.is_finite() || **d < lo || **d > hi) {
+        return Err(Error::Usage(format!("--doses: {bad} is out of range for {}; allowed {lo} to {hi} {}", amount.key(), amount.unit())));
+    }
+    let schedule = schedule_report_with_band(plan)?;
+    let weeks = report::compare::checkpoints(plan, at_weeks);
+    let dose_response = if doses.is_empty() {
+        None
+    } else {
+        let mut rows = Vec::new();
+        for &d in doses {
+            let mut p = plan.clone();
+            p.protocol.dose.amount = amount.with_value(d);
+            let sim = simulate(&p)?;
+            let m0 = sim.baseline.mass_kg;
+            let f0 = sim.baseline.fat_mass_kg;
+            rows.push(report::compare::DoseRow {
+                dose: d,
+                scenarios: sim
+                    .scenarios
+                    .iter()
+                    .map(|sc| report::compare::DoseScenario {
+                        name: sc.name.clone(),
+                        rows: weeks
+                            .iter()
+                            .map(|&n| {
+                                let w = &sc.weeks[n as usize - 1];
+                                report::compare::DosePoint {
+                                    week: n,
+                                    mass_change_kg: w.end.mass_kg - m0,
+                                    fat_mass_change_kg: w.end.fat_mass_kg - f0,
+                                    minutes_per_session: w.minutes_per_session,
+                                }
+                            })
+                            .collect(),
+                    })
+                    .collect(),
+            });
+        }
+        Some(report::compare::DoseResponse { dose_unit: amount.key(), doses: rows })
+    };
+    let band = schedule.projection_band.clone().expect("computed above");
+    Ok(report::compare::CompareReport::new(plan, &schedule, &band, weeks, dose_response))
+}
+
+/// Print to standard output, or write the file atomically and say so on standard error.
+fn deliver(mut printed: Printed, text: String, out: &Option<PathBuf>) -> Result<Printed, Error> {
+    match out {
+        Some(o) => {
+            write_atomic(o, text.as_bytes(), false)?;
+            printed.stderr.push_str(&format!("wrote {}\n", o.display()));
+        }
+        None => printed.stdout = text,
+    }
+    Ok(printed)
+}
+
 /// Run one command.
 pub fn run(command: &Command) -> Result<Printed, Error> {
     match command {
@@ -40,12 +130,13 @@ pub fn run(command: &Command) -> Result<Printed, Error> {
             scenario,
             format,
             out,
+            chart,
         } => {
             if let (Some(o), Some(p)) = (out, plan) {
                 refuse_overwriting_inputs(o, &[p.as_path()])?;
             }
             let plan = load(plan.as_deref())?;
-            let r = schedule_report(&plan)?;
+            let r = schedule_report_with_band(&plan)?;
             let index = r.scenario_index(scenario.as_deref())?;
             let mut printed = Printed::default();
             let text = match format {
@@ -56,14 +147,59 @@ pub fn run(command: &Command) -> Result<Printed, Error> {
                     report::csv::render(&r)
                 }
             };
-            match out {
-                Some(o) => {
-                    write_atomic(o, text.as_bytes(), false)?;
-                    printed.stderr.push_str(&format!("wrote {}\n", o.display()));
-                }
-                None => printed.stdout = text,
+            if let Some(dir) = chart {
+                printed.stderr.push_str(&charts::write_schedule_charts(dir, &r)?);
             }
-            Ok(printed)
+            deliver(printed, text, out)
+        }
+        Command::Compare { plan, at_week, add_scenario, doses, format, out, chart } => {
+            if let Some(o) = out {
+                refuse_overwriting_inputs(o, &[plan.as_path()])?;
+            }
+            let plan = with_added_scenarios(load(Some(plan))?, add_scenario)?;
+            let r = compare_report(&plan, at_week, doses)?;
+            let text = match format {
+                CompareFormat::Table => report::compare::render_table(&r),
+                CompareFormat::Markdown => report::compare::render_markdown(&r),
+                CompareFormat::Json => report::json::render(&r),
+                CompareFormat::Csv => report::compare::render_csv(&r),
+            };
+            let mut printed = Printed::default();
+            if matches!(format, CompareFormat::Csv) {
+                printed.stderr = format!("{}{}", report::table::warnings_text(&r.warnings), report::cautions_text(&r.screening));
+            }
+            if let Some(dir) = chart {
+                let schedule = schedule_report_with_band(&plan)?;
+                printed.stderr.push_str(&charts::write_schedule_charts(dir, &schedule)?);
+            }
+            deliver(printed, text, out)
+        }
+        Command::Goal { plan, lose_kg, lose_percent, by_week, add_scenario, format, out } => {
+            if let Some(o) = out {
+                refuse_overwriting_inputs(o, &[plan.as_path()])?;
+            }
+            let plan = with_added_scenarios(load(Some(plan))?, add_scenario)?;
+            let m0 = plan.participant.subject.mass_kg;
+            let lose = match (lose_kg, lose_percent) {
+                (Some(kg), _) => *kg,
+                (None, Some(p)) => {
+                    if !p.is_finite() || *p <= 0.0 || *p >= 100.0 {
+                        return Err(Error::Usage(format!("--lose-percent {p}: allowed above 0 and below 100 (percent of baseline mass)")));
+                    }
+                    m0 * p / 100.0
+                }
+                (None, None) => unreachable!("clap requires one of the two"),
+            };
+            let request = GoalRequest { lose_kg: lose, by_week: *by_week };
+            crate::simulate::goal::check_request(&plan, &request)?;
+            let schedule = schedule_report(&plan)?;
+            let answers = solve(&plan, &request)?;
+            let r = report::goal::GoalReport::new(&schedule, request, answers);
+            let text = match format {
+                GoalFormat::Table => report::goal::render_table(&r),
+                GoalFormat::Json => report::json::render(&r),
+            };
+            deliver(Printed::default(), text, out)
         }
         Command::Check { plan } => {
             let plan = load(Some(plan))?;
@@ -140,9 +276,21 @@ pub fn run(command: &Command) -> Result<Printed, Error> {
     }
 }
 
+mod charts {
+    //! Writing the SVG charts of a report.
+    use crate::error::Error;
+    use crate::report::ScheduleReport;
+    use std::path::Path;
+
+    /// Write the four charts; returns the notes for standard error.
+    pub fn write_schedule_charts(_dir: &Path, _r: &ScheduleReport) -> Result<String, Error> {
+        Err(Error::Usage("--chart: charts are not built yet".to_string()))
+    }
+}
+
 /// Warnings and cautions for standard error beside machine-readable output.
 fn side_notes(r: &ScheduleReport) -> String {
-    let mut s = report::table::warnings_text(r);
+    let mut s = report::table::warnings_text(&r.warnings);
     s.push_str(&report::cautions_text(&r.screening));
     s
 }

@@ -73,6 +73,28 @@ impl RmrEquation {
         }
     }
 
+    /// The equation's individual error as a standard deviation relative to its value
+    /// at `rmr_kcal_per_day`, and where that figure comes from. Only the revised
+    /// Harris-Benedict equation has a published figure to hand (95% limits of
+    /// +/-213 kcal/day in men, +/-201 in women: Roza & Shizgal 1984, via a secondary
+    /// copy); for the others 10% is used, the usual size of an equation's error for
+    /// one person (FAO/WHO/UNU 2004; Frankenfield et al. 2005, J Am Diet Assoc 105:775).
+    pub fn relative_error(self, sex: Sex, rmr_kcal_per_day: f64) -> (f64, &'static str) {
+        match self {
+            RmrEquation::HarrisBenedictRevised => {
+                let limit = if sex == Sex::Male { 213.0 } else { 201.0 };
+                (
+                    limit / 1.96 / rmr_kcal_per_day,
+                    "published 95% limits (Roza & Shizgal 1984) as a standard deviation",
+                )
+            }
+            _ => (
+                0.10,
+                "10%: no published relative error used (common size of an equation's error for one person; FAO/WHO/UNU 2004, Frankenfield et al. 2005)",
+            ),
+        }
+    }
+
     /// RMR in kcal/day for the given body; age is held at its baseline value by callers.
     pub fn kcal_per_day(
         self,

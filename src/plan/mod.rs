@@ -305,3 +305,80 @@ impl Scenario {
         }
     }
 }
+
+/// The scenario keys with their allowed ranges and units (PLAN.md).
+pub const SCENARIO_KEYS: [(&str, f64, f64, &str); 5] = [
+    ("intake_fraction", 0.0, 1.5, ""),
+    ("intake_lag_days", 0.0, 365.0, " days"),
+    ("activity_fraction", 0.0, 1.0, ""),
+    ("rmr_adaptation_kcal_per_kg", 0.0, 50.0, " kcal/day per kg"),
+    ("diet_change_kcal_per_day", -2500.0, 2500.0, " kcal/day"),
+];
+
+/// The allowed range and unit of a scenario key.
+pub fn scenario_range(key: &str) -> (f64, f64, &'static str) {
+    SCENARIO_KEYS
+        .iter()
+        .find(|(k, ..)| *k == key)
+        .map(|(_, lo, hi, u)| (*lo, *hi, *u))
+        .expect("a known scenario key")
+}
+
+impl Compensation {
+    /// Set one scenario key by name (the keys of [`SCENARIO_KEYS`]).
+    pub fn set(&mut self, key: &str, value: f64) {
+        match key {
+            "intake_fraction" => self.intake_fraction = value,
+            "intake_lag_days" => self.intake_lag_days = value,
+            "activity_fraction" => self.activity_fraction = value,
+            "rmr_adaptation_kcal_per_kg" => self.rmr_adaptation_kcal_per_kg = value,
+            "diet_change_kcal_per_day" => self.diet_change_kcal_per_day = value,
+            _ => unreachable!("keys are checked against SCENARIO_KEYS first"),
+        }
+    }
+}
+
+/// Parse an ad-hoc scenario from the command line: `NAME:key=value,key=value`
+/// (keys as in `[[scenario]]`; `NAME` alone is a scenario with nothing compensated).
+pub fn parse_scenario_spec(spec: &str) -> Result<Scenario, crate::Error> {
+    let usage = |msg: String| {
+        crate::Error::Usage(format!(
+            "--add-scenario \"{spec}\": {msg}; write NAME:key=value,key=value with keys {}",
+            SCENARIO_KEYS.iter().map(|k| k.0).collect::<Vec<_>>().join(", ")
+        ))
+    };
+    let (name, rest) = match spec.split_once(':') {
+        Some((n, r)) => (n.trim(), r.trim()),
+        None => (spec.trim(), ""),
+    };
+    if name.is_empty() {
+        return Err(usage("the name before ':' is empty".to_string()));
+    }
+    let mut compensation = Compensation::default();
+    let mut seen: Vec<&str> = Vec::new();
+    for part in rest.split(',').map(str::trim).filter(|p| !p.is_empty()) {
+        let Some((key, value)) = part.split_once('=') else {
+            return Err(usage(format!("\"{part}\" has no '='")));
+        };
+        let key = key.trim();
+        let Some((_, lo, hi, unit)) = SCENARIO_KEYS.iter().find(|(k, ..)| *k == key) else {
+            return Err(usage(format!("unknown key \"{key}\"")));
+        };
+        if seen.contains(&key) {
+            return Err(usage(format!("key \"{key}\" is given twice")));
+        }
+        seen.push(key);
+        let v: f64 = value
+            .trim()
+            .parse()
+            .map_err(|_| usage(format!("{key} = \"{}\" is not a number", value.trim())))?;
+        if !v.is_finite() || v < *lo || v > *hi {
+            return Err(usage(format!("{key} = {v} is out of range; allowed {lo} to {hi}{unit}")));
+        }
+        compensation.set(key, v);
+    }
+    Ok(Scenario {
+        name: name.to_string(),
+        compensation,
+    })
+}

@@ -9,6 +9,7 @@ use crate::model::energy::{CalibrationError, calibrate};
 use crate::model::{Compensation, Constants, RestForNet, RmrEquation, Sex, Subject};
 use std::ops::Range;
 
+
 /// Read and validate a plan file. A missing, unreadable or non-UTF-8 file is bad input.
 pub fn load_plan(path: &std::path::Path) -> Result<Plan, Error> {
     let name = path.display().to_string();
@@ -852,40 +853,16 @@ impl Cx<'_> {
                 ));
             }
             let k = |key: &str| format!("{tn}.{key}");
+            let value = |v: &Option<Num>, key: &str| -> Result<f64, Error> {
+                let (lo, hi, unit) = scenario_range(key);
+                Ok(self.opt_number(v, &k(key), lo, hi, unit)?.unwrap_or(0.0))
+            };
             let compensation = Compensation {
-                intake_fraction: self
-                    .opt_number(&s.intake_fraction, &k("intake_fraction"), 0.0, 1.5, "")?
-                    .unwrap_or(0.0),
-                intake_lag_days: self
-                    .opt_number(
-                        &s.intake_lag_days,
-                        &k("intake_lag_days"),
-                        0.0,
-                        365.0,
-                        " days",
-                    )?
-                    .unwrap_or(0.0),
-                activity_fraction: self
-                    .opt_number(&s.activity_fraction, &k("activity_fraction"), 0.0, 1.0, "")?
-                    .unwrap_or(0.0),
-                rmr_adaptation_kcal_per_kg: self
-                    .opt_number(
-                        &s.rmr_adaptation_kcal_per_kg,
-                        &k("rmr_adaptation_kcal_per_kg"),
-                        0.0,
-                        50.0,
-                        " kcal/day per kg",
-                    )?
-                    .unwrap_or(0.0),
-                diet_change_kcal_per_day: self
-                    .opt_number(
-                        &s.diet_change_kcal_per_day,
-                        &k("diet_change_kcal_per_day"),
-                        -2500.0,
-                        2500.0,
-                        " kcal/day",
-                    )?
-                    .unwrap_or(0.0),
+                intake_fraction: value(&s.intake_fraction, "intake_fraction")?,
+                intake_lag_days: value(&s.intake_lag_days, "intake_lag_days")?,
+                activity_fraction: value(&s.activity_fraction, "activity_fraction")?,
+                rmr_adaptation_kcal_per_kg: value(&s.rmr_adaptation_kcal_per_kg, "rmr_adaptation_kcal_per_kg")?,
+                diet_change_kcal_per_day: value(&s.diet_change_kcal_per_day, "diet_change_kcal_per_day")?,
             };
             out.push(Scenario {
                 name: n.to_string(),

@@ -66,7 +66,7 @@ pub fn render(plan: &Plan, r: &ScheduleReport) -> String {
         ));
     }
     s.push_str(&format!("\nScreening: {}\n\n", r.screening.recommendation));
-    s.push_str(&warnings_text(r));
+    s.push_str(&warnings_text(&r.warnings));
     s.push('\n');
     s.push_str(&cautions_text(&r.screening));
     s

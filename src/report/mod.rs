@@ -2,8 +2,11 @@
 //! report. Renderers never call back into the simulation.
 
 pub mod activities;
+pub mod chart;
 pub mod check;
+pub mod compare;
 pub mod csv;
+pub mod goal;
 pub mod json;
 pub mod table;
 
@@ -98,6 +101,8 @@ pub struct ScheduleReport {
     pub warnings: Vec<Warning>,
     /// The standing cautions.
     pub cautions: Vec<&'static str>,
+    /// The projection band around each scenario's mass trajectory, when computed.
+    pub projection_band: Option<crate::simulate::band::Band>,
 }
 
 impl ScheduleReport {
@@ -148,6 +153,7 @@ impl ScheduleReport {
             scenarios: sim.scenarios,
             warnings,
             cautions: safety::CAUTIONS.to_vec(),
+            projection_band: None,
         }
     }
 

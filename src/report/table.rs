@@ -3,6 +3,7 @@
 
 use crate::plan::EnergyBasis;
 use crate::report::{ScheduleReport, cautions_text};
+use crate::safety::Warning;
 use crate::simulate::{MassSource, Phase};
 use comfy_table::{Cell, CellAlignment, Table, presets};
 
@@ -122,6 +123,7 @@ pub fn outcome_table(r: &ScheduleReport) -> String {
         "scenario",
         "end date",
         "mass [kg]",
+        "band [kg]",
         "fat [kg]",
         "fat-free [kg]",
         "change [kg]",
@@ -129,12 +131,19 @@ pub fn outcome_table(r: &ScheduleReport) -> String {
         "achieved deficit [kcal]",
         "dose share",
     ]);
-    for s in &r.scenarios {
+    for (i, s) in r.scenarios.iter().enumerate() {
         let o = &s.outcome;
+        let band = r
+            .projection_band
+            .as_ref()
+            .and_then(|b| b.scenarios.get(i))
+            .and_then(|b| b.weeks.last())
+            .map_or("-".to_string(), |w| format!("{:.1}-{:.1}", w.mass_low_kg, w.mass_high_kg));
         t.add_row(vec![
             s.name.clone(),
             o.end_date.to_string(),
             format!("{:.1}", o.mass_kg),
+            band,
             format!("{:.1}", o.fat_mass_kg),
             format!("{:.1}", o.fat_free_mass_kg),
             format!("{:+.1}", o.mass_change_kg),
@@ -144,21 +153,23 @@ pub fn outcome_table(r: &ScheduleReport) -> String {
         ]);
     }
     align_numbers(&mut t, 2);
-    let mut s =
-        format!("Projected outcome by scenario (end of follow-up where there is one)\n{t}\n");
+    let mut s = format!("Projected outcome by scenario (end of follow-up where there is one)\n{t}\n");
     for sc in &r.scenarios {
         s.push_str(&format!("  {}: {}\n", sc.name, sc.assumptions));
+    }
+    if let Some(b) = &r.projection_band {
+        s.push_str(&format!("  Band: {}. Sources: {}.\n", b.meaning, b.sources.join("; ")));
     }
     s
 }
 
 /// The warnings block.
-pub fn warnings_text(r: &ScheduleReport) -> String {
-    if r.warnings.is_empty() {
+pub fn warnings_text(warnings: &[Warning]) -> String {
+    if warnings.is_empty() {
         return "Warnings: none\n".to_string();
     }
     let mut s = String::from("Warnings\n");
-    for w in &r.warnings {
+    for w in warnings {
         s.push_str(&format!("  - [{}] {}\n", w.code, w.message));
     }
     s
@@ -255,7 +266,7 @@ pub fn render(r: &ScheduleReport, index: usize) -> String {
     out.push('\n');
     out.push_str(&outcome_table(r));
     out.push('\n');
-    out.push_str(&warnings_text(r));
+    out.push_str(&warnings_text(&r.warnings));
     out.push('\n');
     out.push_str(&cautions_text(&r.screening));
     out

@@ -174,8 +174,35 @@ fn scenario_warnings(plan: &Plan, sc: &ScenarioRun, out: &mut Vec<Warning>) {
     if !fast.is_empty() {
         out.push(w("loss-rate-over-1-percent", format!("scenario \"{name}\": projected loss exceeds 1% of body mass per week in {} {}; faster loss needs clinical supervision", plural(&fast), week_ranges(&fast))));
     }
+    if sc.compensation.diet_change_kcal_per_day < 0.0 {
+        intake_warnings(plan, sc, out);
+    }
     let h = plan.participant.subject.height_cm;
     if let Some(wk) = sc.weeks.iter().find(|wk| bmi(wk.end.mass_kg, h) < 18.5) {
         out.push(w("bmi-below-18.5", format!("scenario \"{name}\": projected BMI falls below 18.5 kg/m^2 (underweight) by the end of week {} ({:.1} kg); stop or reduce the dose", wk.week, wk.end.mass_kg)));
+    }
+}
+
+/// Unsupervised intake floors, kcal/day: 1,200 (women) and 1,500 (men) (common
+/// practice; REFERENCES.md 6.4, with the 2013 AHA/ACC/TOS guideline's 1,200-1,500 and
+/// 1,500-1,800 kcal/day prescriptions, Jensen et al. 2014, Circulation 129:S102).
+pub fn intake_floor_kcal_per_day(sex: crate::model::Sex) -> f64 {
+    match sex {
+        crate::model::Sex::Female => 1200.0,
+        crate::model::Sex::Male => 1500.0,
+    }
+}
+
+fn intake_warnings(plan: &Plan, sc: &ScenarioRun, out: &mut Vec<Warning>) {
+    let name = &sc.name;
+    let floor = intake_floor_kcal_per_day(plan.participant.subject.sex);
+    let below_rmr: Vec<u32> = sc.weeks.iter().filter(|w| w.end.intake_kcal_per_day < w.end.rmr_kcal_per_day).map(|w| w.week).collect();
+    let lowest = sc.weeks.iter().map(|w| w.end.intake_kcal_per_day).fold(f64::INFINITY, f64::min);
+    if !below_rmr.is_empty() {
+        out.push(w("intake-below-rmr", format!("scenario \"{name}\": with the diet change, intake falls below the participant's RMR in {} {} (lowest {lowest:.0} kcal/day); never plan intake below RMR without clinical supervision", plural(&below_rmr), week_ranges(&below_rmr))));
+    }
+    let below_floor: Vec<u32> = sc.weeks.iter().filter(|w| w.end.intake_kcal_per_day < floor).map(|w| w.week).collect();
+    if !below_floor.is_empty() {
+        out.push(w("intake-below-floor", format!("scenario \"{name}\": with the diet change, intake falls below {floor:.0} kcal/day, the usual floor without supervision, in {} {} (lowest {lowest:.0} kcal/day)", plural(&below_floor), week_ranges(&below_floor))));
     }
 }

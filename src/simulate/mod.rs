@@ -4,6 +4,8 @@
 //!
 //! Reference: MODEL.md sections 4-6.
 
+pub mod band;
+pub mod goal;
 pub mod integrate;
 pub mod prescription;
 
@@ -235,6 +237,19 @@ pub fn simulate(plan: &Plan) -> Result<Simulation, Error> {
         drift_mass_4_weeks_kg: drift,
         scenarios,
     })
+}
+
+/// End-of-week masses of every scenario with no exercise at all (the counterfactual
+/// of `dose_share`), with the baseline.
+pub fn no_exercise_masses(plan: &Plan) -> Result<(Baseline, Vec<Vec<f64>>), Error> {
+    let (baseline, physiology) = calibrate(&plan.participant.subject, &plan.constants)
+        .map_err(|e| Error::Usage(format!("{}: baseline cannot be calibrated: {e:?}", plan.source_name)))?;
+    let masses = plan
+        .scenarios
+        .iter()
+        .map(|sc| Ok(run(plan, &physiology, &baseline, sc, false, None)?.iter().map(|w| w.end.mass_kg).collect()))
+        .collect::<Result<Vec<Vec<f64>>, Error>>()?;
+    Ok((baseline, masses))
 }
 
 /// Run one scenario week by week; `exercise = false` gives the same scenario with no
