@@ -59,15 +59,28 @@ pub fn with_added_scenarios(mut plan: Plan, specs: &[String]) -> Result<Plan, Er
 }
 
 /// The compare report: checkpoints, band, and the dose-response table when doses are given.
-pub fn compare_report(plan: &Plan, at_weeks: &[u32], doses: &[f64]) -> Result<report::compare::CompareReport, Error> {
+pub fn compare_report(
+    plan: &Plan,
+    at_weeks: &[u32],
+    doses: &[f64],
+) -> Result<report::compare::CompareReport, Error> {
     let total = plan.protocol.total_weeks();
     if let Some(bad) = at_weeks.iter().find(|w| **w < 1 || **w > total) {
-        return Err(Error::Usage(format!("--at-week {bad}: outside the plan's weeks; allowed 1 to {total} (protocol and follow-up)")));
+        return Err(Error::Usage(format!(
+            "--at-week {bad}: outside the plan's weeks; allowed 1 to {total} (protocol and follow-up)"
+        )));
     }
     let amount = plan.protocol.dose.amount;
     let (lo, hi) = allowed_range(&amount);
-    if let Some(bad) = doses.iter().find(|d| !d.is_finite() || **d < lo || **d > hi) {
-        return Err(Error::Usage(format!("--doses: {bad} is out of range for {}; allowed {lo} to {hi} {}", amount.key(), amount.unit())));
+    if let Some(bad) = doses
+        .iter()
+        .find(|d| !d.is_finite() || **d < lo || **d > hi)
+    {
+        return Err(Error::Usage(format!(
+            "--doses: {bad} is out of range for {}; allowed {lo} to {hi} {}",
+            amount.key(),
+            amount.unit()
+        )));
     }
     let schedule = schedule_report_with_band(plan)?;
     let weeks = report::compare::checkpoints(plan, at_weeks);
@@ -104,10 +117,19 @@ pub fn compare_report(plan: &Plan, at_weeks: &[u32], doses: &[f64]) -> Result<re
                     .collect(),
             });
         }
-        Some(report::compare::DoseResponse { dose_unit: amount.key(), doses: rows })
+        Some(report::compare::DoseResponse {
+            dose_unit: amount.key(),
+            doses: rows,
+        })
     };
     let band = schedule.projection_band.clone().expect("computed above");
-    Ok(report::compare::CompareReport::new(plan, &schedule, &band, weeks, dose_response))
+    Ok(report::compare::CompareReport::new(
+        plan,
+        &schedule,
+        &band,
+        weeks,
+        dose_response,
+    ))
 }
 
 /// Print to standard output, or write the file atomically and say so on standard error.
@@ -148,11 +170,21 @@ pub fn run(command: &Command) -> Result<Printed, Error> {
                 }
             };
             if let Some(dir) = chart {
-                printed.stderr.push_str(&charts::write_schedule_charts(dir, &r)?);
+                printed
+                    .stderr
+                    .push_str(&charts::write_schedule_charts(dir, &r)?);
             }
             deliver(printed, text, out)
         }
-        Command::Compare { plan, at_week, add_scenario, doses, format, out, chart } => {
+        Command::Compare {
+            plan,
+            at_week,
+            add_scenario,
+            doses,
+            format,
+            out,
+            chart,
+        } => {
             if let Some(o) = out {
                 refuse_overwriting_inputs(o, &[plan.as_path()])?;
             }
@@ -166,15 +198,29 @@ pub fn run(command: &Command) -> Result<Printed, Error> {
             };
             let mut printed = Printed::default();
             if matches!(format, CompareFormat::Csv) {
-                printed.stderr = format!("{}{}", report::table::warnings_text(&r.warnings), report::cautions_text(&r.screening));
+                printed.stderr = format!(
+                    "{}{}",
+                    report::table::warnings_text(&r.warnings),
+                    report::cautions_text(&r.screening)
+                );
             }
             if let Some(dir) = chart {
                 let schedule = schedule_report_with_band(&plan)?;
-                printed.stderr.push_str(&charts::write_schedule_charts(dir, &schedule)?);
+                printed
+                    .stderr
+                    .push_str(&charts::write_schedule_charts(dir, &schedule)?);
             }
             deliver(printed, text, out)
         }
-        Command::Goal { plan, lose_kg, lose_percent, by_week, add_scenario, format, out } => {
+        Command::Goal {
+            plan,
+            lose_kg,
+            lose_percent,
+            by_week,
+            add_scenario,
+            format,
+            out,
+        } => {
             if let Some(o) = out {
                 refuse_overwriting_inputs(o, &[plan.as_path()])?;
             }
@@ -184,13 +230,18 @@ pub fn run(command: &Command) -> Result<Printed, Error> {
                 (Some(kg), _) => *kg,
                 (None, Some(p)) => {
                     if !p.is_finite() || *p <= 0.0 || *p >= 100.0 {
-                        return Err(Error::Usage(format!("--lose-percent {p}: allowed above 0 and below 100 (percent of baseline mass)")));
+                        return Err(Error::Usage(format!(
+                            "--lose-percent {p}: allowed above 0 and below 100 (percent of baseline mass)"
+                        )));
                     }
                     m0 * p / 100.0
                 }
                 (None, None) => unreachable!("clap requires one of the two"),
             };
-            let request = GoalRequest { lose_kg: lose, by_week: *by_week };
+            let request = GoalRequest {
+                lose_kg: lose,
+                by_week: *by_week,
+            };
             crate::simulate::goal::check_request(&plan, &request)?;
             let schedule = schedule_report(&plan)?;
             let answers = solve(&plan, &request)?;
@@ -239,10 +290,10 @@ pub fn run(command: &Command) -> Result<Printed, Error> {
             let lo = met_min.unwrap_or(0.0);
             let hi = met_max.unwrap_or(f64::INFINITY);
             for (v, name) in [(met_min, "--met-min"), (met_max, "--met-max")] {
-                if let Some(x) = v {
-                    if !x.is_finite() || *x < 0.0 || *x > 25.0 {
-                        return Err(Error::Usage(format!("{name} {x}: allowed 0 to 25 MET")));
-                    }
+                if let Some(x) = v
+                    && (!x.is_finite() || *x < 0.0 || *x > 25.0)
+                {
+                    return Err(Error::Usage(format!("{name} {x}: allowed 0 to 25 MET")));
                 }
             }
             if lo > hi {
@@ -280,11 +331,43 @@ mod charts {
     //! Writing the SVG charts of a report.
     use crate::error::Error;
     use crate::report::ScheduleReport;
+    use crate::report::chart::{Band, standard_charts, write_charts};
     use std::path::Path;
 
-    /// Write the four charts; returns the notes for standard error.
-    pub fn write_schedule_charts(_dir: &Path, _r: &ScheduleReport) -> Result<String, Error> {
-        Err(Error::Usage("--chart: charts are not built yet".to_string()))
+    /// Write the four charts into `dir`; returns the notes for standard error.
+    pub fn write_schedule_charts(dir: &Path, r: &ScheduleReport) -> Result<String, Error> {
+        let m0 = r.baseline.mass_kg;
+        let band = r
+            .projection_band
+            .as_ref()
+            .and_then(|b| b.scenarios.first())
+            .map(|sb| Band {
+                name: format!("sensitivity band, RMR and body-fat error ({})", sb.name),
+                points: std::iter::once((0.0, m0, m0))
+                    .chain(
+                        sb.weeks
+                            .iter()
+                            .map(|w| (f64::from(w.week), w.mass_low_kg, w.mass_high_kg)),
+                    )
+                    .collect(),
+            });
+        let charts = standard_charts(&r.scenarios, r.protocol.weeks, band.as_ref());
+        let stem: String = r
+            .participant_id
+            .chars()
+            .map(|c| {
+                if c.is_ascii_alphanumeric() || c == '-' || c == '_' {
+                    c
+                } else {
+                    '_'
+                }
+            })
+            .collect();
+        let paths = write_charts(dir, &stem, &charts)?;
+        Ok(paths
+            .iter()
+            .map(|p| format!("wrote {}\n", p.display()))
+            .collect())
     }
 }
 

@@ -53,7 +53,7 @@ pub enum Command {
     Schedule {
         /// The plan file (TOML). Without one, a built-in demo plan runs.
         plan: Option<PathBuf>,
-        /// Whose schedule the table and CSV show (default: the first scenario).
+        /// Whose schedule the table shows (default: the first scenario; CSV and JSON carry every scenario).
         #[arg(long)]
         scenario: Option<String>,
         /// Output format.

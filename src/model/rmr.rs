@@ -90,7 +90,7 @@ impl RmrEquation {
             }
             _ => (
                 0.10,
-                "10%: no published relative error used (common size of an equation's error for one person; FAO/WHO/UNU 2004, Frankenfield et al. 2005)",
+                "10%, the common size of an equation's error for one person (FAO/WHO/UNU 2004; Frankenfield et al. 2005); no published figure for this equation is used",
             ),
         }
     }

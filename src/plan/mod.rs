@@ -1,6 +1,7 @@
 //! Plan files: raw TOML structs that mirror the file, and the validated [`Plan`]
 //! whose types cannot hold a value outside PLAN.md's allowed ranges.
 
+mod locate;
 pub mod raw;
 pub mod starter;
 mod validate;
@@ -344,7 +345,11 @@ pub fn parse_scenario_spec(spec: &str) -> Result<Scenario, crate::Error> {
     let usage = |msg: String| {
         crate::Error::Usage(format!(
             "--add-scenario \"{spec}\": {msg}; write NAME:key=value,key=value with keys {}",
-            SCENARIO_KEYS.iter().map(|k| k.0).collect::<Vec<_>>().join(", ")
+            SCENARIO_KEYS
+                .iter()
+                .map(|k| k.0)
+                .collect::<Vec<_>>()
+                .join(", ")
         ))
     };
     let (name, rest) = match spec.split_once(':') {
@@ -373,7 +378,9 @@ pub fn parse_scenario_spec(spec: &str) -> Result<Scenario, crate::Error> {
             .parse()
             .map_err(|_| usage(format!("{key} = \"{}\" is not a number", value.trim())))?;
         if !v.is_finite() || v < *lo || v > *hi {
-            return Err(usage(format!("{key} = {v} is out of range; allowed {lo} to {hi}{unit}")));
+            return Err(usage(format!(
+                "{key} = {v} is out of range; allowed {lo} to {hi}{unit}"
+            )));
         }
         compensation.set(key, v);
     }

@@ -9,7 +9,6 @@ use crate::model::energy::{CalibrationError, calibrate};
 use crate::model::{Compensation, Constants, RestForNet, RmrEquation, Sex, Subject};
 use std::ops::Range;
 
-
 /// Read and validate a plan file. A missing, unreadable or non-UTF-8 file is bad input.
 pub fn load_plan(path: &std::path::Path) -> Result<Plan, Error> {
     let name = path.display().to_string();
@@ -17,12 +16,22 @@ pub fn load_plan(path: &std::path::Path) -> Result<Plan, Error> {
         path: name.clone(),
         reason: io_reason(&e),
     })?;
-    let text = String::from_utf8(bytes).map_err(|e| Error::Unreadable {
-        path: name.clone(),
-        reason: format!(
-            "not UTF-8 text (invalid byte at offset {}); save the plan as UTF-8",
-            e.utf8_error().valid_up_to()
-        ),
+    let text = String::from_utf8(bytes).map_err(|e| {
+        let good = e.utf8_error().valid_up_to();
+        let bytes = e.as_bytes();
+        let line = bytes[..good].iter().filter(|b| **b == b'\n').count() + 1;
+        let col = good
+            - bytes[..good]
+                .iter()
+                .rposition(|b| *b == b'\n')
+                .map_or(0, |i| i + 1)
+            + 1;
+        Error::Unreadable {
+            path: name.clone(),
+            reason: format!(
+                "not UTF-8 text (invalid byte at line {line}, column {col}); save the plan as UTF-8"
+            ),
+        }
     })?;
     parse_plan(&name, &text)
 }
@@ -42,13 +51,8 @@ pub fn parse_plan(file: &str, text: &str) -> Result<Plan, Error> {
     let cx = Cx { file, src: text };
     if let Err(e) = toml::from_str::<toml::Table>(text) {
         let off = e.span().map_or(0, |s| s.start);
-        return Err(Error::at(
-            file,
-            text,
-            off,
-            "",
-            format!("TOML syntax error: {}", tidy(e.message())),
-        ));
+        let (key, message) = syntax_message(text, off, e.message());
+        return Err(Error::at(file, text, off, &key, message));
     }
     let raw: RawPlan = toml::from_str(text).map_err(|e| {
         let off = e.span().map_or(0, |s| s.start);
@@ -58,10 +62,76 @@ pub fn parse_plan(file: &str, text: &str) -> Result<Plan, Error> {
     cx.plan(raw)
 }
 
+/// A TOML syntax error in the user's terms: the key where the line assigns one, and a
+/// plain hint for the commonest slips (an unquoted word, a missing value).
+fn syntax_message(text: &str, offset: usize, message: &str) -> (String, String) {
+    let offset = offset.min(text.len());
+    let start = text[..offset].rfind('\n').map_or(0, |i| i + 1);
+    let end = text[offset..].find('\n').map_or(text.len(), |i| offset + i);
+    let line = text[start..end].split('#').next().unwrap_or("");
+    let Some((k, v)) = line.split_once('=') else {
+        return (
+            String::new(),
+            format!("TOML syntax error: {}", tidy(message)),
+        );
+    };
+    if k.trim_start().starts_with('[') {
+        return (
+            String::new(),
+            format!("TOML syntax error: {}", tidy(message)),
+        );
+    }
+    let key = super::locate::key_at(text, start + k.len() - k.trim_start().len());
+    let v = v.trim();
+    let word = !v.is_empty()
+        && v.chars()
+            .all(|c| c.is_alphabetic() || c == '-' || c == '_' || c == ' ')
+        && !["true", "false", "nan", "inf"].contains(&v);
+    let msg = if v.is_empty() {
+        "TOML syntax error: no value after '='".to_string()
+    } else if word {
+        format!(
+            "TOML syntax error: {v} is not a TOML value; text goes in quotes (\"{v}\"), answers are true or false"
+        )
+    } else {
+        format!("TOML syntax error: {}", tidy(message))
+    };
+    (key, msg)
+}
+
+/// RMR at baseline (the personal factor times the equation), for messages.
+fn baseline_rmr(subject: &Subject, constants: &Constants) -> f64 {
+    let f = subject.body_fat_percent.unwrap_or_else(|| {
+        crate::model::composition::deurenberg_percent_fat(
+            crate::model::composition::bmi(subject.mass_kg, subject.height_cm),
+            subject.age_years,
+            subject.sex,
+        )
+    });
+    let lean = subject.mass_kg * (1.0 - f / 100.0);
+    subject.rmr_kcal_per_day.unwrap_or_else(|| {
+        constants.rmr_equation.kcal_per_day(
+            subject.sex,
+            subject.mass_kg,
+            lean,
+            subject.height_cm,
+            subject.age_years,
+        )
+    })
+}
+
 /// Make serde's wording read in the user's terms.
 fn tidy(msg: &str) -> String {
     msg.trim()
         .replace("expected f64", "expected a number")
+        .replace(
+            "invalid type: map, expected a sequence",
+            "expected a list; write [[scenario]] (double brackets) for each scenario",
+        )
+        .replace(
+            "expected a sequence",
+            "expected a list in brackets, e.g. [\"mon\", \"wed\"]",
+        )
         .replace("expected a boolean", "expected true or false")
         .replace(
             "data did not match any variant of untagged enum RawDate",
@@ -81,6 +151,8 @@ struct Cx<'a> {
 fn fmt_num(v: f64) -> String {
     if v.is_finite() && v == v.trunc() && v.abs() < 1e15 {
         format!("{v:.0}")
+    } else if v.is_finite() && (v.abs() >= 1e15 || (v != 0.0 && v.abs() < 1e-6)) {
+        format!("{v:e}")
     } else {
         format!("{v}")
     }
@@ -91,38 +163,17 @@ impl Cx<'_> {
         Error::at(self.file, self.src, span.start, key, msg)
     }
 
-    /// The dotted key whose value starts at `offset`: the current table header plus the
-    /// text before `=` on that line.
+    /// An error about the whole file (no position: a missing table has none).
+    fn file_err(&self, key: &str, msg: &str) -> Error {
+        Error::Input(crate::error::InputError {
+            location: crate::error::Location::file(self.file),
+            key: Some(key.to_string()),
+            message: msg.to_string(),
+        })
+    }
+
     fn key_at(&self, offset: usize) -> String {
-        let offset = offset.min(self.src.len());
-        let line_start = self.src[..offset].rfind('\n').map_or(0, |i| i + 1);
-        let line_end = self.src[offset..]
-            .find('\n')
-            .map_or(self.src.len(), |i| offset + i);
-        let line = &self.src[line_start..line_end];
-        let own = line.split('=').next().unwrap_or("").trim();
-        let mut table = String::new();
-        for l in self.src[..line_start].lines().rev() {
-            let t = l.trim();
-            if t.starts_with('[') {
-                table = t.trim_matches(|c| c == '[' || c == ']').trim().to_string();
-                break;
-            }
-        }
-        if own.starts_with('[') {
-            return own
-                .trim_matches(|c| c == '[' || c == ']')
-                .trim()
-                .to_string();
-        }
-        if !line.contains('=') {
-            return table;
-        }
-        if table.is_empty() {
-            own.to_string()
-        } else {
-            format!("{table}.{own}")
-        }
+        super::locate::key_at(self.src, offset)
     }
 
     fn required<'v, T>(
@@ -174,7 +225,18 @@ impl Cx<'_> {
     /// A finite number with `lo < x <= hi`.
     fn number_above(&self, v: &Num, key: &str, lo: f64, hi: f64, unit: &str) -> Result<f64, Error> {
         let x = *v.get_ref();
-        if !x.is_finite() || x <= lo || x > hi {
+        if !x.is_finite() {
+            return Err(self.err(
+                &v.span(),
+                key,
+                format!(
+                    "value {x} is not a finite number; allowed above {} and at most {}{unit}",
+                    fmt_num(lo),
+                    fmt_num(hi)
+                ),
+            ));
+        }
+        if x <= lo || x > hi {
             return Err(self.err(
                 &v.span(),
                 key,
@@ -196,7 +258,10 @@ impl Cx<'_> {
             return Err(self.err(
                 &v.span(),
                 key,
-                format!("value {x} is not a whole number; allowed whole numbers {lo} to {hi}"),
+                format!(
+                    "value {} is not a whole number; allowed whole numbers {lo} to {hi}",
+                    fmt_num(x)
+                ),
             ));
         }
         if x < f64::from(lo) || x > f64::from(hi) {
@@ -242,19 +307,15 @@ impl Cx<'_> {
     }
 
     fn plan(&self, raw: RawPlan) -> Result<Plan, Error> {
-        let whole = 0..0;
-        let rp = raw.participant.as_ref().ok_or_else(|| {
-            self.err(
-                &whole,
-                "participant",
-                "missing required table [participant]",
-            )
-        })?;
+        let rp = raw
+            .participant
+            .as_ref()
+            .ok_or_else(|| self.file_err("participant", "missing required table [participant]"))?;
         let rprot = raw
             .protocol
             .as_ref()
-            .ok_or_else(|| self.err(&whole, "protocol", "missing required table [protocol]"))?;
-        let ract = raw.activity.as_ref().ok_or_else(|| self.err(&whole, "activity", "missing required table [activity]; give exactly one of compendium_code, met, walking, running, cycling_watts"))?;
+            .ok_or_else(|| self.file_err("protocol", "missing required table [protocol]"))?;
+        let ract = raw.activity.as_ref().ok_or_else(|| self.file_err("activity", "missing required table [activity]; give exactly one of compendium_code, met, walking, running, cycling_watts"))?;
         let constants = self.constants(raw.model.as_ref())?;
         let (id, subject, screening) = self.participant(rp)?;
         let protocol = self.protocol(rprot)?;
@@ -270,7 +331,12 @@ impl Cx<'_> {
                     (None, Some(v)) => (v.span(), "participant.intake_kcal_per_day", format!("intake {} kcal/day (PAL {pal:.2})", fmt_num(*v.get_ref()))),
                     (None, None) => (rp.span(), "participant", format!("PAL {pal:.2}")),
                 };
-                self.err(&span, key, format!("{what} is too low for the thermic effect of food: it leaves {activity_kcal_per_day:.0} kcal/day for non-exercise activity; allowed a PAL above {minimum_pal:.2} with this RMR and TEF"))
+                let allowed = if key.ends_with("intake_kcal_per_day") {
+                    format!("allowed an intake above {:.0} kcal/day with this RMR and TEF (PAL above {minimum_pal:.2})", minimum_pal * baseline_rmr(&subject, &constants))
+                } else {
+                    format!("allowed a PAL above {minimum_pal:.2} with this RMR and TEF")
+                };
+                self.err(&span, key, format!("{what} is too low for the thermic effect of food: it leaves {activity_kcal_per_day:.0} kcal/day for non-exercise activity; {allowed}"))
             }
             CalibrationError::EstimatedFatOutOfRange(p) => self.err(&rp.span(), "participant.body_fat_percent", format!("body fat estimated from BMI (Deurenberg 1991) is {p:.1}%, outside 3 to 70%; give a measured body_fat_percent")),
         })?;
@@ -279,12 +345,29 @@ impl Cx<'_> {
         let met0 = activity.intensity.met_at(baseline.mass_kg);
         let net0 = physiology.net_kcal_per_min(met0, baseline.mass_kg, baseline.rmr_kcal_per_day);
         if net0 <= 0.0 {
-            let span = ract.span();
+            let a = ract.get_ref();
+            let (span, key) = [
+                (
+                    a.compendium_code.as_ref().map(|v| v.span()),
+                    "activity.compendium_code",
+                ),
+                (a.met.as_ref().map(|v| v.span()), "activity.met"),
+                (a.walking.as_ref().map(|v| v.span()), "activity.walking"),
+                (a.running.as_ref().map(|v| v.span()), "activity.running"),
+                (
+                    a.cycling_watts.as_ref().map(|v| v.span()),
+                    "activity.cycling_watts",
+                ),
+            ]
+            .into_iter()
+            .find_map(|(s, k)| s.map(|s| (s, k)))
+            .unwrap_or((ract.span(), "activity"));
             let rest = match constants.rest_for_net {
                 RestForNet::OwnRmr => "the participant's own resting rate",
                 RestForNet::OneMet => "one MET",
             };
-            return Err(self.err(&span, "activity", format!("{} gives {met0:.2} MET, whose energy per minute ({:.3} kcal/min) is not above {rest} ({:.3} kcal/min): the net energy per minute is {net0:.3}, and must be positive; choose a higher intensity", activity.intensity.describe(), crate::activity::acsm::gross_kcal_per_min(met0, baseline.mass_kg), crate::activity::acsm::gross_kcal_per_min(met0, baseline.mass_kg) - net0)));
+            let gross = crate::activity::acsm::gross_kcal_per_min(met0, baseline.mass_kg);
+            return Err(self.err(&span, key, format!("{met0:.2} MET costs {gross:.3} kcal/min at {:.1} kg, not more than {rest} ({:.3} kcal/min), so the energy above rest is {net0:.3} kcal/min; it must be positive: choose a higher intensity", baseline.mass_kg, gross - net0)));
         }
         Ok(Plan {
             source_name: self.file.to_string(),
@@ -433,12 +516,10 @@ impl Cx<'_> {
         Ok(d)
     }
 
-    fn days(
-        &self,
-        v: &S<Vec<S<String>>>,
-        key: &str,
-        allow_empty: bool,
-    ) -> Result<Vec<Weekday>, Error> {
+    /// Distinct weekdays. Session days (`spare = false`) must not be empty and are
+    /// sorted Monday first; spare days may be empty and keep the order listed, which
+    /// is the order `add-session` uses them in.
+    fn days(&self, v: &S<Vec<S<String>>>, key: &str, spare: bool) -> Result<Vec<Weekday>, Error> {
         const DAYS: [(&str, Weekday); 7] = [
             ("mon", Weekday::Mon),
             ("tue", Weekday::Tue),
@@ -448,7 +529,7 @@ impl Cx<'_> {
             ("sat", Weekday::Sat),
             ("sun", Weekday::Sun),
         ];
-        if v.get_ref().is_empty() && !allow_empty {
+        if v.get_ref().is_empty() && !spare {
             return Err(self.err(
                 &v.span(),
                 key,
@@ -470,7 +551,9 @@ impl Cx<'_> {
             }
             out.push(w);
         }
-        out.sort_by_key(|w| w.num_days_from_monday());
+        if !spare {
+            out.sort_by_key(|w| w.num_days_from_monday());
+        }
         Ok(out)
     }
 
@@ -569,6 +652,18 @@ impl Cx<'_> {
             .map(|v| self.whole(v, "protocol.round_minutes_to", 1, 30))
             .transpose()?
             .unwrap_or(1);
+        if let Some(max) = max_session_minutes
+            && f64::from(round_minutes_to) > max
+        {
+            {
+                let span = p.round_minutes_to.as_ref().map_or(t.clone(), |v| v.span());
+                return Err(self.err(&span, "protocol.round_minutes_to", format!("a step of {round_minutes_to} min is longer than max_session_minutes ({}); allowed a step of at most the maximum", fmt_num(max))));
+            }
+        }
+        if over_max == OverMax::AddSession && spare_days.is_empty() && session_days.len() == 7 {
+            let span = p.over_max.as_ref().map_or(t.clone(), |v| v.span());
+            return Err(self.err(&span, "protocol.over_max", "\"add-session\" needs a free weekday, but all seven are session days; use \"split\" or \"cap\""));
+        }
         let dose = self.dose(self.required(&p.dose, &t, tn, "dose", "add a [protocol.dose] table with exactly one of kcal_per_session, kcal_per_week, kcal_per_kg_week, minutes_per_week")?)?;
         let ramp = match &p.ramp {
             Some(r) => {
@@ -861,8 +956,14 @@ impl Cx<'_> {
                 intake_fraction: value(&s.intake_fraction, "intake_fraction")?,
                 intake_lag_days: value(&s.intake_lag_days, "intake_lag_days")?,
                 activity_fraction: value(&s.activity_fraction, "activity_fraction")?,
-                rmr_adaptation_kcal_per_kg: value(&s.rmr_adaptation_kcal_per_kg, "rmr_adaptation_kcal_per_kg")?,
-                diet_change_kcal_per_day: value(&s.diet_change_kcal_per_day, "diet_change_kcal_per_day")?,
+                rmr_adaptation_kcal_per_kg: value(
+                    &s.rmr_adaptation_kcal_per_kg,
+                    "rmr_adaptation_kcal_per_kg",
+                )?,
+                diet_change_kcal_per_day: value(
+                    &s.diet_change_kcal_per_day,
+                    "diet_change_kcal_per_day",
+                )?,
             };
             out.push(Scenario {
                 name: n.to_string(),

@@ -8,9 +8,7 @@ use crate::safety::CAUTIONS;
 pub fn render(rows: &[&CompendiumEntry], query: &str) -> String {
     let mut out = String::new();
     if rows.is_empty() {
-        out.push_str(&format!(
-            "No activity in the built-in table matches {query}.\n\n"
-        ));
+        out.push_str(&format!("No activity {query}.\n\n"));
     } else {
         let mut t = new_table(&["code", "MET (2011)", "MET (2000)", "group", "activity"]);
         for e in rows {
@@ -28,7 +26,12 @@ pub fn render(rows: &[&CompendiumEntry], query: &str) -> String {
                 col.set_cell_alignment(comfy_table::CellAlignment::Left);
             }
         }
-        out.push_str(&format!("{} activities {query}. MET values: Ainsworth et al. 2011 Compendium of Physical Activities, Med Sci Sports Exerc 43:1575 (labels in our words).\n{t}\n\n", rows.len()));
+        let noun = if rows.len() == 1 {
+            "activity"
+        } else {
+            "activities"
+        };
+        out.push_str(&format!("{} {noun} {query}. MET values: Ainsworth et al. 2011 Compendium of Physical Activities, Med Sci Sports Exerc 43:1575 (labels in our words).\n{t}\n\n", rows.len()));
     }
     let mut t = new_table(&["equation", "gross VO2 [ml/kg/min]", "valid range"]);
     for (name, eq, range) in acsm::summary() {

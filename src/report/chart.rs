@@ -18,8 +18,10 @@ use std::path::{Path, PathBuf};
 
 /// Canvas width, px.
 const WIDTH: f64 = 900.0;
-/// Canvas height, px.
+/// Canvas height, px; a legend taller than the plot makes the canvas taller.
 const HEIGHT: f64 = 520.0;
+/// Top of the plot area, px: below the title and the marker's label.
+const PLOT_TOP: f64 = 70.0;
 /// Outer padding, px.
 const PAD: f64 = 16.0;
 /// Font sizes, px: chosen to stay readable when the 900 px figure is printed at
@@ -30,7 +32,7 @@ const TEXT_SIZE: f64 = 13.0;
 /// Baseline-to-baseline distance of the caption and legend lines, px.
 const LINE_GAP: f64 = 17.0;
 /// Widest legend text before it wraps, px.
-const LEGEND_TEXT_MAX: f64 = 190.0;
+const LEGEND_TEXT_MAX: f64 = 200.0;
 /// Width of a legend's line sample, px.
 const LEGEND_SAMPLE: f64 = 30.0;
 /// Target count of y-axis ticks.
@@ -185,7 +187,10 @@ pub fn nice_number(x: f64, round: bool) -> f64 {
 }
 
 /// Ticks covering `[lo, hi]` with about `target` ticks, the axis widened out to the
-/// nearest multiples of a 1-2-5 step. An empty or degenerate range is widened first.
+/// nearest multiples of a 1-2-5 step (Heckbert's loose labelling). Where the data
+/// would fill less than two thirds of that axis, the next smaller 1-2-5 step is
+/// taken instead if it keeps the tick count within `target + 4`. An empty or
+/// degenerate range is widened first.
 pub fn nice_ticks(lo: f64, hi: f64, target: usize) -> Ticks {
     let (mut lo, mut hi) = if lo.is_finite() && hi.is_finite() && lo <= hi {
         (lo, hi)
@@ -199,10 +204,28 @@ pub fn nice_ticks(lo: f64, hi: f64, target: usize) -> Ticks {
     }
     let span = nice_number(hi - lo, false);
     let step = nice_number(span / (target.max(2) - 1) as f64, true);
-    Ticks {
+    let cover = |step: f64| Ticks {
         min: (lo / step).floor() * step,
         max: (hi / step).ceil() * step,
         step,
+    };
+    let loose = cover(step);
+    let finer = cover(smaller_nice_step(step));
+    if (hi - lo) < (loose.max - loose.min) * 2.0 / 3.0 && finer.values().len() <= target + 4 {
+        finer
+    } else {
+        loose
+    }
+}
+
+/// The 1-2-5 step below `step`: 10 -> 5 -> 2 -> 1.
+fn smaller_nice_step(step: f64) -> f64 {
+    let base = 10f64.powf(step.log10().floor());
+    let mantissa = (step / base).round();
+    match mantissa as u32 {
+        1 => 0.5 * base,
+        2 => base,
+        _ => 2.0 * base,
     }
 }
 
@@ -326,7 +349,7 @@ fn marker_element(out: &mut String, shape: Shape, x: f64, y: f64, colour: &str, 
         Shape::Diamond => writeln!(
             out,
             r#"<polygon points="{}" {paint}/>"#,
-            poly(&[(0.0, -1.25 * r), (1.0 * r, 0.0), (0.0, 1.25 * r), (-1.0 * r, 0.0)])
+            poly(&[(0.0, -1.25 * r), (r, 0.0), (0.0, 1.25 * r), (-r, 0.0)])
         ),
         Shape::TriangleDown => writeln!(
             out,
@@ -340,6 +363,13 @@ fn marker_element(out: &mut String, shape: Shape, x: f64, y: f64, colour: &str, 
 struct LegendEntry {
     lines: Vec<String>,
     sample: Sample,
+}
+
+impl LegendEntry {
+    /// Vertical space the entry takes, px.
+    fn height(&self) -> f64 {
+        self.lines.len().max(1) as f64 * LINE_GAP + 8.0
+    }
 }
 
 enum Sample {
@@ -360,6 +390,7 @@ struct Layout {
     legend_x: f64,
     caption: Vec<String>,
     caption_y: f64,
+    height: f64,
 }
 
 fn finite_points(s: &Series) -> impl Iterator<Item = (f64, f64)> + '_ {
@@ -453,15 +484,19 @@ impl LineChart {
     fn layout(&self, y_labels: &[String], legend: &[LegendEntry]) -> Layout {
         let caption = wrap(&self.caption, WIDTH - 2.0 * PAD, TEXT_SIZE);
         let caption_lines = caption.len().max(1) as f64;
-        let caption_y = HEIGHT - PAD - (caption_lines - 1.0) * LINE_GAP;
-        // Caption top, then the x-axis label, then the tick labels above it.
-        let x_label_y = caption_y - TEXT_SIZE - 14.0;
-        let bottom = x_label_y - LABEL_SIZE - 30.0;
+        // The plot's bottom edge leaves room, going down, for the tick labels, the
+        // x-axis label and the caption; a tall legend pushes all three down.
+        let below_plot =
+            30.0 + LABEL_SIZE + 14.0 + TEXT_SIZE + (caption_lines - 1.0) * LINE_GAP + PAD;
+        let legend_height: f64 = legend.iter().map(LegendEntry::height).sum();
+        let bottom = (HEIGHT - below_plot).max(PLOT_TOP + legend_height);
+        let height = (bottom + below_plot).ceil();
+        let caption_y = height - PAD - (caption_lines - 1.0) * LINE_GAP;
         let widest_tick = y_labels
             .iter()
             .map(|l| text_width(l, TEXT_SIZE))
             .fold(0.0, f64::max);
-        let left = PAD + LABEL_SIZE + 12.0 + widest_tick + 10.0;
+        let left = PAD + LABEL_SIZE + 12.0 + widest_tick + 12.0;
         let widest_legend = legend
             .iter()
             .flat_map(|e| e.lines.iter().map(|l| text_width(l, TEXT_SIZE)))
@@ -475,11 +510,12 @@ impl LineChart {
         Layout {
             left,
             right: legend_x - 24.0,
-            top: 70.0,
+            top: PLOT_TOP,
             bottom,
             legend_x,
             caption,
             caption_y,
+            height,
         }
     }
 
@@ -508,7 +544,7 @@ impl LineChart {
             out,
             r#"<svg xmlns="http://www.w3.org/2000/svg" version="1.1" width="{w}" height="{h}" viewBox="0 0 {w} {h}" font-family="{FONT_FAMILY}">"#,
             w = WIDTH,
-            h = HEIGHT
+            h = format!("{:.0}", l.height)
         );
         let _ = writeln!(out, "<title>{}</title>", escape(&self.title));
         let _ = writeln!(out, "<desc>{}</desc>", escape(&self.caption));
@@ -522,7 +558,8 @@ impl LineChart {
         );
         let _ = writeln!(
             out,
-            r##"<rect x="0" y="0" width="{WIDTH}" height="{HEIGHT}" fill="#ffffff"/>"##
+            r##"<rect x="0" y="0" width="{WIDTH}" height="{:.0}" fill="#ffffff"/>"##,
+            l.height
         );
         text_element(
             &mut out,
@@ -579,7 +616,12 @@ impl LineChart {
                 .iter()
                 .enumerate()
                 .map(|(i, (x, y))| {
-                    format!("{}{},{}", if i == 0 { 'M' } else { 'L' }, num(sx(*x)), num(sy(*y)))
+                    format!(
+                        "{}{},{}",
+                        if i == 0 { 'M' } else { 'L' },
+                        num(sx(*x)),
+                        num(sy(*y))
+                    )
                 })
                 .collect();
             let dash = if s.dashed {
@@ -596,12 +638,21 @@ impl LineChart {
         }
         let _ = writeln!(out, "</g>");
 
-        // Markers on every k-th point, offset by slot so that series do not stack.
+        // Markers on every k-th point, offset by slot so that the markers of lines
+        // that coincide (scenarios with the same prescription) fall on different
+        // weeks: k is at least the number of slots.
+        let mut slots: Vec<usize> = self.series.iter().map(|s| s.slot).collect();
+        slots.sort_unstable();
+        slots.dedup();
         for s in &self.series {
             let pts: Vec<(f64, f64)> = finite_points(s)
                 .filter(|(x, _)| *x >= x0 - 1e-9 && *x <= x1 + 1e-9)
                 .collect();
-            let every = pts.len().div_ceil(MARKERS_PER_SERIES).max(1);
+            let every = pts
+                .len()
+                .div_ceil(MARKERS_PER_SERIES)
+                .max(slots.len().min(pts.len()))
+                .max(1);
             for (x, y) in pts.iter().skip(s.slot % every).step_by(every) {
                 marker_element(
                     &mut out,
@@ -658,7 +709,7 @@ impl LineChart {
             );
             text_element(
                 &mut out,
-                l.left - 8.0,
+                l.left - 10.0,
                 y + 0.35 * TEXT_SIZE,
                 TEXT_SIZE,
                 &tick_text,
@@ -701,7 +752,9 @@ impl LineChart {
                 num(l.bottom)
             );
             let half = text_width(label, TEXT_SIZE) / 2.0;
-            let cx = x.clamp(l.left + half, WIDTH - PAD - half);
+            // Centred on the line, but kept above the plot so it never runs into
+            // the legend.
+            let cx = x.clamp(l.left + half, (l.right - half).max(l.left + half));
             text_element(
                 &mut out,
                 cx,
@@ -757,7 +810,7 @@ impl LineChart {
                     line,
                 );
             }
-            y += e.lines.len().max(1) as f64 * LINE_GAP + 8.0;
+            y += e.height();
         }
 
         // The caption.
@@ -800,7 +853,11 @@ fn caption(what: &str) -> String {
 }
 
 /// A week-end quantity from the baseline (x = 0) to the last week.
-fn trajectory(run: &ScenarioRun, baseline: f64, value: impl Fn(&WeekEnd) -> f64) -> Vec<(f64, f64)> {
+fn trajectory(
+    run: &ScenarioRun,
+    baseline: f64,
+    value: impl Fn(&WeekEnd) -> f64,
+) -> Vec<(f64, f64)> {
     std::iter::once((0.0, baseline))
         .chain(run.weeks.iter().map(|w| (f64::from(w.week), value(&w.end))))
         .collect()
@@ -855,39 +912,50 @@ pub fn mass_chart(runs: &[ScenarioRun], protocol_weeks: u32, band: Option<&Band>
     }
 }
 
-/// Fat mass (solid) and fat-free mass (dashed) at the end of each week per scenario,
-/// one colour per scenario, from the baseline at week 0.
+/// Change of fat mass (solid) and fat-free mass (dashed) from the baseline at the
+/// end of each week per scenario, one colour per scenario. Changes, not totals,
+/// share the axis: the two masses lie tens of kilograms apart while they change by
+/// a few, so on one axis of totals both lines would look flat. The caption gives the
+/// baseline masses.
 pub fn composition_chart(runs: &[ScenarioRun], protocol_weeks: u32) -> LineChart {
     let mut series = Vec::with_capacity(2 * runs.len());
     for (slot, r) in runs.iter().enumerate() {
         let o = &r.outcome;
+        let fat0 = o.fat_mass_kg - o.fat_mass_change_kg;
+        let lean0 = o.fat_free_mass_kg - o.fat_free_mass_change_kg;
         series.push(Series {
-            name: format!("{}: fat mass", r.name),
-            points: trajectory(r, o.fat_mass_kg - o.fat_mass_change_kg, |e| e.fat_mass_kg),
+            name: format!("{}: fat", r.name),
+            points: trajectory(r, 0.0, |e| e.fat_mass_kg - fat0),
             dashed: false,
             slot,
         });
         series.push(Series {
-            name: format!("{}: fat-free mass", r.name),
-            points: trajectory(r, o.fat_free_mass_kg - o.fat_free_mass_change_kg, |e| {
-                e.fat_free_mass_kg
-            }),
+            name: format!("{}: fat-free", r.name),
+            points: trajectory(r, 0.0, |e| e.fat_free_mass_kg - lean0),
             dashed: true,
             slot,
         });
     }
+    let baseline = runs.first().map_or(String::new(), |r| {
+        let o = &r.outcome;
+        format!(
+            " (fat mass {:.1} kg, fat-free mass {:.1} kg)",
+            o.fat_mass_kg - o.fat_mass_change_kg,
+            o.fat_free_mass_kg - o.fat_free_mass_change_kg
+        )
+    });
     LineChart {
-        title: "Projected fat mass and fat-free mass by scenario".to_string(),
+        title: "Projected change in fat mass and fat-free mass by scenario".to_string(),
         x_label: "Time from start [weeks]".to_string(),
-        y_label: "Mass [kg]".to_string(),
+        y_label: "Change from baseline [kg]".to_string(),
         series,
         band: None,
         marker: Some(protocol_marker(protocol_weeks)),
-        caption: caption(
-            "Fat mass (solid) and fat-free mass (dashed) at the end of each week; week 0 is the baseline.",
-        ),
+        caption: caption(&format!(
+            "Fat mass (solid) and fat-free mass (dashed) at the end of each week, less the baseline{baseline}; week 0 is the baseline."
+        )),
         x_range: Some(week_range(runs, protocol_weeks)),
-        y_includes_zero: false,
+        y_includes_zero: true,
     }
 }
 

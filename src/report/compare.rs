@@ -141,13 +141,24 @@ pub fn checkpoints(plan: &Plan, extra: &[u32]) -> Vec<u32> {
 }
 
 /// Rows of one scenario at the checkpoints.
-pub fn rows(plan: &Plan, run: &ScenarioRun, band: Option<&crate::simulate::band::ScenarioBand>, weeks: &[u32], m0: f64) -> Vec<CompareRow> {
+pub fn rows(
+    plan: &Plan,
+    run: &ScenarioRun,
+    band: Option<&crate::simulate::band::ScenarioBand>,
+    weeks: &[u32],
+    m0: f64,
+) -> Vec<CompareRow> {
     weeks
         .iter()
         .map(|&n| {
             let w = &run.weeks[n as usize - 1];
             let (lo, hi) = band
-                .map(|b| (b.weeks[n as usize - 1].mass_low_kg, b.weeks[n as usize - 1].mass_high_kg))
+                .map(|b| {
+                    (
+                        b.weeks[n as usize - 1].mass_low_kg,
+                        b.weeks[n as usize - 1].mass_high_kg,
+                    )
+                })
                 .unwrap_or((w.end.mass_kg, w.end.mass_kg));
             CompareRow {
                 week: n,
@@ -170,7 +181,13 @@ pub fn rows(plan: &Plan, run: &ScenarioRun, band: Option<&crate::simulate::band:
 
 impl CompareReport {
     /// Assemble from the schedule report of the same plan and its band.
-    pub fn new(plan: &Plan, schedule: &ScheduleReport, band: &Band, weeks: Vec<u32>, dose_response: Option<DoseResponse>) -> CompareReport {
+    pub fn new(
+        plan: &Plan,
+        schedule: &ScheduleReport,
+        band: &Band,
+        weeks: Vec<u32>,
+        dose_response: Option<DoseResponse>,
+    ) -> CompareReport {
         let m0 = schedule.baseline.mass_kg;
         let scenarios = schedule
             .scenarios
@@ -215,15 +232,29 @@ fn week_label(r: &CompareReport, row: &CompareRow) -> String {
 }
 
 /// The quantities printed per checkpoint, with their formatting.
-fn quantities() -> Vec<(&'static str, fn(&CompareRow) -> String)> {
+/// A printed quantity: its label and how a row shows it.
+type Quantity = (&'static str, fn(&CompareRow) -> String);
+
+fn quantities() -> Vec<Quantity> {
     vec![
-        ("mass [kg] (band)", |r| format!("{:.1} ({:.1}-{:.1})", r.mass_kg, r.mass_low_kg, r.mass_high_kg)),
+        ("mass [kg] (band)", |r| {
+            format!(
+                "{:.1} ({:.1}-{:.1})",
+                r.mass_kg, r.mass_low_kg, r.mass_high_kg
+            )
+        }),
         ("fat mass [kg]", |r| format!("{:.1}", r.fat_mass_kg)),
-        ("fat-free mass [kg]", |r| format!("{:.1}", r.fat_free_mass_kg)),
+        ("fat-free mass [kg]", |r| {
+            format!("{:.1}", r.fat_free_mass_kg)
+        }),
         ("change [kg]", |r| format!("{:+.2}", r.mass_change_kg)),
         ("minutes per session", |r| r.minutes_per_session.to_string()),
-        ("prescribed net [kcal]", |r| format!("{:.0}", r.prescribed_net_kcal)),
-        ("achieved deficit [kcal]", |r| format!("{:.0}", r.achieved_deficit_kcal)),
+        ("prescribed net [kcal]", |r| {
+            format!("{:.0}", r.prescribed_net_kcal)
+        }),
+        ("achieved deficit [kcal]", |r| {
+            format!("{:.0}", r.achieved_deficit_kcal)
+        }),
         ("dose share", |r| format!("{:.0}%", r.dose_share * 100.0)),
     ]
 }
@@ -252,14 +283,29 @@ fn main_table(r: &CompareReport, style: comfy_table::TableStyle, markdown: bool)
 
 fn dose_table(r: &CompareReport, d: &DoseResponse, style: comfy_table::TableStyle) -> Table {
     let mut header = vec![format!("dose [{}]", r.dose.unit), "scenario".to_string()];
-    header.extend(r.checkpoints.iter().map(|w| format!("week {w} change [kg]")));
+    header.extend(
+        r.checkpoints
+            .iter()
+            .map(|w| format!("week {w} change [kg]")),
+    );
     let refs: Vec<&str> = header.iter().map(String::as_str).collect();
     let mut t = new_table(&refs);
     t.load_style(style);
     for row in &d.doses {
         for (i, s) in row.scenarios.iter().enumerate() {
-            let mut cells = vec![if i == 0 { format!("{}", row.dose) } else { String::new() }, s.name.clone()];
-            cells.extend(s.rows.iter().map(|p| format!("{:+.2} ({} min)", p.mass_change_kg, p.minutes_per_session)));
+            let mut cells = vec![
+                if i == 0 {
+                    format!("{}", row.dose)
+                } else {
+                    String::new()
+                },
+                s.name.clone(),
+            ];
+            cells.extend(
+                s.rows
+                    .iter()
+                    .map(|p| format!("{:+.2} ({} min)", p.mass_change_kg, p.minutes_per_session)),
+            );
             t.add_row(cells);
         }
     }
@@ -268,11 +314,21 @@ fn dose_table(r: &CompareReport, d: &DoseResponse, style: comfy_table::TableStyl
 }
 
 fn text(r: &CompareReport, markdown: bool) -> String {
-    let (style, h) = if markdown { (presets::ASCII_MARKDOWN, "## ") } else { (presets::ASCII_FULL_CONDENSED, "") };
-    let mut s = if markdown {
-        format!("# Scenario comparison: participant {}\n\nPlan: {}; dose {} {}.\n\n", r.participant_id, r.plan, r.dose.amount, r.dose.unit)
+    let (style, h) = if markdown {
+        (presets::ASCII_MARKDOWN, "## ")
     } else {
-        format!("dosewright scenario comparison: participant {} ({}); dose {} {}\n\n", r.participant_id, r.plan, r.dose.amount, r.dose.unit)
+        (presets::ASCII_FULL_CONDENSED, "")
+    };
+    let mut s = if markdown {
+        format!(
+            "# Scenario comparison: participant {}\n\nPlan: {}; dose {} {}.\n\n",
+            r.participant_id, r.plan, r.dose.amount, r.dose.unit
+        )
+    } else {
+        format!(
+            "dosewright scenario comparison: participant {} ({}); dose {} {}\n\n",
+            r.participant_id, r.plan, r.dose.amount, r.dose.unit
+        )
     };
     s.push_str(&format!("{h}Assumptions\n"));
     if markdown {
@@ -283,7 +339,11 @@ fn text(r: &CompareReport, markdown: bool) -> String {
     }
     s.push('\n');
     let follow = if r.follow_up_weeks > 0 {
-        format!("; weeks {}-{} are follow-up with no exercise", r.protocol_weeks + 1, r.protocol_weeks + r.follow_up_weeks)
+        format!(
+            "; weeks {}-{} are follow-up with no exercise",
+            r.protocol_weeks + 1,
+            r.protocol_weeks + r.follow_up_weeks
+        )
     } else {
         String::new()
     };
@@ -299,9 +359,15 @@ fn text(r: &CompareReport, markdown: bool) -> String {
     if markdown {
         s.push('\n');
     }
-    s.push_str(&format!("Band: {}. Sources: {}.\n\n", r.band_meaning, r.band_sources.join("; ")));
+    s.push_str(&format!(
+        "Band: {}. Sources: {}.\n\n",
+        r.band_meaning,
+        r.band_sources.join("; ")
+    ));
     if let Some(d) = &r.dose_response {
-        s.push_str(&format!("{h}Dose-response (mass change from baseline, with minutes per session that week)\n"));
+        s.push_str(&format!(
+            "{h}Dose-response (mass change from baseline, with minutes per session that week)\n"
+        ));
         if markdown {
             s.push('\n');
         }
@@ -334,8 +400,21 @@ pub fn render_markdown(r: &CompareReport) -> String {
 pub fn render_csv(r: &CompareReport) -> String {
     let mut w = ::csv::Writer::from_writer(Vec::new());
     w.write_record([
-        "scenario", "dose", "week", "date", "phase", "mass_kg", "mass_low_kg", "mass_high_kg", "fat_mass_kg", "fat_free_mass_kg",
-        "mass_change_kg", "minutes_per_session", "prescribed_net_kcal", "achieved_deficit_kcal", "dose_share",
+        "scenario",
+        "dose",
+        "week",
+        "date",
+        "phase",
+        "mass_kg",
+        "mass_low_kg",
+        "mass_high_kg",
+        "fat_mass_kg",
+        "fat_free_mass_kg",
+        "mass_change_kg",
+        "minutes_per_session",
+        "prescribed_net_kcal",
+        "achieved_deficit_kcal",
+        "dose_share",
     ])
     .expect("writing to memory");
     let dose = format!("{}", r.dose.amount);
@@ -368,7 +447,12 @@ pub fn render_csv(r: &CompareReport) -> String {
         for row in &d.doses {
             for sc in &row.scenarios {
                 for p in &sc.rows {
-                    let date = r.scenarios[0].rows.iter().find(|x| x.week == p.week).map(|x| x.date.to_string()).unwrap_or_default();
+                    let date = r.scenarios[0]
+                        .rows
+                        .iter()
+                        .find(|x| x.week == p.week)
+                        .map(|x| x.date.to_string())
+                        .unwrap_or_default();
                     w.write_record([
                         sc.name.clone(),
                         format!("{}", row.dose),

@@ -34,7 +34,11 @@ pub struct GoalReport {
 
 impl GoalReport {
     /// Assemble; `schedule` is the plan's own schedule report (for warnings and screening).
-    pub fn new(schedule: &ScheduleReport, request: GoalRequest, scenarios: Vec<GoalAnswer>) -> GoalReport {
+    pub fn new(
+        schedule: &ScheduleReport,
+        request: GoalRequest,
+        scenarios: Vec<GoalAnswer>,
+    ) -> GoalReport {
         let m0 = schedule.baseline.mass_kg;
         let mut warnings = Vec::new();
         let rate = request.lose_kg / f64::from(request.by_week);
@@ -47,7 +51,13 @@ impl GoalReport {
                 ),
             });
         }
-        warnings.extend(schedule.warnings.iter().filter(|w| !w.code.starts_with("session-over-max")).cloned());
+        warnings.extend(
+            schedule
+                .warnings
+                .iter()
+                .filter(|w| !w.code.starts_with("session-over-max"))
+                .cloned(),
+        );
         GoalReport {
             tool: schedule.tool.clone(),
             plan: schedule.plan.clone(),
@@ -93,13 +103,25 @@ pub fn render_table(r: &GoalReport) -> String {
         r.request.by_week,
         r.scenarios.first().map_or(1.0, |a| a.resolution)
     );
-    let mut t = new_table(&["scenario", "reachable", &format!("dose [{unit}]"), "min/session week 1", &format!("min/session week {}", r.request.by_week), "loss [kg]", "one step lower [kg]"]);
+    let mut t = new_table(&[
+        "scenario",
+        "reachable",
+        &format!("dose [{unit}]"),
+        "min/session week 1",
+        &format!("min/session week {}", r.request.by_week),
+        "loss [kg]",
+        "one step lower [kg]",
+    ]);
     for a in &r.scenarios {
         let opt = |v: Option<f64>| v.map_or("-".to_string(), |x| format!("{x:.3}"));
         let mins = |v: Option<u32>| v.map_or("-".to_string(), |m| m.to_string());
         t.add_row(vec![
             a.name.clone(),
-            if a.reachable { "yes".into() } else { "no".into() },
+            if a.reachable {
+                "yes".into()
+            } else {
+                "no".into()
+            },
             fmt_dose(a),
             mins(a.minutes_week1),
             mins(a.minutes_goal_week),

@@ -18,17 +18,6 @@ use crate::simulate::{ScenarioRun, Simulation};
 use chrono::NaiveDate;
 use serde::Serialize;
 
-/// Output formats of `schedule`.
-#[derive(Debug, Clone, Copy, PartialEq, Eq)]
-pub enum Format {
-    /// A human-readable table with the cautions.
-    Table,
-    /// One row per session.
-    Csv,
-    /// The PLAN.md contract.
-    Json,
-}
-
 /// The activity as reports describe it.
 #[derive(Debug, Clone, PartialEq, Serialize)]
 pub struct ActivitySummary {

@@ -11,7 +11,7 @@ use comfy_table::{Cell, CellAlignment, Table, presets};
 pub fn new_table(header: &[&str]) -> Table {
     let mut t = Table::new();
     t.load_style(presets::ASCII_FULL_CONDENSED);
-    t.set_header(header.iter().map(|h| Cell::new(h)).collect::<Vec<_>>());
+    t.set_header(header.iter().map(Cell::new).collect::<Vec<_>>());
     t
 }
 
@@ -119,46 +119,72 @@ fn fmt_amount(v: f64) -> String {
 
 /// The outcome table of every scenario.
 pub fn outcome_table(r: &ScheduleReport) -> String {
-    let mut t = new_table(&[
-        "scenario",
-        "end date",
-        "mass [kg]",
-        "band [kg]",
-        "fat [kg]",
-        "fat-free [kg]",
-        "change [kg]",
-        "prescribed net [kcal]",
-        "achieved deficit [kcal]",
-        "dose share",
-    ]);
-    for (i, s) in r.scenarios.iter().enumerate() {
-        let o = &s.outcome;
-        let band = r
-            .projection_band
-            .as_ref()
-            .and_then(|b| b.scenarios.get(i))
-            .and_then(|b| b.weeks.last())
-            .map_or("-".to_string(), |w| format!("{:.1}-{:.1}", w.mass_low_kg, w.mass_high_kg));
-        t.add_row(vec![
-            s.name.clone(),
-            o.end_date.to_string(),
-            format!("{:.1}", o.mass_kg),
-            band,
-            format!("{:.1}", o.fat_mass_kg),
-            format!("{:.1}", o.fat_free_mass_kg),
-            format!("{:+.1}", o.mass_change_kg),
-            format!("{:.0}", o.prescribed_net_kcal),
-            format!("{:.0}", o.achieved_deficit_kcal),
-            format!("{:.0}%", o.dose_share * 100.0),
-        ]);
+    let p = &r.protocol;
+    let mut ends = vec![(
+        format!("At the end of the protocol (week {})", p.weeks),
+        p.weeks,
+    )];
+    if p.follow_up_weeks > 0 {
+        let last = p.weeks + p.follow_up_weeks;
+        ends.push((
+            format!(
+                "At the end of follow-up (week {last}, {} weeks after exercise stops)",
+                p.follow_up_weeks
+            ),
+            last,
+        ));
     }
-    align_numbers(&mut t, 2);
-    let mut s = format!("Projected outcome by scenario (end of follow-up where there is one)\n{t}\n");
+    let m0 = r.baseline.mass_kg;
+    let mut s = String::from("Projected outcome by scenario\n");
+    for (title, week) in ends {
+        let k = week as usize - 1;
+        let mut t = new_table(&[
+            "scenario",
+            "date",
+            "mass [kg]",
+            "band [kg]",
+            "fat [kg]",
+            "fat-free [kg]",
+            "change [kg]",
+            "prescribed net [kcal]",
+            "achieved deficit [kcal]",
+            "dose share",
+        ]);
+        for (i, sc) in r.scenarios.iter().enumerate() {
+            let e = &sc.weeks[k].end;
+            let band = r
+                .projection_band
+                .as_ref()
+                .and_then(|b| b.scenarios.get(i))
+                .and_then(|b| b.weeks.get(k))
+                .map_or("-".to_string(), |w| {
+                    format!("{:.1}-{:.1}", w.mass_low_kg, w.mass_high_kg)
+                });
+            t.add_row(vec![
+                sc.name.clone(),
+                (p.start + chrono::Days::new(7 * u64::from(week))).to_string(),
+                format!("{:.1}", e.mass_kg),
+                band,
+                format!("{:.1}", e.fat_mass_kg),
+                format!("{:.1}", e.fat_free_mass_kg),
+                format!("{:+.1}", e.mass_kg - m0),
+                format!("{:.0}", e.prescribed_net_kcal),
+                format!("{:.0}", e.achieved_deficit_kcal),
+                format!("{:.0}%", e.dose_share * 100.0),
+            ]);
+        }
+        align_numbers(&mut t, 2);
+        s.push_str(&format!("{title}\n{t}\n"));
+    }
     for sc in &r.scenarios {
         s.push_str(&format!("  {}: {}\n", sc.name, sc.assumptions));
     }
     if let Some(b) = &r.projection_band {
-        s.push_str(&format!("  Band: {}. Sources: {}.\n", b.meaning, b.sources.join("; ")));
+        s.push_str(&format!(
+            "  Band: {}. Sources: {}.\n",
+            b.meaning,
+            b.sources.join("; ")
+        ));
     }
     s
 }
@@ -242,7 +268,10 @@ pub fn render(r: &ScheduleReport, index: usize) -> String {
                     String::new()
                 },
                 s.date.to_string(),
-                s.weekday.to_string(),
+                match s.bout {
+                    Some(b) => format!("{} bout {b}", s.weekday),
+                    None => s.weekday.to_string(),
+                },
                 s.minutes.to_string(),
                 format!("{:.1}", s.met),
                 format!("{:.0}", s.gross_kcal),

@@ -85,10 +85,58 @@ pub fn warnings(plan: &Plan, sim: &Simulation, screening: &ScreeningOutcome) -> 
         out.push(w("intake-pal-drift", format!("measured intake ({:.0} kcal/day) is {:.0} kcal/day {verb} the expenditure implied by PAL {:.2} ({:.0} kcal/day): the participant is out of balance before any exercise, and the model keeps that drift ({:+.2} kg in 4 weeks with no exercise)", b.intake_kcal_per_day, b.drift_kcal_per_day.abs(), b.pal, b.tdee_kcal_per_day, sim.drift_mass_4_weeks_kg)));
     }
     if subject.age_years >= 60.0 {
-        out.push(w("older-adult-met", format!("age {:.0}: the 2011 Compendium's METs assume 3.5 ml/kg/min at rest and tend to overstate the cost of activity in adults aged 60 or more (the Older Adult Compendium uses 2.7 ml/kg/min; Willis et al. 2024, J Sport Health Sci 13:13), so minutes may be too few for the energy target", subject.age_years)));
+        let source = match plan.activity.intensity {
+            crate::activity::Intensity::Compendium { .. } => {
+                "the 2011 Compendium's METs assume 3.5 ml/kg/min at rest and tend to overstate the cost of activity"
+            }
+            crate::activity::Intensity::Met { .. } => {
+                "a MET stated against the standard 3.5 ml/kg/min at rest tends to overstate the cost of activity"
+            }
+            _ => {
+                "the ACSM equations' MET (VO2 / 3.5) assumes 3.5 ml/kg/min at rest, which overstates the resting rate, so the cost above rest may be misjudged"
+            }
+        };
+        out.push(w("older-adult-met", format!("age {:.0}: {source} in adults aged 60 or more (the Older Adult Compendium uses 2.7 ml/kg/min; Willis et al. 2024, J Sport Health Sci 13:13), so minutes may be too few for the energy target", subject.age_years)));
     }
+    let mut per_scenario = Vec::new();
     for sc in &sim.scenarios {
-        scenario_warnings(plan, sc, &mut out);
+        scenario_warnings(plan, sc, &mut per_scenario);
+    }
+    out.extend(merge_scenarios(per_scenario, &sim.scenarios));
+    out
+}
+
+/// One warning for "every scenario" where all scenarios earn the same one.
+fn merge_scenarios(warnings: Vec<Warning>, runs: &[ScenarioRun]) -> Vec<Warning> {
+    if runs.len() < 2 {
+        return warnings;
+    }
+    let strip = |w: &Warning| -> String {
+        runs.iter()
+            .find_map(|r| {
+                w.message
+                    .strip_prefix(&format!("scenario \"{}\": ", r.name))
+            })
+            .unwrap_or(&w.message)
+            .to_string()
+    };
+    let mut out: Vec<Warning> = Vec::new();
+    for wn in &warnings {
+        let body = strip(wn);
+        let same = warnings
+            .iter()
+            .filter(|o| o.code == wn.code && strip(o) == body)
+            .count();
+        if same == runs.len() {
+            if !out
+                .iter()
+                .any(|o| o.code == wn.code && o.message.ends_with(&body))
+            {
+                out.push(w(wn.code, format!("every scenario: {body}")));
+            }
+        } else {
+            out.push(wn.clone());
+        }
     }
     out
 }
@@ -141,7 +189,7 @@ fn scenario_warnings(plan: &Plan, sc: &ScenarioRun, out: &mut Vec<Warning>) {
             }
         };
         let mut msg = format!(
-            "scenario \"{name}\": sessions of up to {longest} min exceed the {max:.0}-minute maximum in {} {} ({what})",
+            "scenario \"{name}\": prescribed sessions of up to {longest} min (before the policy acts) exceed the {max:.0}-minute maximum in {} {} ({what})",
             plural(&weeks),
             week_ranges(&weeks)
         );
@@ -196,12 +244,26 @@ pub fn intake_floor_kcal_per_day(sex: crate::model::Sex) -> f64 {
 fn intake_warnings(plan: &Plan, sc: &ScenarioRun, out: &mut Vec<Warning>) {
     let name = &sc.name;
     let floor = intake_floor_kcal_per_day(plan.participant.subject.sex);
-    let below_rmr: Vec<u32> = sc.weeks.iter().filter(|w| w.end.intake_kcal_per_day < w.end.rmr_kcal_per_day).map(|w| w.week).collect();
-    let lowest = sc.weeks.iter().map(|w| w.end.intake_kcal_per_day).fold(f64::INFINITY, f64::min);
+    let below_rmr: Vec<u32> = sc
+        .weeks
+        .iter()
+        .filter(|w| w.end.intake_kcal_per_day < w.end.rmr_kcal_per_day)
+        .map(|w| w.week)
+        .collect();
+    let lowest = sc
+        .weeks
+        .iter()
+        .map(|w| w.end.intake_kcal_per_day)
+        .fold(f64::INFINITY, f64::min);
     if !below_rmr.is_empty() {
         out.push(w("intake-below-rmr", format!("scenario \"{name}\": with the diet change, intake falls below the participant's RMR in {} {} (lowest {lowest:.0} kcal/day); never plan intake below RMR without clinical supervision", plural(&below_rmr), week_ranges(&below_rmr))));
     }
-    let below_floor: Vec<u32> = sc.weeks.iter().filter(|w| w.end.intake_kcal_per_day < floor).map(|w| w.week).collect();
+    let below_floor: Vec<u32> = sc
+        .weeks
+        .iter()
+        .filter(|w| w.end.intake_kcal_per_day < floor)
+        .map(|w| w.week)
+        .collect();
     if !below_floor.is_empty() {
         out.push(w("intake-below-floor", format!("scenario \"{name}\": with the diet change, intake falls below {floor:.0} kcal/day, the usual floor without supervision, in {} {} (lowest {lowest:.0} kcal/day)", plural(&below_floor), week_ranges(&below_floor))));
     }

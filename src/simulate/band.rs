@@ -55,13 +55,19 @@ pub fn projection_band(plan: &Plan, central: &Simulation) -> Result<Band, Error>
         sources.push("RMR measured: no equation error applied".to_string());
         vec![None]
     } else {
-        let (s, why) = plan.constants.rmr_equation.relative_error(subject.sex, b.rmr_equation_kcal_per_day);
+        let (s, why) = plan
+            .constants
+            .rmr_equation
+            .relative_error(subject.sex, b.rmr_equation_kcal_per_day);
         sources.push(format!(
-            "RMR {} scaled by -/+{:.1}% ({why})",
+            "RMR {} scaled by -/+{:.1}%: {why}",
             plan.constants.rmr_equation.name(),
             s * 100.0
         ));
-        vec![Some(b.rmr_kcal_per_day * (1.0 - s)), Some(b.rmr_kcal_per_day * (1.0 + s))]
+        vec![
+            Some(b.rmr_kcal_per_day * (1.0 - s)),
+            Some(b.rmr_kcal_per_day * (1.0 + s)),
+        ]
     };
     let fat_levels: Vec<Option<f64>> = if b.fat_mass_estimated {
         sources.push(format!(
@@ -112,7 +118,17 @@ pub fn projection_band(plan: &Plan, central: &Simulation) -> Result<Band, Error>
             if calibrate(v, &variant.constants).is_err() {
                 continue;
             }
-            let sim = simulate(&variant)?;
+            let sim = match simulate(&variant) {
+                Ok(sim) => sim,
+                Err(Error::OutOfRange(e)) => {
+                    sources.push(format!(
+                        "one variant left the model's valid range on day {} and was left out",
+                        e.day
+                    ));
+                    continue;
+                }
+                Err(e) => return Err(e),
+            };
             for (band, run) in scenarios.iter_mut().zip(&sim.scenarios) {
                 for (bw, w) in band.weeks.iter_mut().zip(&run.weeks) {
                     bw.mass_low_kg = bw.mass_low_kg.min(w.end.mass_kg);

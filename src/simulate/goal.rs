@@ -108,7 +108,10 @@ fn loss_without(plan: &Plan, scenario: &Scenario, by_week: u32) -> Result<f64, E
 /// Validate the request against the plan (exit 2 for an invalid request).
 pub fn check_request(plan: &Plan, req: &GoalRequest) -> Result<(), Error> {
     if !req.lose_kg.is_finite() || req.lose_kg <= 0.0 {
-        return Err(Error::Usage(format!("the loss wanted must be a positive number of kg; got {}", req.lose_kg)));
+        return Err(Error::Usage(format!(
+            "the loss wanted must be a positive number of kg; got {}",
+            req.lose_kg
+        )));
     }
     if req.by_week < 1 || req.by_week > plan.protocol.weeks {
         return Err(Error::Usage(format!(
@@ -122,7 +125,10 @@ pub fn check_request(plan: &Plan, req: &GoalRequest) -> Result<(), Error> {
 /// Solve the goal for every scenario of the plan.
 pub fn solve(plan: &Plan, req: &GoalRequest) -> Result<Vec<GoalAnswer>, Error> {
     check_request(plan, req)?;
-    plan.scenarios.iter().map(|sc| solve_one(plan, sc, req)).collect()
+    plan.scenarios
+        .iter()
+        .map(|sc| solve_one(plan, sc, req))
+        .collect()
 }
 
 fn solve_one(plan: &Plan, sc: &Scenario, req: &GoalRequest) -> Result<GoalAnswer, Error> {
@@ -178,7 +184,11 @@ fn solve_one(plan: &Plan, sc: &Scenario, req: &GoalRequest) -> Result<GoalAnswer
             let (mut good, mut bad) = (k_lo, k_hi);
             while bad - good > 1 {
                 let mid = good + (bad - good) / 2;
-                if valid(mid)?.is_some() { good = mid } else { bad = mid }
+                if valid(mid)?.is_some() {
+                    good = mid
+                } else {
+                    bad = mid
+                }
             }
             k_hi = good;
             valid(good)?.expect("checked valid")
@@ -197,7 +207,12 @@ fn solve_one(plan: &Plan, sc: &Scenario, req: &GoalRequest) -> Result<GoalAnswer
             )
         } else {
             let capped = top.weeks.iter().any(|w| w.over_max.is_some());
-            let minutes = top.weeks.iter().map(|w| w.minutes_per_session).max().unwrap_or(0);
+            let minutes = top
+                .weeks
+                .iter()
+                .map(|w| w.minutes_per_session)
+                .max()
+                .unwrap_or(0);
             let cap_note = if capped {
                 format!("; sessions reach {minutes} min, beyond the plan's maximum")
             } else {
@@ -214,7 +229,11 @@ fn solve_one(plan: &Plan, sc: &Scenario, req: &GoalRequest) -> Result<GoalAnswer
     }
     // Smallest k with loss >= X: invariant loss(k_low) < X <= loss(k_high).
     let (mut k_low, mut k_high) = (k_lo - 1, k_hi);
-    let mut low_loss = if first.loss_kg >= req.lose_kg { without } else { first.loss_kg };
+    let mut low_loss = if first.loss_kg >= req.lose_kg {
+        without
+    } else {
+        first.loss_kg
+    };
     if first.loss_kg >= req.lose_kg {
         k_high = k_lo;
     }
@@ -232,12 +251,21 @@ fn solve_one(plan: &Plan, sc: &Scenario, req: &GoalRequest) -> Result<GoalAnswer
     }
     let w1 = best.weeks[0].minutes_per_session;
     let wn = best.weeks[n as usize - 1].minutes_per_session;
-    let over: Vec<&WeekRecord> = best.weeks.iter().filter(|w| w.over_max.as_ref().is_some_and(|o| o.still_over)).collect();
+    let over: Vec<&WeekRecord> = best
+        .weeks
+        .iter()
+        .filter(|w| w.over_max.as_ref().is_some_and(|o| o.still_over))
+        .collect();
     answer.minutes_week1 = Some(w1);
     answer.minutes_goal_week = Some(wn);
     answer.loss_kg = Some(best.loss_kg);
     answer.loss_one_step_lower_kg = Some(low_loss);
-    if let (Some(max), Some(worst)) = (plan.protocol.max_session_minutes, over.iter().map(|w| w.minutes_per_session / w.bouts_per_session.max(1)).max()) {
+    if let (Some(max), Some(worst)) = (
+        plan.protocol.max_session_minutes,
+        over.iter()
+            .map(|w| w.minutes_per_session / w.bouts_per_session.max(1))
+            .max(),
+    ) {
         answer.reason = Some(format!(
             "needs {} {} with sessions of up to {worst} min, above the plan's maximum of {max:.0} min",
             dose_at(k_high),

@@ -20,6 +20,10 @@ use serde::Serialize;
 
 /// Lowest fat mass the model accepts, kg (MODEL.md 6).
 pub const MIN_FAT_KG: f64 = 2.0;
+/// Lowest body mass the model accepts, kg (the plan's own lower limit, PLAN.md).
+pub const MIN_MASS_KG: f64 = 30.0;
+/// Lowest BMI the model accepts, kg/m^2 (the plan's own lower limit, PLAN.md).
+pub const MIN_BMI: f64 = 13.0;
 
 /// Whether a week's reference mass was measured or projected.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
@@ -51,6 +55,8 @@ pub struct SessionRecord {
     pub weekday: &'static str,
     /// Minutes.
     pub minutes: u32,
+    /// Bout number within the session's day (1 or 2) when sessions are split.
+    pub bout: Option<u32>,
     /// MET at the reference mass.
     pub met: f64,
     /// Gross energy, kcal.
@@ -144,6 +150,10 @@ pub struct Outcome {
     pub dose_share: f64,
     /// Mass at the end of the protocol (before follow-up), kg.
     pub protocol_end_mass_kg: f64,
+    /// Mass change at the end of the protocol, kg.
+    pub protocol_end_mass_change_kg: f64,
+    /// Share of the dose in the stores at the end of the protocol (before any regain).
+    pub protocol_end_dose_share: f64,
 }
 
 /// One scenario's projection.
@@ -222,6 +232,8 @@ pub fn simulate(plan: &Plan) -> Result<Simulation, Error> {
             achieved_deficit_kcal: last.end.achieved_deficit_kcal,
             dose_share: last.end.dose_share,
             protocol_end_mass_kg: protocol_end.end.mass_kg,
+            protocol_end_mass_change_kg: protocol_end.end.mass_kg - baseline.mass_kg,
+            protocol_end_dose_share: protocol_end.end.dose_share,
         };
         scenarios.push(ScenarioRun {
             name: sc.name.clone(),
@@ -242,12 +254,22 @@ pub fn simulate(plan: &Plan) -> Result<Simulation, Error> {
 /// End-of-week masses of every scenario with no exercise at all (the counterfactual
 /// of `dose_share`), with the baseline.
 pub fn no_exercise_masses(plan: &Plan) -> Result<(Baseline, Vec<Vec<f64>>), Error> {
-    let (baseline, physiology) = calibrate(&plan.participant.subject, &plan.constants)
-        .map_err(|e| Error::Usage(format!("{}: baseline cannot be calibrated: {e:?}", plan.source_name)))?;
+    let (baseline, physiology) =
+        calibrate(&plan.participant.subject, &plan.constants).map_err(|e| {
+            Error::Usage(format!(
+                "{}: baseline cannot be calibrated: {e:?}",
+                plan.source_name
+            ))
+        })?;
     let masses = plan
         .scenarios
         .iter()
-        .map(|sc| Ok(run(plan, &physiology, &baseline, sc, false, None)?.iter().map(|w| w.end.mass_kg).collect()))
+        .map(|sc| {
+            Ok(run(plan, &physiology, &baseline, sc, false, None)?
+                .iter()
+                .map(|w| w.end.mass_kg)
+                .collect())
+        })
         .collect::<Result<Vec<Vec<f64>>, Error>>()?;
     Ok((baseline, masses))
 }
@@ -292,6 +314,20 @@ fn run(
                 &reference,
             )
         });
+        if let Some(r) = &rx {
+            let per_day = r.minutes_per_session;
+            if f64::from(per_day) >= crate::model::energy::MINUTES_PER_DAY {
+                return Err(range_error(
+                    plan,
+                    scenario,
+                    start_day,
+                    &body,
+                    format!(
+                        "week {w} needs sessions of {per_day} min, longer than a day; the activity is too light for the dose"
+                    ),
+                ));
+            }
+        }
         let bouts: Vec<Bout> = rx
             .as_ref()
             .map(|r| {
@@ -336,12 +372,15 @@ fn run(
             .map(|r| {
                 r.bouts
                     .iter()
-                    .map(|(date, m)| {
+                    .enumerate()
+                    .map(|(i, (date, m))| {
                         let mins = f64::from(*m);
                         SessionRecord {
                             date: *date,
                             weekday: weekday_name(date.weekday()),
                             minutes: *m,
+                            bout: (r.bouts_per_session > 1)
+                                .then_some(i as u32 % r.bouts_per_session + 1),
                             met: met_w,
                             gross_kcal: mins
                                 * crate::activity::acsm::gross_kcal_per_min(met_w, m_w),
@@ -434,7 +473,7 @@ fn check_state(
     }
     let f = physiology.fluxes(&scenario.compensation, bouts, &body);
     let checks = [
-        (f.rmr, "RMR", "at or below zero"),
+        (f.rmr, "RMR (kcal/day)", "at or below zero"),
         (
             f.activity,
             "non-exercise activity energy",
