@@ -1,14 +1,17 @@
 //! The commands, as library calls: each returns what to print, or an error.
 
 use crate::activity::compendium;
-use crate::cli::{Command, CompareFormat, FormatArg, GoalFormat};
+use crate::cli::{Command, CompareFormat, FitParameterArg, FormatArg, GoalFormat, LogAction};
 use crate::error::Error;
 use crate::files::{refuse_overwriting_inputs, write_atomic};
 use crate::plan::{self, Plan};
 use crate::report::{self, ScheduleReport};
+use crate::safety::Warning;
 use crate::simulate::band::projection_band;
-use crate::simulate::goal::{GoalRequest, allowed_range, solve};
-use crate::simulate::simulate;
+use crate::simulate::goal::{GoalRequest, allowed_range, solve_observed};
+use crate::simulate::observed::Observed;
+use crate::simulate::{simulate, simulate_observed};
+use chrono::NaiveDate;
 use std::path::{Path, PathBuf};
 
 /// What a successful command prints.
@@ -34,12 +37,59 @@ pub fn schedule_report(plan: &Plan) -> Result<ScheduleReport, Error> {
     Ok(ScheduleReport::new(plan, sim))
 }
 
-/// The schedule report with the projection band.
-pub fn schedule_report_with_band(plan: &Plan) -> Result<ScheduleReport, Error> {
-    let sim = simulate(plan)?;
-    let band = projection_band(plan, &sim)?;
+/// The schedule report with the projection band, re-planned from measured data when
+/// there is any.
+pub fn schedule_report_with_band(
+    plan: &Plan,
+    observed: Option<&Observed>,
+) -> Result<ScheduleReport, Error> {
+    let sim = simulate_observed(plan, observed)?;
+    let band = projection_band(plan, &sim, observed)?;
     let mut r = ScheduleReport::new(plan, sim);
     r.projection_band = Some(band);
+    Ok(r)
+}
+
+/// What a log contributes: the measured data, its warnings and a summary for reports.
+#[derive(Debug, Clone, Default)]
+pub struct LogInput {
+    /// Measured data for the simulation.
+    pub observed: Option<Observed>,
+    /// The log's own warnings (e.g. implausible jumps).
+    pub warnings: Vec<Warning>,
+    /// Summary for reports.
+    pub summary: Option<report::LogSummary>,
+}
+
+/// Read the log named on the command line, if any, up to `as_of`.
+pub fn read_log(
+    plan: &Plan,
+    log: Option<&Path>,
+    as_of: Option<NaiveDate>,
+) -> Result<LogInput, Error> {
+    let Some(path) = log else {
+        return Ok(LogInput::default());
+    };
+    let (log, warnings) = crate::log::load_log(path, plan, as_of)?;
+    let observed = Observed::from_log(plan, &log, as_of);
+    let summary = report::LogSummary {
+        path: log.path.clone(),
+        as_of: observed.as_of,
+        weigh_ins: observed.weigh_ins.len(),
+        sessions: observed.sessions.len(),
+    };
+    Ok(LogInput {
+        observed: Some(observed),
+        warnings,
+        summary: Some(summary),
+    })
+}
+
+/// The schedule report of a plan with its log (if any): band, log summary, log warnings.
+pub fn schedule_report_logged(plan: &Plan, log: &LogInput) -> Result<ScheduleReport, Error> {
+    let mut r = schedule_report_with_band(plan, log.observed.as_ref())?;
+    r.warnings.extend(log.warnings.iter().cloned());
+    r.log = log.summary.clone();
     Ok(r)
 }
 
@@ -64,6 +114,16 @@ pub fn compare_report(
     at_weeks: &[u32],
     doses: &[f64],
 ) -> Result<report::compare::CompareReport, Error> {
+    compare_report_logged(plan, &LogInput::default(), at_weeks, doses)
+}
+
+/// [`compare_report`] re-planned from a log.
+pub fn compare_report_logged(
+    plan: &Plan,
+    log: &LogInput,
+    at_weeks: &[u32],
+    doses: &[f64],
+) -> Result<report::compare::CompareReport, Error> {
     let total = plan.protocol.total_weeks();
     if let Some(bad) = at_weeks.iter().find(|w| **w < 1 || **w > total) {
         return Err(Error::Usage(format!(
@@ -82,7 +142,7 @@ pub fn compare_report(
             amount.unit()
         )));
     }
-    let schedule = schedule_report_with_band(plan)?;
+    let schedule = schedule_report_logged(plan, log)?;
     let weeks = report::compare::checkpoints(plan, at_weeks);
     let dose_response = if doses.is_empty() {
         None
@@ -91,7 +151,7 @@ pub fn compare_report(
         for &d in doses {
             let mut p = plan.clone();
             p.protocol.dose.amount = amount.with_value(d);
-            let sim = simulate(&p)?;
+            let sim = simulate_observed(&p, log.observed.as_ref())?;
             let m0 = sim.baseline.mass_kg;
             let f0 = sim.baseline.fat_mass_kg;
             rows.push(report::compare::DoseRow {
@@ -132,6 +192,18 @@ pub fn compare_report(
     ))
 }
 
+/// Refuse an output path that names one of the command's inputs.
+fn refuse_inputs(out: &Option<PathBuf>, plan: &Path, log: &Option<PathBuf>) -> Result<(), Error> {
+    if let Some(o) = out {
+        let mut inputs = vec![plan];
+        if let Some(l) = log {
+            inputs.push(l.as_path());
+        }
+        refuse_overwriting_inputs(o, &inputs)?;
+    }
+    Ok(())
+}
+
 /// Print to standard output, or write the file atomically and say so on standard error.
 fn deliver(mut printed: Printed, text: String, out: &Option<PathBuf>) -> Result<Printed, Error> {
     match out {
@@ -153,12 +225,18 @@ pub fn run(command: &Command) -> Result<Printed, Error> {
             format,
             out,
             chart,
+            log,
+            as_of,
         } => {
             if let (Some(o), Some(p)) = (out, plan) {
                 refuse_overwriting_inputs(o, &[p.as_path()])?;
             }
+            if let (Some(o), Some(l)) = (out, log) {
+                refuse_overwriting_inputs(o, &[l.as_path()])?;
+            }
             let plan = load(plan.as_deref())?;
-            let r = schedule_report_with_band(&plan)?;
+            let log = read_log(&plan, log.as_deref(), *as_of)?;
+            let r = schedule_report_logged(&plan, &log)?;
             let index = r.scenario_index(scenario.as_deref())?;
             let mut printed = Printed::default();
             let text = match format {
@@ -184,12 +262,13 @@ pub fn run(command: &Command) -> Result<Printed, Error> {
             format,
             out,
             chart,
+            log,
+            as_of,
         } => {
-            if let Some(o) = out {
-                refuse_overwriting_inputs(o, &[plan.as_path()])?;
-            }
+            refuse_inputs(out, plan, log)?;
             let plan = with_added_scenarios(load(Some(plan))?, add_scenario)?;
-            let r = compare_report(&plan, at_week, doses)?;
+            let log = read_log(&plan, log.as_deref(), *as_of)?;
+            let r = compare_report_logged(&plan, &log, at_week, doses)?;
             let text = match format {
                 CompareFormat::Table => report::compare::render_table(&r),
                 CompareFormat::Markdown => report::compare::render_markdown(&r),
@@ -205,7 +284,7 @@ pub fn run(command: &Command) -> Result<Printed, Error> {
                 );
             }
             if let Some(dir) = chart {
-                let schedule = schedule_report_with_band(&plan)?;
+                let schedule = schedule_report_logged(&plan, &log)?;
                 printed
                     .stderr
                     .push_str(&charts::write_schedule_charts(dir, &schedule)?);
@@ -220,11 +299,12 @@ pub fn run(command: &Command) -> Result<Printed, Error> {
             add_scenario,
             format,
             out,
+            log,
+            as_of,
         } => {
-            if let Some(o) = out {
-                refuse_overwriting_inputs(o, &[plan.as_path()])?;
-            }
+            refuse_inputs(out, plan, log)?;
             let plan = with_added_scenarios(load(Some(plan))?, add_scenario)?;
+            let log = read_log(&plan, log.as_deref(), *as_of)?;
             let m0 = plan.participant.subject.mass_kg;
             let lose = match (lose_kg, lose_percent) {
                 (Some(kg), _) => *kg,
@@ -243,14 +323,109 @@ pub fn run(command: &Command) -> Result<Printed, Error> {
                 by_week: *by_week,
             };
             crate::simulate::goal::check_request(&plan, &request)?;
-            let schedule = schedule_report(&plan)?;
-            let answers = solve(&plan, &request)?;
+            let mut schedule = schedule_report(&plan)?;
+            schedule.warnings.extend(log.warnings.iter().cloned());
+            let answers = solve_observed(&plan, &request, log.observed.as_ref())?;
             let r = report::goal::GoalReport::new(&schedule, request, answers);
             let text = match format {
                 GoalFormat::Table => report::goal::render_table(&r),
                 GoalFormat::Json => report::json::render(&r),
             };
             deliver(Printed::default(), text, out)
+        }
+        Command::Fit {
+            plan,
+            log,
+            as_of,
+            parameter,
+            scenario,
+            format,
+            out,
+            chart,
+        } => {
+            refuse_inputs(out, plan, &Some(log.clone()))?;
+            let plan = load(Some(plan))?;
+            let input = read_log(&plan, Some(log), *as_of)?;
+            let schedule = schedule_report(&plan)?;
+            let index = schedule.scenario_index(scenario.as_deref())?;
+            let param = match parameter {
+                FitParameterArg::IntakeFraction => {
+                    crate::simulate::fit::FitParameter::IntakeFraction
+                }
+                FitParameterArg::ActivityFraction => {
+                    crate::simulate::fit::FitParameter::ActivityFraction
+                }
+            };
+            let observed = input.observed.as_ref().expect("a log was read");
+            let fit = crate::simulate::fit::fit(&plan, observed, index, param)?;
+            let r = report::fit::FitReport::new(&schedule, &input, fit);
+            let text = match format {
+                GoalFormat::Table => report::fit::render_table(&r),
+                GoalFormat::Json => report::json::render(&r),
+            };
+            let mut printed = Printed::default();
+            if let Some(dir) = chart {
+                let stem = charts::stem(&r.participant_id);
+                let paths =
+                    report::chart::write_charts(dir, &stem, &[("fit", report::fit::chart(&r))])?;
+                printed.stderr = paths
+                    .iter()
+                    .map(|p| format!("wrote {}\n", p.display()))
+                    .collect();
+            }
+            deliver(printed, text, out)
+        }
+        Command::Log {
+            action:
+                LogAction::Add {
+                    plan,
+                    log,
+                    date,
+                    weigh_in,
+                    body_fat,
+                    session,
+                    code,
+                    met,
+                    hr,
+                    rpe,
+                    note,
+                },
+        } => {
+            if log == plan || refuse_overwriting_inputs(log, &[plan.as_path()]).is_err() {
+                return Err(Error::Usage(format!(
+                    "--log {}: that is the plan file; give the log's CSV file",
+                    log.display()
+                )));
+            }
+            let plan = load(Some(plan))?;
+            let entry = match (weigh_in, session) {
+                (Some(kg), _) => crate::log::NewEntry::WeighIn {
+                    mass_kg: *kg,
+                    body_fat_percent: *body_fat,
+                },
+                (None, Some(minutes)) => crate::log::NewEntry::Session {
+                    minutes: *minutes,
+                    compendium_code: code.clone(),
+                    met: *met,
+                    avg_hr_bpm: *hr,
+                    rpe: *rpe,
+                },
+                (None, None) => unreachable!("clap requires --weigh-in or --session"),
+            };
+            let row = crate::log::NewRow {
+                date: *date,
+                entry,
+                note: note.clone(),
+            };
+            let (said, warnings) = crate::log::append_row(log, &plan, &row)?;
+            let mut stderr = format!("{said}\n");
+            for w in warnings {
+                stderr.push_str(&format!("warning [{}]: {}\n", w.code, w.message));
+            }
+            Ok(Printed {
+                stdout: String::new(),
+                stderr,
+            })
         }
         Command::Check { plan } => {
             let plan = load(Some(plan))?;
@@ -306,13 +481,11 @@ pub fn run(command: &Command) -> Result<Printed, Error> {
             if let Some(t) = text {
                 query.push_str(&format!("matching \"{t}\""));
             }
-            if met_min.is_some() || met_max.is_some() {
-                let hi_s = if hi.is_finite() {
-                    format!("{hi}")
-                } else {
-                    "any".to_string()
-                };
-                query.push_str(&format!(" between {lo} and {hi_s} MET"));
+            match (met_min, met_max) {
+                (Some(a), Some(b)) => query.push_str(&format!(" between {a} and {b} MET")),
+                (Some(a), None) => query.push_str(&format!(" of at least {a} MET")),
+                (None, Some(b)) => query.push_str(&format!(" of at most {b} MET")),
+                (None, None) => {}
             }
             let query = if query.is_empty() {
                 "in the built-in table".to_string()
@@ -334,6 +507,19 @@ mod charts {
     use crate::report::chart::{Band, standard_charts, write_charts};
     use std::path::Path;
 
+    /// A file-name stem from a participant code.
+    pub fn stem(id: &str) -> String {
+        id.chars()
+            .map(|c| {
+                if c.is_ascii_alphanumeric() || c == '-' || c == '_' {
+                    c
+                } else {
+                    '_'
+                }
+            })
+            .collect()
+    }
+
     /// Write the four charts into `dir`; returns the notes for standard error.
     pub fn write_schedule_charts(dir: &Path, r: &ScheduleReport) -> Result<String, Error> {
         let m0 = r.baseline.mass_kg;
@@ -352,17 +538,7 @@ mod charts {
                     .collect(),
             });
         let charts = standard_charts(&r.scenarios, r.protocol.weeks, band.as_ref());
-        let stem: String = r
-            .participant_id
-            .chars()
-            .map(|c| {
-                if c.is_ascii_alphanumeric() || c == '-' || c == '_' {
-                    c
-                } else {
-                    '_'
-                }
-            })
-            .collect();
+        let stem = stem(&r.participant_id);
         let paths = write_charts(dir, &stem, &charts)?;
         Ok(paths
             .iter()

@@ -1,5 +1,6 @@
 //! The command line: the clap definition and nothing else.
 
+use chrono::NaiveDate;
 use clap::{Parser, Subcommand, ValueEnum};
 use std::path::PathBuf;
 
@@ -46,6 +47,83 @@ pub enum GoalFormat {
     Json,
 }
 
+/// Parameters `fit` can estimate.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, ValueEnum)]
+pub enum FitParameterArg {
+    /// Share of exercise energy eaten back.
+    #[value(name = "intake_fraction")]
+    IntakeFraction,
+    /// Share of exercise energy lost from other movement.
+    #[value(name = "activity_fraction")]
+    ActivityFraction,
+}
+
+/// `log` subcommands.
+#[derive(Debug, Subcommand)]
+pub enum LogAction {
+    /// Append one validated row (a weigh-in or a delivered session) to the log.
+    #[command(group = clap::ArgGroup::new("kind").required(true).args(["weigh_in", "session"]))]
+    Add {
+        /// The plan the log belongs to.
+        plan: PathBuf,
+        /// The log file (created with its header if missing).
+        #[arg(long, value_name = "FILE")]
+        log: PathBuf,
+        /// The row's date (YYYY-MM-DD).
+        #[arg(long, value_name = "DATE")]
+        date: NaiveDate,
+        /// A weigh-in: the measured mass, kg.
+        #[arg(long = "weigh-in", value_name = "KG", allow_negative_numbers = true)]
+        weigh_in: Option<f64>,
+        /// With --weigh-in: measured body fat, percent.
+        #[arg(
+            long = "body-fat",
+            value_name = "PERCENT",
+            requires = "weigh_in",
+            allow_negative_numbers = true
+        )]
+        body_fat: Option<f64>,
+        /// A delivered session: its minutes (0 for a missed session).
+        #[arg(long, value_name = "MINUTES", allow_negative_numbers = true)]
+        session: Option<f64>,
+        /// With --session: the activity's compendium code (default: the plan's activity).
+        #[arg(
+            long,
+            value_name = "CODE",
+            requires = "session",
+            conflicts_with = "met"
+        )]
+        code: Option<String>,
+        /// With --session: the activity's MET (default: the plan's activity).
+        #[arg(
+            long,
+            value_name = "MET",
+            requires = "session",
+            allow_negative_numbers = true
+        )]
+        met: Option<f64>,
+        /// With --session: average heart rate, beats/min.
+        #[arg(
+            long,
+            value_name = "BPM",
+            requires = "session",
+            allow_negative_numbers = true
+        )]
+        hr: Option<f64>,
+        /// With --session: Borg RPE, 6-20.
+        #[arg(
+            long,
+            value_name = "RPE",
+            requires = "session",
+            allow_negative_numbers = true
+        )]
+        rpe: Option<f64>,
+        /// A note (one line).
+        #[arg(long, value_name = "TEXT")]
+        note: Option<String>,
+    },
+}
+
 /// The commands.
 #[derive(Debug, Subcommand)]
 pub enum Command {
@@ -65,6 +143,12 @@ pub enum Command {
         /// Also write SVG charts into this folder.
         #[arg(long, value_name = "DIR")]
         chart: Option<PathBuf>,
+        /// A participant log (CSV): re-plan from its weigh-ins and delivered sessions.
+        #[arg(long, value_name = "FILE")]
+        log: Option<PathBuf>,
+        /// Use the log up to this date (YYYY-MM-DD; default: the log's last date).
+        #[arg(long = "as-of", value_name = "DATE", requires = "log")]
+        as_of: Option<NaiveDate>,
     },
     /// Compare every scenario side by side at checkpoint weeks, optionally for several doses.
     Compare {
@@ -88,6 +172,12 @@ pub enum Command {
         /// Also write SVG charts into this folder.
         #[arg(long, value_name = "DIR")]
         chart: Option<PathBuf>,
+        /// A participant log (CSV): re-plan from its weigh-ins and delivered sessions.
+        #[arg(long, value_name = "FILE")]
+        log: Option<PathBuf>,
+        /// Use the log up to this date (YYYY-MM-DD; default: the log's last date).
+        #[arg(long = "as-of", value_name = "DATE", requires = "log")]
+        as_of: Option<NaiveDate>,
     },
     /// Find, per scenario, the smallest dose of the plan's kind that reaches a loss by a week.
     #[command(group = clap::ArgGroup::new("loss").required(true).args(["lose_kg", "lose_percent"]))]
@@ -95,10 +185,10 @@ pub enum Command {
         /// The plan file (TOML).
         plan: PathBuf,
         /// Loss wanted, kg.
-        #[arg(long, value_name = "KG")]
+        #[arg(long, value_name = "KG", allow_negative_numbers = true)]
         lose_kg: Option<f64>,
         /// Loss wanted, percent of baseline mass.
-        #[arg(long, value_name = "PERCENT")]
+        #[arg(long, value_name = "PERCENT", allow_negative_numbers = true)]
         lose_percent: Option<f64>,
         /// By the end of this protocol week.
         #[arg(long, value_name = "N")]
@@ -112,6 +202,44 @@ pub enum Command {
         /// Write the output to this file (atomically) instead of standard output.
         #[arg(long, value_name = "FILE")]
         out: Option<PathBuf>,
+        /// A participant log (CSV): re-plan from its weigh-ins and delivered sessions.
+        #[arg(long, value_name = "FILE")]
+        log: Option<PathBuf>,
+        /// Use the log up to this date (YYYY-MM-DD; default: the log's last date).
+        #[arg(long = "as-of", value_name = "DATE", requires = "log")]
+        as_of: Option<NaiveDate>,
+    },
+    /// Estimate from the log's weigh-ins how much of the dose is not reaching the stores.
+    Fit {
+        /// The plan file (TOML).
+        plan: PathBuf,
+        /// The participant log (CSV).
+        #[arg(long, value_name = "FILE")]
+        log: PathBuf,
+        /// Use the log up to this date (YYYY-MM-DD; default: the log's last date).
+        #[arg(long = "as-of", value_name = "DATE")]
+        as_of: Option<NaiveDate>,
+        /// Which scenario parameter to estimate.
+        #[arg(long, value_enum, default_value_t = FitParameterArg::IntakeFraction)]
+        parameter: FitParameterArg,
+        /// Whose other assumptions are held (default: the first scenario).
+        #[arg(long)]
+        scenario: Option<String>,
+        /// Output format.
+        #[arg(long, value_enum, default_value_t = GoalFormat::Table)]
+        format: GoalFormat,
+        /// Write the output to this file (atomically) instead of standard output.
+        #[arg(long, value_name = "FILE")]
+        out: Option<PathBuf>,
+        /// Also write the measured-against-modelled chart (SVG) into this folder.
+        #[arg(long, value_name = "DIR")]
+        chart: Option<PathBuf>,
+    },
+    /// Keep the participant log: weigh-ins and delivered sessions.
+    Log {
+        /// What to do with the log.
+        #[command(subcommand)]
+        action: LogAction,
     },
     /// Validate a plan and print its resolved assumptions.
     Check {

@@ -40,6 +40,13 @@ pub fn write_atomic(path: &Path, bytes: &[u8], create_new: bool) -> Result<(), E
         Some(d) if !d.as_os_str().is_empty() => d.to_path_buf(),
         _ => PathBuf::from("."),
     };
+    if !dir.is_dir() {
+        return Err(Error::Usage(format!(
+            "{}: the folder {} does not exist; create it first or choose another path",
+            path.display(),
+            dir.display()
+        )));
+    }
     let name = path
         .file_name()
         .map(|n| n.to_string_lossy().into_owned())

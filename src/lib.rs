@@ -15,6 +15,7 @@ pub mod app;
 pub mod cli;
 pub mod error;
 pub mod files;
+pub mod log;
 pub mod model;
 pub mod plan;
 pub mod report;

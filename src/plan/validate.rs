@@ -20,11 +20,14 @@ pub fn load_plan(path: &std::path::Path) -> Result<Plan, Error> {
         let good = e.utf8_error().valid_up_to();
         let bytes = e.as_bytes();
         let line = bytes[..good].iter().filter(|b| **b == b'\n').count() + 1;
-        let col = good
-            - bytes[..good]
-                .iter()
-                .rposition(|b| *b == b'\n')
-                .map_or(0, |i| i + 1)
+        let line_start = bytes[..good]
+            .iter()
+            .rposition(|b| *b == b'\n')
+            .map_or(0, |i| i + 1);
+        // Columns count characters, as editors and the TOML errors do.
+        let col = String::from_utf8_lossy(&bytes[line_start..good])
+            .chars()
+            .count()
             + 1;
         Error::Unreadable {
             path: name.clone(),
@@ -124,6 +127,7 @@ fn baseline_rmr(subject: &Subject, constants: &Constants) -> f64 {
 fn tidy(msg: &str) -> String {
     msg.trim()
         .replace("expected f64", "expected a number")
+        .replace("invalid type: map, expected a string", "expected a single table; write [participant], [protocol] or [activity] with single brackets")
         .replace(
             "invalid type: map, expected a sequence",
             "expected a list; write [[scenario]] (double brackets) for each scenario",

@@ -95,6 +95,8 @@ pub struct Series {
     /// Colour and marker slot: series that share a slot (one scenario's two lines)
     /// share colour and marker shape.
     pub slot: usize,
+    /// Measurements: a marker at every point and no line.
+    pub markers_only: bool,
 }
 
 /// A shaded area between a low and a high line, such as a projection-uncertainty
@@ -609,7 +611,7 @@ impl LineChart {
         }
         for s in &self.series {
             let pts: Vec<(f64, f64)> = finite_points(s).collect();
-            if pts.is_empty() {
+            if pts.is_empty() || s.markers_only {
                 continue;
             }
             let d: Vec<String> = pts
@@ -648,11 +650,14 @@ impl LineChart {
             let pts: Vec<(f64, f64)> = finite_points(s)
                 .filter(|(x, _)| *x >= x0 - 1e-9 && *x <= x1 + 1e-9)
                 .collect();
-            let every = pts
-                .len()
-                .div_ceil(MARKERS_PER_SERIES)
-                .max(slots.len().min(pts.len()))
-                .max(1);
+            let every = if s.markers_only {
+                1
+            } else {
+                pts.len()
+                    .div_ceil(MARKERS_PER_SERIES)
+                    .max(slots.len().min(pts.len()))
+                    .max(1)
+            };
             for (x, y) in pts.iter().skip(s.slot % every).step_by(every) {
                 marker_element(
                     &mut out,
@@ -890,6 +895,7 @@ pub fn mass_chart(runs: &[ScenarioRun], protocol_weeks: u32, band: Option<&Band>
             ),
             dashed: false,
             slot,
+            markers_only: false,
         })
         .collect();
     let what = match band {
@@ -928,12 +934,14 @@ pub fn composition_chart(runs: &[ScenarioRun], protocol_weeks: u32) -> LineChart
             points: trajectory(r, 0.0, |e| e.fat_mass_kg - fat0),
             dashed: false,
             slot,
+            markers_only: false,
         });
         series.push(Series {
             name: format!("{}: fat-free", r.name),
             points: trajectory(r, 0.0, |e| e.fat_free_mass_kg - lean0),
             dashed: true,
             slot,
+            markers_only: false,
         });
     }
     let baseline = runs.first().map_or(String::new(), |r| {
@@ -975,6 +983,7 @@ pub fn minutes_chart(runs: &[ScenarioRun], protocol_weeks: u32) -> LineChart {
                 .collect(),
             dashed: false,
             slot,
+            markers_only: false,
         })
         .collect();
     LineChart {
@@ -1006,12 +1015,14 @@ pub fn energy_chart(runs: &[ScenarioRun], protocol_weeks: u32) -> LineChart {
                 .collect(),
             dashed: false,
             slot,
+            markers_only: false,
         });
         series.push(Series {
             name: format!("{}: achieved", r.name),
             points: per_week(weeks().map(|w| (w.week, w.end.achieved_deficit_kcal))).collect(),
             dashed: true,
             slot,
+            markers_only: false,
         });
     }
     LineChart {

@@ -6,6 +6,7 @@ pub mod chart;
 pub mod check;
 pub mod compare;
 pub mod csv;
+pub mod fit;
 pub mod goal;
 pub mod json;
 pub mod table;
@@ -92,6 +93,22 @@ pub struct ScheduleReport {
     pub cautions: Vec<&'static str>,
     /// The projection band around each scenario's mass trajectory, when computed.
     pub projection_band: Option<crate::simulate::band::Band>,
+    /// The participant log the schedule was re-planned from, if any.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub log: Option<LogSummary>,
+}
+
+/// The log behind a re-planned schedule.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct LogSummary {
+    /// The log file.
+    pub path: String,
+    /// The date the log is used up to.
+    pub as_of: NaiveDate,
+    /// Weigh-ins read.
+    pub weigh_ins: usize,
+    /// Session rows read.
+    pub sessions: usize,
 }
 
 impl ScheduleReport {
@@ -143,6 +160,7 @@ impl ScheduleReport {
             warnings,
             cautions: safety::CAUTIONS.to_vec(),
             projection_band: None,
+            log: None,
         }
     }
 

@@ -189,6 +189,65 @@ pub fn outcome_table(r: &ScheduleReport) -> String {
     s
 }
 
+/// Sessions, minutes, energy and dose delivered against planned, for a re-planned
+/// schedule (empty without a log).
+pub fn adherence_text(r: &ScheduleReport, index: usize) -> String {
+    let sc = &r.scenarios[index];
+    let (Some(total), Some(log)) = (&sc.adherence, &r.log) else {
+        return String::new();
+    };
+    let unit = r.dose.unit;
+    let mut t = new_table(&[
+        "week",
+        "sessions delivered / planned",
+        "minutes delivered / prescribed",
+        "net kcal delivered / prescribed",
+        &format!("dose delivered / prescribed [{unit}]"),
+        "mean RPE",
+        "mean HR [bpm]",
+    ]);
+    let opt = |v: Option<f64>| v.map_or("-".to_string(), |x| format!("{x:.0}"));
+    for w in sc.weeks.iter().filter_map(|w| w.adherence.as_ref()) {
+        let part = if w.days_covered < 7 {
+            format!(" ({} of 7 days)", w.days_covered)
+        } else {
+            String::new()
+        };
+        t.add_row(vec![
+            format!("{}{part}", w.week),
+            format!("{} / {}", w.sessions_delivered, w.sessions_planned),
+            format!("{:.0} / {:.0}", w.minutes_delivered, w.minutes_prescribed),
+            format!("{:.0} / {:.0}", w.net_kcal_delivered, w.net_kcal_prescribed),
+            format!("{:.1} / {:.1}", w.dose_delivered, w.dose_prescribed),
+            opt(w.mean_rpe),
+            opt(w.mean_hr_bpm),
+        ]);
+    }
+    t.add_row(vec![
+        format!("all {} weeks", total.weeks),
+        format!("{} / {}", total.sessions_delivered, total.sessions_planned),
+        format!(
+            "{:.0} / {:.0}",
+            total.minutes_delivered, total.minutes_prescribed
+        ),
+        format!(
+            "{:.0} / {:.0}",
+            total.net_kcal_delivered, total.net_kcal_prescribed
+        ),
+        format!(
+            "{:.1} / {:.1} a week",
+            total.dose_delivered_per_week, total.dose_prescribed_per_week
+        ),
+        opt(total.mean_rpe),
+        opt(total.mean_hr_bpm),
+    ]);
+    align_numbers(&mut t, 1);
+    format!(
+        "Adherence so far (log {} up to {}: {} weigh-ins, {} session rows; weeks up to then use the delivered sessions, later weeks are re-prescribed from the re-anchored projection)\n{t}\n",
+        log.path, log.as_of, log.weigh_ins, log.sessions
+    )
+}
+
 /// The warnings block.
 pub fn warnings_text(warnings: &[Warning]) -> String {
     if warnings.is_empty() {
@@ -283,6 +342,7 @@ pub fn render(r: &ScheduleReport, index: usize) -> String {
     }
     align_numbers(&mut t, 3);
     out.push_str(&format!("{t}\n"));
+    out.push_str(&adherence_text(r, index));
     let follow = r.protocol.follow_up_weeks;
     if follow > 0 {
         out.push_str(&format!(

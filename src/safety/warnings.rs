@@ -172,8 +172,24 @@ fn scenario_warnings(plan: &Plan, sc: &ScenarioRun, out: &mut Vec<Warning>) {
             OverMax::Flag => "flag: the minutes were kept".to_string(),
             OverMax::Cap => {
                 let short: f64 = over.iter().map(|(_, n)| n.shortfall_kcal).sum();
+                let basis = match p.dose.basis {
+                    crate::plan::EnergyBasis::Gross => "gross",
+                    crate::plan::EnergyBasis::Net => "net",
+                };
+                let cut = over
+                    .iter()
+                    .find_map(|(wk, _)| sc.weeks.iter().find(|x| x.week == *wk))
+                    .map_or(0, |x| x.minutes_per_session);
+                let to = if f64::from(cut) < max {
+                    format!(
+                        "{cut} min (the maximum rounded down to the {}-minute step)",
+                        p.round_minutes_to
+                    )
+                } else {
+                    "the maximum".to_string()
+                };
                 format!(
-                    "cap: sessions cut to the maximum, {short:.0} kcal short of the prescribed dose in all"
+                    "cap: sessions cut to {to}, {short:.0} kcal ({basis}) short of the prescribed dose in all"
                 )
             }
             OverMax::AddSession => {

@@ -12,7 +12,8 @@ use crate::error::Error;
 use crate::model::composition::DEURENBERG_SEE_PERCENT;
 use crate::model::energy::calibrate;
 use crate::plan::Plan;
-use crate::simulate::{Simulation, simulate};
+use crate::simulate::observed::Observed;
+use crate::simulate::{Simulation, simulate_observed};
 use serde::Serialize;
 
 /// The low and high mass at the end of one week.
@@ -47,7 +48,11 @@ pub struct Band {
 }
 
 /// Run the variants of `plan` and collect the band around `central`.
-pub fn projection_band(plan: &Plan, central: &Simulation) -> Result<Band, Error> {
+pub fn projection_band(
+    plan: &Plan,
+    central: &Simulation,
+    observed: Option<&Observed>,
+) -> Result<Band, Error> {
     let subject = &plan.participant.subject;
     let b = &central.baseline;
     let mut sources = Vec::new();
@@ -118,7 +123,7 @@ pub fn projection_band(plan: &Plan, central: &Simulation) -> Result<Band, Error>
             if calibrate(v, &variant.constants).is_err() {
                 continue;
             }
-            let sim = match simulate(&variant) {
+            let sim = match simulate_observed(&variant, observed) {
                 Ok(sim) => sim,
                 Err(Error::OutOfRange(e)) => {
                     sources.push(format!(

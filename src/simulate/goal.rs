@@ -12,7 +12,8 @@
 
 use crate::error::Error;
 use crate::plan::{DoseAmount, Plan, Scenario};
-use crate::simulate::{WeekRecord, simulate};
+use crate::simulate::observed::Observed;
+use crate::simulate::{WeekRecord, simulate_observed};
 use serde::Serialize;
 
 /// What the goal asks for.
@@ -43,7 +44,8 @@ pub struct GoalAnswer {
     pub minutes_goal_week: Option<u32>,
     /// Loss at that dose by the goal week, kg.
     pub loss_kg: Option<f64>,
-    /// Loss one resolution step lower, kg (shows the answer is the smallest).
+    /// Loss one resolution step lower, kg (shows the answer is the smallest; when the
+    /// smallest allowed dose already reaches the goal, the loss with no exercise).
     pub loss_one_step_lower_kg: Option<f64>,
     /// Why it is out of reach, or a note (None when plainly reached).
     pub reason: Option<String>,
@@ -72,9 +74,7 @@ fn variant(plan: &Plan, scenario: &Scenario, by_week: u32, dose: Option<f64>) ->
     let mut p = plan.clone();
     p.protocol.weeks = by_week;
     p.protocol.follow_up_weeks = 0;
-    if let Some(r) = p.protocol.ramp.as_mut() {
-        r.weeks = r.weeks.min(by_week);
-    }
+    // The ramp keeps its own length: weeks up to N ramp exactly as in the full plan.
     p.scenarios = vec![scenario.clone()];
     if let Some(d) = dose {
         p.protocol.dose.amount = p.protocol.dose.amount.with_value(d);
@@ -87,8 +87,14 @@ struct Run {
     weeks: Vec<WeekRecord>,
 }
 
-fn run(plan: &Plan, scenario: &Scenario, by_week: u32, dose: f64) -> Result<Run, Error> {
-    let sim = simulate(&variant(plan, scenario, by_week, Some(dose)))?;
+fn run(
+    plan: &Plan,
+    scenario: &Scenario,
+    by_week: u32,
+    dose: f64,
+    obs: Option<&Observed>,
+) -> Result<Run, Error> {
+    let sim = simulate_observed(&variant(plan, scenario, by_week, Some(dose)), obs)?;
     let sc = sim.scenarios.into_iter().next().expect("one scenario");
     let m0 = sim.baseline.mass_kg;
     let end = sc.weeks[by_week as usize - 1].end.mass_kg;
@@ -124,14 +130,28 @@ pub fn check_request(plan: &Plan, req: &GoalRequest) -> Result<(), Error> {
 
 /// Solve the goal for every scenario of the plan.
 pub fn solve(plan: &Plan, req: &GoalRequest) -> Result<Vec<GoalAnswer>, Error> {
+    solve_observed(plan, req, None)
+}
+
+/// [`solve`] with the log's delivered sessions and weigh-ins for the weeks it covers.
+pub fn solve_observed(
+    plan: &Plan,
+    req: &GoalRequest,
+    obs: Option<&Observed>,
+) -> Result<Vec<GoalAnswer>, Error> {
     check_request(plan, req)?;
     plan.scenarios
         .iter()
-        .map(|sc| solve_one(plan, sc, req))
+        .map(|sc| solve_one(plan, sc, req, obs))
         .collect()
 }
 
-fn solve_one(plan: &Plan, sc: &Scenario, req: &GoalRequest) -> Result<GoalAnswer, Error> {
+fn solve_one(
+    plan: &Plan,
+    sc: &Scenario,
+    req: &GoalRequest,
+    obs: Option<&Observed>,
+) -> Result<GoalAnswer, Error> {
     let amount = plan.protocol.dose.amount;
     let res = resolution(&amount);
     let per = (1.0 / res).round();
@@ -165,7 +185,7 @@ fn solve_one(plan: &Plan, sc: &Scenario, req: &GoalRequest) -> Result<GoalAnswer
         return Ok(answer);
     }
     // The largest dose the model accepts (very high doses may leave its valid range).
-    let valid = |k: i64| match run(plan, sc, n, dose_at(k)) {
+    let valid = |k: i64| match run(plan, sc, n, dose_at(k), obs) {
         Ok(r) => Ok(Some(r)),
         Err(Error::OutOfRange(_)) => Ok(None),
         Err(e) => Err(e),
@@ -213,10 +233,18 @@ fn solve_one(plan: &Plan, sc: &Scenario, req: &GoalRequest) -> Result<GoalAnswer
                 .map(|w| w.minutes_per_session)
                 .max()
                 .unwrap_or(0);
-            let cap_note = if capped {
-                format!("; sessions reach {minutes} min, beyond the plan's maximum")
-            } else {
-                String::new()
+            let cap_note = match (
+                capped,
+                plan.protocol.over_max,
+                plan.protocol.max_session_minutes,
+            ) {
+                (true, crate::plan::OverMax::Cap, Some(max)) => format!(
+                    "; the plan caps sessions at {max:.0} min, which limits the energy any dose can deliver"
+                ),
+                (true, _, _) => {
+                    format!("; sessions reach {minutes} min, beyond the plan's maximum")
+                }
+                _ => String::new(),
             };
             format!(
                 "out of reach by week {n}: the largest dose the model accepts ({} {}) loses only {:.2} kg{cap_note}",

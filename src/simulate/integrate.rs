@@ -5,6 +5,7 @@
 //! J Comput Appl Math 6:19, as implemented by `ode_solvers::Dopri5`.
 
 use crate::model::{BodyState, Bout, Compensation, Physiology};
+use ode_solvers::continuous_output_model::ContinuousOutputModel;
 use ode_solvers::{Dopri5, System, Vector4};
 
 /// Relative tolerance (MODEL.md 6 asks for 1e-8 or tighter).
@@ -83,23 +84,45 @@ pub fn integrate(
         compensation,
         bouts,
     };
+    // Samples come from the solver's continuous output, evaluated inside the step
+    // that covers each time. (The crate's plain dense output writes the end point by
+    // extrapolating from the step before the last when the last output time equals
+    // the end time: ode_solvers 0.6.2, dopri5.rs `solution_output`.)
     let mut solver = Dopri5::new(rhs, 0.0, days, step, y0, RTOL, ATOL);
-    match solver.integrate() {
-        Ok(_) => {
-            let times = solver.x_out().clone();
-            let states = solver.y_out().clone();
-            let reached = times.last().copied().unwrap_or(0.0);
-            if (reached - days).abs() > 1e-9 * days.max(1.0) {
-                return Err((
-                    reached,
-                    format!("dense output ended at day {reached}, not {days}"),
-                ));
-            }
-            Ok(Samples { times, states })
-        }
-        Err(e) => {
-            let reached = solver.x_out().last().copied().unwrap_or(0.0);
-            Err((reached, e.to_string()))
-        }
+    let mut model = ContinuousOutputModel::default();
+    if let Err(e) = solver.integrate_with_continuous_output_model(&mut model) {
+        let reached = if model_is_empty(&model) {
+            0.0
+        } else {
+            model.bounds().1
+        };
+        return Err((reached, e.to_string()));
     }
+    let n = (days / step).round() as usize;
+    if (n as f64 * step - days).abs() > 1e-9 * days.max(1.0) {
+        return Err((
+            0.0,
+            format!("{days} days is not a whole number of {step}-day steps"),
+        ));
+    }
+    let mut times = Vec::with_capacity(n + 1);
+    let mut states = Vec::with_capacity(n + 1);
+    for i in 0..=n {
+        let t = if i == n { days } else { i as f64 * step };
+        let y = if i == 0 {
+            y0
+        } else {
+            model
+                .evaluate(t)
+                .ok_or_else(|| (t, format!("no solution at day {t}")))?
+        };
+        times.push(t);
+        states.push(y);
+    }
+    Ok(Samples { times, states })
+}
+
+fn model_is_empty(model: &ContinuousOutputModel<f64, State>) -> bool {
+    // `bounds` indexes the last breakpoint; an empty model has none.
+    model.evaluate(0.0).is_none()
 }

@@ -4,9 +4,12 @@
 //!
 //! Reference: MODEL.md sections 4-6.
 
+pub mod adherence;
 pub mod band;
+pub mod fit;
 pub mod goal;
 pub mod integrate;
+pub mod observed;
 pub mod prescription;
 
 use crate::error::{Error, RangeError};
@@ -15,6 +18,7 @@ use crate::model::{Baseline, BodyState, Bout, Compensation, Physiology};
 use crate::plan::{Plan, Scenario, weekday_name};
 use chrono::{Datelike, NaiveDate};
 use integrate::{State, body_of, integrate, state_of};
+use observed::Observed;
 use prescription::{OverMaxNote, Reference, prescribe};
 use serde::Serialize;
 
@@ -56,6 +60,7 @@ pub struct SessionRecord {
     /// Minutes.
     pub minutes: u32,
     /// Bout number within the session's day (1 or 2) when sessions are split.
+    #[serde(skip_serializing_if = "Option::is_none")]
     pub bout: Option<u32>,
     /// MET at the reference mass.
     pub met: f64,
@@ -121,6 +126,9 @@ pub struct WeekRecord {
     pub sessions: Vec<SessionRecord>,
     /// What the over-maximum policy did.
     pub over_max: Option<OverMaxNote>,
+    /// Sessions delivered against those planned, for weeks the log covers.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub adherence: Option<adherence::WeekAdherence>,
     /// State at the end of the week (day 7w).
     pub end: WeekEnd,
 }
@@ -169,6 +177,9 @@ pub struct ScenarioRun {
     pub weeks: Vec<WeekRecord>,
     /// The end state.
     pub outcome: Outcome,
+    /// Adherence totals over the weeks the log covers (None without a log).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub adherence: Option<adherence::AdherenceTotal>,
 }
 
 /// The simulation of a plan: baseline and every scenario.
@@ -186,6 +197,13 @@ pub struct Simulation {
 
 /// Simulate every scenario of a validated plan.
 pub fn simulate(plan: &Plan) -> Result<Simulation, Error> {
+    simulate_observed(plan, None)
+}
+
+/// Simulate every scenario, re-anchored at the weigh-ins and with the delivered
+/// sessions of `observed` up to its `as_of` date (MODEL.md 7). The no-exercise
+/// counterfactual behind `dose_share` is not re-anchored.
+pub fn simulate_observed(plan: &Plan, observed: Option<&Observed>) -> Result<Simulation, Error> {
     let (baseline, physiology) =
         calibrate(&plan.participant.subject, &plan.constants).map_err(|e| {
             Error::Usage(format!(
@@ -212,12 +230,37 @@ pub fn simulate(plan: &Plan) -> Result<Simulation, Error> {
     .unwrap_or(0.0);
     let mut scenarios = Vec::with_capacity(plan.scenarios.len());
     for sc in &plan.scenarios {
-        let without = run(plan, &physiology, &baseline, sc, false, None)?;
+        let without = run(
+            plan,
+            &physiology,
+            &baseline,
+            sc,
+            RunMode {
+                exercise: false,
+                observed: None,
+                anchor: false,
+                weeks: plan.protocol.total_weeks(),
+            },
+            None,
+        )?;
         let deficits: Vec<f64> = without
+            .weeks
             .iter()
             .map(|w| w.end.achieved_deficit_kcal)
             .collect();
-        let weeks = run(plan, &physiology, &baseline, sc, true, Some(&deficits))?;
+        let weeks = run(
+            plan,
+            &physiology,
+            &baseline,
+            sc,
+            RunMode {
+                observed,
+                anchor: observed.is_some(),
+                ..RunMode::projection(plan)
+            },
+            Some(&deficits),
+        )?
+        .weeks;
         let last = weeks.last().expect("a plan has at least one week");
         let protocol_end = &weeks[plan.protocol.weeks as usize - 1];
         let outcome = Outcome {
@@ -235,12 +278,18 @@ pub fn simulate(plan: &Plan) -> Result<Simulation, Error> {
             protocol_end_mass_change_kg: protocol_end.end.mass_kg - baseline.mass_kg,
             protocol_end_dose_share: protocol_end.end.dose_share,
         };
+        let adherence = observed.map(|o| {
+            let covered: Vec<&adherence::WeekAdherence> =
+                weeks.iter().filter_map(|w| w.adherence.as_ref()).collect();
+            adherence::total(&covered, o)
+        });
         scenarios.push(ScenarioRun {
             name: sc.name.clone(),
             assumptions: sc.assumptions(),
             compensation: sc.compensation,
             weeks,
             outcome,
+            adherence,
         });
     }
     Ok(Simulation {
@@ -265,25 +314,72 @@ pub fn no_exercise_masses(plan: &Plan) -> Result<(Baseline, Vec<Vec<f64>>), Erro
         .scenarios
         .iter()
         .map(|sc| {
-            Ok(run(plan, &physiology, &baseline, sc, false, None)?
-                .iter()
-                .map(|w| w.end.mass_kg)
-                .collect())
+            Ok(run(
+                plan,
+                &physiology,
+                &baseline,
+                sc,
+                RunMode {
+                    exercise: false,
+                    observed: None,
+                    anchor: false,
+                    weeks: plan.protocol.total_weeks(),
+                },
+                None,
+            )?
+            .weeks
+            .iter()
+            .map(|w| w.end.mass_kg)
+            .collect())
         })
         .collect::<Result<Vec<Vec<f64>>, Error>>()?;
     Ok((baseline, masses))
 }
 
+/// How a run uses exercise and measured data.
+#[derive(Debug, Clone, Copy)]
+pub struct RunMode<'a> {
+    /// Exercise at all (false: the no-exercise counterfactual).
+    pub exercise: bool,
+    /// Measured data: delivered sessions replace planned ones up to `as_of`.
+    pub observed: Option<&'a Observed>,
+    /// Re-anchor the state at each weigh-in.
+    pub anchor: bool,
+    /// Weeks to run (at most the plan's protocol plus follow-up).
+    pub weeks: u32,
+}
+
+impl RunMode<'_> {
+    /// The plain projection of every week.
+    pub fn projection(plan: &Plan) -> RunMode<'static> {
+        RunMode {
+            exercise: true,
+            observed: None,
+            anchor: false,
+            weeks: plan.protocol.total_weeks(),
+        }
+    }
+}
+
+/// A run: the week records and the state at 00:00 of every day (`7 * weeks + 1` states).
+#[derive(Debug, Clone)]
+pub struct RunOutput {
+    /// One record per week.
+    pub weeks: Vec<WeekRecord>,
+    /// Daily states, day 0 first.
+    pub daily: Vec<State>,
+}
+
 /// Run one scenario week by week; `exercise = false` gives the same scenario with no
 /// exercise (the counterfactual `dose_share` needs), whose deficits are passed back in.
-fn run(
+pub fn run(
     plan: &Plan,
     physiology: &Physiology,
     baseline: &Baseline,
     scenario: &Scenario,
-    exercise: bool,
+    mode: RunMode<'_>,
     deficits_without: Option<&[f64]>,
-) -> Result<Vec<WeekRecord>, Error> {
+) -> Result<RunOutput, Error> {
     let comp = &scenario.compensation;
     let p = &plan.protocol;
     let b0 = BodyState {
@@ -292,10 +388,22 @@ fn run(
         lagged_exercise_kcal_per_day: 0.0,
     };
     let mut y: State = state_of(&b0, 0.0);
-    let mut weeks = Vec::with_capacity(p.total_weeks() as usize);
-    for w in 1..=p.total_weeks() {
+    let total = mode.weeks.min(p.total_weeks());
+    let mut weeks = Vec::with_capacity(total as usize);
+    let mut daily: Vec<State> = Vec::with_capacity(7 * total as usize + 1);
+    let obs = mode.observed;
+    let anchors = |day: u32| -> Vec<&observed::WeighIn> {
+        match (obs, mode.anchor) {
+            (Some(o), true) => o.weigh_ins_on(day).collect(),
+            _ => Vec::new(),
+        }
+    };
+    for w in 1..=total {
         let start_day = 7 * (w - 1);
         let week_start = p.start + chrono::Days::new(u64::from(start_day));
+        for wi in anchors(start_day) {
+            y = observed::anchor(&y, wi, plan.constants.forbes_constant_kg);
+        }
         let body = body_of(&y);
         let m_w = body.mass_kg();
         let rmr_w = physiology.rmr(comp, body.fat_kg, body.lean_kg);
@@ -304,7 +412,7 @@ fn run(
             rmr_kcal_per_day: rmr_w,
         };
         let in_protocol = w <= p.weeks;
-        let rx = (exercise && in_protocol).then(|| {
+        let rx = (mode.exercise && in_protocol).then(|| {
             prescribe(
                 plan,
                 physiology,
@@ -323,16 +431,26 @@ fn run(
                     start_day,
                     &body,
                     format!(
-                        "week {w} needs sessions of {per_day} min, longer than a day; the activity is too light for the dose"
+                        "week {w} needs sessions of {per_day} min, a whole day or more (a session must be shorter than 1440 min){}",
+                        if matches!(p.dose.amount, crate::plan::DoseAmount::MinutesPerWeek(_)) {
+                            ""
+                        } else {
+                            "; the activity is too light for the dose"
+                        }
                     ),
                 ));
             }
         }
-        let bouts: Vec<Bout> = rx
+        let as_of_day = obs.map(|o| o.as_of_day);
+        let is_past = |date: &NaiveDate| {
+            as_of_day.is_some_and(|a| ((*date - p.start).num_days() as u32) <= a)
+        };
+        let mut bouts: Vec<Bout> = rx
             .as_ref()
             .map(|r| {
                 r.bouts
                     .iter()
+                    .filter(|(d, _)| !is_past(d))
                     .map(|(_, m)| Bout {
                         minutes: f64::from(*m),
                         intensity: plan.activity.intensity.clone(),
@@ -340,20 +458,58 @@ fn run(
                     .collect()
             })
             .unwrap_or_default();
-        let samples = integrate(physiology, comp, &bouts, y, 7.0, 1.0).map_err(|(t, why)| {
-            let day = start_day + t.floor() as u32;
-            range_error(
-                plan,
-                scenario,
-                day,
-                &body,
-                format!("the ODE solver failed: {why}"),
-            )
-        })?;
-        for (i, s) in samples.states.iter().enumerate() {
-            check_state(plan, physiology, scenario, &bouts, start_day + i as u32, s)?;
+        if let (Some(o), true) = (obs, mode.exercise) {
+            bouts.extend(
+                o.sessions_in(start_day, start_day + 7)
+                    .filter(|s| s.minutes > 0.0)
+                    .map(|s| Bout {
+                        minutes: s.minutes,
+                        intensity: s.intensity.clone(),
+                    }),
+            );
         }
-        y = *samples.states.last().expect("dense output has points");
+        // Integrate the week in segments split at mid-week weigh-ins.
+        let mut cuts: Vec<u32> = match (obs, mode.anchor) {
+            (Some(o), true) => o
+                .weigh_ins
+                .iter()
+                .filter(|wi| wi.day > start_day && wi.day < start_day + 7 && wi.day <= o.as_of_day)
+                .map(|wi| wi.day)
+                .collect(),
+            _ => Vec::new(),
+        };
+        cuts.dedup();
+        cuts.push(start_day + 7);
+        let mut from = start_day;
+        if daily.is_empty() {
+            daily.push(y);
+        }
+        for cut in cuts {
+            let len = f64::from(cut - from);
+            let samples =
+                integrate(physiology, comp, &bouts, y, len, 1.0).map_err(|(t, why)| {
+                    let day = from + t.floor() as u32;
+                    range_error(
+                        plan,
+                        scenario,
+                        day,
+                        &body,
+                        format!("the ODE solver failed: {why}"),
+                    )
+                })?;
+            for (i, s) in samples.states.iter().enumerate() {
+                check_state(plan, physiology, scenario, &bouts, from + i as u32, s)?;
+            }
+            daily.extend(samples.states.iter().skip(1));
+            y = *samples.states.last().expect("dense output has points");
+            if cut < start_day + 7 {
+                for wi in anchors(cut) {
+                    y = observed::anchor(&y, wi, plan.constants.forbes_constant_kg);
+                }
+                *daily.last_mut().expect("a day was pushed") = y;
+            }
+            from = cut;
+        }
         if comp.intake_lag_days == 0.0 {
             // With no lag Xbar is X itself; keep the state in step for the next week.
             y[2] = physiology.fluxes(comp, &bouts, &body_of(&y)).exercise;
@@ -391,6 +547,19 @@ fn run(
                     .collect()
             })
             .unwrap_or_default();
+        let measured = w == 1 || obs.is_some_and(|o| o.measured_near(start_day));
+        let adherence = match (obs, &rx) {
+            (Some(o), Some(r)) if start_day <= o.as_of_day => Some(adherence::week(
+                plan,
+                physiology,
+                w,
+                r,
+                o,
+                &reference,
+                baseline.mass_kg,
+            )),
+            _ => None,
+        };
         weeks.push(WeekRecord {
             week: w,
             start: week_start,
@@ -400,7 +569,7 @@ fn run(
                 Phase::FollowUp
             },
             reference_mass_kg: m_w,
-            mass_source: if w == 1 {
+            mass_source: if measured {
                 MassSource::Measured
             } else {
                 MassSource::Projected
@@ -417,6 +586,7 @@ fn run(
             met: if rx.is_some() { met_w } else { 0.0 },
             sessions,
             over_max: rx.and_then(|r| r.over_max),
+            adherence,
             end: WeekEnd {
                 mass_kg: end_body.mass_kg(),
                 fat_mass_kg: end_body.fat_kg,
@@ -429,7 +599,7 @@ fn run(
             },
         });
     }
-    Ok(weeks)
+    Ok(RunOutput { weeks, daily })
 }
 
 fn range_error(
@@ -467,7 +637,7 @@ fn check_state(
     }
     if body.fat_kg < MIN_FAT_KG {
         return bad(format!(
-            "fat mass {:.2} kg is below {MIN_FAT_KG} kg",
+            "fat mass {:.3} kg is below {MIN_FAT_KG} kg",
             body.fat_kg
         ));
     }

@@ -1,0 +1,180 @@
+//! `fit`: compensation read from the weigh-ins, in numbers and in words, with a
+//! chart of measured against modelled mass.
+
+use crate::app::LogInput;
+use crate::report::chart::{LineChart, Series};
+use crate::report::table::{align_numbers, new_table, warnings_text};
+use crate::report::{LogSummary, ScheduleReport, cautions_text};
+use crate::safety::{ScreeningOutcome, Warning};
+use crate::simulate::fit::FitResult;
+use serde::Serialize;
+
+/// Everything `fit` reports; the fit's own keys sit at the top level (PLAN.md).
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct FitReport {
+    /// Tool and version.
+    pub tool: String,
+    /// Plan file.
+    pub plan: String,
+    /// Participant code.
+    pub participant_id: String,
+    /// The log.
+    pub log: Option<LogSummary>,
+    /// The fit.
+    #[serde(flatten)]
+    pub fit: FitResult,
+    /// What the number means, in words.
+    pub meaning: String,
+    /// Screening.
+    pub screening: ScreeningOutcome,
+    /// Warnings (the log's and the plan's).
+    pub warnings: Vec<Warning>,
+    /// Cautions.
+    pub cautions: Vec<&'static str>,
+}
+
+impl FitReport {
+    /// Assemble.
+    pub fn new(schedule: &ScheduleReport, log: &LogInput, fit: FitResult) -> FitReport {
+        let mut warnings = log.warnings.clone();
+        if fit.at_bound && fit.estimate > 0.5 {
+            warnings.push(Warning {
+                code: "fit-at-bound",
+                message: format!(
+                    "the estimate {:.2} sits at the end of the allowed range of {}: the weigh-ins may be explained by something the model leaves out (water, a change of diet, measurement error)",
+                    fit.estimate, fit.parameter
+                ),
+            });
+        }
+        warnings.extend(schedule.warnings.iter().cloned());
+        let meaning = meaning(&fit);
+        FitReport {
+            tool: schedule.tool.clone(),
+            plan: schedule.plan.clone(),
+            participant_id: schedule.participant_id.clone(),
+            log: log.summary.clone(),
+            fit,
+            meaning,
+            screening: schedule.screening.clone(),
+            warnings,
+            cautions: schedule.cautions.clone(),
+        }
+    }
+}
+
+fn meaning(f: &FitResult) -> String {
+    let what = match f.parameter {
+        "intake_fraction" => {
+            "of the delivered exercise energy is offset, expressed as extra intake"
+        }
+        _ => {
+            "of the delivered exercise energy is offset, expressed as less movement outside the sessions"
+        }
+    };
+    let width = f.interval[1] - f.interval[0];
+    let firmness = if width > 0.5 {
+        "The interval is wide: the weigh-ins so far cannot pin the number down; more weeks of weigh-ins narrow it."
+    } else if width > 0.2 {
+        "The interval is moderate: read the number as a rough guide."
+    } else {
+        "The interval is narrow for a single person, but it only reflects scatter of the weigh-ins around the model, not the model's own error."
+    };
+    format!(
+        "About {:.0}% (approximate 95% interval {:.0}% to {:.0}%) {what}: on average {:.0} kcal/day of the {:.0} kcal/day of exercise energy delivered over {} days. This is an effective compensation: weigh-ins alone cannot tell eating more from moving less or from metabolic adaptation, and they carry water and scale error (here an RMS residual of {:.2} kg over {} weigh-ins). {firmness}",
+        f.estimate * 100.0,
+        f.interval[0] * 100.0,
+        f.interval[1] * 100.0,
+        f.extra_intake_kcal_per_day,
+        f.exercise_kcal_per_day,
+        f.span_days,
+        f.rmse_kg,
+        f.weigh_ins
+    )
+}
+
+/// The table for a terminal.
+pub fn render_table(r: &FitReport) -> String {
+    let f = &r.fit;
+    let log = r.log.as_ref().map_or(String::new(), |l| {
+        format!(" from {} up to {}", l.path, l.as_of)
+    });
+    let mut s = format!(
+        "dosewright compensation read from the log: participant {} ({}){log}\nParameter: {} (other assumptions from scenario \"{}\")\n\n",
+        r.participant_id, r.plan, f.parameter, f.scenario
+    );
+    s.push_str(&format!(
+        "Estimate {:.3}; approximate 95% interval {:.3} to {:.3} (profile of the sum of squares, SSE <= SSE_min x (1 + 3.84/(n-1)))\nImplied extra intake: {:.0} kcal/day on average (of {:.0} kcal/day of exercise energy delivered)\nRMS residual {:.2} kg over {} weigh-ins spanning {} days\n\n",
+        f.estimate, f.interval[0], f.interval[1], f.extra_intake_kcal_per_day, f.exercise_kcal_per_day, f.rmse_kg, f.weigh_ins, f.span_days
+    ));
+    s.push_str(&format!("What it means: {}\n\n", r.meaning));
+    let mut t = new_table(&["date", "measured [kg]", "model [kg]", "residual [kg]"]);
+    for x in &f.residuals_kg {
+        t.add_row(vec![
+            x.date.to_string(),
+            format!("{:.2}", x.measured_kg),
+            format!("{:.2}", x.model_kg),
+            format!("{:+.2}", x.residual),
+        ]);
+    }
+    align_numbers(&mut t, 1);
+    s.push_str(&format!("Weigh-ins against the fitted model\n{t}\n\n"));
+    s.push_str(&warnings_text(&r.warnings));
+    s.push('\n');
+    s.push_str(&cautions_text(&r.screening));
+    s
+}
+
+/// Measured mass against the model with and without the fitted compensation.
+pub fn chart(r: &FitReport) -> LineChart {
+    let f = &r.fit;
+    let weeks = |v: &[(u32, f64)]| {
+        v.iter()
+            .map(|(d, m)| (f64::from(*d) / 7.0, *m))
+            .collect::<Vec<_>>()
+    };
+    let measured: Vec<(f64, f64)> = f
+        .residuals_kg
+        .iter()
+        .map(|x| (f64::from(x.day) / 7.0, x.measured_kg))
+        .collect();
+    LineChart {
+        title: "Measured and modelled body mass".to_string(),
+        x_label: "Time from start [weeks]".to_string(),
+        y_label: "Body mass [kg]".to_string(),
+        series: vec![
+            Series {
+                name: "measured weigh-ins".to_string(),
+                points: measured,
+                dashed: false,
+                slot: 2,
+                markers_only: true,
+            },
+            Series {
+                name: format!("model, no {}", f.parameter.replace('_', " ")),
+                points: weeks(&f.model_without),
+                dashed: true,
+                slot: 1,
+                markers_only: false,
+            },
+            Series {
+                name: format!(
+                    "model, fitted {} = {:.2}",
+                    f.parameter.replace('_', " "),
+                    f.estimate
+                ),
+                points: weeks(&f.model_fitted),
+                dashed: false,
+                slot: 0,
+                markers_only: false,
+            },
+        ],
+        band: None,
+        marker: None,
+        caption: format!(
+            "Weigh-ins against the model run from baseline with the delivered sessions. {} Model estimates, not measurements. Screen before exercise, obtain clearance where indicated, and stop on warning signs; local clinical rules and the licensed professionals responsible decide.",
+            "The fitted value is an effective compensation: weigh-ins cannot tell eating more from moving less."
+        ),
+        x_range: None,
+        y_includes_zero: false,
+    }
+}

@@ -1,0 +1,298 @@
+//! Compensation read from the weigh-ins (MODEL.md 7): the scenario parameter that
+//! best explains the measured masses, with an approximate 95% interval.
+//!
+//! The model runs from baseline with the delivered sessions and no re-anchoring;
+//! the parameter `p` minimises `SSE(p) = sum (measured - model)^2` over the
+//! weigh-ins after baseline. Interval: `SSE(p) <= SSE_min (1 + 3.84 / (n - 1))`, the
+//! profile of the sum of squares (an F-based likelihood-ratio interval for one
+//! parameter; Bates & Watts 1988, Nonlinear Regression Analysis and Its
+//! Applications, Wiley, ch. 6 - from memory). The search: a grid over the allowed
+//! range, then golden-section refinement in the best grid cell; the interval ends by
+//! bisection on `SSE(p) - threshold`.
+
+use crate::error::Error;
+use crate::model::energy::calibrate;
+use crate::plan::Plan;
+use crate::simulate::observed::Observed;
+use crate::simulate::{RunMode, run};
+use chrono::NaiveDate;
+use serde::Serialize;
+
+/// Which scenario parameter to fit.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
+#[serde(rename_all = "snake_case")]
+pub enum FitParameter {
+    /// `c_I`, in [0, 1.5].
+    IntakeFraction,
+    /// `c_A`, in [0, 1].
+    ActivityFraction,
+}
+
+impl FitParameter {
+    /// The scenario key.
+    pub fn key(self) -> &'static str {
+        match self {
+            FitParameter::IntakeFraction => "intake_fraction",
+            FitParameter::ActivityFraction => "activity_fraction",
+        }
+    }
+
+    /// The allowed range.
+    pub fn range(self) -> (f64, f64) {
+        match self {
+            FitParameter::IntakeFraction => (0.0, 1.5),
+            FitParameter::ActivityFraction => (0.0, 1.0),
+        }
+    }
+}
+
+/// One weigh-in's residual.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct Residual {
+    /// Date.
+    pub date: NaiveDate,
+    /// Days since the start.
+    pub day: u32,
+    /// Measured mass, kg.
+    pub measured_kg: f64,
+    /// Model mass with the fitted value, kg.
+    pub model_kg: f64,
+    /// Measured minus model, kg.
+    pub residual: f64,
+}
+
+/// The fit.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct FitResult {
+    /// The scenario whose other parameters were held.
+    pub scenario: String,
+    /// The parameter's key.
+    pub parameter: &'static str,
+    /// The estimate.
+    pub estimate: f64,
+    /// Approximate 95% interval.
+    pub interval: [f64; 2],
+    /// True when the estimate sits at an end of the allowed range.
+    pub at_bound: bool,
+    /// Weigh-ins used (after baseline).
+    pub weigh_ins: usize,
+    /// Days the log spans.
+    pub span_days: u32,
+    /// Minimum sum of squares, kg^2.
+    pub sse_kg2: f64,
+    /// Root-mean-square residual, kg.
+    pub rmse_kg: f64,
+    /// Residual of each weigh-in.
+    pub residuals_kg: Vec<Residual>,
+    /// Mean extra intake `c_I Xbar` over the log span, kcal/day (for an activity fit,
+    /// the activity given up, `c_A X`, as the same intake-equivalent).
+    pub extra_intake_kcal_per_day: f64,
+    /// Mean net exercise energy delivered over the span, kcal/day.
+    pub exercise_kcal_per_day: f64,
+    /// Model mass by day with the fitted value (day, kg).
+    pub model_fitted: Vec<(u32, f64)>,
+    /// Model mass by day with no compensation in this parameter (day, kg).
+    pub model_without: Vec<(u32, f64)>,
+}
+
+struct Curve {
+    daily_mass: Vec<f64>,
+    extra: f64,
+    exercise: f64,
+}
+
+fn curve(
+    plan: &Plan,
+    obs: &Observed,
+    scenario: usize,
+    param: FitParameter,
+    value: f64,
+) -> Result<Curve, Error> {
+    let (baseline, physiology) =
+        calibrate(&plan.participant.subject, &plan.constants).map_err(|e| {
+            Error::Usage(format!(
+                "{}: baseline cannot be calibrated: {e:?}",
+                plan.source_name
+            ))
+        })?;
+    let mut sc = plan.scenarios[scenario].clone();
+    sc.compensation.set(param.key(), value);
+    let weeks = (obs.as_of_day / 7 + 1).min(plan.protocol.total_weeks());
+    let mode = RunMode {
+        exercise: true,
+        observed: Some(obs),
+        anchor: false,
+        weeks,
+    };
+    let out = run(plan, &physiology, &baseline, &sc, mode, None)?;
+    let days = (obs.as_of_day as usize + 1).min(out.daily.len());
+    let mut extra = 0.0;
+    let mut exercise = 0.0;
+    for (day, y) in out.daily.iter().take(days).enumerate() {
+        let w = day / 7;
+        let bouts: Vec<crate::model::Bout> = obs
+            .sessions_in(7 * w as u32, 7 * w as u32 + 7)
+            .filter(|s| s.minutes > 0.0)
+            .map(|s| crate::model::Bout {
+                minutes: s.minutes,
+                intensity: s.intensity.clone(),
+            })
+            .collect();
+        let f = physiology.fluxes(
+            &sc.compensation,
+            &bouts,
+            &crate::simulate::integrate::body_of(y),
+        );
+        exercise += f.exercise;
+        extra += match param {
+            FitParameter::IntakeFraction => {
+                f.intake - physiology.intake_kcal_per_day - sc.compensation.diet_change_kcal_per_day
+            }
+            FitParameter::ActivityFraction => sc.compensation.activity_fraction * f.exercise,
+        };
+    }
+    Ok(Curve {
+        daily_mass: out.daily.iter().map(|y| y[0] + y[1]).collect(),
+        extra: extra / days as f64,
+        exercise: exercise / days as f64,
+    })
+}
+
+/// Fit `param` for scenario `scenario` (index into the plan's scenarios).
+pub fn fit(
+    plan: &Plan,
+    obs: &Observed,
+    scenario: usize,
+    param: FitParameter,
+) -> Result<FitResult, Error> {
+    let points: Vec<_> = obs
+        .weigh_ins
+        .iter()
+        .filter(|w| w.day > 0 && w.day <= obs.as_of_day)
+        .collect();
+    let all: Vec<_> = obs
+        .weigh_ins
+        .iter()
+        .filter(|w| w.day <= obs.as_of_day)
+        .collect();
+    let span = match (all.first(), all.last()) {
+        (Some(a), Some(b)) => b.day - a.day,
+        _ => 0,
+    };
+    if all.len() < 3 || span < 21 || points.len() < 2 {
+        return Err(Error::Usage(format!(
+            "too little data to estimate compensation: {} weigh-in(s) spanning {span} days up to {}; at least three weigh-ins spanning 21 days or more are needed",
+            all.len(),
+            obs.as_of
+        )));
+    }
+    let sse = |v: f64| -> Result<f64, Error> {
+        match curve(plan, obs, scenario, param, v) {
+            Ok(c) => Ok(points
+                .iter()
+                .map(|w| (w.mass_kg - c.daily_mass[w.day as usize]).powi(2))
+                .sum()),
+            Err(Error::OutOfRange(_)) => Ok(f64::INFINITY),
+            Err(e) => Err(e),
+        }
+    };
+    let (lo, hi) = param.range();
+    const GRID: usize = 30;
+    let grid: Vec<f64> = (0..=GRID)
+        .map(|i| lo + (hi - lo) * i as f64 / GRID as f64)
+        .collect();
+    let values = grid
+        .iter()
+        .map(|v| sse(*v))
+        .collect::<Result<Vec<f64>, Error>>()?;
+    let best = (0..=GRID)
+        .min_by(|a, b| values[*a].total_cmp(&values[*b]))
+        .expect("a grid");
+    if !values[best].is_finite() {
+        return Err(Error::Usage(format!(
+            "no value of {} in {lo} to {hi} keeps the model in its valid range for this log",
+            param.key()
+        )));
+    }
+    // Golden-section search in the cell around the best grid point.
+    let (mut a, mut b) = (grid[best.saturating_sub(1)], grid[(best + 1).min(GRID)]);
+    let g = (5f64.sqrt() - 1.0) / 2.0;
+    let mut c = b - g * (b - a);
+    let mut d = a + g * (b - a);
+    let (mut fc, mut fd) = (sse(c)?, sse(d)?);
+    while b - a > 1e-7 {
+        if fc < fd {
+            b = d;
+            d = c;
+            fd = fc;
+            c = b - g * (b - a);
+            fc = sse(c)?;
+        } else {
+            a = c;
+            c = d;
+            fc = fd;
+            d = a + g * (b - a);
+            fd = sse(d)?;
+        }
+    }
+    let mut estimate = (a + b) / 2.0;
+    let mut sse_min = sse(estimate)?;
+    if values[best] < sse_min {
+        estimate = grid[best];
+        sse_min = values[best];
+    }
+    let n = points.len() as f64;
+    let threshold = sse_min * (1.0 + 3.84 / (n - 1.0));
+    let edge = |inside: f64, outside: f64| -> Result<f64, Error> {
+        if sse(outside)? <= threshold {
+            return Ok(outside);
+        }
+        let (mut i, mut o) = (inside, outside);
+        for _ in 0..60 {
+            let m = (i + o) / 2.0;
+            if sse(m)? <= threshold { i = m } else { o = m }
+        }
+        Ok((i + o) / 2.0)
+    };
+    let interval = [edge(estimate, lo)?, edge(estimate, hi)?];
+    let fitted = curve(plan, obs, scenario, param, estimate)?;
+    let without = curve(plan, obs, scenario, param, 0.0)?;
+    let residuals_kg = points
+        .iter()
+        .map(|w| {
+            let m = fitted.daily_mass[w.day as usize];
+            Residual {
+                date: w.date,
+                day: w.day,
+                measured_kg: w.mass_kg,
+                model_kg: m,
+                residual: w.mass_kg - m,
+            }
+        })
+        .collect();
+    let last = obs.as_of_day as usize;
+    let daily = |c: &Curve| {
+        c.daily_mass
+            .iter()
+            .take(last + 1)
+            .enumerate()
+            .map(|(d, m)| (d as u32, *m))
+            .collect()
+    };
+    Ok(FitResult {
+        scenario: plan.scenarios[scenario].name.clone(),
+        parameter: param.key(),
+        estimate,
+        interval,
+        at_bound: estimate - lo < 1e-4 || hi - estimate < 1e-4,
+        weigh_ins: points.len(),
+        span_days: span,
+        sse_kg2: sse_min,
+        rmse_kg: (sse_min / n).sqrt(),
+        residuals_kg,
+        extra_intake_kcal_per_day: fitted.extra,
+        exercise_kcal_per_day: fitted.exercise,
+        model_fitted: daily(&fitted),
+        model_without: daily(&without),
+    })
+}
