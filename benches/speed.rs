@@ -10,6 +10,10 @@ use std::process::Command;
 use std::time::{Duration, Instant};
 
 const PLAN: &str = concat!(env!("CARGO_MANIFEST_DIR"), "/plans/bench-52-weeks.toml");
+const LOG: &str = concat!(
+    env!("CARGO_MANIFEST_DIR"),
+    "/demo-data/bench-52-weeks-log.csv"
+);
 
 fn time<F: FnMut()>(runs: usize, mut f: F) -> (Duration, Duration) {
     f(); // warm-up
@@ -51,17 +55,48 @@ fn main() {
         }),
     );
     let exe = env!("CARGO_BIN_EXE_dosewright");
-    for format in ["table", "json"] {
+    let end_to_end = |name: &str, goal_ms: f64, args: &[&str]| {
         report(
-            &format!("dosewright schedule --format {format} (end to end)"),
-            30.0,
-            time(30, || {
+            name,
+            goal_ms,
+            time(20, || {
                 let out = Command::new(exe)
-                    .args(["schedule", PLAN, "--format", format])
+                    .args(args)
                     .output()
                     .expect("the binary runs");
-                assert!(out.status.success());
+                assert!(
+                    out.status.success(),
+                    "{}",
+                    String::from_utf8_lossy(&out.stderr)
+                );
             }),
         );
+    };
+    for format in ["table", "json"] {
+        end_to_end(
+            &format!("dosewright schedule --format {format} (end to end)"),
+            30.0,
+            &["schedule", PLAN, "--format", format],
+        );
     }
+    end_to_end(
+        "dosewright goal --lose-kg 5 --by-week 52",
+        50.0,
+        &["goal", PLAN, "--lose-kg", "5", "--by-week", "52"],
+    );
+    end_to_end(
+        "dosewright compare --doses (10 doses x 3 scenarios)",
+        50.0,
+        &["compare", PLAN, "--doses", "4,8,12,16,20,24,28,32,36,40"],
+    );
+    end_to_end(
+        "dosewright schedule --log (52-week log)",
+        30.0,
+        &["schedule", PLAN, "--log", LOG],
+    );
+    end_to_end(
+        "dosewright fit --log (52-week log)",
+        200.0,
+        &["fit", PLAN, "--log", LOG],
+    );
 }

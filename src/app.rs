@@ -3,7 +3,7 @@
 use crate::activity::compendium;
 use crate::cli::{Command, CompareFormat, FitParameterArg, FormatArg, GoalFormat, LogAction};
 use crate::error::Error;
-use crate::files::{refuse_overwriting_inputs, write_atomic};
+use crate::files::{check_target, refuse_overwriting_inputs, write_atomic};
 use crate::plan::{self, Plan};
 use crate::report::{self, ScheduleReport};
 use crate::safety::Warning;
@@ -192,7 +192,8 @@ pub fn compare_report_logged(
     ))
 }
 
-/// Refuse an output path that names one of the command's inputs.
+/// Refuse an output path that names one of the command's inputs, or that cannot be
+/// written (checked before any file, such as a chart, is written).
 fn refuse_inputs(out: &Option<PathBuf>, plan: &Path, log: &Option<PathBuf>) -> Result<(), Error> {
     if let Some(o) = out {
         let mut inputs = vec![plan];
@@ -200,6 +201,7 @@ fn refuse_inputs(out: &Option<PathBuf>, plan: &Path, log: &Option<PathBuf>) -> R
             inputs.push(l.as_path());
         }
         refuse_overwriting_inputs(o, &inputs)?;
+        check_target(o, false)?;
     }
     Ok(())
 }
@@ -233,6 +235,9 @@ pub fn run(command: &Command) -> Result<Printed, Error> {
             }
             if let (Some(o), Some(l)) = (out, log) {
                 refuse_overwriting_inputs(o, &[l.as_path()])?;
+            }
+            if let Some(o) = out {
+                check_target(o, false)?;
             }
             let plan = load(plan.as_deref())?;
             let log = read_log(&plan, log.as_deref(), *as_of)?;
@@ -366,8 +371,11 @@ pub fn run(command: &Command) -> Result<Printed, Error> {
             let mut printed = Printed::default();
             if let Some(dir) = chart {
                 let stem = charts::stem(&r.participant_id);
-                let paths =
-                    report::chart::write_charts(dir, &stem, &[("fit", report::fit::chart(&r))])?;
+                let mut chart = report::fit::chart(&r);
+                chart
+                    .caption
+                    .push_str(&charts::screening_caption(&r.screening));
+                let paths = report::chart::write_charts(dir, &stem, &[("fit", chart)])?;
                 printed.stderr = paths
                     .iter()
                     .map(|p| format!("wrote {}\n", p.display()))
@@ -396,6 +404,28 @@ pub fn run(command: &Command) -> Result<Printed, Error> {
                     "--log {}: that is the plan file; give the log's CSV file",
                     log.display()
                 )));
+            }
+            // clap lets `requires = "session"` be met by any member of the group
+            // (clap issue 4707), so a weigh-in's misplaced session options are
+            // refused here instead of being dropped silently.
+            let session_only = [
+                ("--code", code.is_some()),
+                ("--met", met.is_some()),
+                ("--hr", hr.is_some()),
+                ("--rpe", rpe.is_some()),
+            ];
+            if weigh_in.is_some()
+                && let Some((name, _)) = session_only.iter().find(|(_, given)| *given)
+            {
+                return Err(Error::Usage(format!(
+                    "{name} describes a session; give it with --session, not with --weigh-in"
+                )));
+            }
+            if session.is_some() && body_fat.is_some() {
+                return Err(Error::Usage(
+                    "--body-fat belongs to a weigh-in; give it with --weigh-in, not with --session"
+                        .to_string(),
+                ));
             }
             let plan = load(Some(plan))?;
             let entry = match (weigh_in, session) {
@@ -507,6 +537,14 @@ mod charts {
     use crate::report::chart::{Band, standard_charts, write_charts};
     use std::path::Path;
 
+    /// The participant's screening outcome and the stop signs, for chart captions.
+    pub fn screening_caption(s: &crate::safety::ScreeningOutcome) -> String {
+        format!(
+            " Screening: {}. Stop at once on chest pain, unusual breathlessness, dizziness or palpitations.",
+            s.recommendation
+        )
+    }
+
     /// A file-name stem from a participant code.
     pub fn stem(id: &str) -> String {
         id.chars()
@@ -537,7 +575,10 @@ mod charts {
                     )
                     .collect(),
             });
-        let charts = standard_charts(&r.scenarios, r.protocol.weeks, band.as_ref());
+        let mut charts = standard_charts(&r.scenarios, r.protocol.weeks, band.as_ref());
+        for (_, c) in charts.iter_mut() {
+            c.caption.push_str(&screening_caption(&r.screening));
+        }
         let stem = stem(&r.participant_id);
         let paths = write_charts(dir, &stem, &charts)?;
         Ok(paths

@@ -28,25 +28,52 @@ pub fn refuse_overwriting_inputs(out: &Path, inputs: &[&Path]) -> Result<(), Err
     Ok(())
 }
 
-/// Write `bytes` to `path` atomically; with `create_new`, refuse an existing file.
-pub fn write_atomic(path: &Path, bytes: &[u8], create_new: bool) -> Result<(), Error> {
+/// The folder `path` will be written in.
+fn folder_of(path: &Path) -> PathBuf {
+    match path.parent() {
+        Some(d) if !d.as_os_str().is_empty() => d.to_path_buf(),
+        _ => PathBuf::from("."),
+    }
+}
+
+/// Refuse, before anything is written, an output path [`write_atomic`] cannot or must
+/// not replace: with `create_new` an existing one; one whose folder is missing or is
+/// not a folder; one that is not a regular file (a folder, a device such as
+/// `/dev/full`, a pipe), which the rename would replace instead of writing to.
+pub fn check_target(path: &Path, create_new: bool) -> Result<(), Error> {
     if create_new && path.exists() {
         return Err(Error::Usage(format!(
             "{}: the file exists; refusing to overwrite it (choose another name or remove it first)",
             path.display()
         )));
     }
-    let dir = match path.parent() {
-        Some(d) if !d.as_os_str().is_empty() => d.to_path_buf(),
-        _ => PathBuf::from("."),
-    };
+    let dir = folder_of(path);
     if !dir.is_dir() {
+        let what = if dir.exists() {
+            format!("{} is not a folder; choose another path", dir.display())
+        } else {
+            format!(
+                "the folder {} does not exist; create it first or choose another path",
+                dir.display()
+            )
+        };
+        return Err(Error::Usage(format!("{}: {what}", path.display())));
+    }
+    if let Ok(m) = std::fs::metadata(path)
+        && !m.is_file()
+    {
         return Err(Error::Usage(format!(
-            "{}: the folder {} does not exist; create it first or choose another path",
-            path.display(),
-            dir.display()
+            "{}: not a regular file (a folder, device or pipe); refusing to replace it, choose a file path",
+            path.display()
         )));
     }
+    Ok(())
+}
+
+/// Write `bytes` to `path` atomically; with `create_new`, refuse an existing file.
+pub fn write_atomic(path: &Path, bytes: &[u8], create_new: bool) -> Result<(), Error> {
+    check_target(path, create_new)?;
+    let dir = folder_of(path);
     let name = path
         .file_name()
         .map(|n| n.to_string_lossy().into_owned())

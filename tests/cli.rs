@@ -2749,7 +2749,12 @@ fn init_prints_the_starter_plan_on_stdout() {
     let r = run(dosewright().arg("init"));
     assert_eq!(r.code, Some(0), "{}", r.stderr);
     assert_eq!(r.stderr, "");
-    assert!(r.stdout.starts_with("# A starter plan for dosewright."));
+    assert!(r.stdout.contains("\n# A starter plan for dosewright."));
+    // The cautions come first, before any key.
+    assert!(
+        r.stdout
+            .starts_with("# Before any exercise: complete the pre-participation health screening")
+    );
     let t: toml::Table = toml::from_str(&r.stdout).expect("the starter is TOML");
     for k in ["participant", "protocol", "activity", "model", "scenario"] {
         assert!(t.contains_key(k), "starter lacks [{k}]");

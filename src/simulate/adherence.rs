@@ -54,9 +54,9 @@ pub struct AdherenceTotal {
     pub net_kcal_prescribed: f64,
     /// Net energy delivered, kcal.
     pub net_kcal_delivered: f64,
-    /// Mean weekly prescribed dose, plan unit.
+    /// Mean weekly prescribed dose, plan unit (a partly covered week counts for its days).
     pub dose_prescribed_per_week: f64,
-    /// Mean weekly delivered dose, plan unit.
+    /// Mean weekly delivered dose, plan unit (a partly covered week counts for its days).
     pub dose_delivered_per_week: f64,
     /// Mean RPE over sessions that record one.
     pub mean_rpe: Option<f64>,
@@ -152,7 +152,13 @@ pub fn week(
 
 /// Totals over the weeks that have adherence; `rpes` and `hrs` are every session's values.
 pub fn total(weeks: &[&WeekAdherence], obs: &Observed) -> AdherenceTotal {
-    let n = weeks.len().max(1) as f64;
+    // Weeks of coverage: a partly covered last week counts for its days only.
+    let n = (weeks
+        .iter()
+        .map(|w| f64::from(w.days_covered))
+        .fold(0.0, |a, b| a + b)
+        / 7.0)
+        .max(1.0 / 7.0);
     // `+ 0.0` turns the -0.0 an empty float sum gives into 0.0.
     let sum = |f: fn(&WeekAdherence) -> f64| weeks.iter().map(|w| f(w)).fold(0.0, |a, b| a + b);
     let rpes: Vec<f64> = obs

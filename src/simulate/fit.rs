@@ -148,7 +148,11 @@ fn curve(
             FitParameter::IntakeFraction => {
                 f.intake - physiology.intake_kcal_per_day - sc.compensation.diet_change_kcal_per_day
             }
-            FitParameter::ActivityFraction => sc.compensation.activity_fraction * f.exercise,
+            // Activity given up, as the intake that would do the same: extra intake
+            // carries its own TEF, so it takes X c_A / (1 - beta) (MODEL.md 5).
+            FitParameter::ActivityFraction => {
+                sc.compensation.activity_fraction * f.exercise / (1.0 - plan.constants.tef_fraction)
+            }
         };
     }
     Ok(Curve {

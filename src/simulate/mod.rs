@@ -242,12 +242,16 @@ pub fn simulate_observed(plan: &Plan, observed: Option<&Observed>) -> Result<Sim
                 weeks: plan.protocol.total_weeks(),
             },
             None,
-        )?;
-        let deficits: Vec<f64> = without
-            .weeks
-            .iter()
-            .map(|w| w.end.achieved_deficit_kcal)
-            .collect();
+        );
+        let deficits: Option<Vec<f64>> = without.as_ref().ok().map(|w| {
+            w.weeks
+                .iter()
+                .map(|w| w.end.achieved_deficit_kcal)
+                .collect()
+        });
+        // The projection's own range error comes first: when both runs leave the
+        // valid range, the day and state reported are those of the plan as
+        // prescribed, not of the no-exercise comparison.
         let weeks = run(
             plan,
             &physiology,
@@ -258,9 +262,10 @@ pub fn simulate_observed(plan: &Plan, observed: Option<&Observed>) -> Result<Sim
                 anchor: observed.is_some(),
                 ..RunMode::projection(plan)
             },
-            Some(&deficits),
+            deficits.as_deref(),
         )?
         .weeks;
+        without?;
         let last = weeks.last().expect("a plan has at least one week");
         let protocol_end = &weeks[plan.protocol.weeks as usize - 1];
         let outcome = Outcome {
@@ -403,6 +408,10 @@ pub fn run(
         let week_start = p.start + chrono::Days::new(u64::from(start_day));
         for wi in anchors(start_day) {
             y = observed::anchor(&y, wi, plan.constants.forbes_constant_kg);
+            // The day's 00:00 state is the measured one.
+            if let Some(last) = daily.last_mut() {
+                *last = y;
+            }
         }
         let body = body_of(&y);
         let m_w = body.mass_kg();

@@ -175,7 +175,9 @@ pub fn prescribe(
         OverMax::Split => {
             let bout = round_up(minutes_unrounded / 2.0, step);
             note.still_over = f64::from(bout) > max;
-            out.minutes_per_session = 2 * bout;
+            // Saturating: a near-zero energy per minute gives u32::MAX-minute bouts,
+            // which the driver then reports as longer than a day (never wraps to 0).
+            out.minutes_per_session = bout.saturating_mul(2);
             out.bouts_per_session = 2;
             out.bouts = days.iter().flat_map(|d| [(*d, bout), (*d, bout)]).collect();
         }

@@ -1,0 +1,56 @@
+//! Fuzz target: arbitrary bytes as a participant log against a fixed valid plan
+//! (the built-in demo plan, whose log `demo-data/demo-017-log.csv` is a good seed).
+//!
+//! The bytes are read as text (invalid UTF-8 replaced) and parsed with `parse_log`;
+//! a log that parses re-plans the schedule. Nothing may panic, a refusal is exit
+//! code 2, and no output may hold NaN or an infinity.
+
+#![no_main]
+
+use dosewright::Error;
+use dosewright::app::{LogInput, schedule_report_logged};
+use dosewright::simulate::observed::Observed;
+use libfuzzer_sys::fuzz_target;
+use std::sync::OnceLock;
+
+fn plan() -> &'static dosewright::Plan {
+    static PLAN: OnceLock<dosewright::Plan> = OnceLock::new();
+    PLAN.get_or_init(|| dosewright::app::load(None).expect("the demo plan is valid"))
+}
+
+fn non_finite_word(text: &str) -> Option<&str> {
+    text.split(|c: char| !(c.is_ascii_alphanumeric() || c == '.' || c == '-' || c == '+'))
+        .map(|w| w.trim_matches(|c| c == '.' || c == '-' || c == '+'))
+        .find(|w| matches!(*w, "NaN" | "nan" | "inf" | "Inf" | "infinity" | "Infinity"))
+}
+
+fuzz_target!(|data: &[u8]| {
+    let text = String::from_utf8_lossy(data);
+    let plan = plan();
+    let (log, warnings) = match dosewright::log::parse_log("fuzz.csv", &text, plan, None) {
+        Ok(parsed) => parsed,
+        Err(e) => {
+            assert!(matches!(e, Error::Input(_)), "{e}");
+            assert_eq!(e.exit_code(), 2);
+            return;
+        }
+    };
+    let input = LogInput {
+        observed: Some(Observed::from_log(plan, &log, None)),
+        warnings,
+        summary: None,
+    };
+    match schedule_report_logged(plan, &input) {
+        Ok(report) => {
+            let json = dosewright::report::json::render(&report);
+            assert!(!json.contains("NaN"), "NaN in the JSON");
+            assert_eq!(non_finite_word(&json), None, "JSON");
+            assert_eq!(non_finite_word(&format!("{report:?}")), None, "report");
+        }
+        Err(e) => {
+            assert!(matches!(e, Error::OutOfRange(_)), "{e}");
+            assert_eq!(e.exit_code(), 2);
+            assert_eq!(non_finite_word(&e.to_string()), None, "{e}");
+        }
+    }
+});

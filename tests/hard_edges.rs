@@ -1,0 +1,2561 @@
+//! Hard edges (issue 8): bad command-line usage for every command and option, nothing
+//! lost when a run fails, byte-identical outputs across runs and environments, and the
+//! cautions on every human-facing output.
+//!
+//! Every case runs the real binary in a fresh scratch folder holding a copy of the
+//! demo plan (`plan.toml`) and the demo log (`log.csv`); both are invented data.
+#![cfg(unix)]
+
+mod common;
+
+use common::*;
+use std::collections::{BTreeMap, BTreeSet};
+use std::os::unix::fs::{MetadataExt, PermissionsExt};
+use std::path::{Path, PathBuf};
+
+const DEMO_PLAN: &str = include_str!("../plans/demo.toml");
+const DEMO_LOG: &str = include_str!("../demo-data/demo-017-log.csv");
+
+/// The demo plan's first and last dates (start, and the morning after follow-up).
+const PLAN_FIRST: &str = "2027-01-11";
+const PLAN_LAST: &str = "2027-09-20";
+
+/// A fresh folder with `plan.toml` and `log.csv`.
+fn fresh(tag: &str) -> Scratch {
+    let dir = Scratch::new(tag);
+    dir.write("plan.toml", DEMO_PLAN);
+    dir.write("log.csv", DEMO_LOG);
+    dir
+}
+
+// ---------------------------------------------------------------------------
+// Folder snapshots: every entry, every file's bytes, inode and modification time
+// ---------------------------------------------------------------------------
+
+/// One entry of a folder tree.
+#[derive(Debug, Clone, PartialEq, Eq)]
+enum Node {
+    /// A folder and its modification time (it changes when an entry is created or
+    /// removed, so a temporary file made and deleted again shows).
+    Dir { mtime_ns: i128 },
+    /// A regular file: bytes, inode (a rename gives a new one) and modification time.
+    File {
+        bytes: Vec<u8>,
+        ino: u64,
+        mtime_ns: i128,
+    },
+    /// A symbolic link and where it points (never followed).
+    Link(PathBuf),
+    /// Anything else (a named pipe here).
+    Other(String),
+}
+
+fn mtime_ns(m: &std::fs::Metadata) -> i128 {
+    i128::from(m.mtime()) * 1_000_000_000 + i128::from(m.mtime_nsec())
+}
+
+/// Every entry under `root` by its relative path, the root itself as ".".
+fn snapshot(root: &Path) -> BTreeMap<String, Node> {
+    fn walk(root: &Path, dir: &Path, out: &mut BTreeMap<String, Node>) {
+        let mut entries: Vec<PathBuf> = std::fs::read_dir(dir)
+            .expect("list a folder")
+            .map(|e| e.expect("a folder entry").path())
+            .collect();
+        entries.sort();
+        for p in entries {
+            let rel = p.strip_prefix(root).unwrap().display().to_string();
+            let m = std::fs::symlink_metadata(&p).expect("stat an entry");
+            let ft = m.file_type();
+            if ft.is_dir() {
+                out.insert(
+                    rel,
+                    Node::Dir {
+                        mtime_ns: mtime_ns(&m),
+                    },
+                );
+                walk(root, &p, out);
+            } else if ft.is_file() {
+                out.insert(
+                    rel,
+                    Node::File {
+                        bytes: std::fs::read(&p).expect("read a file"),
+                        ino: m.ino(),
+                        mtime_ns: mtime_ns(&m),
+                    },
+                );
+            } else if ft.is_symlink() {
+                out.insert(rel, Node::Link(std::fs::read_link(&p).unwrap()));
+            } else {
+                out.insert(rel, Node::Other(format!("{ft:?}")));
+            }
+        }
+    }
+    let mut out = BTreeMap::new();
+    let m = std::fs::metadata(root).expect("stat the root");
+    out.insert(
+        ".".to_string(),
+        Node::Dir {
+            mtime_ns: mtime_ns(&m),
+        },
+    );
+    walk(root, root, &mut out);
+    out
+}
+
+/// The paths whose entries differ between two snapshots.
+fn differences(before: &BTreeMap<String, Node>, after: &BTreeMap<String, Node>) -> Vec<String> {
+    let keys: BTreeSet<&String> = before.keys().chain(after.keys()).collect();
+    keys.into_iter()
+        .filter(|k| before.get(*k) != after.get(*k))
+        .map(|k| match (before.get(k), after.get(k)) {
+            (None, Some(_)) => format!("{k}: created"),
+            (Some(_), None) => format!("{k}: removed"),
+            _ => format!("{k}: changed"),
+        })
+        .collect()
+}
+
+/// Leftover temporary files (`.NAME.PID.tmp`) anywhere under `root`.
+fn leftovers(root: &Path) -> Vec<String> {
+    snapshot(root)
+        .into_keys()
+        .filter(|k| {
+            let name = k.rsplit('/').next().unwrap_or(k);
+            name.ends_with(".tmp") || (name.starts_with('.') && name != ".")
+        })
+        .collect()
+}
+
+// ---------------------------------------------------------------------------
+// 1a. Bad command-line usage: exit 2, a clear message, empty stdout, nothing written
+// ---------------------------------------------------------------------------
+
+/// What the error on standard error must say.
+enum Says {
+    /// The program's own message: standard error is exactly this one line.
+    Exact(&'static str),
+    /// The program's own message whose end is the operating system's words: the one
+    /// line of standard error starts with this.
+    Starts(&'static str),
+    /// clap's own message: standard error holds every one of these key phrases.
+    Clap(&'static [&'static str]),
+}
+
+/// What a case puts in the folder besides `plan.toml` and `log.csv`.
+enum Prep {
+    /// An empty folder.
+    Dir(&'static str),
+    /// A file with these contents.
+    File(&'static str, &'static str),
+    /// A symbolic link `(link, target)`.
+    Link(&'static str, &'static str),
+    /// A named pipe.
+    Fifo(&'static str),
+}
+
+struct Case {
+    name: &'static str,
+    prep: &'static [Prep],
+    args: &'static [&'static str],
+    says: Says,
+}
+
+const fn case(name: &'static str, args: &'static [&'static str], says: Says) -> Case {
+    Case {
+        name,
+        prep: &[],
+        args,
+        says,
+    }
+}
+
+const fn prepared(
+    name: &'static str,
+    prep: &'static [Prep],
+    args: &'static [&'static str],
+    says: Says,
+) -> Case {
+    Case {
+        name,
+        prep,
+        args,
+        says,
+    }
+}
+
+use Says::{Clap, Exact, Starts};
+
+/// Bad usage of every command and option. Files the messages name are relative to
+/// the scratch folder, as a user would type them.
+fn usage_cases() -> Vec<Case> {
+    vec![
+        // No command, an unknown command, an unknown option.
+        case("no_command", &[], Clap(&["Usage: dosewright <COMMAND>"])),
+        case(
+            "unknown_command",
+            &["frobnicate", "plan.toml"],
+            Clap(&["error: unrecognized subcommand 'frobnicate'"]),
+        ),
+        case(
+            "schedule_unknown_option",
+            &["schedule", "plan.toml", "--bogus"],
+            Clap(&["error: unexpected argument '--bogus' found"]),
+        ),
+        case(
+            "compare_unknown_option",
+            &["compare", "plan.toml", "--scenario", "as prescribed"],
+            Clap(&["error: unexpected argument '--scenario' found"]),
+        ),
+        // schedule
+        case(
+            "schedule_format_xml",
+            &["schedule", "plan.toml", "--format", "xml"],
+            Clap(&[
+                "error: invalid value 'xml' for '--format <FORMAT>'",
+                "[possible values: table, csv, json]",
+            ]),
+        ),
+        case(
+            "schedule_missing_plan_file",
+            &["schedule", "missing.toml"],
+            Exact("error: missing.toml: cannot read: no such file"),
+        ),
+        prepared(
+            "schedule_plan_is_a_folder",
+            &[Prep::Dir("adir")],
+            &["schedule", "adir"],
+            Starts("error: adir: cannot read: "),
+        ),
+        prepared(
+            "check_plan_is_a_folder",
+            &[Prep::Dir("adir")],
+            &["check", "adir"],
+            Starts("error: adir: cannot read: "),
+        ),
+        case(
+            "schedule_unknown_scenario",
+            &["schedule", "plan.toml", "--scenario", "nobody"],
+            Exact(
+                "error: --scenario: no scenario named \"nobody\" in plan.toml; the plan has \"as prescribed\", \"eats back 40%\", \"mixed compensation\"",
+            ),
+        ),
+        case(
+            "schedule_as_of_without_log",
+            &["schedule", "plan.toml", "--as-of", "2027-02-01"],
+            Clap(&[
+                "the following required arguments were not provided",
+                "--log <FILE>",
+            ]),
+        ),
+        case(
+            "schedule_as_of_month_13",
+            &[
+                "schedule",
+                "plan.toml",
+                "--log",
+                "log.csv",
+                "--as-of",
+                "2027-13-01",
+            ],
+            Clap(&["error: invalid value '2027-13-01' for '--as-of <DATE>'"]),
+        ),
+        case(
+            "schedule_as_of_before_the_start",
+            &[
+                "schedule",
+                "plan.toml",
+                "--log",
+                "log.csv",
+                "--as-of",
+                "2026-12-01",
+            ],
+            Exact(
+                "error: --as-of 2026-12-01 is outside the protocol; give a date from the start 2027-01-11 through the end of follow-up 2027-09-20",
+            ),
+        ),
+        case(
+            "schedule_missing_log_file",
+            &["schedule", "plan.toml", "--log", "missing.csv"],
+            Exact("error: missing.csv: cannot read: no such file"),
+        ),
+        case(
+            "schedule_chart_without_a_folder",
+            &["schedule", "plan.toml", "--chart"],
+            Clap(&["error: a value is required for '--chart <DIR>' but none was supplied"]),
+        ),
+        case(
+            "schedule_out_names_the_plan",
+            &[
+                "schedule",
+                "plan.toml",
+                "--format",
+                "json",
+                "--out",
+                "plan.toml",
+            ],
+            Exact("error: --out plan.toml: that is an input file; refusing to overwrite it"),
+        ),
+        case(
+            "schedule_out_names_the_log",
+            &[
+                "schedule",
+                "plan.toml",
+                "--log",
+                "log.csv",
+                "--out",
+                "log.csv",
+            ],
+            Exact("error: --out log.csv: that is an input file; refusing to overwrite it"),
+        ),
+        prepared(
+            "schedule_out_names_the_plan_through_a_link",
+            &[Prep::Link("link.toml", "plan.toml")],
+            &["schedule", "plan.toml", "--out", "link.toml"],
+            Exact("error: --out link.toml: that is an input file; refusing to overwrite it"),
+        ),
+        case(
+            "schedule_out_into_a_missing_folder",
+            &["schedule", "plan.toml", "--out", "nodir/out.txt"],
+            Exact(
+                "error: nodir/out.txt: the folder nodir does not exist; create it first or choose another path",
+            ),
+        ),
+        case(
+            // The charts must not be written when --out is refused.
+            "schedule_out_into_a_missing_folder_with_charts",
+            &[
+                "schedule",
+                "plan.toml",
+                "--chart",
+                "charts",
+                "--out",
+                "nodir/out.txt",
+            ],
+            Exact(
+                "error: nodir/out.txt: the folder nodir does not exist; create it first or choose another path",
+            ),
+        ),
+        case(
+            "schedule_out_inside_a_file",
+            &["schedule", "plan.toml", "--out", "plan.toml/out.txt"],
+            Exact("error: plan.toml/out.txt: plan.toml is not a folder; choose another path"),
+        ),
+        prepared(
+            "schedule_out_names_a_folder",
+            &[Prep::Dir("adir")],
+            &["schedule", "plan.toml", "--out", "adir"],
+            Exact(
+                "error: adir: not a regular file (a folder, device or pipe); refusing to replace it, choose a file path",
+            ),
+        ),
+        prepared(
+            "schedule_out_names_a_pipe",
+            &[Prep::Fifo("pipe")],
+            &["schedule", "plan.toml", "--out", "pipe"],
+            Exact(
+                "error: pipe: not a regular file (a folder, device or pipe); refusing to replace it, choose a file path",
+            ),
+        ),
+        prepared(
+            "goal_out_names_a_link_to_a_device",
+            &[Prep::Link("null.txt", "/dev/null")],
+            &[
+                "goal",
+                "plan.toml",
+                "--lose-kg",
+                "3",
+                "--by-week",
+                "12",
+                "--out",
+                "null.txt",
+            ],
+            Exact(
+                "error: null.txt: not a regular file (a folder, device or pipe); refusing to replace it, choose a file path",
+            ),
+        ),
+        // compare
+        case(
+            "compare_without_a_plan",
+            &["compare"],
+            Clap(&[
+                "the following required arguments were not provided",
+                "<PLAN>",
+            ]),
+        ),
+        case(
+            "compare_at_week_0",
+            &["compare", "plan.toml", "--at-week", "0"],
+            Exact(
+                "error: --at-week 0: outside the plan's weeks; allowed 1 to 36 (protocol and follow-up)",
+            ),
+        ),
+        case(
+            "compare_at_week_past_the_end",
+            &["compare", "plan.toml", "--at-week", "12", "--at-week", "37"],
+            Exact(
+                "error: --at-week 37: outside the plan's weeks; allowed 1 to 36 (protocol and follow-up)",
+            ),
+        ),
+        case(
+            "compare_at_week_not_a_number",
+            &["compare", "plan.toml", "--at-week", "twelve"],
+            Clap(&["error: invalid value 'twelve' for '--at-week <N>'"]),
+        ),
+        case(
+            "compare_doses_not_numbers",
+            &["compare", "plan.toml", "--doses", "a,b"],
+            Clap(&["error: invalid value 'a' for '--doses <LIST>'"]),
+        ),
+        case(
+            "compare_doses_with_an_empty_item",
+            &["compare", "plan.toml", "--doses", "4,,8"],
+            Clap(&["error: invalid value '' for '--doses <LIST>'"]),
+        ),
+        case(
+            "compare_dose_too_small",
+            &["compare", "plan.toml", "--doses", "6,0.1"],
+            Exact(
+                "error: --doses: 0.1 is out of range for kcal_per_kg_week; allowed 0.5 to 150 kcal/kg/week",
+            ),
+        ),
+        case(
+            "compare_dose_infinite",
+            &["compare", "plan.toml", "--doses", "inf"],
+            Exact(
+                "error: --doses: inf is out of range for kcal_per_kg_week; allowed 0.5 to 150 kcal/kg/week",
+            ),
+        ),
+        case(
+            "compare_format_pdf",
+            &["compare", "plan.toml", "--format", "pdf"],
+            Clap(&[
+                "error: invalid value 'pdf' for '--format <FORMAT>'",
+                "[possible values: table, csv, json, markdown]",
+            ]),
+        ),
+        case(
+            "compare_add_scenario_unknown_key",
+            &["compare", "plan.toml", "--add-scenario", "x:foo=1"],
+            Exact(
+                "error: --add-scenario \"x:foo=1\": unknown key \"foo\"; write NAME:key=value,key=value with keys intake_fraction, intake_lag_days, activity_fraction, rmr_adaptation_kcal_per_kg, diet_change_kcal_per_day",
+            ),
+        ),
+        case(
+            "compare_add_scenario_taken_name",
+            &[
+                "compare",
+                "plan.toml",
+                "--add-scenario",
+                "eats back 40%:intake_fraction=0.2",
+            ],
+            Exact(
+                "error: --add-scenario \"eats back 40%:intake_fraction=0.2\": the plan already has a scenario named \"eats back 40%\"; choose another name",
+            ),
+        ),
+        case(
+            "compare_as_of_without_log",
+            &["compare", "plan.toml", "--as-of", "2027-02-01"],
+            Clap(&[
+                "the following required arguments were not provided",
+                "--log <FILE>",
+            ]),
+        ),
+        case(
+            "compare_out_names_the_plan",
+            &["compare", "plan.toml", "--out", "./plan.toml"],
+            Exact("error: --out ./plan.toml: that is an input file; refusing to overwrite it"),
+        ),
+        case(
+            "compare_out_names_the_log",
+            &[
+                "compare",
+                "plan.toml",
+                "--log",
+                "log.csv",
+                "--out",
+                "log.csv",
+            ],
+            Exact("error: --out log.csv: that is an input file; refusing to overwrite it"),
+        ),
+        case(
+            "compare_out_into_a_missing_folder_with_charts",
+            &[
+                "compare",
+                "plan.toml",
+                "--chart",
+                "charts",
+                "--out",
+                "nodir/c.md",
+            ],
+            Exact(
+                "error: nodir/c.md: the folder nodir does not exist; create it first or choose another path",
+            ),
+        ),
+        // goal
+        case(
+            "goal_without_a_loss",
+            &["goal", "plan.toml", "--by-week", "8"],
+            Clap(&[
+                "the following required arguments were not provided",
+                "--lose-kg",
+                "--lose-percent",
+            ]),
+        ),
+        case(
+            "goal_without_a_week",
+            &["goal", "plan.toml", "--lose-kg", "2"],
+            Clap(&[
+                "the following required arguments were not provided",
+                "--by-week <N>",
+            ]),
+        ),
+        case(
+            "goal_both_losses",
+            &[
+                "goal",
+                "plan.toml",
+                "--lose-kg",
+                "2",
+                "--lose-percent",
+                "2",
+                "--by-week",
+                "8",
+            ],
+            Clap(&["'--lose-kg <KG>' cannot be used with '--lose-percent <PERCENT>'"]),
+        ),
+        case(
+            "goal_lose_kg_nan",
+            &["goal", "plan.toml", "--lose-kg", "nan", "--by-week", "8"],
+            Exact("error: the loss wanted must be a positive number of kg; got NaN"),
+        ),
+        case(
+            "goal_by_week_negative",
+            &["goal", "plan.toml", "--lose-kg", "2", "--by-week", "-1"],
+            Clap(&["error: unexpected argument '-1' found"]),
+        ),
+        case(
+            "goal_by_week_past_the_protocol",
+            &["goal", "plan.toml", "--lose-kg", "2", "--by-week", "25"],
+            Exact("error: --by-week 25: outside the protocol; allowed 1 to 24 (the plan's weeks)"),
+        ),
+        case(
+            "goal_lose_percent_100",
+            &[
+                "goal",
+                "plan.toml",
+                "--lose-percent",
+                "100",
+                "--by-week",
+                "8",
+            ],
+            Exact(
+                "error: --lose-percent 100: allowed above 0 and below 100 (percent of baseline mass)",
+            ),
+        ),
+        case(
+            "goal_format_csv",
+            &[
+                "goal",
+                "plan.toml",
+                "--lose-kg",
+                "2",
+                "--by-week",
+                "8",
+                "--format",
+                "csv",
+            ],
+            Clap(&[
+                "error: invalid value 'csv' for '--format <FORMAT>'",
+                "[possible values: table, json]",
+            ]),
+        ),
+        case(
+            "goal_add_scenario_out_of_range",
+            &[
+                "goal",
+                "plan.toml",
+                "--lose-kg",
+                "2",
+                "--by-week",
+                "8",
+                "--add-scenario",
+                "x:intake_fraction=9",
+            ],
+            Exact(
+                "error: --add-scenario \"x:intake_fraction=9\": intake_fraction = 9 is out of range; allowed 0 to 1.5; write NAME:key=value,key=value with keys intake_fraction, intake_lag_days, activity_fraction, rmr_adaptation_kcal_per_kg, diet_change_kcal_per_day",
+            ),
+        ),
+        case(
+            "goal_as_of_without_log",
+            &[
+                "goal",
+                "plan.toml",
+                "--lose-kg",
+                "2",
+                "--by-week",
+                "8",
+                "--as-of",
+                "2027-02-01",
+            ],
+            Clap(&[
+                "the following required arguments were not provided",
+                "--log <FILE>",
+            ]),
+        ),
+        case(
+            "goal_out_names_the_plan",
+            &[
+                "goal",
+                "plan.toml",
+                "--lose-kg",
+                "2",
+                "--by-week",
+                "8",
+                "--out",
+                "plan.toml",
+            ],
+            Exact("error: --out plan.toml: that is an input file; refusing to overwrite it"),
+        ),
+        // fit
+        case(
+            "fit_without_a_log",
+            &["fit", "plan.toml"],
+            Clap(&[
+                "the following required arguments were not provided",
+                "--log <FILE>",
+            ]),
+        ),
+        case(
+            "fit_unknown_parameter",
+            &["fit", "plan.toml", "--log", "log.csv", "--parameter", "foo"],
+            Clap(&[
+                "error: invalid value 'foo' for '--parameter <PARAMETER>'",
+                "[possible values: intake_fraction, activity_fraction]",
+            ]),
+        ),
+        case(
+            "fit_unknown_scenario",
+            &[
+                "fit",
+                "plan.toml",
+                "--log",
+                "log.csv",
+                "--scenario",
+                "nobody",
+            ],
+            Exact(
+                "error: --scenario: no scenario named \"nobody\" in plan.toml; the plan has \"as prescribed\", \"eats back 40%\", \"mixed compensation\"",
+            ),
+        ),
+        case(
+            "fit_format_markdown",
+            &[
+                "fit",
+                "plan.toml",
+                "--log",
+                "log.csv",
+                "--format",
+                "markdown",
+            ],
+            Clap(&["error: invalid value 'markdown' for '--format <FORMAT>'"]),
+        ),
+        case(
+            "fit_as_of_before_the_start",
+            &[
+                "fit",
+                "plan.toml",
+                "--log",
+                "log.csv",
+                "--as-of",
+                "2026-01-01",
+            ],
+            Exact(
+                "error: --as-of 2026-01-01 is outside the protocol; give a date from the start 2027-01-11 through the end of follow-up 2027-09-20",
+            ),
+        ),
+        prepared(
+            "fit_log_that_is_not_a_log",
+            &[Prep::File("notes.txt", "weight went down\n")],
+            &["fit", "plan.toml", "--log", "notes.txt"],
+            Exact(
+                "error: notes.txt:1:1: header column 1 is \"weight went down\" where \"date\" belongs; the header must start date,kind,mass_kg,body_fat_percent,minutes,compendium_code,met,avg_hr_bpm,rpe,note in this order (more columns may follow)",
+            ),
+        ),
+        case(
+            "fit_out_names_the_log",
+            &["fit", "plan.toml", "--log", "log.csv", "--out", "log.csv"],
+            Exact("error: --out log.csv: that is an input file; refusing to overwrite it"),
+        ),
+        case(
+            "fit_out_into_a_missing_folder_with_chart",
+            &[
+                "fit",
+                "plan.toml",
+                "--log",
+                "log.csv",
+                "--chart",
+                "charts",
+                "--out",
+                "nodir/f.txt",
+            ],
+            Exact(
+                "error: nodir/f.txt: the folder nodir does not exist; create it first or choose another path",
+            ),
+        ),
+        // log add
+        case(
+            "log_add_weigh_in_and_session",
+            &[
+                "log",
+                "add",
+                "plan.toml",
+                "--log",
+                "log.csv",
+                "--date",
+                "2027-03-24",
+                "--weigh-in",
+                "103",
+                "--session",
+                "30",
+            ],
+            Clap(&[
+                "error: the argument '--weigh-in <KG>' cannot be used with '--session <MINUTES>'",
+            ]),
+        ),
+        case(
+            "log_add_code_without_a_row_kind",
+            &[
+                "log",
+                "add",
+                "plan.toml",
+                "--log",
+                "log.csv",
+                "--date",
+                "2027-03-24",
+                "--code",
+                "17200",
+            ],
+            Clap(&[
+                "the following required arguments were not provided",
+                "<--weigh-in <KG>|--session <MINUTES>>",
+            ]),
+        ),
+        case(
+            "log_add_code_with_a_weigh_in",
+            &[
+                "log",
+                "add",
+                "plan.toml",
+                "--log",
+                "log.csv",
+                "--date",
+                "2027-03-24",
+                "--weigh-in",
+                "103",
+                "--code",
+                "17200",
+            ],
+            Exact("error: --code describes a session; give it with --session, not with --weigh-in"),
+        ),
+        case(
+            "log_add_rpe_with_a_weigh_in",
+            &[
+                "log",
+                "add",
+                "plan.toml",
+                "--log",
+                "log.csv",
+                "--date",
+                "2027-03-24",
+                "--weigh-in",
+                "103",
+                "--rpe",
+                "12",
+            ],
+            Exact("error: --rpe describes a session; give it with --session, not with --weigh-in"),
+        ),
+        case(
+            "log_add_body_fat_with_a_session",
+            &[
+                "log",
+                "add",
+                "plan.toml",
+                "--log",
+                "log.csv",
+                "--date",
+                "2027-03-24",
+                "--session",
+                "30",
+                "--body-fat",
+                "35",
+            ],
+            Exact(
+                "error: --body-fat belongs to a weigh-in; give it with --weigh-in, not with --session",
+            ),
+        ),
+        case(
+            "log_add_code_and_met",
+            &[
+                "log",
+                "add",
+                "plan.toml",
+                "--log",
+                "log.csv",
+                "--date",
+                "2027-03-24",
+                "--session",
+                "30",
+                "--code",
+                "17200",
+                "--met",
+                "4",
+            ],
+            Clap(&["error: the argument '--code <CODE>' cannot be used with '--met <MET>'"]),
+        ),
+        case(
+            "log_add_impossible_date",
+            &[
+                "log",
+                "add",
+                "plan.toml",
+                "--log",
+                "log.csv",
+                "--date",
+                "2027-02-30",
+                "--weigh-in",
+                "103",
+            ],
+            Clap(&["error: invalid value '2027-02-30' for '--date <DATE>'"]),
+        ),
+        case(
+            "log_add_without_a_log",
+            &[
+                "log",
+                "add",
+                "plan.toml",
+                "--date",
+                "2027-03-24",
+                "--weigh-in",
+                "103",
+            ],
+            Clap(&[
+                "the following required arguments were not provided",
+                "--log <FILE>",
+            ]),
+        ),
+        case(
+            "log_add_log_is_the_plan",
+            &[
+                "log",
+                "add",
+                "plan.toml",
+                "--log",
+                "plan.toml",
+                "--date",
+                "2027-03-24",
+                "--weigh-in",
+                "103",
+            ],
+            Exact("error: --log plan.toml: that is the plan file; give the log's CSV file"),
+        ),
+        case(
+            "log_add_mass_out_of_range",
+            &[
+                "log",
+                "add",
+                "plan.toml",
+                "--log",
+                "log.csv",
+                "--date",
+                "2027-03-24",
+                "--weigh-in",
+                "1000",
+            ],
+            Exact("error: log.csv:44:3: mass_kg: value 1000 is out of range; allowed 30 to 350 kg"),
+        ),
+        case(
+            "log_add_note_with_a_line_break",
+            &[
+                "log",
+                "add",
+                "plan.toml",
+                "--log",
+                "log.csv",
+                "--date",
+                "2027-03-24",
+                "--session",
+                "30",
+                "--note",
+                "felt fine\nthen tired",
+            ],
+            Exact("error: note: the text holds a line break; a log cell must be one line"),
+        ),
+        case(
+            "log_without_an_action",
+            &["log"],
+            Clap(&["Usage: dosewright log <COMMAND>"]),
+        ),
+        // check, init, activities
+        case(
+            "check_without_a_plan",
+            &["check"],
+            Clap(&[
+                "the following required arguments were not provided",
+                "<PLAN>",
+            ]),
+        ),
+        case(
+            "check_two_plans",
+            &["check", "plan.toml", "extra.toml"],
+            Clap(&["error: unexpected argument 'extra.toml' found"]),
+        ),
+        case(
+            "init_over_an_existing_file",
+            &["init", "plan.toml"],
+            Exact(
+                "error: plan.toml: the file exists; refusing to overwrite it (choose another name or remove it first)",
+            ),
+        ),
+        case(
+            "init_into_a_missing_folder",
+            &["init", "nodir/new.toml"],
+            Exact(
+                "error: nodir/new.toml: the folder nodir does not exist; create it first or choose another path",
+            ),
+        ),
+        case(
+            "activities_met_min_30",
+            &["activities", "--met-min", "30"],
+            Exact("error: --met-min 30: allowed 0 to 25 MET"),
+        ),
+        case(
+            "activities_met_max_negative",
+            &["activities", "--met-max=-1"],
+            Exact("error: --met-max -1: allowed 0 to 25 MET"),
+        ),
+        case(
+            "activities_met_min_not_a_number",
+            &["activities", "--met-min", "four"],
+            Clap(&["error: invalid value 'four' for '--met-min <MET>'"]),
+        ),
+        case(
+            "activities_met_range_upside_down",
+            &["activities", "--met-min", "5", "--met-max", "3"],
+            Exact("error: --met-min 5 is above --met-max 3"),
+        ),
+        case(
+            "activities_two_search_texts",
+            &["activities", "cycling", "rowing"],
+            Clap(&["error: unexpected argument 'rowing' found"]),
+        ),
+    ]
+}
+
+/// Make what `prep` asks for in `dir`.
+fn make(dir: &Scratch, prep: &[Prep]) {
+    for p in prep {
+        match p {
+            Prep::Dir(name) => std::fs::create_dir(dir.path().join(name)).unwrap(),
+            Prep::File(name, text) => {
+                dir.write(name, text);
+            }
+            Prep::Link(link, target) => {
+                std::os::unix::fs::symlink(target, dir.path().join(link)).unwrap()
+            }
+            Prep::Fifo(name) => {
+                let ok = std::process::Command::new("mkfifo")
+                    .arg(dir.path().join(name))
+                    .status()
+                    .expect("mkfifo runs")
+                    .success();
+                assert!(ok, "mkfifo {name}");
+            }
+        }
+    }
+}
+
+/// The problems of one bad-usage case, empty when it behaves.
+fn usage_problems(c: &Case) -> Vec<String> {
+    let dir = fresh("usage");
+    make(&dir, c.prep);
+    let before = snapshot(dir.path());
+    let r = run(dir.cmd().args(c.args));
+    let after = snapshot(dir.path());
+    let mut p = Vec::new();
+    if r.code != Some(2) {
+        p.push(format!("exit code {:?}, want 2", r.code));
+    }
+    if !r.stdout.is_empty() {
+        p.push(format!("stdout not empty: {:?}", r.stdout));
+    }
+    match &c.says {
+        Exact(line) => {
+            if r.stderr != format!("{line}\n") {
+                p.push(format!("stderr {:?}\n    want {line:?}", r.stderr));
+            }
+        }
+        Starts(prefix) => {
+            if !r.stderr.starts_with(prefix) || r.stderr.lines().count() != 1 {
+                p.push(format!(
+                    "stderr {:?}\n    want one line starting {prefix:?}",
+                    r.stderr
+                ));
+            }
+        }
+        Clap(phrases) => {
+            for ph in *phrases {
+                if !r.stderr.contains(ph) {
+                    p.push(format!("stderr {:?}\n    lacks {ph:?}", r.stderr));
+                }
+            }
+        }
+    }
+    let changed = differences(&before, &after);
+    if !changed.is_empty() {
+        p.push(format!("the folder changed: {}", changed.join(", ")));
+    }
+    p
+}
+
+#[test]
+fn bad_command_lines_exit_2_with_a_clear_message_and_touch_nothing() {
+    let cases = usage_cases();
+    assert!(cases.len() >= 30, "at least 30 cases, have {}", cases.len());
+    let names: BTreeSet<&str> = cases.iter().map(|c| c.name).collect();
+    assert_eq!(names.len(), cases.len(), "case names are unique");
+    let mut problems = Vec::new();
+    let mut failing = 0;
+    for c in &cases {
+        let p = usage_problems(c);
+        failing += usize::from(!p.is_empty());
+        problems.extend(p.into_iter().map(|p| format!("{}: {p}", c.name)));
+    }
+    assert!(
+        problems.is_empty(),
+        "{failing} of {} cases misbehave:\n{}",
+        cases.len(),
+        problems.join("\n")
+    );
+}
+
+#[test]
+fn every_command_has_a_bad_usage_case() {
+    let cases = usage_cases();
+    for cmd in commands() {
+        let words: Vec<&str> = cmd.split(' ').collect();
+        assert!(
+            cases
+                .iter()
+                .any(|c| c.args.len() >= words.len() && c.args[..words.len()] == words[..]),
+            "no bad-usage case for `{cmd}`: add one to usage_cases()"
+        );
+    }
+}
+
+#[test]
+fn the_catalogue_checker_catches_a_written_file_and_stray_output() {
+    // The checker itself: a good run that writes a file fails every rule.
+    let c = case(
+        "good_run",
+        &["schedule", "plan.toml", "--out", "out.txt"],
+        Exact("error: never"),
+    );
+    let p = usage_problems(&c);
+    assert!(
+        p.iter().any(|x| x.starts_with("exit code Some(0)")),
+        "{p:?}"
+    );
+    assert!(p.iter().any(|x| x.contains("out.txt: created")), "{p:?}");
+    let c = case("printing_run", &["check", "plan.toml"], Clap(&["nowhere"]));
+    let p = usage_problems(&c);
+    assert!(p.iter().any(|x| x.starts_with("stdout not empty")), "{p:?}");
+}
+
+// ---------------------------------------------------------------------------
+// Command discovery from --help, so that a new command or format must be listed
+// ---------------------------------------------------------------------------
+
+/// Every leaf command, from `--help` (e.g. "schedule", "log add").
+fn commands() -> Vec<String> {
+    fn listed(args: &[&str]) -> Vec<String> {
+        let r = run(dosewright().args(args));
+        assert_eq!(r.code, Some(0), "{args:?}: {}", r.stderr);
+        r.stdout
+            .lines()
+            .skip_while(|l| !l.starts_with("Commands:"))
+            .skip(1)
+            .take_while(|l| !l.trim().is_empty())
+            .filter_map(|l| l.split_whitespace().next().map(str::to_string))
+            .filter(|c| c != "help")
+            .collect()
+    }
+    let mut out = Vec::new();
+    for c in listed(&["--help"]) {
+        let help = run(dosewright().args([c.as_str(), "--help"])).stdout;
+        if help.contains("\nCommands:") {
+            for sub in listed(&[c.as_str(), "--help"]) {
+                out.push(format!("{c} {sub}"));
+            }
+        } else {
+            out.push(c);
+        }
+    }
+    assert!(out.len() >= 8, "commands found: {out:?}");
+    out
+}
+
+/// What each command can produce: `(command, format)` for each `--format` value, or
+/// `(command, "")` without one, and `(command, "chart")` where `--chart` exists.
+fn output_kinds() -> BTreeSet<(String, String)> {
+    let mut out = BTreeSet::new();
+    for cmd in commands() {
+        let mut args: Vec<&str> = cmd.split(' ').collect();
+        args.push("-h");
+        let help = run(dosewright().args(&args)).stdout;
+        let formats: Vec<String> = help
+            .lines()
+            .find(|l| l.trim_start().starts_with("--format"))
+            .and_then(|l| l.split("[possible values: ").nth(1))
+            .map(|v| {
+                v.trim_end_matches(']')
+                    .split(", ")
+                    .map(str::to_string)
+                    .collect()
+            })
+            .unwrap_or_default();
+        if formats.is_empty() {
+            out.insert((cmd.clone(), String::new()));
+        }
+        for f in formats {
+            out.insert((cmd.clone(), f));
+        }
+        if help.lines().any(|l| l.trim_start().starts_with("--chart")) {
+            out.insert((cmd.clone(), "chart".to_string()));
+        }
+    }
+    out
+}
+
+// ---------------------------------------------------------------------------
+// 3. Nothing lost
+// ---------------------------------------------------------------------------
+
+const OLD: &str = "an earlier output, to be kept or replaced whole\n";
+
+/// The chart files of the demo participant.
+const SCHEDULE_CHARTS: [&str; 4] = [
+    "charts/DEMO-017-mass.svg",
+    "charts/DEMO-017-composition.svg",
+    "charts/DEMO-017-minutes.svg",
+    "charts/DEMO-017-energy.svg",
+];
+const FIT_CHART: &str = "charts/DEMO-017-fit.svg";
+
+/// A command that writes files, and the files it replaces.
+struct Writer {
+    name: &'static str,
+    args: &'static [&'static str],
+    files: &'static [&'static str],
+}
+
+fn writers() -> Vec<Writer> {
+    vec![
+        Writer {
+            name: "schedule --out",
+            args: &[
+                "schedule",
+                "plan.toml",
+                "--log",
+                "log.csv",
+                "--out",
+                "out.txt",
+            ],
+            files: &["out.txt"],
+        },
+        Writer {
+            name: "schedule --format csv --out",
+            args: &[
+                "schedule",
+                "plan.toml",
+                "--format",
+                "csv",
+                "--out",
+                "out.csv",
+            ],
+            files: &["out.csv"],
+        },
+        Writer {
+            name: "compare --out",
+            args: &[
+                "compare",
+                "plan.toml",
+                "--format",
+                "markdown",
+                "--out",
+                "out.md",
+            ],
+            files: &["out.md"],
+        },
+        Writer {
+            name: "goal --out",
+            args: &[
+                "goal",
+                "plan.toml",
+                "--lose-kg",
+                "3",
+                "--by-week",
+                "12",
+                "--format",
+                "json",
+                "--out",
+                "out.json",
+            ],
+            files: &["out.json"],
+        },
+        Writer {
+            name: "fit --out",
+            args: &["fit", "plan.toml", "--log", "log.csv", "--out", "out.txt"],
+            files: &["out.txt"],
+        },
+        Writer {
+            name: "schedule --chart",
+            args: &["schedule", "plan.toml", "--chart", "charts"],
+            files: &SCHEDULE_CHARTS,
+        },
+        Writer {
+            name: "compare --chart",
+            args: &["compare", "plan.toml", "--chart", "charts"],
+            files: &SCHEDULE_CHARTS,
+        },
+        Writer {
+            name: "fit --chart",
+            args: &["fit", "plan.toml", "--log", "log.csv", "--chart", "charts"],
+            files: &[FIT_CHART],
+        },
+        Writer {
+            name: "log add",
+            args: &[
+                "log",
+                "add",
+                "plan.toml",
+                "--log",
+                "log.csv",
+                "--date",
+                "2027-03-24",
+                "--weigh-in",
+                "103.1",
+            ],
+            files: &["log.csv"],
+        },
+    ]
+}
+
+/// Put `OLD` in each file (the log keeps its rows) and a hard link `NAME.keep` to
+/// it: a rename leaves the link with the old bytes, a write in place would not.
+fn seed(dir: &Scratch, files: &[&str]) {
+    for f in files {
+        let p = dir.path().join(f);
+        std::fs::create_dir_all(p.parent().unwrap()).unwrap();
+        if *f != "log.csv" {
+            std::fs::write(&p, OLD).unwrap();
+        }
+        std::fs::hard_link(&p, dir.path().join(format!("{f}.keep"))).unwrap();
+    }
+}
+
+#[test]
+fn every_writer_renames_a_temporary_file_and_leaves_none_behind() {
+    for w in writers() {
+        let dir = fresh("writer");
+        seed(&dir, w.files);
+        let before = snapshot(dir.path());
+        let r = run(dir.cmd().args(w.args));
+        assert_eq!(r.code, Some(0), "{}: {}", w.name, r.stderr);
+        if w.args.contains(&"--out") || w.args[0] == "log" {
+            assert_eq!(r.stdout, "", "{}: a written output prints nothing", w.name);
+        }
+        let after = snapshot(dir.path());
+        for f in w.files {
+            let (
+                Some(Node::File {
+                    bytes: old,
+                    ino: i0,
+                    ..
+                }),
+                Some(Node::File {
+                    bytes: new,
+                    ino: i1,
+                    ..
+                }),
+            ) = (before.get(*f), after.get(*f))
+            else {
+                panic!("{}: {f} is not a file before and after", w.name);
+            };
+            assert_ne!(new, old, "{}: {f} was rewritten", w.name);
+            assert_ne!(i0, i1, "{}: {f} is a new file, renamed into place", w.name);
+            let keep = std::fs::read(dir.path().join(format!("{f}.keep"))).unwrap();
+            assert_eq!(
+                &keep, old,
+                "{}: {f}: the old file was not written to",
+                w.name
+            );
+            if *f == "log.csv" {
+                assert!(
+                    new.starts_with(DEMO_LOG.as_bytes()),
+                    "{}: rows kept",
+                    w.name
+                );
+            }
+        }
+        assert_eq!(leftovers(dir.path()), Vec::<String>::new(), "{}", w.name);
+        // Only the named files changed (and the folders holding them).
+        let changed: Vec<String> = differences(&before, &after)
+            .into_iter()
+            .filter(|d| {
+                !w.files.iter().any(|f| d == &format!("{f}: changed"))
+                    && d != ".: changed"
+                    && d != "charts: changed"
+            })
+            .collect();
+        assert!(changed.is_empty(), "{}: {changed:?}", w.name);
+    }
+    // init FILE creates a new file the same way.
+    let dir = fresh("writer-init");
+    let r = run(dir.cmd().args(["init", "starter.toml"]));
+    assert_eq!(r.code, Some(0), "{}", r.stderr);
+    assert_eq!(r.stdout, "");
+    assert_eq!(
+        std::fs::read_to_string(dir.path().join("starter.toml")).unwrap(),
+        dosewright::plan::starter::STARTER_PLAN
+    );
+    assert_eq!(dir.listing(), ["log.csv", "plan.toml", "starter.toml"]);
+}
+
+/// A plan that fails validation, and a log with one bad row at the end.
+fn bad_inputs(dir: &Scratch) {
+    dir.write(
+        "bad.toml",
+        DEMO_PLAN.replace("mass_kg = 104.0", "mass_kg = 3000"),
+    );
+    dir.write(
+        "bad.csv",
+        format!("{DEMO_LOG}2027-03-24,weigh-in,10400,,,,,,,typed without the point\n"),
+    );
+}
+
+#[test]
+fn a_failed_run_leaves_earlier_outputs_byte_identical() {
+    let cases: &[(&str, &[&str], &str)] = &[
+        (
+            "schedule, bad plan",
+            &[
+                "schedule", "bad.toml", "--out", "out.txt", "--chart", "charts",
+            ],
+            "error: bad.toml:10:11: participant.mass_kg: value 3000 is out of range; allowed 30 to 350 kg",
+        ),
+        (
+            "schedule, bad log row",
+            &[
+                "schedule",
+                "plan.toml",
+                "--log",
+                "bad.csv",
+                "--out",
+                "out.txt",
+                "--chart",
+                "charts",
+            ],
+            "error: bad.csv:44:3: mass_kg: value 10400 is out of range; allowed 30 to 350 kg",
+        ),
+        (
+            "compare, bad plan",
+            &[
+                "compare", "bad.toml", "--out", "out.txt", "--chart", "charts",
+            ],
+            "error: bad.toml:10:11: participant.mass_kg: value 3000 is out of range; allowed 30 to 350 kg",
+        ),
+        (
+            "compare, bad log row",
+            &[
+                "compare",
+                "plan.toml",
+                "--log",
+                "bad.csv",
+                "--out",
+                "out.txt",
+                "--chart",
+                "charts",
+            ],
+            "error: bad.csv:44:3: mass_kg: value 10400 is out of range; allowed 30 to 350 kg",
+        ),
+        (
+            "goal, bad plan",
+            &[
+                "goal",
+                "bad.toml",
+                "--lose-kg",
+                "3",
+                "--by-week",
+                "12",
+                "--out",
+                "out.txt",
+            ],
+            "error: bad.toml:10:11: participant.mass_kg: value 3000 is out of range; allowed 30 to 350 kg",
+        ),
+        (
+            "fit, bad log row",
+            &[
+                "fit",
+                "plan.toml",
+                "--log",
+                "bad.csv",
+                "--out",
+                "out.txt",
+                "--chart",
+                "charts",
+            ],
+            "error: bad.csv:44:3: mass_kg: value 10400 is out of range; allowed 30 to 350 kg",
+        ),
+        (
+            "log add, bad row",
+            &[
+                "log",
+                "add",
+                "plan.toml",
+                "--log",
+                "log.csv",
+                "--date",
+                "2027-03-24",
+                "--session",
+                "900",
+            ],
+            "error: log.csv:44:5: minutes: value 900 is out of range; allowed 0 to 600 min",
+        ),
+        (
+            "log add to a log with a bad row",
+            &[
+                "log",
+                "add",
+                "plan.toml",
+                "--log",
+                "bad.csv",
+                "--date",
+                "2027-03-25",
+                "--weigh-in",
+                "103",
+            ],
+            "error: bad.csv:44:3: mass_kg: value 10400 is out of range; allowed 30 to 350 kg",
+        ),
+        (
+            "init over an earlier file",
+            &["init", "out.txt"],
+            "error: out.txt: the file exists; refusing to overwrite it (choose another name or remove it first)",
+        ),
+    ];
+    for (name, args, message) in cases {
+        let dir = fresh("failed");
+        bad_inputs(&dir);
+        seed(&dir, &["out.txt"]);
+        seed(&dir, &SCHEDULE_CHARTS);
+        seed(&dir, &[FIT_CHART]);
+        let before = snapshot(dir.path());
+        let r = run(dir.cmd().args(*args));
+        assert_eq!(r.code, Some(2), "{name}: {}", r.stderr);
+        assert_eq!(r.stdout, "", "{name}");
+        assert_eq!(r.stderr, format!("{message}\n"), "{name}");
+        assert_eq!(
+            differences(&before, &snapshot(dir.path())),
+            Vec::<String>::new(),
+            "{name}: nothing changed"
+        );
+    }
+}
+
+/// Gives a folder back its write permission when dropped, so the scratch folder can
+/// be removed whatever happens.
+struct Writable(PathBuf);
+
+impl Drop for Writable {
+    fn drop(&mut self) {
+        let _ = std::fs::set_permissions(&self.0, std::fs::Permissions::from_mode(0o755));
+    }
+}
+
+/// How to run the binary as a user that the folder's permissions bind: the current
+/// user when it cannot write to a read-only folder, else (root) `setpriv` to
+/// nobody; None, with a printed note, when neither works.
+fn unprivileged() -> Option<Vec<String>> {
+    let bin = env!("CARGO_BIN_EXE_dosewright").to_string();
+    let probe = Scratch::new("probe");
+    std::fs::set_permissions(probe.path(), std::fs::Permissions::from_mode(0o555)).unwrap();
+    let _w = Writable(probe.path().to_path_buf());
+    let f = probe.path().join("probe");
+    if std::fs::File::create(&f).is_err() {
+        return Some(vec![bin]);
+    }
+    let _ = std::fs::remove_file(&f);
+    let setpriv: Vec<String> = [
+        "setpriv",
+        "--reuid=65534",
+        "--regid=65534",
+        "--clear-groups",
+    ]
+    .iter()
+    .map(|s| s.to_string())
+    .chain(std::iter::once(bin))
+    .collect();
+    let works = std::process::Command::new(&setpriv[0])
+        .args(&setpriv[1..])
+        .arg("--version")
+        .output()
+        .map(|o| o.status.success())
+        .unwrap_or(false);
+    if works {
+        Some(setpriv)
+    } else {
+        eprintln!(
+            "skipped: this user ignores folder permissions and `setpriv` to nobody does not run the binary"
+        );
+        None
+    }
+}
+
+#[test]
+fn a_read_only_folder_leaves_earlier_files_byte_identical() {
+    let Some(runner) = unprivileged() else {
+        return;
+    };
+    // (name, args, the folder made read-only, the file the message names)
+    let cases: &[(&str, &[&str], &str, &str)] = &[
+        (
+            "schedule --out",
+            &["schedule", "plan.toml", "--out", "out/out.txt"],
+            "out",
+            "out/out.txt",
+        ),
+        (
+            "compare --out",
+            &[
+                "compare",
+                "plan.toml",
+                "--format",
+                "csv",
+                "--out",
+                "out/out.txt",
+            ],
+            "out",
+            "out/out.txt",
+        ),
+        (
+            "goal --out",
+            &[
+                "goal",
+                "plan.toml",
+                "--lose-kg",
+                "3",
+                "--by-week",
+                "12",
+                "--out",
+                "out/out.txt",
+            ],
+            "out",
+            "out/out.txt",
+        ),
+        (
+            "fit --out",
+            &[
+                "fit",
+                "plan.toml",
+                "--log",
+                "log.csv",
+                "--out",
+                "out/out.txt",
+            ],
+            "out",
+            "out/out.txt",
+        ),
+        (
+            "schedule --chart",
+            &["schedule", "plan.toml", "--chart", "charts"],
+            "charts",
+            "charts/DEMO-017-mass.svg",
+        ),
+        (
+            "compare --chart",
+            &["compare", "plan.toml", "--chart", "charts"],
+            "charts",
+            "charts/DEMO-017-mass.svg",
+        ),
+        (
+            "fit --chart",
+            &["fit", "plan.toml", "--log", "log.csv", "--chart", "charts"],
+            "charts",
+            "charts/DEMO-017-fit.svg",
+        ),
+        (
+            "init FILE",
+            &["init", "out/new.toml"],
+            "out",
+            "out/new.toml",
+        ),
+        (
+            "log add",
+            &[
+                "log",
+                "add",
+                "plan.toml",
+                "--log",
+                "out/log.csv",
+                "--date",
+                "2027-03-24",
+                "--weigh-in",
+                "103.1",
+            ],
+            "out",
+            "out/log.csv",
+        ),
+    ];
+    for (name, args, locked, named) in cases {
+        let dir = fresh("read-only");
+        seed(&dir, &["out/out.txt"]);
+        seed(&dir, &SCHEDULE_CHARTS);
+        seed(&dir, &[FIT_CHART]);
+        std::fs::write(dir.path().join("out/log.csv"), DEMO_LOG).unwrap();
+        // Every file and folder may be written by anyone: only the locked folder
+        // stands in the way.
+        for (path, node) in snapshot(dir.path()) {
+            let mode = if matches!(node, Node::File { .. }) {
+                0o666
+            } else {
+                0o777
+            };
+            std::fs::set_permissions(dir.path().join(path), std::fs::Permissions::from_mode(mode))
+                .unwrap();
+        }
+        let lock = dir.path().join(locked);
+        std::fs::set_permissions(&lock, std::fs::Permissions::from_mode(0o555)).unwrap();
+        let _w = Writable(lock);
+        let before = snapshot(dir.path());
+        let mut cmd = assert_cmd::Command::new(&runner[0]);
+        cmd.args(&runner[1..])
+            .args(*args)
+            .current_dir(dir.path())
+            .env("NO_COLOR", "1");
+        let r = run(&mut cmd);
+        assert!(
+            matches!(r.code, Some(c) if c != 0),
+            "{name}: exit {:?}",
+            r.code
+        );
+        assert_eq!(r.stdout, "", "{name}");
+        assert!(
+            r.stderr
+                .starts_with(&format!("error: {named}: cannot write: ")),
+            "{name}: {}",
+            r.stderr
+        );
+        assert_eq!(
+            differences(&before, &snapshot(dir.path())),
+            Vec::<String>::new(),
+            "{name}: nothing changed"
+        );
+    }
+}
+
+/// The longest file name the scratch folder's file system takes.
+const NAME_MAX: usize = 255;
+
+#[test]
+fn a_temporary_file_that_cannot_be_made_leaves_the_earlier_file_alone() {
+    // A name that fits, whose temporary name (`.NAME.PID.tmp`) does not: the write
+    // passes every check and fails making the temporary file.
+    let long = format!("{}.txt", "o".repeat(NAME_MAX - 4 - 1));
+    assert!(long.len() < NAME_MAX && long.len() + 7 > NAME_MAX);
+    let probe = Scratch::new("name-max");
+    if std::fs::write(probe.path().join(&long), OLD).is_err() {
+        eprintln!(
+            "skipped: the temp folder's file system takes no {}-byte names",
+            long.len()
+        );
+        return;
+    }
+    for args in [
+        &["schedule", "plan.toml", "--out"][..],
+        &["compare", "plan.toml", "--format", "json", "--out"][..],
+        &[
+            "goal",
+            "plan.toml",
+            "--lose-kg",
+            "3",
+            "--by-week",
+            "12",
+            "--out",
+        ][..],
+        &["fit", "plan.toml", "--log", "log.csv", "--out"][..],
+    ] {
+        let dir = fresh("long-name");
+        dir.write(&long, OLD);
+        let before = snapshot(dir.path());
+        let r = run(dir.cmd().args(args).arg(&long));
+        assert_eq!(r.code, Some(1), "{args:?}: {}", r.stderr);
+        assert_eq!(r.stdout, "");
+        assert!(
+            r.stderr
+                .starts_with(&format!("error: {long}: cannot write: ")),
+            "{}",
+            r.stderr
+        );
+        let after = snapshot(dir.path());
+        assert_eq!(
+            before.get(&long),
+            after.get(&long),
+            "{args:?}: the earlier file"
+        );
+        assert_eq!(dir.listing(), ["log.csv", long.as_str(), "plan.toml"]);
+    }
+
+    // The same for the log that `log add` appends to.
+    let dir = fresh("long-log");
+    dir.write(&long, DEMO_LOG);
+    let before = snapshot(dir.path());
+    let r = run(dir.cmd().args([
+        "log",
+        "add",
+        "plan.toml",
+        "--log",
+        &long,
+        "--date",
+        "2027-03-24",
+        "--weigh-in",
+        "103",
+    ]));
+    assert_eq!(r.code, Some(1), "{}", r.stderr);
+    assert_eq!(before.get(&long), snapshot(dir.path()).get(&long));
+    assert_eq!(dir.listing(), ["log.csv", long.as_str(), "plan.toml"]);
+}
+
+#[test]
+fn an_output_into_proc_fails_and_leaves_no_file() {
+    // Into /proc no file can be made at all: no partial file appears.
+    if !Path::new("/proc/self").is_dir() {
+        eprintln!("skipped: no /proc here");
+        return;
+    }
+    let target = format!("/proc/dosewright-hard-edges-{}.txt", std::process::id());
+    let dir = fresh("proc");
+    let r = run(dir.cmd().args(["schedule", "plan.toml", "--out", &target]));
+    assert_eq!(r.code, Some(1), "{}", r.stderr);
+    assert_eq!(r.stdout, "");
+    assert!(
+        r.stderr
+            .starts_with(&format!("error: {target}: cannot write: ")),
+        "{}",
+        r.stderr
+    );
+    assert!(!Path::new(&target).exists());
+    assert_eq!(dir.listing(), ["log.csv", "plan.toml"]);
+}
+
+#[test]
+fn a_chart_that_fails_midway_leaves_each_file_whole() {
+    // A participant code this long makes `CODE-mass.svg` writable while the
+    // temporary name of `CODE-composition.svg` is too long: the run fails after the
+    // first chart. Each chart file is then either its earlier bytes or a complete
+    // new chart (files are replaced one at a time; see the report), never a part.
+    let code = "Q".repeat(NAME_MAX - 22);
+    let dir = fresh("chart-midway");
+    dir.write(
+        "plan.toml",
+        DEMO_PLAN.replace("id = \"DEMO-017\"", &format!("id = \"{code}\"")),
+    );
+    let names: Vec<String> = ["mass", "composition", "minutes", "energy"]
+        .iter()
+        .map(|n| format!("charts/{code}-{n}.svg"))
+        .collect();
+    let refs: Vec<&str> = names.iter().map(String::as_str).collect();
+    seed(&dir, &refs);
+    dir.write("out.txt", OLD);
+    let before = snapshot(dir.path());
+    let r = run(dir.cmd().args([
+        "schedule",
+        "plan.toml",
+        "--chart",
+        "charts",
+        "--out",
+        "out.txt",
+    ]));
+    assert_eq!(r.code, Some(1), "{}", r.stderr);
+    assert_eq!(r.stdout, "");
+    assert!(
+        r.stderr
+            .starts_with(&format!("error: {}: cannot write: ", names[1])),
+        "{}",
+        r.stderr
+    );
+    let after = snapshot(dir.path());
+    let mass = std::fs::read_to_string(dir.path().join(&names[0])).unwrap();
+    assert!(
+        mass.starts_with("<?xml") && mass.contains("<svg") && mass.ends_with("</svg>\n"),
+        "the first chart is whole"
+    );
+    for f in names[1..]
+        .iter()
+        .chain(std::iter::once(&"out.txt".to_string()))
+    {
+        assert_eq!(before.get(f), after.get(f), "{f} is untouched");
+    }
+    assert_eq!(leftovers(dir.path()), Vec::<String>::new());
+}
+
+// ---------------------------------------------------------------------------
+// 4. Determinism
+// ---------------------------------------------------------------------------
+
+/// One determinism run: its name, the `(command, format)` kinds it covers, its
+/// arguments.
+type OutputRun = (
+    &'static str,
+    &'static [(&'static str, &'static str)],
+    Vec<&'static str>,
+);
+
+/// Every output in every format; charts ride along with the table runs.
+fn outputs() -> Vec<OutputRun> {
+    vec![
+        (
+            "schedule table + charts",
+            &[("schedule", "table"), ("schedule", "chart")],
+            vec![
+                "schedule",
+                "plan.toml",
+                "--log",
+                "log.csv",
+                "--chart",
+                "charts",
+            ],
+        ),
+        (
+            "schedule csv",
+            &[("schedule", "csv")],
+            vec!["schedule", "plan.toml", "--format", "csv"],
+        ),
+        (
+            "schedule json",
+            &[("schedule", "json")],
+            vec![
+                "schedule",
+                "plan.toml",
+                "--log",
+                "log.csv",
+                "--format",
+                "json",
+            ],
+        ),
+        (
+            "schedule json --out",
+            &[],
+            vec![
+                "schedule",
+                "plan.toml",
+                "--format",
+                "json",
+                "--out",
+                "s.json",
+            ],
+        ),
+        (
+            "compare table + charts",
+            &[("compare", "table"), ("compare", "chart")],
+            vec![
+                "compare",
+                "plan.toml",
+                "--doses",
+                "6,12",
+                "--chart",
+                "charts",
+            ],
+        ),
+        (
+            "compare csv",
+            &[("compare", "csv")],
+            vec!["compare", "plan.toml", "--format", "csv", "--doses", "6,12"],
+        ),
+        (
+            "compare json",
+            &[("compare", "json")],
+            vec![
+                "compare",
+                "plan.toml",
+                "--log",
+                "log.csv",
+                "--format",
+                "json",
+            ],
+        ),
+        (
+            "compare markdown",
+            &[("compare", "markdown")],
+            vec![
+                "compare",
+                "plan.toml",
+                "--format",
+                "markdown",
+                "--add-scenario",
+                "x:intake_fraction=0.7",
+            ],
+        ),
+        (
+            "goal table",
+            &[("goal", "table")],
+            vec!["goal", "plan.toml", "--lose-kg", "3", "--by-week", "12"],
+        ),
+        (
+            "goal json",
+            &[("goal", "json")],
+            vec![
+                "goal",
+                "plan.toml",
+                "--lose-percent",
+                "3",
+                "--by-week",
+                "20",
+                "--log",
+                "log.csv",
+                "--format",
+                "json",
+            ],
+        ),
+        (
+            "fit table + chart",
+            &[("fit", "table"), ("fit", "chart")],
+            vec!["fit", "plan.toml", "--log", "log.csv", "--chart", "charts"],
+        ),
+        (
+            "fit json",
+            &[("fit", "json")],
+            vec![
+                "fit",
+                "plan.toml",
+                "--log",
+                "log.csv",
+                "--parameter",
+                "activity_fraction",
+                "--format",
+                "json",
+            ],
+        ),
+        ("check", &[("check", "")], vec!["check", "plan.toml"]),
+        ("activities", &[("activities", "")], vec!["activities"]),
+        (
+            "activities search",
+            &[],
+            vec!["activities", "walking", "--met-min", "3"],
+        ),
+        ("init", &[("init", "")], vec!["init"]),
+        ("init FILE", &[], vec!["init", "new.toml"]),
+        (
+            "log add",
+            &[("log add", "")],
+            vec![
+                "log",
+                "add",
+                "plan.toml",
+                "--log",
+                "log.csv",
+                "--date",
+                "2027-03-24",
+                "--session",
+                "40",
+                "--rpe",
+                "12",
+            ],
+        ),
+    ]
+}
+
+/// Everything a run leaves: exit code, stdout, stderr, and every file's bytes.
+type Outcome = (Option<i32>, String, String, BTreeMap<String, Vec<u8>>);
+
+fn outcome(args: &[&str], env: &[(&str, &str)]) -> Outcome {
+    let dir = fresh("determinism");
+    let mut cmd = dir.cmd();
+    cmd.env_remove("LC_ALL").env_remove("LANG").env_remove("TZ");
+    for (k, v) in env {
+        cmd.env(k, v);
+    }
+    let r = run(cmd.args(args));
+    let files = snapshot(dir.path())
+        .into_iter()
+        .filter_map(|(k, n)| match n {
+            Node::File { bytes, .. } => Some((k, bytes)),
+            _ => None,
+        })
+        .collect();
+    (r.code, r.stdout, r.stderr, files)
+}
+
+const ENVIRONMENTS: [&[(&str, &str)]; 5] = [
+    &[("LC_ALL", "C")],
+    &[("LC_ALL", "de_DE.UTF-8")],
+    &[("LANG", "fr_FR.UTF-8")],
+    &[("TZ", "Pacific/Kiritimati")],
+    &[("TZ", "America/Anchorage")],
+];
+
+#[test]
+fn every_output_is_byte_identical_across_runs_locales_and_time_zones() {
+    let today = chrono::Local::now().date_naive();
+    let near_today: Vec<String> = [-1i64, 0, 1]
+        .iter()
+        .map(|d| (today + chrono::Duration::days(*d)).to_string())
+        .collect();
+    let in_plan = |d: &String| d.as_str() >= PLAN_FIRST && d.as_str() <= PLAN_LAST;
+    if near_today.iter().any(in_plan) {
+        eprintln!("note: today falls within the demo plan's dates; the clock check is skipped");
+    }
+    for (name, _, args) in outputs() {
+        let first = outcome(&args, &[]);
+        assert_eq!(first.0, Some(0), "{name}: {}", first.2);
+        let again = outcome(&args, &[]);
+        assert!(first == again, "{name}: a second run differs");
+        for env in ENVIRONMENTS {
+            let other = outcome(&args, env);
+            assert!(
+                first == other,
+                "{name}: the output under {env:?} differs from the plain run"
+            );
+        }
+        let mut texts = vec![first.1.clone(), first.2.clone()];
+        texts.extend(
+            first
+                .3
+                .values()
+                .map(|b| String::from_utf8_lossy(b).into_owned()),
+        );
+        for d in near_today.iter().filter(|d| !in_plan(d)) {
+            for t in &texts {
+                assert!(
+                    !t.contains(d.as_str()),
+                    "{name}: prints the clock's date {d}"
+                );
+            }
+        }
+    }
+}
+
+#[test]
+fn the_determinism_runs_cover_every_command_format_and_chart() {
+    let covered: BTreeSet<(String, String)> = outputs()
+        .iter()
+        .flat_map(|(_, kinds, _)| kinds.iter())
+        .map(|(c, f)| (c.to_string(), f.to_string()))
+        .collect();
+    let missing: Vec<_> = output_kinds().difference(&covered).cloned().collect();
+    assert!(missing.is_empty(), "outputs not in outputs(): {missing:?}");
+}
+
+// ---------------------------------------------------------------------------
+// 6. Cautions on every human-facing output
+// ---------------------------------------------------------------------------
+//
+// AUDIT lists every human-facing output. A NEW COMMAND, FORMAT OR CHART MUST BE ADDED
+// TO AUDIT (or, if it prints only a one-line confirmation, to NOT_REPORTS with the
+// reason): `every_command_format_and_chart_is_audited` reads the commands, their
+// `--format` values and their `--chart` options from `--help` and fails on any that
+// is in neither table. Machine-readable outputs (JSON) are audited by
+// `json_outputs_carry_the_screening_and_the_cautions`.
+
+/// Where an output's text is.
+#[derive(Clone, Copy)]
+enum Where {
+    Stdout,
+    Stderr,
+    /// A file the run writes (a chart's caption is read from its `<text>`s).
+    File(&'static str),
+}
+
+/// What the screening part must show.
+#[derive(Clone, Copy, PartialEq)]
+enum Screen {
+    /// The participant's screening outcome (or "screening not recorded").
+    Outcome,
+    /// No participant: the call to screen first.
+    Call,
+}
+
+struct Audited {
+    name: &'static str,
+    kind: (&'static str, &'static str),
+    args: &'static [&'static str],
+    at: Where,
+    screen: Screen,
+}
+
+const fn audited(
+    name: &'static str,
+    kind: (&'static str, &'static str),
+    args: &'static [&'static str],
+    at: Where,
+    screen: Screen,
+) -> Audited {
+    Audited {
+        name,
+        kind,
+        args,
+        at,
+        screen,
+    }
+}
+
+const SCHEDULE_CHART_ARGS: &[&str] = &["schedule", "plan.toml", "--chart", "charts"];
+const COMPARE_CHART_ARGS: &[&str] = &["compare", "plan.toml", "--chart", "charts"];
+
+const AUDIT: &[Audited] = &[
+    audited(
+        "schedule table",
+        ("schedule", "table"),
+        &["schedule", "plan.toml"],
+        Where::Stdout,
+        Screen::Outcome,
+    ),
+    audited(
+        "schedule table with a log",
+        ("schedule", "table"),
+        &[
+            "schedule",
+            "plan.toml",
+            "--log",
+            "log.csv",
+            "--scenario",
+            "eats back 40%",
+        ],
+        Where::Stdout,
+        Screen::Outcome,
+    ),
+    audited(
+        "schedule table --out",
+        ("schedule", "table"),
+        &["schedule", "plan.toml", "--out", "s.txt"],
+        Where::File("s.txt"),
+        Screen::Outcome,
+    ),
+    audited(
+        "schedule csv side notes",
+        ("schedule", "csv"),
+        &["schedule", "plan.toml", "--format", "csv"],
+        Where::Stderr,
+        Screen::Outcome,
+    ),
+    audited(
+        "schedule csv --out side notes",
+        ("schedule", "csv"),
+        &["schedule", "plan.toml", "--format", "csv", "--out", "s.csv"],
+        Where::Stderr,
+        Screen::Outcome,
+    ),
+    audited(
+        "schedule mass chart",
+        ("schedule", "chart"),
+        SCHEDULE_CHART_ARGS,
+        Where::File(SCHEDULE_CHARTS[0]),
+        Screen::Outcome,
+    ),
+    audited(
+        "schedule composition chart",
+        ("schedule", "chart"),
+        SCHEDULE_CHART_ARGS,
+        Where::File(SCHEDULE_CHARTS[1]),
+        Screen::Outcome,
+    ),
+    audited(
+        "schedule minutes chart",
+        ("schedule", "chart"),
+        SCHEDULE_CHART_ARGS,
+        Where::File(SCHEDULE_CHARTS[2]),
+        Screen::Outcome,
+    ),
+    audited(
+        "schedule energy chart",
+        ("schedule", "chart"),
+        SCHEDULE_CHART_ARGS,
+        Where::File(SCHEDULE_CHARTS[3]),
+        Screen::Outcome,
+    ),
+    audited(
+        "compare table",
+        ("compare", "table"),
+        &["compare", "plan.toml", "--doses", "6,12"],
+        Where::Stdout,
+        Screen::Outcome,
+    ),
+    audited(
+        "compare table with a log",
+        ("compare", "table"),
+        &["compare", "plan.toml", "--log", "log.csv"],
+        Where::Stdout,
+        Screen::Outcome,
+    ),
+    audited(
+        "compare markdown",
+        ("compare", "markdown"),
+        &["compare", "plan.toml", "--format", "markdown"],
+        Where::Stdout,
+        Screen::Outcome,
+    ),
+    audited(
+        "compare csv side notes",
+        ("compare", "csv"),
+        &["compare", "plan.toml", "--format", "csv"],
+        Where::Stderr,
+        Screen::Outcome,
+    ),
+    audited(
+        "compare mass chart",
+        ("compare", "chart"),
+        COMPARE_CHART_ARGS,
+        Where::File(SCHEDULE_CHARTS[0]),
+        Screen::Outcome,
+    ),
+    audited(
+        "compare composition chart",
+        ("compare", "chart"),
+        COMPARE_CHART_ARGS,
+        Where::File(SCHEDULE_CHARTS[1]),
+        Screen::Outcome,
+    ),
+    audited(
+        "compare minutes chart",
+        ("compare", "chart"),
+        COMPARE_CHART_ARGS,
+        Where::File(SCHEDULE_CHARTS[2]),
+        Screen::Outcome,
+    ),
+    audited(
+        "compare energy chart",
+        ("compare", "chart"),
+        COMPARE_CHART_ARGS,
+        Where::File(SCHEDULE_CHARTS[3]),
+        Screen::Outcome,
+    ),
+    audited(
+        "goal table",
+        ("goal", "table"),
+        &["goal", "plan.toml", "--lose-kg", "3", "--by-week", "12"],
+        Where::Stdout,
+        Screen::Outcome,
+    ),
+    audited(
+        "goal table with a log",
+        ("goal", "table"),
+        &[
+            "goal",
+            "plan.toml",
+            "--lose-kg",
+            "3",
+            "--by-week",
+            "20",
+            "--log",
+            "log.csv",
+        ],
+        Where::Stdout,
+        Screen::Outcome,
+    ),
+    audited(
+        "fit table",
+        ("fit", "table"),
+        &["fit", "plan.toml", "--log", "log.csv"],
+        Where::Stdout,
+        Screen::Outcome,
+    ),
+    audited(
+        "fit chart",
+        ("fit", "chart"),
+        &["fit", "plan.toml", "--log", "log.csv", "--chart", "charts"],
+        Where::File(FIT_CHART),
+        Screen::Outcome,
+    ),
+    audited(
+        "check",
+        ("check", ""),
+        &["check", "plan.toml"],
+        Where::Stdout,
+        Screen::Outcome,
+    ),
+    audited(
+        "activities",
+        ("activities", ""),
+        &["activities"],
+        Where::Stdout,
+        Screen::Call,
+    ),
+    audited(
+        "activities with no match",
+        ("activities", ""),
+        &["activities", "underwater unicycling"],
+        Where::Stdout,
+        Screen::Call,
+    ),
+    audited(
+        "init starter on stdout",
+        ("init", ""),
+        &["init"],
+        Where::Stdout,
+        Screen::Call,
+    ),
+    audited(
+        "init starter file",
+        ("init", ""),
+        &["init", "new.toml"],
+        Where::File("new.toml"),
+        Screen::Call,
+    ),
+];
+
+/// Outputs that are not reports: they carry no projection and no advice.
+const NOT_REPORTS: &[((&str, &str), &str)] = &[(
+    ("log add", ""),
+    "one confirmation line on stderr (\"log.csv: added line N: ...\") and the row's own warnings",
+)];
+
+/// Gaps in the cautions that exist today, found by this audit (reported; their
+/// owners fix them in src/). Each is asserted to be still missing, so closing one
+/// fails here until it is removed from this list; `cautions_have_no_known_gaps`
+/// (ignored) is the goal.
+const KNOWN_GAPS: &[(&str, &str)] = &[];
+
+/// The demo plan without its screening block.
+fn unscreened_plan() -> String {
+    let block = "[participant.screening]\nexercises_regularly = false\nknown_disease = false\nsigns_or_symptoms = false\nmedical_clearance = false\n\n";
+    assert_eq!(
+        DEMO_PLAN.matches(block).count(),
+        1,
+        "the demo's screening block"
+    );
+    DEMO_PLAN.replace(block, "")
+}
+
+/// The screening recommendation the library gives for `plan`.
+fn recommendation(plan: &str) -> String {
+    let p = dosewright::plan::parse_plan("plan.toml", plan).expect("a valid plan");
+    dosewright::app::schedule_report(&p)
+        .expect("the plan simulates")
+        .screening
+        .recommendation
+}
+
+/// The text of an SVG's `<text>` elements, unescaped, joined by spaces (a caption
+/// wraps over several).
+fn svg_text(svg: &str) -> String {
+    let mut parts = Vec::new();
+    for chunk in svg.split("<text").skip(1) {
+        let Some(start) = chunk.find('>') else {
+            continue;
+        };
+        let Some(end) = chunk.find("</text>") else {
+            continue;
+        };
+        parts.push(
+            chunk[start + 1..end]
+                .replace("&lt;", "<")
+                .replace("&gt;", ">")
+                .replace("&quot;", "\"")
+                .replace("&apos;", "'")
+                .replace("&amp;", "&"),
+        );
+    }
+    parts.join(" ")
+}
+
+/// The audit's checks: (concept, does `text` show it). `outcome` is the plan's
+/// screening recommendation.
+fn missing_concepts(text: &str, screen: Screen, outcome: &str) -> Vec<&'static str> {
+    let lower = text.to_lowercase();
+    let mut missing = Vec::new();
+    let screening = match screen {
+        Screen::Outcome => text.contains(outcome),
+        Screen::Call => lower.contains("pre-participation") && lower.contains("screening"),
+    };
+    if !screening {
+        missing.push("screening outcome");
+    }
+    let checks: [(&str, bool); 5] = [
+        ("clearance", lower.contains("obtain clearance")),
+        (
+            "stop signs",
+            lower.contains("stop")
+                && (lower.contains("chest pain") || lower.contains("warning signs")),
+        ),
+        ("model estimates", lower.contains("model estimates")),
+        (
+            "local clinical rules",
+            lower.contains("local clinical rules"),
+        ),
+        (
+            "licensed professionals",
+            lower.contains("licensed professionals"),
+        ),
+    ];
+    missing.extend(checks.iter().filter(|(_, ok)| !ok).map(|(c, _)| *c));
+    missing
+}
+
+/// The text of one audited output for `plan`.
+fn audited_text(a: &Audited, plan: &str) -> String {
+    let dir = fresh("cautions");
+    dir.write("plan.toml", plan);
+    let r = run(dir.cmd().args(a.args));
+    assert_eq!(r.code, Some(0), "{}: {}", a.name, r.stderr);
+    match a.at {
+        Where::Stdout => r.stdout,
+        Where::Stderr => r.stderr,
+        Where::File(f) => {
+            let t = std::fs::read_to_string(dir.path().join(f))
+                .unwrap_or_else(|e| panic!("{}: {f}: {e}", a.name));
+            if f.ends_with(".svg") { svg_text(&t) } else { t }
+        }
+    }
+}
+
+/// (output, concept) pairs missing from the audited outputs, for both a screened
+/// and an unscreened participant.
+fn audit_findings() -> BTreeSet<(String, String)> {
+    let mut found = BTreeSet::new();
+    let unscreened = unscreened_plan();
+    let plans = [DEMO_PLAN.to_string(), unscreened];
+    let outcomes: Vec<String> = plans.iter().map(|p| recommendation(p)).collect();
+    assert!(
+        outcomes[1].starts_with("screening not recorded"),
+        "{}",
+        outcomes[1]
+    );
+    for a in AUDIT {
+        for (plan, outcome) in plans.iter().zip(&outcomes) {
+            let text = audited_text(a, plan);
+            for c in missing_concepts(&text, a.screen, outcome) {
+                found.insert((a.name.to_string(), c.to_string()));
+            }
+        }
+    }
+    found
+}
+
+#[test]
+fn every_human_facing_output_carries_the_cautions() {
+    let found = audit_findings();
+    let known: BTreeSet<(String, String)> = KNOWN_GAPS
+        .iter()
+        .map(|(o, c)| (o.to_string(), c.to_string()))
+        .collect();
+    let new: Vec<_> = found.difference(&known).collect();
+    assert!(new.is_empty(), "outputs lacking cautions: {new:?}");
+    let closed: Vec<_> = known.difference(&found).collect();
+    assert!(
+        closed.is_empty(),
+        "known gaps now closed (remove them from KNOWN_GAPS): {closed:?}"
+    );
+    for (o, c) in &known {
+        eprintln!("known gap: {o} lacks {c}");
+    }
+}
+
+#[test]
+fn cautions_have_no_known_gaps() {
+    let found = audit_findings();
+    assert!(found.is_empty(), "outputs lacking cautions: {found:?}");
+}
+
+#[test]
+fn the_audit_catches_an_output_without_cautions() {
+    let plain = "Week 1: 30 minutes on Monday.";
+    assert_eq!(
+        missing_concepts(plain, Screen::Outcome, "no medical clearance needed"),
+        [
+            "screening outcome",
+            "clearance",
+            "stop signs",
+            "model estimates",
+            "local clinical rules",
+            "licensed professionals"
+        ]
+    );
+    // The cautions themselves pass, with the outcome line.
+    let full = format!(
+        "Screening result: x.\n{}",
+        dosewright::safety::CAUTIONS.join("\n")
+    );
+    assert_eq!(
+        missing_concepts(&full, Screen::Outcome, "x"),
+        Vec::<&str>::new()
+    );
+    // The outcome must be this participant's.
+    assert_eq!(
+        missing_concepts(&full, Screen::Outcome, "screening not recorded"),
+        ["screening outcome"]
+    );
+}
+
+#[test]
+fn every_command_format_and_chart_is_audited() {
+    let mut covered: BTreeSet<(String, String)> = AUDIT
+        .iter()
+        .map(|a| (a.kind.0.to_string(), a.kind.1.to_string()))
+        .collect();
+    covered.extend(
+        NOT_REPORTS
+            .iter()
+            .map(|((c, f), _)| (c.to_string(), f.to_string())),
+    );
+    covered.extend(
+        JSON_OUTPUTS
+            .iter()
+            .map(|(c, _)| (c.to_string(), "json".to_string())),
+    );
+    let missing: Vec<_> = output_kinds().difference(&covered).cloned().collect();
+    assert!(
+        missing.is_empty(),
+        "outputs in neither AUDIT, NOT_REPORTS nor JSON_OUTPUTS: {missing:?}"
+    );
+}
+
+/// The machine-readable outputs.
+const JSON_OUTPUTS: &[(&str, &[&str])] = &[
+    ("schedule", &["schedule", "plan.toml", "--format", "json"]),
+    ("compare", &["compare", "plan.toml", "--format", "json"]),
+    (
+        "goal",
+        &[
+            "goal",
+            "plan.toml",
+            "--lose-kg",
+            "3",
+            "--by-week",
+            "12",
+            "--format",
+            "json",
+        ],
+    ),
+    (
+        "fit",
+        &["fit", "plan.toml", "--log", "log.csv", "--format", "json"],
+    ),
+];
+
+#[test]
+fn json_outputs_carry_the_screening_and_the_cautions() {
+    for plan in [DEMO_PLAN.to_string(), unscreened_plan()] {
+        let outcome = recommendation(&plan);
+        for (name, args) in JSON_OUTPUTS {
+            let dir = fresh("json-cautions");
+            dir.write("plan.toml", &plan);
+            let r = run(dir.cmd().args(*args));
+            assert_eq!(r.code, Some(0), "{name}: {}", r.stderr);
+            let j: serde_json::Value = serde_json::from_str(&r.stdout).unwrap();
+            assert_eq!(text(&j["screening"], "recommendation"), outcome, "{name}");
+            let cautions: Vec<&str> = array(&j, "cautions")
+                .iter()
+                .map(|c| c.as_str().unwrap())
+                .collect();
+            assert_eq!(cautions, dosewright::safety::CAUTIONS, "{name}");
+        }
+    }
+}
