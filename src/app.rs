@@ -282,11 +282,7 @@ pub fn run(command: &Command) -> Result<Printed, Error> {
             };
             let mut printed = Printed::default();
             if matches!(format, CompareFormat::Csv) {
-                printed.stderr = format!(
-                    "{}{}",
-                    report::table::warnings_text(&r.warnings),
-                    report::cautions_text(&r.screening)
-                );
+                printed.stderr = side_notes_of(&r.warnings, &r.screening);
             }
             if let Some(dir) = chart {
                 let schedule = schedule_report_logged(&plan, &log)?;
@@ -590,7 +586,12 @@ mod charts {
 
 /// Warnings and cautions for standard error beside machine-readable output.
 fn side_notes(r: &ScheduleReport) -> String {
-    let mut s = report::table::warnings_text(&r.warnings);
-    s.push_str(&report::cautions_text(&r.screening));
+    side_notes_of(&r.warnings, &r.screening)
+}
+
+/// Warnings and cautions for standard error, from their parts.
+fn side_notes_of(warnings: &[Warning], screening: &crate::safety::ScreeningOutcome) -> String {
+    let mut s = report::table::warnings_text(warnings);
+    s.push_str(&report::cautions_text(screening));
     s
 }

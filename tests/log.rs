@@ -197,7 +197,7 @@ fn bad_logs() -> Vec<(&'static str, String, &'static str)> {
         (
             "out of date order",
             h("2027-01-06,session,,,30,,,,,\n2027-01-04,session,,,30,,,,,\n"),
-            "log.csv:3:1: date: date 2027-01-04 comes after 2027-01-06 on line 2; rows must be in date order: move this row up to its place, or correct the date",
+            "log.csv:3:1: date: date 2027-01-04 is earlier than 2027-01-06 on line 2; rows must be in date order: move this row up to its place, or correct the date",
         ),
         (
             "two weigh-ins on one date",
@@ -823,7 +823,7 @@ fn a_failed_append_leaves_the_file_byte_identical() {
         ),
         (
             weigh_in("2027-01-06", 79.9),
-            "9:1: date: date 2027-01-06 comes after 2027-01-11 on line 8; rows must be in date order: move this row up to its place, or correct the date".to_string(),
+            "9:1: date: date 2027-01-06 is earlier than 2027-01-11 on line 8; rows must be in date order: move this row up to its place, or correct the date".to_string(),
         ),
         (
             weigh_in("2027-01-11", 79.9),

@@ -579,7 +579,7 @@ impl Cx<'_> {
                 line,
                 DATE,
                 format!(
-                    "date {date} comes after {} on line {}; rows must be in date order: move this row up to its place, or correct the date",
+                    "date {date} is earlier than {} on line {}; rows must be in date order: move this row up to its place, or correct the date",
                     prev.date, prev.line
                 ),
             ));

@@ -94,7 +94,7 @@ fn fmt_dose(a: &GoalAnswer) -> String {
 pub fn render_table(r: &GoalReport) -> String {
     let unit = r.scenarios.first().map_or("", |a| unit_of(a.dose_unit));
     let mut s = format!(
-        "dosewright dose for a goal: participant {} ({})\nGoal: lose {:.2} kg ({:.1}% of {:.1} kg) by the end of week {}\nDose kind: {unit}, rounded up to {} ; solved on the full model (ramp, rounding, maximum and weekly re-prescription as in `schedule`)\n\n",
+        "dosewright dose for a goal: participant {} ({})\nGoal: lose {:.2} kg ({:.1}% of {:.1} kg) by the end of week {}\nDose kind: {unit}, rounded up to {}; solved on the full model (ramp, rounding, maximum and weekly re-prescription as in `schedule`)\n\n",
         r.participant_id,
         r.plan,
         r.request.lose_kg,

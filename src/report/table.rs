@@ -224,7 +224,7 @@ pub fn adherence_text(r: &ScheduleReport, index: usize) -> String {
         ]);
     }
     t.add_row(vec![
-        format!("all {} weeks", total.weeks),
+        format!("all weeks ({})", total.weeks),
         format!("{} / {}", total.sessions_delivered, total.sessions_planned),
         format!(
             "{:.0} / {:.0}",

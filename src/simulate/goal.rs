@@ -195,7 +195,7 @@ fn solve_one(
             "scenario \"{}\": even the smallest dose ({} {}) drives the model out of its valid range",
             sc.name,
             dose_at(k_lo),
-            amount.key()
+            amount.unit()
         ))
     })?;
     let top = match valid(k_hi)? {
@@ -249,7 +249,7 @@ fn solve_one(
             format!(
                 "out of reach by week {n}: the largest dose the model accepts ({} {}) loses only {:.2} kg{cap_note}",
                 dose_at(k_hi),
-                amount.key(),
+                amount.unit(),
                 top.loss_kg
             )
         });
@@ -297,7 +297,7 @@ fn solve_one(
         answer.reason = Some(format!(
             "needs {} {} with sessions of up to {worst} min, above the plan's maximum of {max:.0} min",
             dose_at(k_high),
-            amount.key()
+            amount.unit()
         ));
         return Ok(answer);
     }

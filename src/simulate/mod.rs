@@ -235,12 +235,7 @@ pub fn simulate_observed(plan: &Plan, observed: Option<&Observed>) -> Result<Sim
             &physiology,
             &baseline,
             sc,
-            RunMode {
-                exercise: false,
-                observed: None,
-                anchor: false,
-                weeks: plan.protocol.total_weeks(),
-            },
+            RunMode::without_exercise(plan),
             None,
         );
         let deficits: Option<Vec<f64>> = without.as_ref().ok().map(|w| {
@@ -324,12 +319,7 @@ pub fn no_exercise_masses(plan: &Plan) -> Result<(Baseline, Vec<Vec<f64>>), Erro
                 &physiology,
                 &baseline,
                 sc,
-                RunMode {
-                    exercise: false,
-                    observed: None,
-                    anchor: false,
-                    weeks: plan.protocol.total_weeks(),
-                },
+                RunMode::without_exercise(plan),
                 None,
             )?
             .weeks
@@ -355,6 +345,14 @@ pub struct RunMode<'a> {
 }
 
 impl RunMode<'_> {
+    /// The same weeks with no exercise at all (the counterfactual of `dose_share`).
+    pub fn without_exercise(plan: &Plan) -> RunMode<'static> {
+        RunMode {
+            exercise: false,
+            ..RunMode::projection(plan)
+        }
+    }
+
     /// The plain projection of every week.
     pub fn projection(plan: &Plan) -> RunMode<'static> {
         RunMode {
@@ -648,6 +646,15 @@ fn check_state(
         return bad(format!(
             "fat mass {:.3} kg is below {MIN_FAT_KG} kg",
             body.fat_kg
+        ));
+    }
+    // The model is calibrated for the bodies a plan may describe (PLAN.md: mass 30 to
+    // 350 kg, BMI 13 to 80); below that its equations are far outside their data.
+    let m = body.mass_kg();
+    let b = crate::model::composition::bmi(m, physiology.height_cm);
+    if m < MIN_MASS_KG || b < MIN_BMI {
+        return bad(format!(
+            "body mass {m:.1} kg (BMI {b:.1}) is below the model's range (mass {MIN_MASS_KG} kg, BMI {MIN_BMI} kg/m^2)"
         ));
     }
     let f = physiology.fluxes(&scenario.compensation, bouts, &body);
