@@ -126,6 +126,9 @@ pub enum Error {
         /// Why.
         reason: String,
     },
+    /// A state the program should never reach (exit 1: a bug).
+    #[error("internal error (a bug, please report it): {0}")]
+    Internal(String),
     /// An output that could not be written (exit 1).
     #[error("{path}: cannot write: {reason}")]
     Output {
@@ -140,7 +143,7 @@ impl Error {
     /// The process exit code for this error (PLAN.md: 2 bad input, 1 anything else).
     pub fn exit_code(&self) -> i32 {
         match self {
-            Error::Output { .. } => 1,
+            Error::Output { .. } | Error::Internal(_) => 1,
             _ => 2,
         }
     }

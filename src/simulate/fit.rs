@@ -11,7 +11,6 @@
 //! bisection on `SSE(p) - threshold`.
 
 use crate::error::Error;
-use crate::model::energy::calibrate;
 use crate::plan::Plan;
 use crate::simulate::observed::Observed;
 use crate::simulate::{RunMode, run};
@@ -108,13 +107,7 @@ fn curve(
     param: FitParameter,
     value: f64,
 ) -> Result<Curve, Error> {
-    let (baseline, physiology) =
-        calibrate(&plan.participant.subject, &plan.constants).map_err(|e| {
-            Error::Usage(format!(
-                "{}: baseline cannot be calibrated: {e:?}",
-                plan.source_name
-            ))
-        })?;
+    let (baseline, physiology) = crate::simulate::calibrated(plan)?;
     let mut sc = plan.scenarios[scenario].clone();
     sc.compensation.set(param.key(), value);
     let weeks = (obs.as_of_day / 7 + 1).min(plan.protocol.total_weeks());

@@ -195,6 +195,17 @@ pub struct Simulation {
     pub scenarios: Vec<ScenarioRun>,
 }
 
+/// The calibrated baseline of a validated plan. Validation has already calibrated
+/// it once, so a failure here is a bug, reported as such rather than as bad input.
+pub fn calibrated(plan: &Plan) -> Result<(Baseline, Physiology), Error> {
+    calibrate(&plan.participant.subject, &plan.constants).map_err(|e| {
+        Error::Internal(format!(
+            "{}: the baseline cannot be calibrated after validation: {e:?}",
+            plan.source_name
+        ))
+    })
+}
+
 /// Simulate every scenario of a validated plan.
 pub fn simulate(plan: &Plan) -> Result<Simulation, Error> {
     simulate_observed(plan, None)
@@ -204,13 +215,7 @@ pub fn simulate(plan: &Plan) -> Result<Simulation, Error> {
 /// sessions of `observed` up to its `as_of` date (MODEL.md 7). The no-exercise
 /// counterfactual behind `dose_share` is not re-anchored.
 pub fn simulate_observed(plan: &Plan, observed: Option<&Observed>) -> Result<Simulation, Error> {
-    let (baseline, physiology) =
-        calibrate(&plan.participant.subject, &plan.constants).map_err(|e| {
-            Error::Usage(format!(
-                "{}: baseline cannot be calibrated: {e:?}",
-                plan.source_name
-            ))
-        })?;
+    let (baseline, physiology) = calibrated(plan)?;
     let start_body = BodyState {
         fat_kg: baseline.fat_mass_kg,
         lean_kg: baseline.fat_free_mass_kg,
@@ -303,13 +308,7 @@ pub fn simulate_observed(plan: &Plan, observed: Option<&Observed>) -> Result<Sim
 /// End-of-week masses of every scenario with no exercise at all (the counterfactual
 /// of `dose_share`), with the baseline.
 pub fn no_exercise_masses(plan: &Plan) -> Result<(Baseline, Vec<Vec<f64>>), Error> {
-    let (baseline, physiology) =
-        calibrate(&plan.participant.subject, &plan.constants).map_err(|e| {
-            Error::Usage(format!(
-                "{}: baseline cannot be calibrated: {e:?}",
-                plan.source_name
-            ))
-        })?;
+    let (baseline, physiology) = calibrated(plan)?;
     let masses = plan
         .scenarios
         .iter()
