@@ -1,7 +1,9 @@
 //! The commands, as library calls: each returns what to print, or an error.
 
 use crate::activity::compendium;
-use crate::cli::{Command, CompareFormat, FitParameterArg, FormatArg, GoalFormat, LogAction};
+use crate::cli::{
+    Command, CompareFormat, FitParameterArg, FormatArg, GoalFormat, LogAction, LogArgs,
+};
 use crate::error::Error;
 use crate::files::{check_target, refuse_overwriting_inputs, write_atomic};
 use crate::plan::{self, Plan};
@@ -227,8 +229,7 @@ pub fn run(command: &Command) -> Result<Printed, Error> {
             format,
             out,
             chart,
-            log,
-            as_of,
+            logged: LogArgs { log, as_of },
         } => {
             if let (Some(o), Some(p)) = (out, plan) {
                 refuse_overwriting_inputs(o, &[p.as_path()])?;
@@ -267,8 +268,7 @@ pub fn run(command: &Command) -> Result<Printed, Error> {
             format,
             out,
             chart,
-            log,
-            as_of,
+            logged: LogArgs { log, as_of },
         } => {
             refuse_inputs(out, plan, log)?;
             let plan = with_added_scenarios(load(Some(plan))?, add_scenario)?;
@@ -300,8 +300,7 @@ pub fn run(command: &Command) -> Result<Printed, Error> {
             add_scenario,
             format,
             out,
-            log,
-            as_of,
+            logged: LogArgs { log, as_of },
         } => {
             refuse_inputs(out, plan, log)?;
             let plan = with_added_scenarios(load(Some(plan))?, add_scenario)?;

@@ -1,7 +1,7 @@
 //! The command line: the clap definition and nothing else.
 
 use chrono::NaiveDate;
-use clap::{Parser, Subcommand, ValueEnum};
+use clap::{Args, Parser, Subcommand, ValueEnum};
 use std::path::PathBuf;
 
 /// Plan exercise as a dose of energy, re-prescribe session minutes as body mass
@@ -124,6 +124,17 @@ pub enum LogAction {
     },
 }
 
+/// The optional participant log of `schedule`, `compare` and `goal`.
+#[derive(Debug, Clone, Args)]
+pub struct LogArgs {
+    /// A participant log (CSV): re-plan from its weigh-ins and delivered sessions.
+    #[arg(long, value_name = "FILE")]
+    pub log: Option<PathBuf>,
+    /// Use the log up to this date (YYYY-MM-DD; default: the log's last date).
+    #[arg(long = "as-of", value_name = "DATE", requires = "log")]
+    pub as_of: Option<NaiveDate>,
+}
+
 /// The commands.
 #[derive(Debug, Subcommand)]
 pub enum Command {
@@ -143,12 +154,9 @@ pub enum Command {
         /// Also write SVG charts into this folder.
         #[arg(long, value_name = "DIR")]
         chart: Option<PathBuf>,
-        /// A participant log (CSV): re-plan from its weigh-ins and delivered sessions.
-        #[arg(long, value_name = "FILE")]
-        log: Option<PathBuf>,
-        /// Use the log up to this date (YYYY-MM-DD; default: the log's last date).
-        #[arg(long = "as-of", value_name = "DATE", requires = "log")]
-        as_of: Option<NaiveDate>,
+        /// The participant log to re-plan from.
+        #[command(flatten)]
+        logged: LogArgs,
     },
     /// Compare every scenario side by side at checkpoint weeks, optionally for several doses.
     Compare {
@@ -172,12 +180,9 @@ pub enum Command {
         /// Also write SVG charts into this folder.
         #[arg(long, value_name = "DIR")]
         chart: Option<PathBuf>,
-        /// A participant log (CSV): re-plan from its weigh-ins and delivered sessions.
-        #[arg(long, value_name = "FILE")]
-        log: Option<PathBuf>,
-        /// Use the log up to this date (YYYY-MM-DD; default: the log's last date).
-        #[arg(long = "as-of", value_name = "DATE", requires = "log")]
-        as_of: Option<NaiveDate>,
+        /// The participant log to re-plan from.
+        #[command(flatten)]
+        logged: LogArgs,
     },
     /// Find, per scenario, the smallest dose of the plan's kind that reaches a loss by a week.
     #[command(group = clap::ArgGroup::new("loss").required(true).args(["lose_kg", "lose_percent"]))]
@@ -202,12 +207,9 @@ pub enum Command {
         /// Write the output to this file (atomically) instead of standard output.
         #[arg(long, value_name = "FILE")]
         out: Option<PathBuf>,
-        /// A participant log (CSV): re-plan from its weigh-ins and delivered sessions.
-        #[arg(long, value_name = "FILE")]
-        log: Option<PathBuf>,
-        /// Use the log up to this date (YYYY-MM-DD; default: the log's last date).
-        #[arg(long = "as-of", value_name = "DATE", requires = "log")]
-        as_of: Option<NaiveDate>,
+        /// The participant log to re-plan from.
+        #[command(flatten)]
+        logged: LogArgs,
     },
     /// Estimate from the log's weigh-ins how much of the dose is not reaching the stores.
     Fit {
