@@ -65,7 +65,7 @@ fn bad_plans() -> Vec<Bad> {
             "unknown_key_typo",
             &[("mass_kg = 80.0", "mas_kg = 80.0")],
             "",
-            "error: bad.toml:6:1: participant.mas_kg: unknown field `mas_kg`, expected one of `id`, `sex`, `age_years`, `height_cm`, `mass_kg`, `body_fat_percent`, `rmr_kcal_per_day`, `intake_kcal_per_day`, `pal`, `screening`",
+            "error: bad.toml:6:1: participant.mas_kg: unknown field `mas_kg`, expected one of `id`, `sex`, `age_years`, `height_cm`, `mass_kg`, `body_fat_percent`, `rmr_kcal_per_day`, `intake_kcal_per_day`, `pal`, `screening`, `fitness`",
         ),
         bad(
             "unknown_key_in_screening",
@@ -77,13 +77,13 @@ fn bad_plans() -> Vec<Bad> {
             "unknown_subtable",
             &[("[protocol.dose]", "[protocol.doze]")],
             "",
-            "error: bad.toml:21:11: protocol.doze: unknown field `doze`, expected one of `start`, `weeks`, `follow_up_weeks`, `session_days`, `spare_days`, `max_session_minutes`, `over_max`, `round_minutes_to`, `dose`, `ramp`",
+            "error: bad.toml:21:11: protocol.doze: unknown field `doze`, expected one of `start`, `weeks`, `follow_up_weeks`, `session_days`, `spare_days`, `max_session_minutes`, `over_max`, `round_minutes_to`, `dose`, `ramp`, `warm_up`, `cool_down`, `closures`, `make_up`",
         ),
         bad(
             "unknown_top_table",
             &[],
             "\n[modle]\ntef_fraction = 0.1\n",
-            "error: bad.toml:27:2: modle: unknown field `modle`, expected one of `participant`, `protocol`, `activity`, `model`, `scenario`",
+            "error: bad.toml:27:2: modle: unknown field `modle`, expected one of `participant`, `protocol`, `activity`, `model`, `scenario`, `rotation`, `calendar`",
         ),
         bad(
             "unknown_key_in_model",
@@ -101,7 +101,7 @@ fn bad_plans() -> Vec<Bad> {
             "renamed_table_is_unknown",
             &[("[participant]\n", "[person]\n")],
             "",
-            "error: bad.toml:1:2: person: unknown field `person`, expected one of `participant`, `protocol`, `activity`, `model`, `scenario`",
+            "error: bad.toml:1:2: person: unknown field `person`, expected one of `participant`, `protocol`, `activity`, `model`, `scenario`, `rotation`, `calendar`",
         ),
         // wrong types
         bad(
@@ -257,7 +257,7 @@ fn bad_plans() -> Vec<Bad> {
             "no_intensity",
             &[("met = 4.0", "label = \"walk\"")],
             "",
-            "error: bad.toml:24:1: activity: no intensity; give exactly one of compendium_code, met, walking, running, cycling_watts",
+            "error: bad.toml:24:1: activity: no intensity; give exactly one of compendium_code, met, walking, running, cycling_watts, vo2_reserve_percent",
         ),
         // weekdays
         bad(
@@ -1014,7 +1014,7 @@ fn bad_plans() -> Vec<Bad> {
             "missing_activity_table",
             &[("\n[activity]\nmet = 4.0\n", "")],
             "",
-            "error: bad.toml: activity: missing required table [activity]; give exactly one of compendium_code, met, walking, running, cycling_watts",
+            "error: bad.toml: activity: missing required table [activity]; give exactly one of compendium_code, met, walking, running, cycling_watts, vo2_reserve_percent",
         ),
         bad(
             "missing_protocol_table",
@@ -1157,7 +1157,7 @@ fn bad_plans() -> Vec<Bad> {
             "single_quoted_key_unknown",
             &[("mass_kg = 80.0", "'mas_kg' = 80.0")],
             "",
-            "error: bad.toml:6:1: participant.mas_kg: unknown field `mas_kg`, expected one of `id`, `sex`, `age_years`, `height_cm`, `mass_kg`, `body_fat_percent`, `rmr_kcal_per_day`, `intake_kcal_per_day`, `pal`, `screening`",
+            "error: bad.toml:6:1: participant.mas_kg: unknown field `mas_kg`, expected one of `id`, `sex`, `age_years`, `height_cm`, `mass_kg`, `body_fat_percent`, `rmr_kcal_per_day`, `intake_kcal_per_day`, `pal`, `screening`, `fitness`",
         ),
         bad(
             "quoted_table_header_wrong_type",
@@ -1400,7 +1400,7 @@ fn a_plan_with_windows_line_endings_is_accepted() {
     let problems = bad_run_problems(
         bad.as_bytes(),
         &["check", "bad.toml"],
-        "error: bad.toml:6:1: participant.mas_kg: unknown field `mas_kg`, expected one of `id`, `sex`, `age_years`, `height_cm`, `mass_kg`, `body_fat_percent`, `rmr_kcal_per_day`, `intake_kcal_per_day`, `pal`, `screening`",
+        "error: bad.toml:6:1: participant.mas_kg: unknown field `mas_kg`, expected one of `id`, `sex`, `age_years`, `height_cm`, `mass_kg`, `body_fat_percent`, `rmr_kcal_per_day`, `intake_kcal_per_day`, `pal`, `screening`, `fitness`",
     );
     assert!(problems.is_empty(), "{}", problems.join("\n"));
     let bad = base_with(&[("mass_kg = 80.0", "mass_kg = 3000")], "").replace('\n', "\r\n");
@@ -1516,7 +1516,7 @@ fn unclear_messages() -> Vec<Unclear> {
             "",
             "the key comes out as `participant`, without the unknown name; every other unknown key is named in full (`participant.mas_kg`, `protocol.doze`)",
             vec![Exact(
-                "error: bad.toml:7:1: participant.screen: unknown field `screen`, expected one of `id`, `sex`, `age_years`, `height_cm`, `mass_kg`, `body_fat_percent`, `rmr_kcal_per_day`, `intake_kcal_per_day`, `pal`, `screening`",
+                "error: bad.toml:7:1: participant.screen: unknown field `screen`, expected one of `id`, `sex`, `age_years`, `height_cm`, `mass_kg`, `body_fat_percent`, `rmr_kcal_per_day`, `intake_kcal_per_day`, `pal`, `screening`, `fitness`",
             )],
         ),
         Unclear {

@@ -122,13 +122,7 @@ fn energy_conservation_against_simpson_quadrature() {
             let bouts: Vec<Bout> = if w <= plan.protocol.weeks {
                 let rx = prescribe(&plan, phys, w, week.start, sim.baseline.mass_kg, &reference);
                 assert_eq!(rx.minutes_per_session, week.minutes_per_session);
-                rx.bouts
-                    .iter()
-                    .map(|(_, m)| Bout {
-                        minutes: f64::from(*m),
-                        intensity: plan.activity.intensity.clone(),
-                    })
-                    .collect()
+                rx.model_bouts(&plan, |_| true)
             } else {
                 Vec::new()
             };

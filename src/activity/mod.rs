@@ -7,6 +7,7 @@
 
 pub mod acsm;
 pub mod compendium;
+pub mod targets;
 
 use serde::Serialize;
 
@@ -47,6 +48,15 @@ pub enum Intensity {
         /// Work rate, W.
         watts: f64,
     },
+    /// A percentage of the VO2 reserve, with the absolute peak oxygen uptake held:
+    /// `VO2 = pct (VO2peak - 3.5) + 3.5` ml/kg/min (ACSM GETP 10th ed.; Swain DP,
+    /// Leutholtz BC 1997, Med Sci Sports Exerc 29:410), so the MET rises as mass falls.
+    Vo2Reserve {
+        /// Percent of the VO2 reserve.
+        percent: f64,
+        /// Peak oxygen uptake, l/min.
+        vo2peak_l_min: f64,
+    },
 }
 
 /// A validated activity: its intensity and the label shown on schedules.
@@ -80,12 +90,22 @@ impl Intensity {
             Intensity::CyclingWatts { watts } => {
                 acsm::leg_cycling_vo2(watts * acsm::KGM_PER_WATT, mass_kg) / acsm::ML_O2_PER_MET
             }
+            Intensity::Vo2Reserve {
+                percent,
+                vo2peak_l_min,
+            } => {
+                targets::vo2_reserve_vo2(percent / 100.0, vo2peak_l_min * 1000.0 / mass_kg)
+                    / acsm::ML_O2_PER_MET
+            }
         }
     }
 
     /// Whether the MET changes with body mass.
     pub fn depends_on_mass(&self) -> bool {
-        matches!(self, Intensity::CyclingWatts { .. })
+        matches!(
+            self,
+            Intensity::CyclingWatts { .. } | Intensity::Vo2Reserve { .. }
+        )
     }
 
     /// A short description: "compendium 17200 (2011), 4.3 MET", "walking 5.6 km/h at 2% grade".
@@ -110,6 +130,12 @@ impl Intensity {
             Intensity::CyclingWatts { watts } => {
                 format!("cycle ergometer at {watts:.0} W (ACSM leg-cycling equation)")
             }
+            Intensity::Vo2Reserve {
+                percent,
+                vo2peak_l_min,
+            } => format!(
+                "{percent:.0}% of VO2 reserve (VO2peak {vo2peak_l_min:.2} l/min held; ACSM VO2-reserve method)"
+            ),
         }
     }
 

@@ -165,7 +165,10 @@ fn describe(row: &LogRow, plan: &Plan) -> String {
             rpe,
         } => {
             let activity = match (compendium_code, met) {
-                (None, None) => format!("the plan's activity ({})", plan.activity.label),
+                (None, None) => format!(
+                    "the plan's activity ({})",
+                    plan.activity_on(chrono::Datelike::weekday(&row.date)).label
+                ),
                 (None, Some(m)) => format!("{} MET", num(*m)),
                 (Some(_), _) => intensity.describe(),
             };

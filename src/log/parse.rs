@@ -451,7 +451,7 @@ impl Cx<'_> {
         self.check_date_place(line, date, kind)?;
         let entry = match kind {
             Kind::WeighIn => self.weigh_in(line, cells)?,
-            Kind::Session => self.session(line, cells)?,
+            Kind::Session => self.session(line, cells, date)?,
         };
         Ok(LogRow {
             line,
@@ -635,7 +635,7 @@ impl Cx<'_> {
         })
     }
 
-    fn session(&self, line: usize, cells: &[&str]) -> Result<Entry, Error> {
+    fn session(&self, line: usize, cells: &[&str], date: NaiveDate) -> Result<Entry, Error> {
         for i in [MASS, BODY_FAT] {
             self.refuse(line, cells, i, "session", "weigh-in")?;
         }
@@ -666,7 +666,11 @@ impl Cx<'_> {
         let intensity = match (code, met) {
             (Some(c), _) => self.code(line, c)?,
             (None, Some(met)) => Intensity::Met { met },
-            (None, None) => self.plan.activity.intensity.clone(),
+            (None, None) => self
+                .plan
+                .activity_on(chrono::Datelike::weekday(&date))
+                .intensity
+                .clone(),
         };
         let avg_hr_bpm = self.number(line, cells, HEART_RATE, &HEART_RATE_BPM)?;
         let rpe = self.rpe(line, cells)?;

@@ -28,6 +28,67 @@ pub struct Plan {
     pub constants: Constants,
     /// One or more scenarios, names unique.
     pub scenarios: Vec<Scenario>,
+    /// Other activities on named weekdays (`[[rotation]]`); days not named use
+    /// `activity`.
+    pub rotation: Vec<RotationEntry>,
+    /// Calendar settings (`[calendar]`).
+    pub calendar: CalendarSettings,
+}
+
+/// A `[[rotation]]` entry: an activity on some session (or spare) weekdays.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct RotationEntry {
+    /// The weekdays it covers, Monday first.
+    #[serde(serialize_with = "weekdays")]
+    pub days: Vec<Weekday>,
+    /// The activity on those days.
+    pub activity: Activity,
+}
+
+impl Plan {
+    /// Every activity: index 0 is `[activity]`, then the rotation entries in order.
+    pub fn activities(&self) -> Vec<&Activity> {
+        std::iter::once(&self.activity)
+            .chain(self.rotation.iter().map(|r| &r.activity))
+            .collect()
+    }
+
+    /// The index (into [`Plan::activities`]) of the activity on weekday `day`.
+    pub fn activity_index_on(&self, day: Weekday) -> usize {
+        self.rotation
+            .iter()
+            .position(|r| r.days.contains(&day))
+            .map_or(0, |i| i + 1)
+    }
+
+    /// The activity on weekday `day`.
+    pub fn activity_on(&self, day: Weekday) -> &Activity {
+        match self.activity_index_on(day) {
+            0 => &self.activity,
+            i => &self.rotation[i - 1].activity,
+        }
+    }
+
+    /// The activity with index `i` of [`Plan::activities`].
+    pub fn activity_at(&self, i: usize) -> &Activity {
+        match i {
+            0 => &self.activity,
+            i => &self.rotation[i - 1].activity,
+        }
+    }
+}
+
+/// Where and when sessions happen, for calendar files (`[calendar]`).
+#[derive(Debug, Clone, Default, PartialEq, Serialize)]
+pub struct CalendarSettings {
+    /// Local time of day a session starts; none gives all-day events.
+    pub session_time: Option<chrono::NaiveTime>,
+    /// Local start of the second bout with `over_max = "split"`.
+    pub second_bout_time: Option<chrono::NaiveTime>,
+    /// The time zone the local times are in (written as X-WR-TIMEZONE).
+    pub time_zone: Option<String>,
+    /// Where sessions happen.
+    pub location: Option<String>,
 }
 
 /// The participant: a pseudonymous code, the model's inputs and the screening answers.
@@ -39,6 +100,42 @@ pub struct Participant {
     pub subject: Subject,
     /// ACSM 2015 pre-participation screening answers, if recorded.
     pub screening: Option<Screening>,
+    /// Measured fitness (`[participant.fitness]`), if recorded.
+    pub fitness: Option<Fitness>,
+}
+
+/// How the maximum heart rate is known.
+#[derive(Debug, Clone, Copy, PartialEq, Serialize)]
+#[serde(rename_all = "kebab-case", tag = "kind", content = "bpm")]
+pub enum HrMaxSource {
+    /// Measured in a maximal test, beats/min.
+    Measured(f64),
+    /// 208 - 0.7 x age (Tanaka, Monahan and Seals 2001, J Am Coll Cardiol 37:153).
+    Tanaka,
+    /// 220 - age (the traditional estimate).
+    TwoTwentyMinusAge,
+}
+
+impl HrMaxSource {
+    /// The plan-file word.
+    pub fn name(self) -> &'static str {
+        match self {
+            HrMaxSource::Measured(_) => "measured",
+            HrMaxSource::Tanaka => "tanaka",
+            HrMaxSource::TwoTwentyMinusAge => "220-age",
+        }
+    }
+}
+
+/// Measured fitness: peak oxygen uptake and heart rates.
+#[derive(Debug, Clone, Copy, PartialEq, Serialize)]
+pub struct Fitness {
+    /// Peak oxygen uptake, l/min (held as mass changes).
+    pub vo2peak_l_min: Option<f64>,
+    /// Resting heart rate, beats/min.
+    pub hr_rest_bpm: Option<f64>,
+    /// Where the maximum heart rate comes from.
+    pub hr_max: HrMaxSource,
 }
 
 /// Answers for the ACSM 2015 pre-participation screening algorithm.
@@ -213,6 +310,43 @@ pub struct Protocol {
     pub dose: Dose,
     /// The ramp, if any.
     pub ramp: Option<Ramp>,
+    /// Warm-up before each session (or bout), if any.
+    pub warm_up: Option<EasyPart>,
+    /// Cool-down after each session (or bout), if any.
+    pub cool_down: Option<EasyPart>,
+    /// Dates with no sessions (holidays, closures), sorted, distinct.
+    pub closures: Vec<NaiveDate>,
+    /// What happens to the energy of a closed day's session.
+    pub make_up: MakeUp,
+}
+
+/// A warm-up or cool-down: minutes at its own MET, counted in the session's energy.
+#[derive(Debug, Clone, Copy, PartialEq, Serialize)]
+pub struct EasyPart {
+    /// Minutes.
+    pub minutes: u32,
+    /// MET.
+    pub met: f64,
+}
+
+/// The make-up rule for sessions lost to closures.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
+#[serde(rename_all = "kebab-case")]
+pub enum MakeUp {
+    /// The energy is not made up.
+    None,
+    /// The energy is spread over the week's remaining sessions, within the maximum.
+    Spread,
+}
+
+impl MakeUp {
+    /// The plan-file word.
+    pub fn name(self) -> &'static str {
+        match self {
+            MakeUp::None => "none",
+            MakeUp::Spread => "spread",
+        }
+    }
 }
 
 impl Protocol {
@@ -224,6 +358,16 @@ impl Protocol {
     /// The ramp fraction of protocol week `week`.
     pub fn ramp_fraction(&self, week: u32) -> f64 {
         self.ramp.map_or(1.0, |r| r.fraction(week))
+    }
+
+    /// Whether `date` is a closure.
+    pub fn is_closed(&self, date: NaiveDate) -> bool {
+        self.closures.binary_search(&date).is_ok()
+    }
+
+    /// Warm-up plus cool-down minutes of each session (or bout).
+    pub fn easy_minutes(&self) -> u32 {
+        self.warm_up.map_or(0, |e| e.minutes) + self.cool_down.map_or(0, |e| e.minutes)
     }
 
     /// The morning after the last simulated day.

@@ -26,6 +26,10 @@ pub struct RawPlan {
     pub model: Option<S<RawModel>>,
     /// `[[scenario]]`.
     pub scenario: Option<Vec<S<RawScenario>>>,
+    /// `[[rotation]]`: other activities on named session days.
+    pub rotation: Option<Vec<S<RawRotation>>>,
+    /// `[calendar]`: time of day, time zone and place for calendar files.
+    pub calendar: Option<S<RawCalendar>>,
 }
 
 /// `[participant]`.
@@ -42,6 +46,19 @@ pub struct RawParticipant {
     pub intake_kcal_per_day: Option<Num>,
     pub pal: Option<Num>,
     pub screening: Option<S<RawScreening>>,
+    pub fitness: Option<S<RawFitness>>,
+}
+
+/// `[participant.fitness]`: measured peak oxygen uptake and heart rates.
+#[derive(Debug, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct RawFitness {
+    pub vo2peak_ml_kg_min: Option<Num>,
+    pub vo2peak_test_mass_kg: Option<Num>,
+    pub vo2peak_l_min: Option<Num>,
+    pub hr_rest_bpm: Option<Num>,
+    pub hr_max_bpm: Option<Num>,
+    pub hr_max_formula: Option<S<String>>,
 }
 
 /// `[participant.screening]`.
@@ -78,6 +95,18 @@ pub struct RawProtocol {
     pub round_minutes_to: Option<Num>,
     pub dose: Option<S<RawDose>>,
     pub ramp: Option<S<RawRamp>>,
+    pub warm_up: Option<S<RawEasy>>,
+    pub cool_down: Option<S<RawEasy>>,
+    pub closures: Option<S<Vec<S<RawDate>>>>,
+    pub make_up: Option<S<String>>,
+}
+
+/// `[protocol.warm_up]` / `[protocol.cool_down]`.
+#[derive(Debug, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct RawEasy {
+    pub minutes: Option<Num>,
+    pub met: Option<Num>,
 }
 
 /// `[protocol.dose]`.
@@ -129,7 +158,51 @@ pub struct RawActivity {
     pub walking: Option<S<RawGait>>,
     pub running: Option<S<RawGait>>,
     pub cycling_watts: Option<Num>,
+    pub vo2_reserve_percent: Option<Num>,
     pub label: Option<S<String>>,
+}
+
+/// `[[rotation]]`: the days it covers and one way to give the intensity, as in
+/// `[activity]`.
+#[derive(Debug, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct RawRotation {
+    pub days: Option<S<Vec<S<String>>>>,
+    pub compendium_code: Option<S<RawCode>>,
+    pub met: Option<Num>,
+    pub walking: Option<S<RawGait>>,
+    pub running: Option<S<RawGait>>,
+    pub cycling_watts: Option<Num>,
+    pub vo2_reserve_percent: Option<Num>,
+    pub label: Option<S<String>>,
+}
+
+impl RawRotation {
+    /// The days and the activity part.
+    pub fn split(self) -> (Option<S<Vec<S<String>>>>, RawActivity) {
+        (
+            self.days,
+            RawActivity {
+                compendium_code: self.compendium_code,
+                met: self.met,
+                walking: self.walking,
+                running: self.running,
+                cycling_watts: self.cycling_watts,
+                vo2_reserve_percent: self.vo2_reserve_percent,
+                label: self.label,
+            },
+        )
+    }
+}
+
+/// `[calendar]`.
+#[derive(Debug, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct RawCalendar {
+    pub session_time: Option<S<String>>,
+    pub second_bout_time: Option<S<String>>,
+    pub time_zone: Option<S<String>>,
+    pub location: Option<S<String>>,
 }
 
 /// `[model]`.

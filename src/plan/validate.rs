@@ -152,6 +152,10 @@ struct Cx<'a> {
     src: &'a str,
 }
 
+/// MET of a warm-up or cool-down when the plan gives none: easy walking or cycling
+/// (common practice, no source).
+pub const DEFAULT_EASY_MET: f64 = 2.5;
+
 fn fmt_num(v: f64) -> String {
     if v.is_finite() && v == v.trunc() && v.abs() < 1e15 {
         format!("{v:.0}")
@@ -319,11 +323,13 @@ impl Cx<'_> {
             .protocol
             .as_ref()
             .ok_or_else(|| self.file_err("protocol", "missing required table [protocol]"))?;
-        let ract = raw.activity.as_ref().ok_or_else(|| self.file_err("activity", "missing required table [activity]; give exactly one of compendium_code, met, walking, running, cycling_watts"))?;
+        let ract = raw.activity.as_ref().ok_or_else(|| self.file_err("activity", "missing required table [activity]; give exactly one of compendium_code, met, walking, running, cycling_watts, vo2_reserve_percent"))?;
         let constants = self.constants(raw.model.as_ref())?;
-        let (id, subject, screening) = self.participant(rp)?;
+        let (id, subject, screening, fitness) = self.participant(rp)?;
         let protocol = self.protocol(rprot)?;
-        let activity = self.activity(ract)?;
+        let activity = self.activity(ract.get_ref(), ract.span(), "activity", fitness.as_ref())?;
+        let rotation = self.rotation(raw.rotation, &protocol, fitness.as_ref())?;
+        let calendar = self.calendar(raw.calendar.as_ref())?;
         let scenarios = self.scenarios(raw.scenario.as_deref())?;
 
         // Calibration needs the whole participant and the constants.
@@ -345,33 +351,61 @@ impl Cx<'_> {
             CalibrationError::EstimatedFatOutOfRange(p) => self.err(&rp.span(), "participant.body_fat_percent", format!("body fat estimated from BMI (Deurenberg 1991) is {p:.1}%, outside 3 to 70%; give a measured body_fat_percent")),
         })?;
 
-        // The net energy per minute must be positive at baseline whatever the basis.
-        let met0 = activity.intensity.met_at(baseline.mass_kg);
-        let net0 = physiology.net_kcal_per_min(met0, baseline.mass_kg, baseline.rmr_kcal_per_day);
-        if net0 <= 0.0 {
-            let a = ract.get_ref();
-            let (span, key) = [
-                (
-                    a.compendium_code.as_ref().map(|v| v.span()),
-                    "activity.compendium_code",
-                ),
-                (a.met.as_ref().map(|v| v.span()), "activity.met"),
-                (a.walking.as_ref().map(|v| v.span()), "activity.walking"),
-                (a.running.as_ref().map(|v| v.span()), "activity.running"),
-                (
-                    a.cycling_watts.as_ref().map(|v| v.span()),
-                    "activity.cycling_watts",
-                ),
-            ]
-            .into_iter()
-            .find_map(|(s, k)| s.map(|s| (s, k)))
-            .unwrap_or((ract.span(), "activity"));
-            let rest = match constants.rest_for_net {
-                RestForNet::OwnRmr => "the participant's own resting rate",
-                RestForNet::OneMet => "one MET",
-            };
+        // The net energy per minute must be positive at baseline whatever the basis,
+        // for every activity and for the warm-up and cool-down.
+        let rest = match constants.rest_for_net {
+            RestForNet::OwnRmr => "the participant's own resting rate",
+            RestForNet::OneMet => "one MET",
+        };
+        let net_positive = |met0: f64, span: Range<usize>, key: &str| -> Result<(), Error> {
+            let net0 =
+                physiology.net_kcal_per_min(met0, baseline.mass_kg, baseline.rmr_kcal_per_day);
+            if net0 > 0.0 {
+                return Ok(());
+            }
             let gross = crate::activity::acsm::gross_kcal_per_min(met0, baseline.mass_kg);
-            return Err(self.err(&span, key, format!("{met0:.2} MET costs {gross:.3} kcal/min at {:.1} kg, not more than {rest} ({:.3} kcal/min), so the energy above rest is {net0:.3} kcal/min; it must be positive: choose a higher intensity", baseline.mass_kg, gross - net0)));
+            Err(self.err(&span, key, format!("{met0:.2} MET costs {gross:.3} kcal/min at {:.1} kg, not more than {rest} ({:.3} kcal/min), so the energy above rest is {net0:.3} kcal/min; it must be positive: choose a higher intensity", baseline.mass_kg, gross - net0)))
+        };
+        let intensity_key =
+            |a: &RawActivity, span: Range<usize>, tn: &str| -> (Range<usize>, String) {
+                [
+                    (
+                        a.compendium_code.as_ref().map(|v| v.span()),
+                        "compendium_code",
+                    ),
+                    (a.met.as_ref().map(|v| v.span()), "met"),
+                    (a.walking.as_ref().map(|v| v.span()), "walking"),
+                    (a.running.as_ref().map(|v| v.span()), "running"),
+                    (a.cycling_watts.as_ref().map(|v| v.span()), "cycling_watts"),
+                    (
+                        a.vo2_reserve_percent.as_ref().map(|v| v.span()),
+                        "vo2_reserve_percent",
+                    ),
+                ]
+                .into_iter()
+                .find_map(|(s, k)| s.map(|s| (s, format!("{tn}.{k}"))))
+                .unwrap_or((span, tn.to_string()))
+            };
+        let (span, key) = intensity_key(ract.get_ref(), ract.span(), "activity");
+        net_positive(activity.intensity.met_at(baseline.mass_kg), span, &key)?;
+        for (i, (r, span)) in rotation.iter().enumerate() {
+            let tn = format!("rotation[{}]", i + 1);
+            let (span, key) = intensity_key(&r.1, span.clone(), &tn);
+            net_positive(r.0.activity.intensity.met_at(baseline.mass_kg), span, &key)?;
+        }
+        let rprot_ref = rprot.get_ref();
+        for (part, raw_part, tn) in [
+            (protocol.warm_up, &rprot_ref.warm_up, "protocol.warm_up"),
+            (
+                protocol.cool_down,
+                &rprot_ref.cool_down,
+                "protocol.cool_down",
+            ),
+        ] {
+            if let (Some(e), Some(r)) = (part, raw_part) {
+                let span = r.get_ref().met.as_ref().map_or(r.span(), |v| v.span());
+                net_positive(e.met, span, &format!("{tn}.met"))?;
+            }
         }
         Ok(Plan {
             source_name: self.file.to_string(),
@@ -379,18 +413,147 @@ impl Cx<'_> {
                 id,
                 subject,
                 screening,
+                fitness,
             },
             protocol,
             activity,
             constants,
             scenarios,
+            rotation: rotation.into_iter().map(|(r, _)| r.0).collect(),
+            calendar,
+        })
+    }
+
+    /// The `[[rotation]]` entries, each with its raw activity and span (for the
+    /// positive-net-energy check once the baseline is known).
+    #[allow(clippy::type_complexity)]
+    fn rotation(
+        &self,
+        raw: Option<Vec<S<RawRotation>>>,
+        protocol: &Protocol,
+        fitness: Option<&Fitness>,
+    ) -> Result<Vec<((RotationEntry, RawActivity), Range<usize>)>, Error> {
+        let mut out: Vec<((RotationEntry, RawActivity), Range<usize>)> = Vec::new();
+        let mut taken: Vec<(Weekday, usize)> = Vec::new();
+        for (i, r) in raw.unwrap_or_default().into_iter().enumerate() {
+            let span = r.span();
+            let tn = format!("rotation[{}]", i + 1);
+            let (days, act) = r.into_inner().split();
+            let days_v = self.required(
+                &days,
+                &span,
+                &tn,
+                "days",
+                "give the session days this activity is on, e.g. days = [\"fri\"]",
+            )?;
+            let dkey = format!("{tn}.days");
+            let d = self.days(days_v, &dkey, false)?;
+            for (w, sd) in d.iter().zip(days_v.get_ref()) {
+                if !protocol.session_days.contains(w) && !protocol.spare_days.contains(w) {
+                    return Err(self.err(
+                        &sd.span(),
+                        &dkey,
+                        format!(
+                            "\"{}\" is not a session day or spare day of the protocol; allowed {}",
+                            weekday_name(*w),
+                            protocol
+                                .session_days
+                                .iter()
+                                .chain(&protocol.spare_days)
+                                .map(|w| weekday_name(*w))
+                                .collect::<Vec<_>>()
+                                .join(", ")
+                        ),
+                    ));
+                }
+                if let Some((_, j)) = taken.iter().find(|(t, _)| t == w) {
+                    return Err(self.err(
+                        &sd.span(),
+                        &dkey,
+                        format!(
+                            "\"{}\" is already given to rotation[{j}]; each day has one activity",
+                            weekday_name(*w)
+                        ),
+                    ));
+                }
+            }
+            taken.extend(d.iter().map(|w| (*w, i + 1)));
+            let activity = self.activity(&act, span.clone(), &tn, fitness)?;
+            out.push(((RotationEntry { days: d, activity }, act), span));
+        }
+        Ok(out)
+    }
+
+    fn calendar(&self, rc: Option<&S<RawCalendar>>) -> Result<CalendarSettings, Error> {
+        let Some(rc) = rc else {
+            return Ok(CalendarSettings::default());
+        };
+        let c = rc.get_ref();
+        let time = |v: &Option<S<String>>, key: &str| -> Result<Option<chrono::NaiveTime>, Error> {
+            v.as_ref()
+                .map(|v| {
+                    chrono::NaiveTime::parse_from_str(v.get_ref().trim(), "%H:%M").map_err(|_| {
+                        self.err(&v.span(), key, format!("value \"{}\" is not a time of day; give 24-hour HH:MM such as \"07:30\"", v.get_ref()))
+                    })
+                })
+                .transpose()
+        };
+        let text = |v: &Option<S<String>>, key: &str| -> Result<Option<String>, Error> {
+            match v {
+                Some(v) if v.get_ref().trim().is_empty() => {
+                    Err(self.err(&v.span(), key, "empty; leave the key out instead"))
+                }
+                Some(v) if v.get_ref().chars().any(char::is_control) => Err(self.err(
+                    &v.span(),
+                    key,
+                    "holds a control character (a line break or tab); give one line of text",
+                )),
+                Some(v) => Ok(Some(v.get_ref().trim().to_string())),
+                None => Ok(None),
+            }
+        };
+        let session_time = time(&c.session_time, "calendar.session_time")?;
+        let second_bout_time = time(&c.second_bout_time, "calendar.second_bout_time")?;
+        if let (None, Some(v)) = (session_time, &c.second_bout_time) {
+            return Err(self.err(
+                &v.span(),
+                "calendar.second_bout_time",
+                "given without calendar.session_time; give the first bout's time too",
+            ));
+        }
+        if let (Some(a), Some(b), Some(v)) = (session_time, second_bout_time, &c.second_bout_time)
+            && b <= a
+        {
+            return Err(self.err(
+                &v.span(),
+                "calendar.second_bout_time",
+                format!(
+                    "{} is not after session_time {}; allowed a later time the same day",
+                    b.format("%H:%M"),
+                    a.format("%H:%M")
+                ),
+            ));
+        }
+        let time_zone = text(&c.time_zone, "calendar.time_zone")?;
+        if let (Some(tz), Some(v)) = (&time_zone, &c.time_zone)
+            && !tz
+                .chars()
+                .all(|ch| ch.is_ascii_alphanumeric() || "/_+-".contains(ch))
+        {
+            return Err(self.err(&v.span(), "calendar.time_zone", format!("value \"{tz}\" is not a time-zone name; give an IANA name such as \"Europe/Berlin\" or \"UTC\"")));
+        }
+        Ok(CalendarSettings {
+            session_time,
+            second_bout_time,
+            time_zone,
+            location: text(&c.location, "calendar.location")?,
         })
     }
 
     fn participant(
         &self,
         rp: &S<RawParticipant>,
-    ) -> Result<(String, Subject, Option<Screening>), Error> {
+    ) -> Result<(String, Subject, Option<Screening>, Option<Fitness>), Error> {
         let t = rp.span();
         let p = rp.get_ref();
         let tn = "participant";
@@ -458,6 +621,11 @@ impl Cx<'_> {
             .as_ref()
             .map(|s| self.screening(s))
             .transpose()?;
+        let fitness = p
+            .fitness
+            .as_ref()
+            .map(|f| self.fitness(f, mass, age))
+            .transpose()?;
         Ok((
             id.get_ref().trim().to_string(),
             Subject {
@@ -471,7 +639,99 @@ impl Cx<'_> {
                 pal,
             },
             screening,
+            fitness,
         ))
+    }
+
+    fn fitness(&self, rf: &S<RawFitness>, mass_kg: f64, age: f64) -> Result<Fitness, Error> {
+        let f = rf.get_ref();
+        let tn = "participant.fitness";
+        let k = |key: &str| format!("{tn}.{key}");
+        if let (Some(_), Some(b)) = (&f.vo2peak_ml_kg_min, &f.vo2peak_l_min) {
+            return Err(self.err(
+                &b.span(),
+                &k("vo2peak_l_min"),
+                "given with vo2peak_ml_kg_min; give the peak oxygen uptake one way only",
+            ));
+        }
+        if let (None, Some(m)) = (&f.vo2peak_ml_kg_min, &f.vo2peak_test_mass_kg) {
+            return Err(self.err(
+                &m.span(),
+                &k("vo2peak_test_mass_kg"),
+                "given without vo2peak_ml_kg_min; it is the mass at the test that a relative VO2peak refers to",
+            ));
+        }
+        let vo2peak_l_min = match (&f.vo2peak_ml_kg_min, &f.vo2peak_l_min) {
+            (Some(v), _) => {
+                let rel = self.number(v, &k("vo2peak_ml_kg_min"), 8.0, 90.0, " ml/kg/min")?;
+                let at = self
+                    .opt_number(
+                        &f.vo2peak_test_mass_kg,
+                        &k("vo2peak_test_mass_kg"),
+                        30.0,
+                        350.0,
+                        " kg",
+                    )?
+                    .unwrap_or(mass_kg);
+                Some(rel * at / 1000.0)
+            }
+            (None, Some(v)) => Some(self.number(v, &k("vo2peak_l_min"), 0.5, 7.0, " l/min")?),
+            (None, None) => None,
+        };
+        if let Some(l) = vo2peak_l_min {
+            let rel = l * 1000.0 / mass_kg;
+            if rel <= 7.0 {
+                let span = f
+                    .vo2peak_ml_kg_min
+                    .as_ref()
+                    .or(f.vo2peak_l_min.as_ref())
+                    .map_or(rf.span(), |v| v.span());
+                return Err(self.err(&span, &k("vo2peak_l_min"), format!("peak oxygen uptake {rel:.1} ml/kg/min at the plan's mass of {} kg is at most 2 MET (7 ml/kg/min), too low to prescribe from; check the value and its units", fmt_num(mass_kg))));
+            }
+        }
+        let hr_rest_bpm =
+            self.opt_number(&f.hr_rest_bpm, &k("hr_rest_bpm"), 30.0, 120.0, " beats/min")?;
+        if let (Some(_), Some(b)) = (&f.hr_max_bpm, &f.hr_max_formula) {
+            return Err(self.err(
+                &b.span(),
+                &k("hr_max_formula"),
+                "given with hr_max_bpm; a measured maximum is used as it is, leave the formula out",
+            ));
+        }
+        let hr_max = match (&f.hr_max_bpm, &f.hr_max_formula) {
+            (Some(v), _) => HrMaxSource::Measured(self.number(
+                v,
+                &k("hr_max_bpm"),
+                100.0,
+                230.0,
+                " beats/min",
+            )?),
+            (None, Some(v)) => self.choice(
+                v,
+                &k("hr_max_formula"),
+                &[
+                    ("tanaka", HrMaxSource::Tanaka),
+                    ("220-age", HrMaxSource::TwoTwentyMinusAge),
+                ],
+            )?,
+            (None, None) => HrMaxSource::Tanaka,
+        };
+        if let Some(rest) = hr_rest_bpm {
+            let max = crate::activity::targets::hr_max(hr_max, age);
+            if max - rest < 20.0 {
+                let span = f
+                    .hr_max_bpm
+                    .as_ref()
+                    .or(f.hr_rest_bpm.as_ref())
+                    .map_or(rf.span(), |v| v.span());
+                return Err(self.err(&span, &k("hr_rest_bpm"), format!("resting heart rate {} and maximum {max:.0} beats/min ({}) leave a reserve of {:.0} beats/min; allowed a reserve of at least 20", fmt_num(rest), hr_max.name(), max - rest)));
+            }
+        }
+        Ok(Fitness {
+            vo2peak_l_min,
+            hr_rest_bpm,
+            hr_max,
+        })
     }
 
     fn screening(&self, rs: &S<RawScreening>) -> Result<Screening, Error> {
@@ -697,6 +957,43 @@ impl Cx<'_> {
             }
             None => None,
         };
+        let warm_up = p
+            .warm_up
+            .as_ref()
+            .map(|e| self.easy(e, "protocol.warm_up"))
+            .transpose()?;
+        let cool_down = p
+            .cool_down
+            .as_ref()
+            .map(|e| self.easy(e, "protocol.cool_down"))
+            .transpose()?;
+        let end = start + chrono::Days::new(7 * u64::from(weeks));
+        let mut closures: Vec<NaiveDate> = Vec::new();
+        if let Some(list) = &p.closures {
+            for v in list.get_ref() {
+                let d = self.date(v, "protocol.closures")?;
+                if d < start || d >= end {
+                    return Err(self.err(&v.span(), "protocol.closures", format!("{d} is outside the exercise weeks ({start} to {}); allowed dates within them", end.pred_opt().unwrap_or(end))));
+                }
+                if closures.contains(&d) {
+                    return Err(self.err(
+                        &v.span(),
+                        "protocol.closures",
+                        format!("{d} is listed twice; closure dates must be distinct"),
+                    ));
+                }
+                closures.push(d);
+            }
+        }
+        closures.sort();
+        let make_up = match &p.make_up {
+            Some(v) => self.choice(
+                v,
+                "protocol.make_up",
+                &[("none", MakeUp::None), ("spread", MakeUp::Spread)],
+            )?,
+            None => MakeUp::None,
+        };
         Ok(Protocol {
             start,
             weeks,
@@ -708,7 +1005,33 @@ impl Cx<'_> {
             round_minutes_to,
             dose,
             ramp,
+            warm_up,
+            cool_down,
+            closures,
+            make_up,
         })
+    }
+
+    /// A warm-up or cool-down table.
+    fn easy(&self, re: &S<RawEasy>, tn: &str) -> Result<EasyPart, Error> {
+        let e = re.get_ref();
+        let minutes = self.whole(
+            self.required(
+                &e.minutes,
+                &re.span(),
+                tn,
+                "minutes",
+                "allowed whole numbers 1 to 60",
+            )?,
+            &format!("{tn}.minutes"),
+            1,
+            60,
+        )?;
+        let met = match &e.met {
+            Some(v) => self.number_above(v, &format!("{tn}.met"), 1.0, 10.0, " MET")?,
+            None => DEFAULT_EASY_MET,
+        };
+        Ok(EasyPart { minutes, met })
     }
 
     fn dose(&self, rd: &S<RawDose>) -> Result<Dose, Error> {
@@ -796,8 +1119,13 @@ impl Cx<'_> {
         Ok((speed, grade))
     }
 
-    fn activity(&self, ra: &S<RawActivity>) -> Result<Activity, Error> {
-        let a = ra.get_ref();
+    fn activity(
+        &self,
+        a: &RawActivity,
+        span: Range<usize>,
+        tn: &str,
+        fitness: Option<&Fitness>,
+    ) -> Result<Activity, Error> {
         let mut given: Vec<(Range<usize>, &str)> = Vec::new();
         if let Some(v) = &a.compendium_code {
             given.push((v.span(), "compendium_code"));
@@ -814,22 +1142,25 @@ impl Cx<'_> {
         if let Some(v) = &a.cycling_watts {
             given.push((v.span(), "cycling_watts"));
         }
+        if let Some(v) = &a.vo2_reserve_percent {
+            given.push((v.span(), "vo2_reserve_percent"));
+        }
         given.sort_by_key(|(s, _)| s.start);
         match given.as_slice() {
-            [] => return Err(self.err(&ra.span(), "activity", "no intensity; give exactly one of compendium_code, met, walking, running, cycling_watts")),
+            [] => return Err(self.err(&span, tn, "no intensity; give exactly one of compendium_code, met, walking, running, cycling_watts, vo2_reserve_percent")),
             [_] => {}
             [_, second, ..] => {
                 let names: Vec<&str> = given.iter().map(|(_, k)| *k).collect();
-                return Err(self.err(&second.0, &format!("activity.{}", second.1), format!("two ways of giving the intensity ({}); give exactly one", names.join(", "))));
+                return Err(self.err(&second.0, &format!("{tn}.{}", second.1), format!("two ways of giving the intensity ({}); give exactly one", names.join(", "))));
             }
         }
         let (intensity, default_label) = if let Some(c) = &a.compendium_code {
             let code = match c.get_ref() {
                 RawCode::Text(s) => s.trim().to_string(),
-                RawCode::Integer(i) => return Err(self.err(&c.span(), "activity.compendium_code", format!("value {i} is a number; compendium codes are strings with leading zeros, write compendium_code = \"{i:05}\""))),
-                RawCode::Float(f) => return Err(self.err(&c.span(), "activity.compendium_code", format!("value {f} is a number; compendium codes are five-digit strings such as \"02010\""))),
+                RawCode::Integer(i) => return Err(self.err(&c.span(), &format!("{tn}.compendium_code"), format!("value {i} is a number; compendium codes are strings with leading zeros, write compendium_code = \"{i:05}\""))),
+                RawCode::Float(f) => return Err(self.err(&c.span(), &format!("{tn}.compendium_code"), format!("value {f} is a number; compendium codes are five-digit strings such as \"02010\""))),
             };
-            let e = compendium::lookup(&code).ok_or_else(|| self.err(&c.span(), "activity.compendium_code", format!("unknown code \"{code}\"; the built-in table holds {} codes of the 2011 Compendium (list them with `dosewright activities`), or give met = ... instead", compendium::table().len())))?;
+            let e = compendium::lookup(&code).ok_or_else(|| self.err(&c.span(), &format!("{tn}.compendium_code"), format!("unknown code \"{code}\"; the built-in table holds {} codes of the 2011 Compendium (list them with `dosewright activities`), or give met = ... instead", compendium::table().len())))?;
             (
                 Intensity::Compendium {
                     code: e.code.clone(),
@@ -839,10 +1170,10 @@ impl Cx<'_> {
                 e.label.clone(),
             )
         } else if let Some(m) = &a.met {
-            let met = self.number_above(m, "activity.met", 1.0, 25.0, " MET")?;
+            let met = self.number_above(m, &format!("{tn}.met"), 1.0, 25.0, " MET")?;
             (Intensity::Met { met }, format!("activity at {met} MET"))
         } else if let Some(g) = &a.walking {
-            let (speed_kmh, grade_percent) = self.gait(g, "activity.walking", 1.0, 12.0)?;
+            let (speed_kmh, grade_percent) = self.gait(g, &format!("{tn}.walking"), 1.0, 12.0)?;
             (
                 Intensity::Walking {
                     speed_kmh,
@@ -851,7 +1182,7 @@ impl Cx<'_> {
                 format!("walking {speed_kmh} km/h, {grade_percent}% grade"),
             )
         } else if let Some(g) = &a.running {
-            let (speed_kmh, grade_percent) = self.gait(g, "activity.running", 4.0, 30.0)?;
+            let (speed_kmh, grade_percent) = self.gait(g, &format!("{tn}.running"), 4.0, 30.0)?;
             (
                 Intensity::Running {
                     speed_kmh,
@@ -860,10 +1191,23 @@ impl Cx<'_> {
                 format!("running {speed_kmh} km/h, {grade_percent}% grade"),
             )
         } else if let Some(w) = &a.cycling_watts {
-            let watts = self.number(w, "activity.cycling_watts", 10.0, 600.0, " W")?;
+            let watts = self.number(w, &format!("{tn}.cycling_watts"), 10.0, 600.0, " W")?;
             (
                 Intensity::CyclingWatts { watts },
                 format!("cycle ergometer {watts} W"),
+            )
+        } else if let Some(v) = &a.vo2_reserve_percent {
+            let key = format!("{tn}.vo2_reserve_percent");
+            let percent = self.number(v, &key, 20.0, 95.0, " %")?;
+            let Some(vo2peak_l_min) = fitness.and_then(|f| f.vo2peak_l_min) else {
+                return Err(self.err(&v.span(), &key, "needs the peak oxygen uptake: give [participant.fitness] vo2peak_ml_kg_min (with vo2peak_test_mass_kg) or vo2peak_l_min"));
+            };
+            (
+                Intensity::Vo2Reserve {
+                    percent,
+                    vo2peak_l_min,
+                },
+                format!("{percent}% of VO2 reserve"),
             )
         } else {
             unreachable!("one intensity was counted above")
@@ -872,7 +1216,7 @@ impl Cx<'_> {
             Some(l) if l.get_ref().trim().is_empty() => {
                 return Err(self.err(
                     &l.span(),
-                    "activity.label",
+                    &format!("{tn}.label"),
                     "empty; leave the key out to use the activity's own label",
                 ));
             }

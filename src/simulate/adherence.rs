@@ -5,7 +5,7 @@ use crate::activity::acsm::gross_kcal_per_min;
 use crate::model::Physiology;
 use crate::plan::{DoseAmount, EnergyBasis, MassBasis, Plan};
 use crate::simulate::observed::Observed;
-use crate::simulate::prescription::{Prescription, Reference};
+use crate::simulate::prescription::{PlannedBout, Prescription, Reference};
 use serde::Serialize;
 
 /// One week's adherence, counting days up to the log's `as_of` date.
@@ -98,16 +98,25 @@ pub fn week(
         EnergyBasis::Net => physiology.net_kcal_per_min(met, m, r.rmr_kcal_per_day),
     };
     let net = |met: f64| physiology.net_kcal_per_min(met, m, r.rmr_kcal_per_day);
-    let planned: Vec<&(chrono::NaiveDate, u32)> =
-        rx.bouts.iter().filter(|(d, _)| day_of(d) <= last).collect();
-    let mut planned_days: Vec<u32> = planned.iter().map(|(d, _)| day_of(d)).collect();
+    let planned: Vec<_> = rx
+        .bouts
+        .iter()
+        .filter(|b| day_of(&b.date) <= last)
+        .collect();
+    let mut planned_days: Vec<u32> = planned.iter().map(|b| day_of(&b.date)).collect();
     planned_days.dedup();
-    let met_plan = plan.activity.intensity.met_at(m);
+    let met_of = |b: &PlannedBout| plan.activity_at(b.activity).intensity.met_at(m);
     let minutes_prescribed: f64 = planned
         .iter()
-        .map(|(_, mins)| f64::from(*mins))
+        .map(|b| f64::from(b.minutes))
         .fold(0.0, |a, b| a + b)
         + 0.0;
+    let prescribed_with = |per_min: &dyn Fn(f64) -> f64| {
+        planned
+            .iter()
+            .map(|b| f64::from(b.minutes) * per_min(met_of(b)))
+            .fold(0.0, |a, b| a + b)
+    };
     let delivered: Vec<_> = obs.sessions_in(start_day, last + 1).collect();
     let mut delivered_days: Vec<u32> = delivered
         .iter()
@@ -133,14 +142,14 @@ pub fn week(
         sessions_delivered: delivered_days.len() as u32,
         minutes_prescribed,
         minutes_delivered,
-        net_kcal_prescribed: minutes_prescribed * net(met_plan),
+        net_kcal_prescribed: prescribed_with(&net),
         net_kcal_delivered: delivered
             .iter()
             .map(|s| s.minutes * net(s.intensity.met_at(m)))
             .fold(0.0, |a, b| a + b),
         dose_prescribed: in_plan_unit(
             plan,
-            minutes_prescribed * basis_energy(met_plan),
+            prescribed_with(&basis_energy),
             minutes_prescribed,
             mass_basis,
         ),

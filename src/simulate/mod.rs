@@ -70,6 +70,17 @@ pub struct SessionRecord {
     pub net_kcal: f64,
     /// Cost in multiples of the participant's own RMR.
     pub relative_intensity: f64,
+    /// The activity's label.
+    pub activity: String,
+    /// Index of the activity in the plan's activities (0 = `[activity]`, then the
+    /// `[[rotation]]` entries).
+    pub activity_index: usize,
+    /// Warm-up minutes before the time at target.
+    pub warm_up_minutes: u32,
+    /// Cool-down minutes after it.
+    pub cool_down_minutes: u32,
+    /// Whole session (or bout) time: warm-up, time at target and cool-down.
+    pub session_minutes: u32,
 }
 
 /// The body at the end of a week, and the running energy account.
@@ -126,6 +137,12 @@ pub struct WeekRecord {
     pub sessions: Vec<SessionRecord>,
     /// What the over-maximum policy did.
     pub over_max: Option<OverMaxNote>,
+    /// Session dates lost to closures.
+    #[serde(skip_serializing_if = "Vec::is_empty")]
+    pub closed: Vec<NaiveDate>,
+    /// What the make-up rule did in a week with closures.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub make_up: Option<prescription::MakeUpNote>,
     /// Sessions delivered against those planned, for weeks the log covers.
     #[serde(skip_serializing_if = "Option::is_none")]
     pub adherence: Option<adherence::WeekAdherence>,
@@ -453,26 +470,21 @@ pub fn run(
         };
         let mut bouts: Vec<Bout> = rx
             .as_ref()
-            .map(|r| {
-                r.bouts
-                    .iter()
-                    .filter(|(d, _)| !is_past(d))
-                    .map(|(_, m)| Bout {
-                        minutes: f64::from(*m),
-                        intensity: plan.activity.intensity.clone(),
-                    })
-                    .collect()
-            })
+            .map(|r| r.model_bouts(plan, |d| !is_past(d)))
             .unwrap_or_default();
         if let (Some(o), true) = (obs, mode.exercise) {
-            bouts.extend(
-                o.sessions_in(start_day, start_day + 7)
-                    .filter(|s| s.minutes > 0.0)
-                    .map(|s| Bout {
-                        minutes: s.minutes,
-                        intensity: s.intensity.clone(),
-                    }),
-            );
+            // A delivered session's minutes are its time at target; its warm-up and
+            // cool-down are taken as done as planned.
+            for s in o
+                .sessions_in(start_day, start_day + 7)
+                .filter(|s| s.minutes > 0.0)
+            {
+                bouts.push(Bout {
+                    minutes: s.minutes,
+                    intensity: s.intensity.clone(),
+                });
+                bouts.extend(prescription::easy_bouts(plan));
+            }
         }
         // Integrate the week in segments split at mid-week weigh-ins.
         let mut cuts: Vec<u32> = match (obs, mode.anchor) {
@@ -528,31 +540,51 @@ pub fn run(
             Some(d) if prescribed > 0.0 => (deficit - d[w as usize - 1]) / prescribed,
             _ => 0.0,
         };
-        let met_w = plan.activity.intensity.met_at(m_w);
-        let sessions = rx
+        let easy: Vec<Bout> = prescription::easy_bouts(plan).collect();
+        let easy_energy = |per_min: &dyn Fn(f64) -> f64| {
+            easy.iter()
+                .map(|b| b.minutes * per_min(b.intensity.met_at(m_w)))
+                .fold(0.0, |a, b| a + b)
+        };
+        let gross = |met: f64| crate::activity::acsm::gross_kcal_per_min(met, m_w);
+        let net = |met: f64| physiology.net_kcal_per_min(met, m_w, rmr_w);
+        let (easy_gross, easy_net) = (easy_energy(&gross), easy_energy(&net));
+        let sessions: Vec<SessionRecord> = rx
             .as_ref()
             .map(|r| {
                 r.bouts
                     .iter()
-                    .enumerate()
-                    .map(|(i, (date, m))| {
-                        let mins = f64::from(*m);
+                    .map(|b| {
+                        let mins = f64::from(b.minutes);
+                        let activity = plan.activity_at(b.activity);
+                        let met = activity.intensity.met_at(m_w);
+                        let (gross_kcal, net_kcal) = if easy.is_empty() {
+                            (mins * gross(met), mins * net(met))
+                        } else {
+                            (mins * gross(met) + easy_gross, mins * net(met) + easy_net)
+                        };
                         SessionRecord {
-                            date: *date,
-                            weekday: weekday_name(date.weekday()),
-                            minutes: *m,
-                            bout: (r.bouts_per_session > 1)
-                                .then_some(i as u32 % r.bouts_per_session + 1),
-                            met: met_w,
-                            gross_kcal: mins
-                                * crate::activity::acsm::gross_kcal_per_min(met_w, m_w),
-                            net_kcal: mins * physiology.net_kcal_per_min(met_w, m_w, rmr_w),
-                            relative_intensity: physiology.relative_intensity(met_w, m_w, rmr_w),
+                            date: b.date,
+                            weekday: weekday_name(b.date.weekday()),
+                            minutes: b.minutes,
+                            bout: b.bout,
+                            met,
+                            gross_kcal,
+                            net_kcal,
+                            relative_intensity: physiology.relative_intensity(met, m_w, rmr_w),
+                            activity: activity.label.clone(),
+                            activity_index: b.activity,
+                            warm_up_minutes: p.warm_up.map_or(0, |e| e.minutes),
+                            cool_down_minutes: p.cool_down.map_or(0, |e| e.minutes),
+                            session_minutes: b.minutes + p.easy_minutes(),
                         }
                     })
                     .collect()
             })
             .unwrap_or_default();
+        let met_w = sessions
+            .first()
+            .map_or_else(|| plan.activity.intensity.met_at(m_w), |s| s.met);
         let measured = w == 1 || obs.is_some_and(|o| o.measured_near(start_day));
         let adherence = match (obs, &rx) {
             (Some(o), Some(r)) if start_day <= o.as_of_day => Some(adherence::week(
@@ -591,6 +623,8 @@ pub fn run(
             target_kcal_per_session: rx.as_ref().and_then(|r| r.target_kcal_per_session),
             met: if rx.is_some() { met_w } else { 0.0 },
             sessions,
+            closed: rx.as_ref().map(|r| r.closed.clone()).unwrap_or_default(),
+            make_up: rx.as_ref().and_then(|r| r.make_up.clone()),
             over_max: rx.and_then(|r| r.over_max),
             adherence,
             end: WeekEnd {

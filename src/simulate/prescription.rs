@@ -3,9 +3,10 @@
 //!
 //! `d_w = E_w / e_w`, rounded up to the step: `ceil(d/step - 1e-9) * step`.
 
+use crate::activity::Intensity;
 use crate::activity::acsm::gross_kcal_per_min;
-use crate::model::Physiology;
-use crate::plan::{DoseAmount, EnergyBasis, MassBasis, OverMax, Plan};
+use crate::model::{Bout, Physiology};
+use crate::plan::{DoseAmount, EnergyBasis, MakeUp, MassBasis, OverMax, Plan};
 use chrono::{Datelike, NaiveDate, Weekday};
 use serde::Serialize;
 
@@ -23,7 +24,7 @@ pub struct Reference {
 pub struct OverMaxNote {
     /// The policy.
     pub policy: OverMax,
-    /// Minutes per session before the policy acted.
+    /// Minutes of the longest session before the policy acted.
     pub minutes_before: u32,
     /// Energy the week lost to a cap, kcal on the plan's basis.
     pub shortfall_kcal: f64,
@@ -33,25 +34,88 @@ pub struct OverMaxNote {
     pub still_over: bool,
 }
 
+/// What closures took from a week and what the make-up rule gave back.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct MakeUpNote {
+    /// The rule.
+    pub rule: MakeUp,
+    /// Sessions lost to closures.
+    pub sessions_lost: u32,
+    /// Dose lost with them, in `unit` (kcal on the plan's basis, or minutes).
+    pub lost: f64,
+    /// Dose given back on the week's other sessions, in `unit`.
+    pub made_up: f64,
+    /// `kcal` or `min`.
+    pub unit: &'static str,
+}
+
+/// One planned bout: a session, or one of its two bouts with `split`.
+#[derive(Debug, Clone, Copy, PartialEq, Serialize)]
+pub struct PlannedBout {
+    /// Date.
+    pub date: NaiveDate,
+    /// Index of its activity in [`Plan::activities`].
+    pub activity: usize,
+    /// Minutes at the target intensity (warm-up and cool-down not included).
+    pub minutes: u32,
+    /// Bout number (1 or 2) with `split`.
+    pub bout: Option<u32>,
+    /// Minutes before rounding.
+    pub unrounded: f64,
+}
+
 /// One week's prescription.
 #[derive(Debug, Clone, PartialEq, Serialize)]
 pub struct Prescription {
     /// `r_w`.
     pub ramp_fraction: f64,
-    /// `E_w`, kcal per planned session on the plan's basis (None for a minutes dose).
+    /// `E_w`, kcal per planned session on the plan's basis (None for a minutes dose);
+    /// warm-up and cool-down are part of it.
     pub target_kcal_per_session: Option<f64>,
-    /// `e_w`, kcal per minute on the plan's basis at the reference state.
+    /// `e_w`, kcal per minute on the plan's basis of `[activity]` at the reference state.
     pub kcal_per_min: f64,
-    /// Minutes per planned session before rounding.
+    /// Minutes at target of the longest planned session before rounding (both bouts
+    /// with `split`).
     pub minutes_unrounded: f64,
-    /// Minutes of each session as delivered (both bouts for `split`).
+    /// Minutes at target of the longest session as delivered (both bouts with `split`).
     pub minutes_per_session: u32,
     /// Bouts per session (2 with `split`).
     pub bouts_per_session: u32,
-    /// Dated bouts, in date order: (date, minutes).
-    pub bouts: Vec<(NaiveDate, u32)>,
+    /// Dated bouts, in date order.
+    pub bouts: Vec<PlannedBout>,
     /// What the over-maximum policy did.
     pub over_max: Option<OverMaxNote>,
+    /// Session dates lost to closures.
+    pub closed: Vec<NaiveDate>,
+    /// What the make-up rule did, in weeks with closed sessions.
+    pub make_up: Option<MakeUpNote>,
+}
+
+impl Prescription {
+    /// The bouts to integrate: each bout at its activity, with its warm-up and
+    /// cool-down. `keep` chooses the bouts (by date) that count.
+    pub fn model_bouts(&self, plan: &Plan, keep: impl Fn(&NaiveDate) -> bool) -> Vec<Bout> {
+        let mut out = Vec::with_capacity(self.bouts.len() * 3);
+        for b in self.bouts.iter().filter(|b| keep(&b.date)) {
+            out.push(Bout {
+                minutes: f64::from(b.minutes),
+                intensity: plan.activity_at(b.activity).intensity.clone(),
+            });
+            out.extend(easy_bouts(plan));
+        }
+        out
+    }
+}
+
+/// The warm-up and cool-down of one session or bout, as model bouts.
+pub fn easy_bouts(plan: &Plan) -> impl Iterator<Item = Bout> {
+    [plan.protocol.warm_up, plan.protocol.cool_down]
+        .into_iter()
+        .flatten()
+        .map(|e| Bout {
+            minutes: f64::from(e.minutes),
+            intensity: Intensity::Met { met: e.met },
+        })
 }
 
 /// `ceil(d/step - 1e-9) * step` as whole minutes.
@@ -60,13 +124,30 @@ pub fn round_up(minutes: f64, step: u32) -> u32 {
     ((minutes / s - 1e-9).ceil().max(0.0) * s) as u32
 }
 
-/// The per-minute energy on the plan's basis at the reference state.
-pub fn kcal_per_min(plan: &Plan, physiology: &Physiology, r: &Reference) -> f64 {
-    let met = plan.activity.intensity.met_at(r.mass_kg);
+/// The per-minute energy on the plan's basis of `intensity` at the reference state.
+pub fn basis_kcal_per_min(
+    plan: &Plan,
+    physiology: &Physiology,
+    intensity: &Intensity,
+    r: &Reference,
+) -> f64 {
+    let met = intensity.met_at(r.mass_kg);
     match plan.protocol.dose.basis {
         EnergyBasis::Gross => gross_kcal_per_min(met, r.mass_kg),
         EnergyBasis::Net => physiology.net_kcal_per_min(met, r.mass_kg, r.rmr_kcal_per_day),
     }
+}
+
+/// The per-minute energy on the plan's basis of `[activity]` at the reference state.
+pub fn kcal_per_min(plan: &Plan, physiology: &Physiology, r: &Reference) -> f64 {
+    basis_kcal_per_min(plan, physiology, &plan.activity.intensity, r)
+}
+
+/// Energy of one warm-up plus cool-down on the plan's basis, kcal.
+pub fn easy_kcal(plan: &Plan, physiology: &Physiology, r: &Reference) -> f64 {
+    easy_bouts(plan)
+        .map(|b| b.minutes * basis_kcal_per_min(plan, physiology, &b.intensity, r))
+        .fold(0.0, |a, b| a + b)
 }
 
 fn dates_in_week(start: NaiveDate, days: &[Weekday]) -> Vec<NaiveDate> {
@@ -88,7 +169,23 @@ fn extra_days(plan: &Plan) -> Vec<Weekday> {
         .collect()
 }
 
+/// A session being planned: its date, activity, energy per minute and minutes.
+#[derive(Debug, Clone, Copy)]
+struct Draft {
+    date: NaiveDate,
+    activity: usize,
+    /// kcal per minute on the plan's basis.
+    e: f64,
+    /// Unrounded minutes at target of the whole session (both bouts).
+    minutes: f64,
+}
+
 /// Prescribe protocol week `week` (1-based) starting on `week_start` from reference `r`.
+///
+/// Each session's energy target `E_w` (the week's energy shared equally over the
+/// planned sessions) includes the warm-up and cool-down; the rest is delivered at the
+/// session's own activity, so `d = (E_w - E_easy) / e_activity`. A minutes dose gives
+/// the time at target, with warm-up and cool-down on top.
 pub fn prescribe(
     plan: &Plan,
     physiology: &Physiology,
@@ -100,7 +197,7 @@ pub fn prescribe(
     let p = &plan.protocol;
     let n = p.session_days.len() as f64;
     let ramp = p.ramp_fraction(week);
-    let e = kcal_per_min(plan, physiology, r);
+    let e_main = kcal_per_min(plan, physiology, r);
     let mass_basis = match p.dose.mass_basis {
         MassBasis::Baseline => baseline_mass_kg,
         MassBasis::Current => r.mass_kg,
@@ -111,77 +208,224 @@ pub fn prescribe(
         DoseAmount::KcalPerKgWeek(v) => Some(v * mass_basis / n * ramp),
         DoseAmount::MinutesPerWeek(_) => None,
     };
-    let minutes_unrounded = match (target, p.dose.amount) {
-        (Some(t), _) => t / e,
+    let split = p.over_max == OverMax::Split;
+    let easy = if target.is_some() {
+        easy_kcal(plan, physiology, r)
+    } else {
+        0.0
+    };
+    let e_of = |activity: usize| {
+        if activity == 0 {
+            e_main
+        } else {
+            basis_kcal_per_min(plan, physiology, &plan.activity_at(activity).intensity, r)
+        }
+    };
+    // Minutes at target of a session whose share of the week is `energy` kcal (or,
+    // for a minutes dose, `minutes`), with `easy_parts` warm-up/cool-down pairs.
+    let minutes_for = |share: f64, e: f64, easy_parts: f64| match target {
+        Some(_) if easy == 0.0 => share / e,
+        Some(_) => (share - easy_parts * easy).max(0.0) / e,
+        None => share,
+    };
+    let share = match (target, p.dose.amount) {
+        (Some(t), _) => t,
         (None, DoseAmount::MinutesPerWeek(v)) => ramp * v / n,
         (None, _) => unreachable!("only a minutes dose has no energy target"),
     };
-    let step = p.round_minutes_to;
-    let planned = round_up(minutes_unrounded, step);
-    let days = dates_in_week(week_start, &p.session_days);
-    let mut out = Prescription {
-        ramp_fraction: ramp,
-        target_kcal_per_session: target,
-        kcal_per_min: e,
-        minutes_unrounded,
-        minutes_per_session: planned,
-        bouts_per_session: 1,
-        bouts: days.iter().map(|d| (*d, planned)).collect(),
-        over_max: None,
-    };
-    let Some(max) = p.max_session_minutes else {
-        return out;
-    };
-    if f64::from(planned) <= max {
-        return out;
-    }
-    let mut note = OverMaxNote {
-        policy: p.over_max,
-        minutes_before: planned,
-        shortfall_kcal: 0.0,
-        added_sessions: 0,
-        still_over: false,
-    };
-    match p.over_max {
-        OverMax::Flag => note.still_over = true,
-        OverMax::Cap => {
-            let s = f64::from(step);
-            let capped = (((max / s) + 1e-9).floor() * s).max(s) as u32;
-            note.shortfall_kcal = n * (minutes_unrounded - f64::from(capped)).max(0.0) * e;
-            out.minutes_per_session = capped;
-            out.bouts = days.iter().map(|d| (*d, capped)).collect();
+    let bouts_per_session = if split { 2 } else { 1 };
+    let draft = |date: NaiveDate, share: f64| {
+        let activity = plan.activity_index_on(date.weekday());
+        let e = e_of(activity);
+        Draft {
+            date,
+            activity,
+            e,
+            minutes: minutes_for(share, e, f64::from(bouts_per_session)),
         }
-        OverMax::AddSession => {
-            let week_minutes = n * minutes_unrounded;
-            let extras = extra_days(plan);
-            let mut chosen = extras.len();
-            let mut minutes = round_up(week_minutes / (n + extras.len() as f64), step);
-            for k in 1..=extras.len() {
-                let m = round_up(week_minutes / (n + k as f64), step);
-                if f64::from(m) <= max {
-                    chosen = k;
-                    minutes = m;
-                    break;
+    };
+    let mut sessions: Vec<Draft> = dates_in_week(week_start, &p.session_days)
+        .into_iter()
+        .map(|d| draft(d, share))
+        .collect();
+    let step = p.round_minutes_to;
+    let longest = |s: &[Draft]| s.iter().map(|d| d.minutes).fold(0.0, f64::max);
+    let minutes_unrounded = longest(&sessions);
+    let mut over_max = None;
+    // Rounded minutes at target of each bout of a session.
+    let bout_minutes = |d: &Draft| round_up(d.minutes / f64::from(bouts_per_session), step);
+    let mut cap_to: Option<u32> = None;
+    if let Some(max) = p.max_session_minutes {
+        let before = sessions
+            .iter()
+            .map(|d| round_up(d.minutes, step))
+            .max()
+            .unwrap_or(0);
+        if f64::from(before) > max {
+            let mut note = OverMaxNote {
+                policy: p.over_max,
+                minutes_before: before,
+                shortfall_kcal: 0.0,
+                added_sessions: 0,
+                still_over: false,
+            };
+            match p.over_max {
+                OverMax::Flag => note.still_over = true,
+                OverMax::Cap => {
+                    let s = f64::from(step);
+                    let capped = (((max / s) + 1e-9).floor() * s).max(s) as u32;
+                    note.shortfall_kcal = sessions
+                        .iter()
+                        .map(|d| (d.minutes - f64::from(capped)).max(0.0) * d.e)
+                        .fold(0.0, |a, b| a + b);
+                    cap_to = Some(capped);
+                }
+                OverMax::AddSession => {
+                    let extras = extra_days(plan);
+                    let how = (n, share, easy == 0.0 || target.is_none());
+                    let mut chosen = extras.len();
+                    for k in 1..=extras.len() {
+                        let fits = trial(&sessions, &extras[..k], week_start, how, &draft)
+                            .iter()
+                            .all(|d| f64::from(round_up(d.minutes, step)) <= max);
+                        if fits {
+                            chosen = k;
+                            break;
+                        }
+                    }
+                    sessions = trial(&sessions, &extras[..chosen], week_start, how, &draft);
+                    note.added_sessions = chosen as u32;
+                    note.still_over = sessions
+                        .iter()
+                        .any(|d| f64::from(round_up(d.minutes, step)) > max);
+                }
+                OverMax::Split => {
+                    note.still_over = sessions.iter().any(|d| f64::from(bout_minutes(d)) > max);
                 }
             }
-            let mut all_days: Vec<Weekday> = p.session_days.clone();
-            all_days.extend(extras.iter().take(chosen));
-            let dates = dates_in_week(week_start, &all_days);
-            note.added_sessions = chosen as u32;
-            note.still_over = f64::from(minutes) > max;
-            out.minutes_per_session = minutes;
-            out.bouts = dates.iter().map(|d| (*d, minutes)).collect();
-        }
-        OverMax::Split => {
-            let bout = round_up(minutes_unrounded / 2.0, step);
-            note.still_over = f64::from(bout) > max;
-            // Saturating: a near-zero energy per minute gives u32::MAX-minute bouts,
-            // which the driver then reports as longer than a day (never wraps to 0).
-            out.minutes_per_session = bout.saturating_mul(2);
-            out.bouts_per_session = 2;
-            out.bouts = days.iter().flat_map(|d| [(*d, bout), (*d, bout)]).collect();
+            over_max = Some(note);
         }
     }
-    out.over_max = Some(note);
-    out
+    let rounded = |d: &Draft| match cap_to {
+        Some(c) => round_up(d.minutes, step).min(c),
+        None => bout_minutes(d),
+    };
+    // Closures: drop the closed sessions; `spread` gives their dose to the week's
+    // other sessions, each no longer than the maximum (or its own planned length,
+    // when that is already longer).
+    let (open, closed): (Vec<Draft>, Vec<Draft>) =
+        sessions.into_iter().partition(|d| !p.is_closed(d.date));
+    let mut make_up = None;
+    let mut minutes: Vec<(Draft, u32)> = open.iter().map(|d| (*d, rounded(d))).collect();
+    if !closed.is_empty() {
+        let energy_dose = target.is_some();
+        let unit_of = |d: &Draft, mins: f64| {
+            if energy_dose {
+                mins * d.e + f64::from(bouts_per_session) * easy
+            } else {
+                mins
+            }
+        };
+        let lost: f64 = closed
+            .iter()
+            .map(|d| unit_of(d, f64::from(rounded(d) * bouts_per_session)))
+            .fold(0.0, |a, b| a + b);
+        let mut made_up = 0.0;
+        if p.make_up == MakeUp::Spread && !open.is_empty() {
+            let each = lost / open.len() as f64;
+            let limit = p.max_session_minutes.map(|max| {
+                let s = f64::from(step);
+                (((max / s) + 1e-9).floor() * s).max(s) as u32
+            });
+            for (d, m) in &mut minutes {
+                let extra_minutes = if energy_dose { each / d.e } else { each };
+                let want = round_up(
+                    (f64::from(*m * bouts_per_session) + extra_minutes)
+                        / f64::from(bouts_per_session),
+                    step,
+                );
+                let new = match limit {
+                    Some(l) => want.min(l.max(*m)),
+                    None => want,
+                };
+                let gained = f64::from((new - *m) * bouts_per_session);
+                made_up += if energy_dose { gained * d.e } else { gained };
+                d.minutes += gained;
+                *m = new;
+            }
+        }
+        make_up = Some(MakeUpNote {
+            rule: p.make_up,
+            sessions_lost: closed.len() as u32,
+            lost,
+            made_up: made_up.min(lost),
+            unit: if energy_dose { "kcal" } else { "min" },
+        });
+    }
+    let bouts: Vec<PlannedBout> = minutes
+        .iter()
+        .flat_map(|(d, m)| {
+            (1..=bouts_per_session).map(move |b| PlannedBout {
+                date: d.date,
+                activity: d.activity,
+                minutes: *m,
+                bout: split.then_some(b),
+                unrounded: d.minutes / f64::from(bouts_per_session),
+            })
+        })
+        .collect();
+    // Saturating: a near-zero energy per minute gives u32::MAX-minute bouts, which
+    // the driver then reports as longer than a day (never wraps to 0).
+    let minutes_per_session = minutes
+        .iter()
+        .map(|(_, m)| m.saturating_mul(bouts_per_session))
+        .max()
+        .unwrap_or_else(|| {
+            // Every session of the week is closed: report the planned length.
+            closed
+                .first()
+                .map_or(0, |d| rounded(d).saturating_mul(bouts_per_session))
+        });
+    Prescription {
+        ramp_fraction: ramp,
+        target_kcal_per_session: target,
+        kcal_per_min: e_main,
+        minutes_unrounded,
+        minutes_per_session,
+        bouts_per_session,
+        bouts,
+        over_max,
+        closed: closed.iter().map(|d| d.date).collect(),
+        make_up,
+    }
+}
+
+/// The sessions with `add-session` and the extra weekdays `extras`: the week's dose
+/// (that of `n` planned sessions of `share` each) shared equally over them all.
+fn trial(
+    planned: &[Draft],
+    extras: &[Weekday],
+    week_start: NaiveDate,
+    (n, share, proportional): (f64, f64, bool),
+    draft: &impl Fn(NaiveDate, f64) -> Draft,
+) -> Vec<Draft> {
+    let mut days: Vec<NaiveDate> = planned.iter().map(|d| d.date).collect();
+    days.extend(dates_in_week(week_start, extras));
+    days.sort();
+    let k = days.len() as f64;
+    days.into_iter()
+        .map(|date| {
+            if proportional {
+                // Written `n * d / k` so that one activity and no warm-up give the
+                // very numbers of a plain share.
+                let d = draft(date, share);
+                Draft {
+                    minutes: n * d.minutes / k,
+                    ..d
+                }
+            } else {
+                draft(date, n * share / k)
+            }
+        })
+        .collect()
 }
