@@ -9,6 +9,7 @@ pub mod csv;
 pub mod fit;
 pub mod goal;
 pub mod json;
+pub mod sessions;
 pub mod table;
 
 use crate::error::Error;
