@@ -1260,6 +1260,188 @@ fn bad_plans() -> Vec<Bad> {
             "",
             "error: bad.toml:25:25: activity.walking.speed_kmh: value NaN is not a finite number; allowed 1 to 12 km/h",
         ),
+        // The trainer's week: rotation, fitness and heart rate, warm-up and cool-down,
+        // closures and calendar settings.
+        bad(
+            "rotation_day_not_a_session_day",
+            &[],
+            "\n[[rotation]]\ndays = [\"tue\"]\nmet = 5.0\n",
+            "error: bad.toml:28:9: rotation[1].days: \"tue\" is not a session day or spare day of the protocol; allowed mon, wed, fri",
+        ),
+        bad(
+            "rotation_day_twice_across_entries",
+            &[],
+            "\n[[rotation]]\ndays = [\"fri\"]\nmet = 5.0\n\n[[rotation]]\ndays = [\"wed\", \"fri\"]\nmet = 6.0\n",
+            "error: bad.toml:32:16: rotation[2].days: \"fri\" is already given to rotation[1]; each day has one activity",
+        ),
+        bad(
+            "rotation_without_days",
+            &[],
+            "\n[[rotation]]\nmet = 5.0\n",
+            "error: bad.toml:27:1: rotation[1].days: missing required key; give the session days this activity is on, e.g. days = [\"fri\"]",
+        ),
+        bad(
+            "rotation_without_intensity",
+            &[],
+            "\n[[rotation]]\ndays = [\"fri\"]\n",
+            "error: bad.toml:27:1: rotation[1]: no intensity; give exactly one of compendium_code, met, walking, running, cycling_watts, vo2_reserve_percent",
+        ),
+        bad(
+            "rotation_met_out_of_range",
+            &[],
+            "\n[[rotation]]\ndays = [\"fri\"]\nmet = 40\n",
+            "error: bad.toml:29:7: rotation[1].met: value 40 is out of range; allowed above 1 and at most 25 MET",
+        ),
+        bad(
+            "rotation_unknown_key",
+            &[],
+            "\n[[rotation]]\ndays = [\"fri\"]\nmet = 5.0\nlable = \"bike\"\n",
+            "error: bad.toml:30:1: rotation[1].lable: unknown field `lable`, expected one of `days`, `compendium_code`, `met`, `walking`, `running`, `cycling_watts`, `vo2_reserve_percent`, `label`",
+        ),
+        bad(
+            "vo2_reserve_without_fitness",
+            &[("met = 4.0", "vo2_reserve_percent = 60")],
+            "",
+            "error: bad.toml:25:23: activity.vo2_reserve_percent: needs the peak oxygen uptake: give [participant.fitness] vo2peak_ml_kg_min (with vo2peak_test_mass_kg) or vo2peak_l_min",
+        ),
+        bad(
+            "vo2_reserve_out_of_range",
+            &[("met = 4.0", "vo2_reserve_percent = 150")],
+            "\n[participant.fitness]\nvo2peak_l_min = 2.0\n",
+            "error: bad.toml:25:23: activity.vo2_reserve_percent: value 150 is out of range; allowed 20 to 95 %",
+        ),
+        bad(
+            "vo2peak_both_ways",
+            &[],
+            "\n[participant.fitness]\nvo2peak_ml_kg_min = 25\nvo2peak_l_min = 2.0\n",
+            "error: bad.toml:29:17: participant.fitness.vo2peak_l_min: given with vo2peak_ml_kg_min; give the peak oxygen uptake one way only",
+        ),
+        bad(
+            "vo2peak_in_l_min_given_as_ml",
+            &[],
+            "\n[participant.fitness]\nvo2peak_l_min = 25\n",
+            "error: bad.toml:28:17: participant.fitness.vo2peak_l_min: value 25 is out of range; allowed 0.5 to 7 l/min",
+        ),
+        bad(
+            "vo2peak_too_low_for_mass",
+            &[],
+            "\n[participant.fitness]\nvo2peak_ml_kg_min = 8.5\nvo2peak_test_mass_kg = 60\n",
+            "error: bad.toml:28:21: participant.fitness.vo2peak_ml_kg_min: peak oxygen uptake 6.4 ml/kg/min at the plan's mass of 80 kg is at most 2 MET (7 ml/kg/min), too low to prescribe from; check the value and its units",
+        ),
+        bad(
+            "test_mass_without_relative_vo2peak",
+            &[],
+            "\n[participant.fitness]\nvo2peak_l_min = 2.0\nvo2peak_test_mass_kg = 80\n",
+            "error: bad.toml:29:24: participant.fitness.vo2peak_test_mass_kg: given without vo2peak_ml_kg_min; it is the mass at the test that a relative VO2peak refers to",
+        ),
+        bad(
+            "hr_rest_out_of_range",
+            &[],
+            "\n[participant.fitness]\nhr_rest_bpm = 10\n",
+            "error: bad.toml:28:15: participant.fitness.hr_rest_bpm: value 10 is out of range; allowed 30 to 120 beats/min",
+        ),
+        bad(
+            "hr_max_and_formula",
+            &[],
+            "\n[participant.fitness]\nhr_max_bpm = 170\nhr_max_formula = \"tanaka\"\n",
+            "error: bad.toml:29:18: participant.fitness.hr_max_formula: given with hr_max_bpm; a measured maximum is used as it is, leave the formula out",
+        ),
+        bad(
+            "hr_formula_unknown",
+            &[],
+            "\n[participant.fitness]\nhr_max_formula = \"gellish\"\n",
+            "error: bad.toml:28:18: participant.fitness.hr_max_formula: unknown value \"gellish\"; allowed tanaka, 220-age",
+        ),
+        bad(
+            "hr_reserve_too_small",
+            &[],
+            "\n[participant.fitness]\nhr_rest_bpm = 110\nhr_max_bpm = 120\n",
+            "error: bad.toml:29:14: participant.fitness.hr_max_bpm: resting heart rate 110 and maximum 120 beats/min (measured) leave a reserve of 10 beats/min; allowed a reserve of at least 20",
+        ),
+        bad(
+            "warm_up_without_minutes",
+            &[],
+            "\n[protocol.warm_up]\nmet = 2.5\n",
+            "error: bad.toml:27:1: protocol.warm_up.minutes: missing required key; allowed whole numbers 1 to 60",
+        ),
+        bad(
+            "warm_up_minutes_fraction",
+            &[],
+            "\n[protocol.warm_up]\nminutes = 5.5\n",
+            "error: bad.toml:28:11: protocol.warm_up.minutes: value 5.5 is not a whole number; allowed whole numbers 1 to 60",
+        ),
+        bad(
+            "cool_down_met_too_high",
+            &[],
+            "\n[protocol.cool_down]\nminutes = 5\nmet = 12\n",
+            "error: bad.toml:29:7: protocol.cool_down.met: value 12 is out of range; allowed above 1 and at most 10 MET",
+        ),
+        bad(
+            "closure_outside_protocol",
+            &[(
+                "session_days = [\"mon\", \"wed\", \"fri\"]",
+                "session_days = [\"mon\", \"wed\", \"fri\"]\nclosures = [2026-12-25]",
+            )],
+            "",
+            "error: bad.toml:20:13: protocol.closures: 2026-12-25 is outside the exercise weeks (2027-01-04 to 2027-02-28); allowed dates within them",
+        ),
+        bad(
+            "closure_twice",
+            &[(
+                "session_days = [\"mon\", \"wed\", \"fri\"]",
+                "session_days = [\"mon\", \"wed\", \"fri\"]\nclosures = [2027-01-06, 2027-01-06]",
+            )],
+            "",
+            "error: bad.toml:20:25: protocol.closures: 2027-01-06 is listed twice; closure dates must be distinct",
+        ),
+        bad(
+            "closure_day_month_order",
+            &[(
+                "session_days = [\"mon\", \"wed\", \"fri\"]",
+                "session_days = [\"mon\", \"wed\", \"fri\"]\nclosures = [\"06/01/2027\"]",
+            )],
+            "",
+            "error: bad.toml:20:13: protocol.closures: value \"06/01/2027\" is not a valid date; give an ISO date YYYY-MM-DD such as 2027-01-04",
+        ),
+        bad(
+            "make_up_unknown",
+            &[(
+                "session_days = [\"mon\", \"wed\", \"fri\"]",
+                "session_days = [\"mon\", \"wed\", \"fri\"]\nmake_up = \"carry\"",
+            )],
+            "",
+            "error: bad.toml:20:11: protocol.make_up: unknown value \"carry\"; allowed none, spread",
+        ),
+        bad(
+            "calendar_time_not_hh_mm",
+            &[],
+            "\n[calendar]\nsession_time = \"7.30am\"\n",
+            "error: bad.toml:28:16: calendar.session_time: value \"7.30am\" is not a time of day; give 24-hour HH:MM such as \"07:30\"",
+        ),
+        bad(
+            "calendar_second_bout_without_first",
+            &[],
+            "\n[calendar]\nsecond_bout_time = \"17:00\"\n",
+            "error: bad.toml:28:20: calendar.second_bout_time: given without calendar.session_time; give the first bout's time too",
+        ),
+        bad(
+            "calendar_second_bout_before_first",
+            &[],
+            "\n[calendar]\nsession_time = \"17:00\"\nsecond_bout_time = \"07:00\"\n",
+            "error: bad.toml:29:20: calendar.second_bout_time: 07:00 is not after session_time 17:00; allowed a later time the same day",
+        ),
+        bad(
+            "calendar_time_zone_with_space",
+            &[],
+            "\n[calendar]\ntime_zone = \"Central European\"\n",
+            "error: bad.toml:28:13: calendar.time_zone: value \"Central European\" is not a time-zone name; give an IANA name such as \"Europe/Berlin\" or \"UTC\"",
+        ),
+        bad(
+            "calendar_location_with_newline",
+            &[],
+            "\n[calendar]\nlocation = \"Room 2\\nBasement\"\n",
+            "error: bad.toml:28:12: calendar.location: holds a control character (a line break or tab); give one line of text",
+        ),
     ]
 }
 
@@ -1639,6 +1821,9 @@ struct Shape<'a> {
     days: &'a [&'a str],
     /// Distinct session dates per protocol week, when fixed.
     sessions_per_week: Option<usize>,
+    /// Every session date has the same minutes (false with a rotation of
+    /// activities or closures: then `minutes_per_session` is the longest session).
+    uniform_minutes: bool,
 }
 
 fn weekday_word(d: chrono::NaiveDate) -> &'static str {
@@ -1726,7 +1911,18 @@ fn assert_schedule_contract(j: &Value, shape: &Shape) {
                 assert!(gross > net && net > 0.0, "gross {gross} > net {net} > 0");
             }
             for (d, m) in &per_date {
-                assert_eq!(*m, mps, "minutes on {d} add up to minutes_per_session");
+                if shape.uniform_minutes {
+                    assert_eq!(*m, mps, "minutes on {d} add up to minutes_per_session");
+                } else {
+                    assert!(*m <= mps, "minutes on {d} are at most minutes_per_session");
+                }
+            }
+            if !per_date.is_empty() {
+                assert_eq!(
+                    per_date.values().max().copied(),
+                    Some(mps),
+                    "minutes_per_session is the longest session"
+                );
             }
             if let (Some(k), true) = (shape.sessions_per_week, n <= shape.weeks) {
                 assert_eq!(per_date.len(), k, "session dates in week {n}");
@@ -1803,6 +1999,7 @@ fn demo_json_has_every_key_of_the_contract() {
             follow_up_weeks: 12,
             days: &["mon", "wed", "fri"],
             sessions_per_week: Some(3),
+            uniform_minutes: true,
         },
     );
     let names: Vec<&str> = array(&j, "scenarios")
@@ -1861,6 +2058,7 @@ fn sessions_fall_on_the_plan_weekdays_in_date_order_from_any_start_weekday() {
             follow_up_weeks: 2,
             days: &["tue", "thu", "sat"],
             sessions_per_week: Some(3),
+            uniform_minutes: true,
         },
     );
     let w1: Vec<&str> = array(&j["scenarios"][0]["weeks"][0], "sessions")
@@ -1975,6 +2173,7 @@ fn follow_up_weeks_have_no_exercise_and_the_contract_holds() {
             follow_up_weeks: 3,
             days: &["mon", "wed", "fri"],
             sessions_per_week: Some(3),
+            uniform_minutes: true,
         },
     );
     let weeks = array(&j["scenarios"][0], "weeks");
@@ -2039,6 +2238,7 @@ fn every_example_plan_passes_check_and_keeps_the_json_contract() {
                     .map_or(0, |v| v.as_integer().unwrap()) as u64,
                 days: &days,
                 sessions_per_week: None,
+                uniform_minutes: !t.contains_key("rotation") && !p.contains_key("closures"),
             },
         );
     }
@@ -2385,6 +2585,7 @@ fn over_max_add_session_spreads_the_week_over_spare_days() {
             follow_up_weeks: 0,
             days: &["mon", "tue", "wed", "thu", "fri"],
             sessions_per_week: Some(5),
+            uniform_minutes: true,
         },
     );
     for w in array(&j["scenarios"][0], "weeks") {
@@ -2416,6 +2617,7 @@ fn over_max_split_gives_two_equal_bouts_a_day() {
             follow_up_weeks: 0,
             days: &["mon", "wed", "fri"],
             sessions_per_week: Some(3),
+            uniform_minutes: true,
         },
     );
     for w in array(&j["scenarios"][0], "weeks") {

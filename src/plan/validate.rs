@@ -681,12 +681,12 @@ impl Cx<'_> {
         if let Some(l) = vo2peak_l_min {
             let rel = l * 1000.0 / mass_kg;
             if rel <= 7.0 {
-                let span = f
-                    .vo2peak_ml_kg_min
-                    .as_ref()
-                    .or(f.vo2peak_l_min.as_ref())
-                    .map_or(rf.span(), |v| v.span());
-                return Err(self.err(&span, &k("vo2peak_l_min"), format!("peak oxygen uptake {rel:.1} ml/kg/min at the plan's mass of {} kg is at most 2 MET (7 ml/kg/min), too low to prescribe from; check the value and its units", fmt_num(mass_kg))));
+                let (span, key) = match (&f.vo2peak_ml_kg_min, &f.vo2peak_l_min) {
+                    (Some(v), _) => (v.span(), k("vo2peak_ml_kg_min")),
+                    (None, Some(v)) => (v.span(), k("vo2peak_l_min")),
+                    (None, None) => (rf.span(), tn.to_string()),
+                };
+                return Err(self.err(&span, &key, format!("peak oxygen uptake {rel:.1} ml/kg/min at the plan's mass of {} kg is at most 2 MET (7 ml/kg/min), too low to prescribe from; check the value and its units", fmt_num(mass_kg))));
             }
         }
         let hr_rest_bpm =
@@ -719,12 +719,12 @@ impl Cx<'_> {
         if let Some(rest) = hr_rest_bpm {
             let max = crate::activity::targets::hr_max(hr_max, age);
             if max - rest < 20.0 {
-                let span = f
-                    .hr_max_bpm
-                    .as_ref()
-                    .or(f.hr_rest_bpm.as_ref())
-                    .map_or(rf.span(), |v| v.span());
-                return Err(self.err(&span, &k("hr_rest_bpm"), format!("resting heart rate {} and maximum {max:.0} beats/min ({}) leave a reserve of {:.0} beats/min; allowed a reserve of at least 20", fmt_num(rest), hr_max.name(), max - rest)));
+                let (span, key) = match (&f.hr_max_bpm, &f.hr_rest_bpm) {
+                    (Some(v), _) => (v.span(), k("hr_max_bpm")),
+                    (None, Some(v)) => (v.span(), k("hr_rest_bpm")),
+                    (None, None) => (rf.span(), tn.to_string()),
+                };
+                return Err(self.err(&span, &key, format!("resting heart rate {} and maximum {max:.0} beats/min ({}) leave a reserve of {:.0} beats/min; allowed a reserve of at least 20", fmt_num(rest), hr_max.name(), max - rest)));
             }
         }
         Ok(Fitness {

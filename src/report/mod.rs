@@ -115,12 +115,10 @@ pub struct LogSummary {
 impl ScheduleReport {
     /// Assemble the report of a simulated plan.
     pub fn new(plan: &Plan, sim: Simulation) -> ScheduleReport {
-        let max_met = sim
-            .scenarios
-            .iter()
-            .flat_map(|s| s.weeks.iter().map(|w| w.met))
-            .fold(0.0, f64::max);
-        let screening = safety::screen(plan.participant.screening.as_ref(), max_met);
+        let screening = safety::screen(
+            plan.participant.screening.as_ref(),
+            safety::warnings::reaches_vigorous(plan, &sim),
+        );
         let warnings = safety::warnings(plan, &sim, &screening);
         let b = &sim.baseline;
         let met0 = plan.activity.intensity.met_at(b.mass_kg);

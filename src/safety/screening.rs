@@ -40,8 +40,8 @@ pub struct ScreeningOutcome {
     pub clearance_missing: bool,
 }
 
-/// Screen the answers for a plan whose highest intensity is `max_met`.
-pub fn screen(answers: Option<&Screening>, max_met: f64) -> ScreeningOutcome {
+/// Screen the answers for a plan that reaches vigorous intensity or not.
+pub fn screen(answers: Option<&Screening>, vigorous: bool) -> ScreeningOutcome {
     let Some(s) = answers else {
         return ScreeningOutcome {
             recorded: false,
@@ -80,7 +80,7 @@ pub fn screen(answers: Option<&Screening>, max_met: f64) -> ScreeningOutcome {
     let needed = match clearance {
         Clearance::NotNeeded => false,
         Clearance::BeforeAnyExercise | Clearance::StopAndClear => true,
-        Clearance::BeforeVigorous => max_met >= VIGOROUS_MET,
+        Clearance::BeforeVigorous => vigorous,
     };
     ScreeningOutcome {
         recorded: true,

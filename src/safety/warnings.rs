@@ -4,6 +4,8 @@
 //! loss above 1% of body mass a week (NHLBI 1998 target rate of 0.45-0.9 kg/week,
 //! common practice as a ceiling); BMI 18.5 (WHO underweight cut-off); MET 6 vigorous.
 
+use crate::activity::Intensity;
+use crate::activity::targets::{IntensityClass, relative_targets};
 use crate::model::composition::bmi;
 use crate::plan::{OverMax, Plan};
 use crate::safety::screening::{ScreeningOutcome, VIGOROUS_MET};
@@ -57,17 +59,32 @@ pub fn warnings(plan: &Plan, sim: &Simulation, screening: &ScreeningOutcome) -> 
     if screening.clearance_missing {
         out.push(w("clearance-missing", format!("the screening result is \"{}\" and the plan's intensity (up to {max_met:.1} MET) needs medical clearance, which medical_clearance does not record", screening.recommendation)));
     }
-    let week1_met = sim
-        .scenarios
-        .first()
-        .and_then(|s| s.weeks.first())
-        .map_or(0.0, |w| w.met);
+    let week1 = sim.scenarios.first().and_then(|s| s.weeks.first());
+    let vigorous_week1 = week1.and_then(|w| {
+        w.sessions
+            .iter()
+            .find(|x| is_vigorous(plan, x.met, w.reference_mass_kg))
+    });
     let regular = plan.participant.screening.map(|s| s.exercises_regularly);
-    if week1_met >= VIGOROUS_MET && regular != Some(true) {
-        out.push(w("vigorous-start", format!("vigorous intensity ({week1_met:.1} MET) from week 1 for someone not recorded as exercising regularly: start light to moderate and progress gradually")));
+    if let (Some(x), true) = (vigorous_week1, regular != Some(true)) {
+        let how = match plan.participant.fitness.and_then(|f| f.vo2peak_l_min) {
+            Some(_) => format!("{:.1} MET, at least 60% of VO2 reserve", x.met),
+            None => format!("{:.1} MET", x.met),
+        };
+        out.push(w("vigorous-start", format!("vigorous intensity ({how}) from week 1 for someone not recorded as exercising regularly: start light to moderate and progress gradually")));
     }
-    if let Some(note) = plan.activity.intensity.outside_valid_range() {
-        out.push(w("acsm-equation-range", note));
+    for a in plan.activities() {
+        if let Some(note) = a.intensity.outside_valid_range() {
+            out.push(w("acsm-equation-range", note));
+        }
+    }
+    if plan
+        .activities()
+        .iter()
+        .any(|a| matches!(a.intensity, Intensity::Vo2Reserve { .. }))
+        && plan.protocol.weeks > 8
+    {
+        out.push(w("vo2peak-held", format!("the VO2-reserve intensity holds the baseline VO2peak ({:.2} l/min) for all {} weeks; training usually raises it, so retest it (for example every 8 to 12 weeks) and update the plan", plan.participant.fitness.and_then(|f| f.vo2peak_l_min).unwrap_or(0.0), plan.protocol.weeks)));
     }
     let b = &sim.baseline;
     if b.fat_mass_estimated {
@@ -86,10 +103,10 @@ pub fn warnings(plan: &Plan, sim: &Simulation, screening: &ScreeningOutcome) -> 
     }
     if subject.age_years >= 60.0 {
         let source = match plan.activity.intensity {
-            crate::activity::Intensity::Compendium { .. } => {
+            Intensity::Compendium { .. } => {
                 "the 2011 Compendium's METs assume 3.5 ml/kg/min at rest and tend to overstate the cost of activity"
             }
-            crate::activity::Intensity::Met { .. } => {
+            Intensity::Met { .. } => {
                 "a MET stated against the standard 3.5 ml/kg/min at rest tends to overstate the cost of activity"
             }
             _ => {
@@ -97,6 +114,37 @@ pub fn warnings(plan: &Plan, sim: &Simulation, screening: &ScreeningOutcome) -> 
             }
         };
         out.push(w("older-adult-met", format!("age {:.0}: {source} in adults aged 60 or more (the Older Adult Compendium uses 2.7 ml/kg/min; Willis et al. 2024, J Sport Health Sci 13:13), so minutes may be too few for the energy target", subject.age_years)));
+    }
+    if let Some(first) = sim.scenarios.first() {
+        let easy_only: Vec<u32> = first
+            .weeks
+            .iter()
+            .filter(|w| w.sessions.iter().any(|s| s.minutes == 0))
+            .map(|w| w.week)
+            .collect();
+        if !easy_only.is_empty() {
+            out.push(w("warm-up-meets-target", format!("the warm-up and cool-down alone meet the session's energy target in {} {}: those sessions have no time at the target intensity; shorten the warm-up or raise the dose", plural(&easy_only), week_ranges(&easy_only))));
+        }
+        let lost: Vec<(u32, f64, &str)> = first
+            .weeks
+            .iter()
+            .filter_map(|w| {
+                w.make_up
+                    .as_ref()
+                    .map(|m| (w.week, m.lost - m.made_up, m.unit))
+            })
+            .filter(|(_, short, _)| *short > 0.5)
+            .collect();
+        if !lost.is_empty() {
+            let weeks: Vec<u32> = lost.iter().map(|(w, ..)| *w).collect();
+            let total = lost.iter().fold(0.0, |a, (_, s, _)| a + s);
+            let unit = lost[0].2;
+            let why = match plan.protocol.make_up {
+                crate::plan::MakeUp::None => "make_up = \"none\"",
+                crate::plan::MakeUp::Spread => "the other sessions are at the maximum",
+            };
+            out.push(w("closure-dose-lost", format!("closures take {total:.0} {unit} of the dose in {} {} that is not made up ({why}); the participant receives less than the protocol dose those weeks", plural(&weeks), week_ranges(&weeks))));
+        }
     }
     let mut per_scenario = Vec::new();
     for sc in &sim.scenarios {
@@ -144,8 +192,35 @@ fn merge_scenarios(warnings: Vec<Warning>, runs: &[ScenarioRun]) -> Vec<Warning>
 fn max_met(sim: &Simulation) -> f64 {
     sim.scenarios
         .iter()
-        .flat_map(|s| s.weeks.iter().map(|w| w.met))
+        .flat_map(|s| {
+            s.weeks
+                .iter()
+                .flat_map(|w| w.sessions.iter().map(|x| x.met))
+        })
         .fold(0.0, f64::max)
+}
+
+/// Whether a session is vigorous: by its %VO2R where VO2peak is known (ACSM: 60 % or
+/// more), else by its MET (6 or more).
+fn is_vigorous(plan: &Plan, met: f64, mass_kg: f64) -> bool {
+    let t = relative_targets(
+        met,
+        mass_kg,
+        plan.participant.subject.age_years,
+        plan.participant.fitness.as_ref(),
+    );
+    t.class == IntensityClass::Vigorous || (t.vo2_reserve_fraction.is_none() && met >= VIGOROUS_MET)
+}
+
+/// Whether any planned session of any scenario is vigorous.
+pub fn reaches_vigorous(plan: &Plan, sim: &Simulation) -> bool {
+    sim.scenarios.iter().any(|s| {
+        s.weeks.iter().any(|w| {
+            w.sessions
+                .iter()
+                .any(|x| is_vigorous(plan, x.met, w.reference_mass_kg))
+        })
+    })
 }
 
 fn scenario_warnings(plan: &Plan, sc: &ScenarioRun, out: &mut Vec<Warning>) {
