@@ -10,6 +10,7 @@ pub mod fit;
 pub mod goal;
 pub mod json;
 pub mod table;
+pub mod units;
 
 use crate::error::Error;
 use crate::model::Baseline;
