@@ -2,11 +2,13 @@
 
 use crate::activity::compendium;
 use crate::cli::{
-    Command, CompareFormat, FitParameterArg, FormatArg, GoalFormat, LogAction, LogArgs,
+    Command, CompareFormat, DisplayArgs, EnergyArg, FitParameterArg, FormatArg, GoalFormat,
+    LogAction, LogArgs, UnitsArg,
 };
 use crate::error::Error;
 use crate::files::{check_target, refuse_overwriting_inputs, write_atomic};
 use crate::plan::{self, Plan};
+use crate::report::units::{EnergyUnit, UnitSystem, Units};
 use crate::report::{self, ScheduleReport};
 use crate::safety::Warning;
 use crate::simulate::band::projection_band;
@@ -208,6 +210,45 @@ fn refuse_inputs(out: &Option<PathBuf>, plan: &Path, log: &Option<PathBuf>) -> R
     Ok(())
 }
 
+/// The unit system of `--units`.
+fn unit_system(units: UnitsArg) -> UnitSystem {
+    match units {
+        UnitsArg::Metric => UnitSystem::Metric,
+        UnitsArg::Us => UnitSystem::Us,
+    }
+}
+
+/// The display units of `--units` and `--energy`.
+fn display_units(d: &DisplayArgs) -> Units {
+    Units {
+        system: unit_system(d.units),
+        energy: match d.energy {
+            EnergyArg::Kcal => EnergyUnit::Kcal,
+            EnergyArg::Kj => EnergyUnit::Kj,
+        },
+    }
+}
+
+/// Refuse display units other than metric and kcal with a machine-readable format:
+/// JSON and CSV are the machine contract, in the units of plan files and logs, and
+/// converting them silently, or ignoring the option silently, would both mislead.
+fn refuse_display_units(units: Units, format: &str) -> Result<(), Error> {
+    if units.is_model_units() {
+        return Ok(());
+    }
+    let mut given = Vec::new();
+    if units.system == UnitSystem::Us {
+        given.push("--units us");
+    }
+    if units.energy == EnergyUnit::Kj {
+        given.push("--energy kj");
+    }
+    Err(Error::Usage(format!(
+        "{} with --format {format}: JSON and CSV are always metric and kcal (kg, km/h, kcal, as in plan files and logs); leave out --units and --energy, or choose a human-readable format such as --format table",
+        given.join(" ")
+    )))
+}
+
 /// Print to standard output, or write the file atomically and say so on standard error.
 fn deliver(mut printed: Printed, text: String, out: &Option<PathBuf>) -> Result<Printed, Error> {
     match out {
@@ -230,7 +271,14 @@ pub fn run(command: &Command) -> Result<Printed, Error> {
             out,
             chart,
             logged: LogArgs { log, as_of },
+            display,
         } => {
+            let units = display_units(display);
+            match format {
+                FormatArg::Table => {}
+                FormatArg::Csv => refuse_display_units(units, "csv")?,
+                FormatArg::Json => refuse_display_units(units, "json")?,
+            }
             if let (Some(o), Some(p)) = (out, plan) {
                 refuse_overwriting_inputs(o, &[p.as_path()])?;
             }
@@ -246,7 +294,7 @@ pub fn run(command: &Command) -> Result<Printed, Error> {
             let index = r.scenario_index(scenario.as_deref())?;
             let mut printed = Printed::default();
             let text = match format {
-                FormatArg::Table => report::table::render(&r, index),
+                FormatArg::Table => report::table::render(&r, index, units),
                 FormatArg::Json => report::json::render(&r),
                 FormatArg::Csv => {
                     printed.stderr = side_notes(&r);
@@ -256,7 +304,7 @@ pub fn run(command: &Command) -> Result<Printed, Error> {
             if let Some(dir) = chart {
                 printed
                     .stderr
-                    .push_str(&charts::write_schedule_charts(dir, &r)?);
+                    .push_str(&charts::write_schedule_charts(dir, &r, units)?);
             }
             deliver(printed, text, out)
         }
@@ -269,14 +317,21 @@ pub fn run(command: &Command) -> Result<Printed, Error> {
             out,
             chart,
             logged: LogArgs { log, as_of },
+            display,
         } => {
+            let units = display_units(display);
+            match format {
+                CompareFormat::Table | CompareFormat::Markdown => {}
+                CompareFormat::Csv => refuse_display_units(units, "csv")?,
+                CompareFormat::Json => refuse_display_units(units, "json")?,
+            }
             refuse_inputs(out, plan, log)?;
             let plan = with_added_scenarios(load(Some(plan))?, add_scenario)?;
             let log = read_log(&plan, log.as_deref(), *as_of)?;
             let r = compare_report_logged(&plan, &log, at_week, doses)?;
             let text = match format {
-                CompareFormat::Table => report::compare::render_table(&r),
-                CompareFormat::Markdown => report::compare::render_markdown(&r),
+                CompareFormat::Table => report::compare::render_table(&r, units),
+                CompareFormat::Markdown => report::compare::render_markdown(&r, units),
                 CompareFormat::Json => report::json::render(&r),
                 CompareFormat::Csv => report::compare::render_csv(&r),
             };
@@ -288,7 +343,7 @@ pub fn run(command: &Command) -> Result<Printed, Error> {
                 let schedule = schedule_report_logged(&plan, &log)?;
                 printed
                     .stderr
-                    .push_str(&charts::write_schedule_charts(dir, &schedule)?);
+                    .push_str(&charts::write_schedule_charts(dir, &schedule, units)?);
             }
             deliver(printed, text, out)
         }
@@ -301,7 +356,12 @@ pub fn run(command: &Command) -> Result<Printed, Error> {
             format,
             out,
             logged: LogArgs { log, as_of },
+            display,
         } => {
+            let units = display_units(display);
+            if *format == GoalFormat::Json {
+                refuse_display_units(units, "json")?;
+            }
             refuse_inputs(out, plan, log)?;
             let plan = with_added_scenarios(load(Some(plan))?, add_scenario)?;
             let log = read_log(&plan, log.as_deref(), *as_of)?;
@@ -328,7 +388,7 @@ pub fn run(command: &Command) -> Result<Printed, Error> {
             let answers = solve_observed(&plan, &request, log.observed.as_ref())?;
             let r = report::goal::GoalReport::new(&schedule, request, answers);
             let text = match format {
-                GoalFormat::Table => report::goal::render_table(&r),
+                GoalFormat::Table => report::goal::render_table(&r, units),
                 GoalFormat::Json => report::json::render(&r),
             };
             deliver(Printed::default(), text, out)
@@ -342,7 +402,12 @@ pub fn run(command: &Command) -> Result<Printed, Error> {
             format,
             out,
             chart,
+            display,
         } => {
+            let units = display_units(display);
+            if *format == GoalFormat::Json {
+                refuse_display_units(units, "json")?;
+            }
             refuse_inputs(out, plan, &Some(log.clone()))?;
             let plan = load(Some(plan))?;
             let input = read_log(&plan, Some(log), *as_of)?;
@@ -360,13 +425,13 @@ pub fn run(command: &Command) -> Result<Printed, Error> {
             let fit = crate::simulate::fit::fit(&plan, observed, index, param)?;
             let r = report::fit::FitReport::new(&schedule, &input, fit);
             let text = match format {
-                GoalFormat::Table => report::fit::render_table(&r),
+                GoalFormat::Table => report::fit::render_table(&r, units),
                 GoalFormat::Json => report::json::render(&r),
             };
             let mut printed = Printed::default();
             if let Some(dir) = chart {
                 let stem = charts::stem(&r.participant_id);
-                let mut chart = report::fit::chart(&r);
+                let mut chart = report::fit::chart(&r, units);
                 chart
                     .caption
                     .push_str(&charts::screening_caption(&r.screening));
@@ -452,11 +517,11 @@ pub fn run(command: &Command) -> Result<Printed, Error> {
                 stderr,
             })
         }
-        Command::Check { plan } => {
+        Command::Check { plan, display } => {
             let plan = load(Some(plan))?;
             let r = schedule_report(&plan)?;
             Ok(Printed {
-                stdout: report::check::render(&plan, &r),
+                stdout: report::check::render(&plan, &r, display_units(display)),
                 stderr: String::new(),
             })
         }
@@ -486,6 +551,7 @@ pub fn run(command: &Command) -> Result<Printed, Error> {
             text,
             met_min,
             met_max,
+            units,
         } => {
             let lo = met_min.unwrap_or(0.0);
             let hi = met_max.unwrap_or(f64::INFINITY);
@@ -518,7 +584,14 @@ pub fn run(command: &Command) -> Result<Printed, Error> {
                 query.trim().to_string()
             };
             Ok(Printed {
-                stdout: report::activities::render(&rows, &query),
+                stdout: report::activities::render(
+                    &rows,
+                    &query,
+                    Units {
+                        system: unit_system(*units),
+                        ..Units::default()
+                    },
+                ),
                 stderr: String::new(),
             })
         }
@@ -530,6 +603,7 @@ mod charts {
     use crate::error::Error;
     use crate::report::ScheduleReport;
     use crate::report::chart::{Band, standard_charts, write_charts};
+    use crate::report::units::Units;
     use std::path::Path;
 
     /// The participant's screening outcome and the stop signs, for chart captions.
@@ -553,8 +627,13 @@ mod charts {
             .collect()
     }
 
-    /// Write the four charts into `dir`; returns the notes for standard error.
-    pub fn write_schedule_charts(dir: &Path, r: &ScheduleReport) -> Result<String, Error> {
+    /// Write the four charts into `dir` in units `u`; returns the notes for standard
+    /// error.
+    pub fn write_schedule_charts(
+        dir: &Path,
+        r: &ScheduleReport,
+        u: Units,
+    ) -> Result<String, Error> {
         let m0 = r.baseline.mass_kg;
         let band = r
             .projection_band
@@ -570,7 +649,7 @@ mod charts {
                     )
                     .collect(),
             });
-        let mut charts = standard_charts(&r.scenarios, r.protocol.weeks, band.as_ref());
+        let mut charts = standard_charts(&r.scenarios, r.protocol.weeks, band.as_ref(), u);
         for (_, c) in charts.iter_mut() {
             c.caption.push_str(&screening_caption(&r.screening));
         }

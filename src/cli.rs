@@ -135,6 +135,36 @@ pub struct LogArgs {
     pub as_of: Option<NaiveDate>,
 }
 
+/// Units of mass, speed and height in human-facing output.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, ValueEnum)]
+pub enum UnitsArg {
+    /// kg, km/h, cm.
+    Metric,
+    /// US customary: lb, mph, in.
+    Us,
+}
+
+/// Unit of energy in human-facing output.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, ValueEnum)]
+pub enum EnergyArg {
+    /// Kilocalories (thermochemical).
+    Kcal,
+    /// Kilojoules (1 kcal = 4.184 kJ).
+    Kj,
+}
+
+/// The display units of the tables, text and charts of `schedule`, `compare`, `goal`,
+/// `fit` and `check`.
+#[derive(Debug, Clone, Args)]
+pub struct DisplayArgs {
+    /// Units of mass, speed and height in tables, text and charts (JSON and CSV are always metric).
+    #[arg(long, value_enum, default_value_t = UnitsArg::Metric)]
+    pub units: UnitsArg,
+    /// Energy unit in tables, text and charts; per-kg doses stay per kg (JSON and CSV are always kcal).
+    #[arg(long, value_enum, default_value_t = EnergyArg::Kcal)]
+    pub energy: EnergyArg,
+}
+
 /// The commands.
 #[derive(Debug, Subcommand)]
 pub enum Command {
@@ -157,6 +187,9 @@ pub enum Command {
         /// The participant log to re-plan from.
         #[command(flatten)]
         logged: LogArgs,
+        /// Display units.
+        #[command(flatten)]
+        display: DisplayArgs,
     },
     /// Compare every scenario side by side at checkpoint weeks, optionally for several doses.
     Compare {
@@ -183,6 +216,9 @@ pub enum Command {
         /// The participant log to re-plan from.
         #[command(flatten)]
         logged: LogArgs,
+        /// Display units.
+        #[command(flatten)]
+        display: DisplayArgs,
     },
     /// Find, per scenario, the smallest dose of the plan's kind that reaches a loss by a week.
     #[command(group = clap::ArgGroup::new("loss").required(true).args(["lose_kg", "lose_percent"]))]
@@ -210,6 +246,9 @@ pub enum Command {
         /// The participant log to re-plan from.
         #[command(flatten)]
         logged: LogArgs,
+        /// Display units.
+        #[command(flatten)]
+        display: DisplayArgs,
     },
     /// Estimate from the log's weigh-ins how much of the dose is not reaching the stores.
     Fit {
@@ -236,6 +275,9 @@ pub enum Command {
         /// Also write the measured-against-modelled chart (SVG) into this folder.
         #[arg(long, value_name = "DIR")]
         chart: Option<PathBuf>,
+        /// Display units.
+        #[command(flatten)]
+        display: DisplayArgs,
     },
     /// Keep the participant log: weigh-ins and delivered sessions.
     Log {
@@ -247,6 +289,9 @@ pub enum Command {
     Check {
         /// The plan file (TOML).
         plan: PathBuf,
+        /// Display units.
+        #[command(flatten)]
+        display: DisplayArgs,
     },
     /// Write a commented starter plan (to FILE, or to standard output).
     Init {
@@ -263,5 +308,8 @@ pub enum Command {
         /// Highest MET to list.
         #[arg(long, value_name = "MET")]
         met_max: Option<f64>,
+        /// Units of the equations' speed ranges.
+        #[arg(long, value_enum, default_value_t = UnitsArg::Metric)]
+        units: UnitsArg,
     },
 }

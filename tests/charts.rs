@@ -6,6 +6,7 @@ use dosewright::report::chart::{
     Band, LineChart, Series, energy_chart, escape, mass_chart, minutes_chart, nice_number,
     nice_ticks, standard_charts, write_charts,
 };
+use dosewright::report::units::{EnergyUnit, UnitSystem, Units};
 use dosewright::simulate::{ScenarioRun, simulate};
 use std::path::{Path, PathBuf};
 use std::process::Command;
@@ -54,13 +55,13 @@ fn short_charts() -> Vec<(&'static str, LineChart)> {
         sim.scenarios[1].name,
         "eats back <40%> & \"more\" of the dose, three weeks late"
     );
-    standard_charts(&sim.scenarios, plan.protocol.weeks, None)
+    standard_charts(&sim.scenarios, plan.protocol.weeks, None, Units::default())
 }
 
 fn demo_charts() -> (Vec<ScenarioRun>, Vec<(&'static str, LineChart)>) {
     let (runs, weeks) = demo();
     let band = test_band(&runs);
-    let charts = standard_charts(&runs, weeks, Some(&band));
+    let charts = standard_charts(&runs, weeks, Some(&band), Units::default());
     (runs, charts)
 }
 
@@ -483,7 +484,7 @@ fn a_short_plan_with_a_long_name_is_well_formed() {
 #[test]
 fn the_charts_hold_the_simulated_numbers() {
     let (runs, weeks) = demo();
-    let mass = mass_chart(&runs, weeks, None);
+    let mass = mass_chart(&runs, weeks, None, Units::default());
     let s = &mass.series[0];
     assert_eq!(s.points[0], (0.0, runs[0].weeks[0].reference_mass_kg));
     assert_eq!(s.points.len(), runs[0].weeks.len() + 1);
@@ -496,7 +497,7 @@ fn the_charts_hold_the_simulated_numbers() {
         assert_eq!(s.points[0].1, f64::from(r.weeks[0].minutes_per_session));
     }
 
-    let energy = energy_chart(&runs, weeks);
+    let energy = energy_chart(&runs, weeks, Units::default());
     let (prescribed, achieved) = (&energy.series[0], &energy.series[1]);
     assert_eq!(prescribed.points.len(), 24);
     assert_eq!(achieved.points.len(), 36);
@@ -509,6 +510,67 @@ fn the_charts_hold_the_simulated_numbers() {
             .abs()
             < 1e-9
     );
+}
+
+#[test]
+fn charts_in_us_units_and_kj_convert_every_point_and_name_the_unit() {
+    // 1 lb = 0.45359237 kg and 1 kcal = 4.184 kJ exactly (NIST SP 811 (2008)
+    // Appendix B.8); the charts convert from the simulated kg and kcal.
+    let units = Units {
+        system: UnitSystem::Us,
+        energy: EnergyUnit::Kj,
+    };
+    let (runs, weeks) = demo();
+    let band = test_band(&runs);
+    let charts = standard_charts(&runs, weeks, Some(&band), units);
+    let by_name = |n: &str| &charts.iter().find(|(k, _)| *k == n).unwrap().1;
+
+    let mass = by_name("mass");
+    assert_eq!(mass.y_label, "Body mass [lb]");
+    let s = &mass.series[0];
+    assert_eq!(s.points.len(), runs[0].weeks.len() + 1);
+    assert!((s.points[0].1 - runs[0].weeks[0].reference_mass_kg / 0.45359237).abs() < 1e-9);
+    for (p, w) in s.points[1..].iter().zip(&runs[0].weeks) {
+        assert!(
+            (p.1 - w.end.mass_kg / 0.45359237).abs() < 1e-9,
+            "week {}",
+            w.week
+        );
+    }
+    let shown = mass.band.as_ref().expect("the band is drawn");
+    for (p, q) in shown.points.iter().zip(&band.points) {
+        assert_eq!(p.0, q.0);
+        assert!((p.1 - q.1 / 0.45359237).abs() < 1e-9);
+        assert!((p.2 - q.2 / 0.45359237).abs() < 1e-9);
+    }
+
+    let composition = by_name("composition");
+    assert_eq!(composition.y_label, "Change from baseline [lb]");
+    assert!(
+        composition.caption.contains(" lb, fat-free mass "),
+        "{}",
+        composition.caption
+    );
+    assert!(
+        !composition.caption.contains(" kg"),
+        "{}",
+        composition.caption
+    );
+
+    let minutes = by_name("minutes");
+    assert_eq!(minutes.y_label, "Minutes per session [min]");
+
+    let energy = by_name("energy");
+    assert_eq!(energy.y_label, "Energy per week [kJ/week]");
+    let w = &runs[0].weeks;
+    assert!((energy.series[0].points[0].1 - w[0].end.prescribed_net_kcal * 4.184).abs() < 1e-9);
+    let sum: f64 = energy.series[1].points.iter().map(|p| p.1).sum();
+    assert!((sum - w[35].end.achieved_deficit_kcal * 4.184).abs() < 1e-6);
+
+    // The metric charts are the same as before the option existed.
+    let metric = standard_charts(&runs, weeks, Some(&band), Units::default());
+    assert_eq!(metric[0].1.y_label, "Body mass [kg]");
+    assert_eq!(metric[3].1.y_label, "Energy per week [kcal/week]");
 }
 
 #[test]

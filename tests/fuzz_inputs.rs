@@ -14,6 +14,13 @@ use dosewright::app::{LogInput, schedule_report_logged, schedule_report_with_ban
 use dosewright::log::{load_log, parse_log};
 use dosewright::plan::{Plan, load_plan, parse_plan};
 use dosewright::report::ScheduleReport;
+use dosewright::report::units::{EnergyUnit, UnitSystem, Units};
+
+/// The display units furthest from the model's own.
+const US_KJ: Units = Units {
+    system: UnitSystem::Us,
+    energy: EnergyUnit::Kj,
+};
 use dosewright::simulate::observed::Observed;
 use proptest::prelude::*;
 use proptest::test_runner::TestCaseError;
@@ -163,9 +170,11 @@ fn check_report(r: &ScheduleReport) -> Result<(), TestCaseError> {
     if user_text_has_non_finite_word(r) {
         return Ok(());
     }
-    for i in 0..r.scenarios.len() {
-        let table = dosewright::report::table::render(r, i);
-        prop_assert_eq!(non_finite_word(&table), None, "table: {}", table);
+    for units in [Units::default(), US_KJ] {
+        for i in 0..r.scenarios.len() {
+            let table = dosewright::report::table::render(r, i, units);
+            prop_assert_eq!(non_finite_word(&table), None, "table: {}", table);
+        }
     }
     let csv = dosewright::report::csv::render(r);
     prop_assert_eq!(non_finite_word(&csv), None, "CSV: {}", csv);

@@ -948,6 +948,132 @@ fn usage_cases() -> Vec<Case> {
             &["activities", "cycling", "rowing"],
             Clap(&["error: unexpected argument 'rowing' found"]),
         ),
+        // Display units: human-facing output only; JSON and CSV refuse them, before
+        // anything is read or written.
+        case(
+            "schedule_units_imperial",
+            &["schedule", "plan.toml", "--units", "imperial"],
+            Clap(&[
+                "error: invalid value 'imperial' for '--units <UNITS>'",
+                "[possible values: metric, us]",
+            ]),
+        ),
+        case(
+            "check_energy_capital_kj",
+            &["check", "plan.toml", "--energy", "kJ"],
+            Clap(&[
+                "error: invalid value 'kJ' for '--energy <ENERGY>'",
+                "[possible values: kcal, kj]",
+            ]),
+        ),
+        case(
+            "schedule_json_in_us_units",
+            &["schedule", "plan.toml", "--format", "json", "--units", "us"],
+            Exact(
+                "error: --units us with --format json: JSON and CSV are always metric and kcal (kg, km/h, kcal, as in plan files and logs); leave out --units and --energy, or choose a human-readable format such as --format table",
+            ),
+        ),
+        case(
+            "schedule_csv_in_kj_with_out_and_charts",
+            &[
+                "schedule",
+                "plan.toml",
+                "--format",
+                "csv",
+                "--energy",
+                "kj",
+                "--out",
+                "s.csv",
+                "--chart",
+                "charts",
+            ],
+            Exact(
+                "error: --energy kj with --format csv: JSON and CSV are always metric and kcal (kg, km/h, kcal, as in plan files and logs); leave out --units and --energy, or choose a human-readable format such as --format table",
+            ),
+        ),
+        case(
+            "compare_csv_in_us_units_and_kj",
+            &[
+                "compare",
+                "plan.toml",
+                "--format",
+                "csv",
+                "--units",
+                "us",
+                "--energy",
+                "kj",
+            ],
+            Exact(
+                "error: --units us --energy kj with --format csv: JSON and CSV are always metric and kcal (kg, km/h, kcal, as in plan files and logs); leave out --units and --energy, or choose a human-readable format such as --format table",
+            ),
+        ),
+        case(
+            "compare_json_in_kj",
+            &["compare", "plan.toml", "--format", "json", "--energy", "kj"],
+            Exact(
+                "error: --energy kj with --format json: JSON and CSV are always metric and kcal (kg, km/h, kcal, as in plan files and logs); leave out --units and --energy, or choose a human-readable format such as --format table",
+            ),
+        ),
+        case(
+            "goal_json_in_us_units",
+            &[
+                "goal",
+                "plan.toml",
+                "--lose-kg",
+                "3",
+                "--by-week",
+                "12",
+                "--format",
+                "json",
+                "--units",
+                "us",
+                "--out",
+                "g.json",
+            ],
+            Exact(
+                "error: --units us with --format json: JSON and CSV are always metric and kcal (kg, km/h, kcal, as in plan files and logs); leave out --units and --energy, or choose a human-readable format such as --format table",
+            ),
+        ),
+        case(
+            "fit_json_in_kj",
+            &[
+                "fit",
+                "plan.toml",
+                "--log",
+                "log.csv",
+                "--format",
+                "json",
+                "--energy",
+                "kj",
+            ],
+            Exact(
+                "error: --energy kj with --format json: JSON and CSV are always metric and kcal (kg, km/h, kcal, as in plan files and logs); leave out --units and --energy, or choose a human-readable format such as --format table",
+            ),
+        ),
+        case(
+            // activities shows speeds but no energy.
+            "activities_energy",
+            &["activities", "--energy", "kj"],
+            Clap(&["error: unexpected argument '--energy' found"]),
+        ),
+        case(
+            // log add takes its mass in kg and prints one confirmation line.
+            "log_add_units",
+            &[
+                "log",
+                "add",
+                "plan.toml",
+                "--log",
+                "log.csv",
+                "--date",
+                "2027-03-24",
+                "--weigh-in",
+                "100",
+                "--units",
+                "us",
+            ],
+            Clap(&["error: unexpected argument '--units' found"]),
+        ),
     ]
 }
 
@@ -1104,8 +1230,13 @@ fn commands() -> Vec<String> {
     out
 }
 
+/// The output kind of a command's human-facing output in other display units: every
+/// command whose help lists `--units` or `--energy` has it.
+const DISPLAY_UNITS: &str = "display units";
+
 /// What each command can produce: `(command, format)` for each `--format` value, or
-/// `(command, "")` without one, and `(command, "chart")` where `--chart` exists.
+/// `(command, "")` without one, `(command, "chart")` where `--chart` exists, and
+/// `(command, DISPLAY_UNITS)` where `--units` or `--energy` exists.
 fn output_kinds() -> BTreeSet<(String, String)> {
     let mut out = BTreeSet::new();
     for cmd in commands() {
@@ -1132,8 +1263,34 @@ fn output_kinds() -> BTreeSet<(String, String)> {
         if help.lines().any(|l| l.trim_start().starts_with("--chart")) {
             out.insert((cmd.clone(), "chart".to_string()));
         }
+        if display_options(&help).next().is_some() {
+            out.insert((cmd.clone(), DISPLAY_UNITS.to_string()));
+        }
     }
     out
+}
+
+/// The display-unit options a command's `--help` lists, with the value furthest
+/// from the default: `--units us`, `--energy kj`.
+fn display_options(help: &str) -> impl Iterator<Item = [&'static str; 2]> + '_ {
+    [["--units", "us"], ["--energy", "kj"]]
+        .into_iter()
+        .filter(|[o, _]| {
+            help.lines()
+                .any(|l| l.trim_start().starts_with(&format!("{o} <")))
+        })
+}
+
+/// A run of kind `(command, DISPLAY_UNITS)` must pass every display-unit option the
+/// command has, at its non-default value; returns what is missing.
+fn display_units_missing(cmd: &str, args: &[&str]) -> Vec<String> {
+    let mut help_args: Vec<&str> = cmd.split(' ').collect();
+    help_args.push("-h");
+    let help = run(dosewright().args(&help_args)).stdout;
+    display_options(&help)
+        .filter(|pair| !args.windows(2).any(|w| w == pair))
+        .map(|[o, v]| format!("{o} {v}"))
+        .collect()
 }
 
 // ---------------------------------------------------------------------------
@@ -1947,6 +2104,92 @@ fn outputs() -> Vec<OutputRun> {
         ("check", &[("check", "")], vec!["check", "plan.toml"]),
         ("activities", &[("activities", "")], vec!["activities"]),
         (
+            "schedule table + charts in US units and kJ",
+            &[("schedule", DISPLAY_UNITS)],
+            vec![
+                "schedule",
+                "plan.toml",
+                "--log",
+                "log.csv",
+                "--chart",
+                "charts",
+                "--units",
+                "us",
+                "--energy",
+                "kj",
+            ],
+        ),
+        (
+            "compare table + charts in US units and kJ",
+            &[("compare", DISPLAY_UNITS)],
+            vec![
+                "compare",
+                "plan.toml",
+                "--doses",
+                "6,12",
+                "--chart",
+                "charts",
+                "--units",
+                "us",
+                "--energy",
+                "kj",
+            ],
+        ),
+        (
+            "compare markdown in kJ",
+            &[],
+            vec![
+                "compare",
+                "plan.toml",
+                "--format",
+                "markdown",
+                "--energy",
+                "kj",
+            ],
+        ),
+        (
+            "goal table in US units and kJ",
+            &[("goal", DISPLAY_UNITS)],
+            vec![
+                "goal",
+                "plan.toml",
+                "--lose-kg",
+                "3",
+                "--by-week",
+                "12",
+                "--units",
+                "us",
+                "--energy",
+                "kj",
+            ],
+        ),
+        (
+            "fit table + chart in US units and kJ",
+            &[("fit", DISPLAY_UNITS)],
+            vec![
+                "fit",
+                "plan.toml",
+                "--log",
+                "log.csv",
+                "--chart",
+                "charts",
+                "--units",
+                "us",
+                "--energy",
+                "kj",
+            ],
+        ),
+        (
+            "check in US units and kJ",
+            &[("check", DISPLAY_UNITS)],
+            vec!["check", "plan.toml", "--units", "us", "--energy", "kj"],
+        ),
+        (
+            "activities in US units",
+            &[("activities", DISPLAY_UNITS)],
+            vec!["activities", "walking", "--units", "us"],
+        ),
+        (
             "activities search",
             &[],
             vec!["activities", "walking", "--met-min", "3"],
@@ -2052,6 +2295,14 @@ fn the_determinism_runs_cover_every_command_format_and_chart() {
         .collect();
     let missing: Vec<_> = output_kinds().difference(&covered).cloned().collect();
     assert!(missing.is_empty(), "outputs not in outputs(): {missing:?}");
+    for (name, kinds, args) in outputs() {
+        for (cmd, kind) in kinds.iter() {
+            if *kind == DISPLAY_UNITS {
+                let lacking = display_units_missing(cmd, &args);
+                assert!(lacking.is_empty(), "{name}: does not pass {lacking:?}");
+            }
+        }
+    }
 }
 
 // ---------------------------------------------------------------------------
@@ -2109,6 +2360,26 @@ const fn audited(
 
 const SCHEDULE_CHART_ARGS: &[&str] = &["schedule", "plan.toml", "--chart", "charts"];
 const COMPARE_CHART_ARGS: &[&str] = &["compare", "plan.toml", "--chart", "charts"];
+const SCHEDULE_CHART_US_KJ_ARGS: &[&str] = &[
+    "schedule",
+    "plan.toml",
+    "--chart",
+    "charts",
+    "--units",
+    "us",
+    "--energy",
+    "kj",
+];
+const COMPARE_CHART_US_KJ_ARGS: &[&str] = &[
+    "compare",
+    "plan.toml",
+    "--chart",
+    "charts",
+    "--units",
+    "us",
+    "--energy",
+    "kj",
+];
 
 const AUDIT: &[Audited] = &[
     audited(
@@ -2292,6 +2563,163 @@ const AUDIT: &[Audited] = &[
         "activities with no match",
         ("activities", ""),
         &["activities", "underwater unicycling"],
+        Where::Stdout,
+        Screen::Call,
+    ),
+    // The same outputs in US units and kJ.
+    audited(
+        "schedule table in US units and kJ",
+        ("schedule", DISPLAY_UNITS),
+        &[
+            "schedule",
+            "plan.toml",
+            "--log",
+            "log.csv",
+            "--units",
+            "us",
+            "--energy",
+            "kj",
+        ],
+        Where::Stdout,
+        Screen::Outcome,
+    ),
+    audited(
+        "schedule mass chart in US units and kJ",
+        ("schedule", DISPLAY_UNITS),
+        SCHEDULE_CHART_US_KJ_ARGS,
+        Where::File(SCHEDULE_CHARTS[0]),
+        Screen::Outcome,
+    ),
+    audited(
+        "schedule composition chart in US units and kJ",
+        ("schedule", DISPLAY_UNITS),
+        SCHEDULE_CHART_US_KJ_ARGS,
+        Where::File(SCHEDULE_CHARTS[1]),
+        Screen::Outcome,
+    ),
+    audited(
+        "schedule minutes chart in US units and kJ",
+        ("schedule", DISPLAY_UNITS),
+        SCHEDULE_CHART_US_KJ_ARGS,
+        Where::File(SCHEDULE_CHARTS[2]),
+        Screen::Outcome,
+    ),
+    audited(
+        "schedule energy chart in US units and kJ",
+        ("schedule", DISPLAY_UNITS),
+        SCHEDULE_CHART_US_KJ_ARGS,
+        Where::File(SCHEDULE_CHARTS[3]),
+        Screen::Outcome,
+    ),
+    audited(
+        "compare table in US units and kJ",
+        ("compare", DISPLAY_UNITS),
+        &[
+            "compare",
+            "plan.toml",
+            "--doses",
+            "6,12",
+            "--units",
+            "us",
+            "--energy",
+            "kj",
+        ],
+        Where::Stdout,
+        Screen::Outcome,
+    ),
+    audited(
+        "compare markdown in US units and kJ",
+        ("compare", DISPLAY_UNITS),
+        &[
+            "compare",
+            "plan.toml",
+            "--format",
+            "markdown",
+            "--units",
+            "us",
+            "--energy",
+            "kj",
+        ],
+        Where::Stdout,
+        Screen::Outcome,
+    ),
+    audited(
+        "compare mass chart in US units and kJ",
+        ("compare", DISPLAY_UNITS),
+        COMPARE_CHART_US_KJ_ARGS,
+        Where::File(SCHEDULE_CHARTS[0]),
+        Screen::Outcome,
+    ),
+    audited(
+        "compare energy chart in US units and kJ",
+        ("compare", DISPLAY_UNITS),
+        COMPARE_CHART_US_KJ_ARGS,
+        Where::File(SCHEDULE_CHARTS[3]),
+        Screen::Outcome,
+    ),
+    audited(
+        "goal table in US units and kJ",
+        ("goal", DISPLAY_UNITS),
+        &[
+            "goal",
+            "plan.toml",
+            "--lose-kg",
+            "3",
+            "--by-week",
+            "12",
+            "--units",
+            "us",
+            "--energy",
+            "kj",
+        ],
+        Where::Stdout,
+        Screen::Outcome,
+    ),
+    audited(
+        "fit table in US units and kJ",
+        ("fit", DISPLAY_UNITS),
+        &[
+            "fit",
+            "plan.toml",
+            "--log",
+            "log.csv",
+            "--units",
+            "us",
+            "--energy",
+            "kj",
+        ],
+        Where::Stdout,
+        Screen::Outcome,
+    ),
+    audited(
+        "fit chart in US units and kJ",
+        ("fit", DISPLAY_UNITS),
+        &[
+            "fit",
+            "plan.toml",
+            "--log",
+            "log.csv",
+            "--chart",
+            "charts",
+            "--units",
+            "us",
+            "--energy",
+            "kj",
+        ],
+        Where::File(FIT_CHART),
+        Screen::Outcome,
+    ),
+    audited(
+        "check in US units and kJ",
+        ("check", DISPLAY_UNITS),
+        &["check", "plan.toml", "--units", "us", "--energy", "kj"],
+        Where::Stdout,
+        Screen::Outcome,
+    ),
+    audited(
+        "activities in US units",
+        ("activities", DISPLAY_UNITS),
+        &["activities", "--units", "us"],
         Where::Stdout,
         Screen::Call,
     ),
@@ -2515,6 +2943,10 @@ fn every_command_format_and_chart_is_audited() {
         missing.is_empty(),
         "outputs in neither AUDIT, NOT_REPORTS nor JSON_OUTPUTS: {missing:?}"
     );
+    for a in AUDIT.iter().filter(|a| a.kind.1 == DISPLAY_UNITS) {
+        let lacking = display_units_missing(a.kind.0, a.args);
+        assert!(lacking.is_empty(), "{}: does not pass {lacking:?}", a.name);
+    }
 }
 
 /// The machine-readable outputs.

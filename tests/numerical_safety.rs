@@ -13,6 +13,7 @@ use dosewright::error::RangeError;
 use dosewright::model::energy::{MINUTES_PER_DAY, calibrate};
 use dosewright::plan::{Plan, parse_plan};
 use dosewright::report::ScheduleReport;
+use dosewright::report::units::{EnergyUnit, UnitSystem, Units};
 use dosewright::simulate::{MIN_FAT_KG, Phase, RunMode, run};
 
 mod common;
@@ -137,12 +138,18 @@ fn assert_sensible(plan: &Plan, r: &ScheduleReport) {
         None,
         "non-finite number in the report"
     );
-    let table = dosewright::report::table::render(r, 0);
-    assert_eq!(
-        non_finite_word(&table),
-        None,
-        "non-finite number in the table"
-    );
+    let us_kj = Units {
+        system: UnitSystem::Us,
+        energy: EnergyUnit::Kj,
+    };
+    for units in [Units::default(), us_kj] {
+        let table = dosewright::report::table::render(r, 0, units);
+        assert_eq!(
+            non_finite_word(&table),
+            None,
+            "non-finite number in the table"
+        );
+    }
 
     let total = plan.protocol.total_weeks() as usize;
     let m0 = r.baseline.mass_kg;

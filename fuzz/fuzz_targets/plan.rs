@@ -95,7 +95,11 @@ fuzz_target!(|data: &[u8]| {
     user.extend(plan.scenarios.iter().map(|s| s.name.as_str()));
     if user.iter().all(|u| non_finite_word(u).is_none()) {
         for i in 0..report.scenarios.len() {
-            let table = dosewright::report::table::render(&report, i);
+            let table = dosewright::report::table::render(
+                &report,
+                i,
+                dosewright::report::units::Units::default(),
+            );
             assert_eq!(non_finite_word(&table), None, "table");
         }
         let csv = dosewright::report::csv::render(&report);

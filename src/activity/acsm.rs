@@ -47,23 +47,42 @@ pub fn gross_kcal_per_min(met: f64, mass_kg: f64) -> f64 {
     met * ML_O2_PER_MET * mass_kg / 200.0
 }
 
-/// A plain-words statement of the three equations and their valid ranges, for listings.
-pub fn summary() -> Vec<(&'static str, &'static str, &'static str)> {
+/// A plain-words statement of the three equations and their valid ranges, for
+/// listings; `speed` converts a speed in km/h to the listing's unit, `speed_unit`.
+pub fn summary(
+    speed: impl Fn(f64) -> f64,
+    speed_unit: &str,
+) -> Vec<(&'static str, &'static str, String)> {
+    let from_m_per_min = |s: f64| speed(s * 60.0 / 1000.0);
+    let (walk_lo, walk_hi) = WALKING_VALID_M_PER_MIN;
+    let run_lo = RUNNING_VALID_ABOVE_M_PER_MIN;
+    let (cycle_lo, cycle_hi) = CYCLING_VALID_KGM_PER_MIN;
     vec![
         (
             "walking",
             "VO2 = 3.5 + 0.1*S + 1.8*S*G  (S m/min, G fraction)",
-            "50-100 m/min (3.0-6.0 km/h)",
+            format!(
+                "{walk_lo:.0}-{walk_hi:.0} m/min ({:.1}-{:.1} {speed_unit})",
+                from_m_per_min(walk_lo),
+                from_m_per_min(walk_hi)
+            ),
         ),
         (
             "running",
             "VO2 = 3.5 + 0.2*S + 0.9*S*G",
-            "above 134 m/min (above 8.0 km/h)",
+            format!(
+                "above {run_lo:.0} m/min (above {:.1} {speed_unit})",
+                from_m_per_min(run_lo)
+            ),
         ),
         (
             "leg cycling",
             "VO2 = 7 + 1.8*W/M  (W = 6.12*watts kg*m/min, M kg)",
-            "300-1200 kg*m/min (about 49-196 W)",
+            format!(
+                "{cycle_lo:.0}-{cycle_hi:.0} kg*m/min (about {:.0}-{:.0} W)",
+                cycle_lo / KGM_PER_WATT,
+                cycle_hi / KGM_PER_WATT
+            ),
         ),
     ]
 }

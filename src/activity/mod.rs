@@ -110,6 +110,12 @@ impl Intensity {
 
     /// A short description: "compendium 17200 (2011), 4.3 MET", "walking 5.6 km/h at 2% grade".
     pub fn describe(&self) -> String {
+        self.describe_with(|kmh| format!("{kmh:.1} km/h"))
+    }
+
+    /// [`Intensity::describe`] with each speed (km/h) written by `speed`, e.g. in mph
+    /// for a report in US units.
+    pub fn describe_with(&self, speed: impl Fn(f64) -> String) -> String {
         match self {
             Intensity::Compendium { code, met, version } => {
                 format!("compendium {code} ({version}), {met:.1} MET")
@@ -119,13 +125,15 @@ impl Intensity {
                 speed_kmh,
                 grade_percent,
             } => format!(
-                "walking {speed_kmh:.1} km/h at {grade_percent:.1}% grade (ACSM walking equation)"
+                "walking {} at {grade_percent:.1}% grade (ACSM walking equation)",
+                speed(*speed_kmh)
             ),
             Intensity::Running {
                 speed_kmh,
                 grade_percent,
             } => format!(
-                "running {speed_kmh:.1} km/h at {grade_percent:.1}% grade (ACSM running equation)"
+                "running {} at {grade_percent:.1}% grade (ACSM running equation)",
+                speed(*speed_kmh)
             ),
             Intensity::CyclingWatts { watts } => {
                 format!("cycle ergometer at {watts:.0} W (ACSM leg-cycling equation)")

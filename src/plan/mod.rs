@@ -405,7 +405,16 @@ pub struct Scenario {
 impl Scenario {
     /// The assumptions in plain words.
     pub fn assumptions(&self) -> String {
-        let c = &self.compensation;
+        self.compensation
+            .assumptions_with(|kcal, decimals| format!("{kcal:.decimals$} kcal/day"))
+    }
+}
+
+impl Compensation {
+    /// The assumptions in plain words, each energy rate (kcal/day) written by
+    /// `per_day` with the given decimals, e.g. in kJ/day for a report in kJ.
+    pub fn assumptions_with(&self, per_day: impl Fn(f64, usize) -> String) -> String {
+        let c = self;
         let mut parts = Vec::new();
         if c.intake_fraction > 0.0 {
             let pct = c.intake_fraction * 100.0;
@@ -428,8 +437,8 @@ impl Scenario {
         }
         if c.rmr_adaptation_kcal_per_kg > 0.0 {
             parts.push(format!(
-                "resting metabolism falls by {:.1} kcal/day for each kg lost, beyond what the equation predicts",
-                c.rmr_adaptation_kcal_per_kg
+                "resting metabolism falls by {} for each kg lost, beyond what the equation predicts",
+                per_day(c.rmr_adaptation_kcal_per_kg, 1)
             ));
         }
         if c.diet_change_kcal_per_day != 0.0 {
@@ -439,8 +448,8 @@ impl Scenario {
                 "rises"
             };
             parts.push(format!(
-                "planned intake {verb} by {:.0} kcal/day",
-                c.diet_change_kcal_per_day.abs()
+                "planned intake {verb} by {}",
+                per_day(c.diet_change_kcal_per_day.abs(), 0)
             ));
         }
         if parts.is_empty() {

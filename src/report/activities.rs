@@ -2,10 +2,11 @@
 
 use crate::activity::{acsm, compendium::CompendiumEntry};
 use crate::report::table::{align_numbers, new_table};
+use crate::report::units::Units;
 use crate::safety::CAUTIONS;
 
-/// Render matching rows and the equations.
-pub fn render(rows: &[&CompendiumEntry], query: &str) -> String {
+/// Render matching rows and the equations, speeds in units `u`.
+pub fn render(rows: &[&CompendiumEntry], query: &str, u: Units) -> String {
     let mut out = String::new();
     if rows.is_empty() {
         out.push_str(&format!("No activity {query}.\n\n"));
@@ -34,8 +35,8 @@ pub fn render(rows: &[&CompendiumEntry], query: &str) -> String {
         out.push_str(&format!("{} {noun} {query}. MET values: Ainsworth et al. 2011 Compendium of Physical Activities, Med Sci Sports Exerc 43:1575 (labels in our words).\n{t}\n\n", rows.len()));
     }
     let mut t = new_table(&["equation", "gross VO2 [ml/kg/min]", "valid range"]);
-    for (name, eq, range) in acsm::summary() {
-        t.add_row(vec![name, eq, range]);
+    for (name, eq, range) in acsm::summary(|kmh| u.speed(kmh), u.speed_label()) {
+        t.add_row(vec![name.to_string(), eq.to_string(), range]);
     }
     out.push_str(&format!("ACSM metabolic equations (ACSM's Guidelines for Exercise Testing and Prescription, 10th ed.); MET = VO2 / 3.5. Outside the range the tool warns.\n{t}\n\n"));
     out.push_str("Before prescribing any of these, remember:\n");

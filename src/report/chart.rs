@@ -12,6 +12,7 @@
 
 use crate::error::Error;
 use crate::files::write_atomic;
+use crate::report::units::Units;
 use crate::simulate::{ScenarioRun, WeekEnd};
 use std::fmt::Write as _;
 use std::path::{Path, PathBuf};
@@ -881,8 +882,14 @@ fn per_week<'a>(
 }
 
 /// Body mass at the end of each week per scenario, from the baseline at week 0, the
-/// end of the protocol marked, with an optional band beneath the lines.
-pub fn mass_chart(runs: &[ScenarioRun], protocol_weeks: u32, band: Option<&Band>) -> LineChart {
+/// end of the protocol marked, with an optional band (in kg) beneath the lines; masses
+/// shown in units `u`.
+pub fn mass_chart(
+    runs: &[ScenarioRun],
+    protocol_weeks: u32,
+    band: Option<&Band>,
+    u: Units,
+) -> LineChart {
     let series = runs
         .iter()
         .enumerate()
@@ -890,8 +897,8 @@ pub fn mass_chart(runs: &[ScenarioRun], protocol_weeks: u32, band: Option<&Band>
             name: r.name.clone(),
             points: trajectory(
                 r,
-                r.weeks.first().map_or(f64::NAN, |w| w.reference_mass_kg),
-                |e| e.mass_kg,
+                u.mass(r.weeks.first().map_or(f64::NAN, |w| w.reference_mass_kg)),
+                |e| u.mass(e.mass_kg),
             ),
             dashed: false,
             slot,
@@ -905,12 +912,20 @@ pub fn mass_chart(runs: &[ScenarioRun], protocol_weeks: u32, band: Option<&Band>
         ),
         None => "Projected body mass at the end of each week; week 0 is the baseline.".to_string(),
     };
+    let band = band.map(|b| Band {
+        name: b.name.clone(),
+        points: b
+            .points
+            .iter()
+            .map(|&(x, lo, hi)| (x, u.mass(lo), u.mass(hi)))
+            .collect(),
+    });
     LineChart {
         title: "Projected body mass by scenario".to_string(),
         x_label: "Time from start [weeks]".to_string(),
-        y_label: "Body mass [kg]".to_string(),
+        y_label: format!("Body mass [{}]", u.mass_label()),
         series,
-        band: band.cloned(),
+        band,
         marker: Some(protocol_marker(protocol_weeks)),
         caption: caption(&what),
         x_range: Some(week_range(runs, protocol_weeks)),
@@ -922,8 +937,8 @@ pub fn mass_chart(runs: &[ScenarioRun], protocol_weeks: u32, band: Option<&Band>
 /// end of each week per scenario, one colour per scenario. Changes, not totals,
 /// share the axis: the two masses lie tens of kilograms apart while they change by
 /// a few, so on one axis of totals both lines would look flat. The caption gives the
-/// baseline masses.
-pub fn composition_chart(runs: &[ScenarioRun], protocol_weeks: u32) -> LineChart {
+/// baseline masses. Masses shown in units `u`.
+pub fn composition_chart(runs: &[ScenarioRun], protocol_weeks: u32, u: Units) -> LineChart {
     let mut series = Vec::with_capacity(2 * runs.len());
     for (slot, r) in runs.iter().enumerate() {
         let o = &r.outcome;
@@ -931,14 +946,14 @@ pub fn composition_chart(runs: &[ScenarioRun], protocol_weeks: u32) -> LineChart
         let lean0 = o.fat_free_mass_kg - o.fat_free_mass_change_kg;
         series.push(Series {
             name: format!("{}: fat", r.name),
-            points: trajectory(r, 0.0, |e| e.fat_mass_kg - fat0),
+            points: trajectory(r, 0.0, |e| u.mass(e.fat_mass_kg - fat0)),
             dashed: false,
             slot,
             markers_only: false,
         });
         series.push(Series {
             name: format!("{}: fat-free", r.name),
-            points: trajectory(r, 0.0, |e| e.fat_free_mass_kg - lean0),
+            points: trajectory(r, 0.0, |e| u.mass(e.fat_free_mass_kg - lean0)),
             dashed: true,
             slot,
             markers_only: false,
@@ -947,15 +962,15 @@ pub fn composition_chart(runs: &[ScenarioRun], protocol_weeks: u32) -> LineChart
     let baseline = runs.first().map_or(String::new(), |r| {
         let o = &r.outcome;
         format!(
-            " (fat mass {:.1} kg, fat-free mass {:.1} kg)",
-            o.fat_mass_kg - o.fat_mass_change_kg,
-            o.fat_free_mass_kg - o.fat_free_mass_change_kg
+            " (fat mass {}, fat-free mass {})",
+            u.mass_text(o.fat_mass_kg - o.fat_mass_change_kg, 1),
+            u.mass_text(o.fat_free_mass_kg - o.fat_free_mass_change_kg, 1)
         )
     });
     LineChart {
         title: "Projected change in fat mass and fat-free mass by scenario".to_string(),
         x_label: "Time from start [weeks]".to_string(),
-        y_label: "Change from baseline [kg]".to_string(),
+        y_label: format!("Change from baseline [{}]", u.mass_label()),
         series,
         band: None,
         marker: Some(protocol_marker(protocol_weeks)),
@@ -1003,14 +1018,14 @@ pub fn minutes_chart(runs: &[ScenarioRun], protocol_weeks: u32) -> LineChart {
 
 /// Prescribed net exercise energy per protocol week (solid) against the deficit
 /// achieved per week (dashed), per scenario: week-to-week differences of the
-/// running totals.
-pub fn energy_chart(runs: &[ScenarioRun], protocol_weeks: u32) -> LineChart {
+/// running totals. Energy shown in units `u`.
+pub fn energy_chart(runs: &[ScenarioRun], protocol_weeks: u32, u: Units) -> LineChart {
     let mut series = Vec::with_capacity(2 * runs.len());
     for (slot, r) in runs.iter().enumerate() {
         let weeks = || r.weeks.iter();
         series.push(Series {
             name: format!("{}: prescribed", r.name),
-            points: per_week(weeks().map(|w| (w.week, w.end.prescribed_net_kcal)))
+            points: per_week(weeks().map(|w| (w.week, u.energy(w.end.prescribed_net_kcal))))
                 .filter(|(x, _)| *x <= f64::from(protocol_weeks))
                 .collect(),
             dashed: false,
@@ -1019,7 +1034,8 @@ pub fn energy_chart(runs: &[ScenarioRun], protocol_weeks: u32) -> LineChart {
         });
         series.push(Series {
             name: format!("{}: achieved", r.name),
-            points: per_week(weeks().map(|w| (w.week, w.end.achieved_deficit_kcal))).collect(),
+            points: per_week(weeks().map(|w| (w.week, u.energy(w.end.achieved_deficit_kcal))))
+                .collect(),
             dashed: true,
             slot,
             markers_only: false,
@@ -1028,7 +1044,7 @@ pub fn energy_chart(runs: &[ScenarioRun], protocol_weeks: u32) -> LineChart {
     LineChart {
         title: "Prescribed exercise energy and achieved deficit by week".to_string(),
         x_label: "Time from start [weeks]".to_string(),
-        y_label: "Energy per week [kcal/week]".to_string(),
+        y_label: format!("Energy per week [{}/week]", u.energy_label()),
         series,
         band: None,
         marker: Some(protocol_marker(protocol_weeks)),
@@ -1041,17 +1057,18 @@ pub fn energy_chart(runs: &[ScenarioRun], protocol_weeks: u32) -> LineChart {
 }
 
 /// The four standard charts, named `mass`, `composition`, `minutes` and `energy`
-/// for [`write_charts`].
+/// for [`write_charts`], in units `u` (the band in kg).
 pub fn standard_charts(
     runs: &[ScenarioRun],
     protocol_weeks: u32,
     band: Option<&Band>,
+    u: Units,
 ) -> Vec<(&'static str, LineChart)> {
     vec![
-        ("mass", mass_chart(runs, protocol_weeks, band)),
-        ("composition", composition_chart(runs, protocol_weeks)),
+        ("mass", mass_chart(runs, protocol_weeks, band, u)),
+        ("composition", composition_chart(runs, protocol_weeks, u)),
         ("minutes", minutes_chart(runs, protocol_weeks)),
-        ("energy", energy_chart(runs, protocol_weeks)),
+        ("energy", energy_chart(runs, protocol_weeks, u)),
     ]
 }
 

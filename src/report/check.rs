@@ -2,25 +2,27 @@
 
 use crate::plan::Plan;
 use crate::report::table::{baseline_text, protocol_text, warnings_text};
-use crate::report::{ScheduleReport, cautions_text};
+use crate::report::units::Units;
+use crate::report::{ScheduleReport, assumptions_text, cautions_text};
 
 /// Render the resolved assumptions of a valid plan.
-pub fn render(plan: &Plan, r: &ScheduleReport) -> String {
+pub fn render(plan: &Plan, r: &ScheduleReport, u: Units) -> String {
     let c = &plan.constants;
     let p = &plan.protocol;
     let mut s = format!(
-        "{}: the plan is valid.\n\nParticipant {}: {:?}, {:.0} years, {:.1} cm\n",
+        "{}: the plan is valid.\n\nParticipant {}: {:?}, {:.0} years, {:.1} {}\n",
         r.plan,
         r.participant_id,
         plan.participant.subject.sex,
         plan.participant.subject.age_years,
-        plan.participant.subject.height_cm
+        u.height(plan.participant.subject.height_cm),
+        u.height_label()
     )
     .replace("Female", "female")
     .replace("Male", "male");
-    s.push_str(&baseline_text(r));
+    s.push_str(&baseline_text(r, u));
     s.push('\n');
-    s.push_str(&protocol_text(r));
+    s.push_str(&protocol_text(r, u));
     let ramp = p
         .ramp
         .map_or("none (full dose from week 1)".to_string(), |rp| {
@@ -45,7 +47,7 @@ pub fn render(plan: &Plan, r: &ScheduleReport) -> String {
         p.round_minutes_to
     ));
     s.push_str(&format!(
-        "\nModel\n  RMR equation: {} ({})\n  exercise energy counted above: {}\n  TEF {:.2} of intake; fat {:.0} kcal/kg; fat-free {:.0} kcal/kg; Forbes constant {:.1} kg\n",
+        "\nModel\n  RMR equation: {} ({})\n  exercise energy counted above: {}\n  TEF {:.2} of intake; fat {:.0} {e}/kg; fat-free {:.0} {e}/kg; Forbes constant {}\n",
         c.rmr_equation.name(),
         c.rmr_equation.citation(),
         match c.rest_for_net {
@@ -53,16 +55,17 @@ pub fn render(plan: &Plan, r: &ScheduleReport) -> String {
             crate::model::RestForNet::OneMet => "one standard MET (one-met)",
         },
         c.tef_fraction,
-        c.fat_kcal_per_kg,
-        c.lean_kcal_per_kg,
-        c.forbes_constant_kg
+        u.energy(c.fat_kcal_per_kg),
+        u.energy(c.lean_kcal_per_kg),
+        u.mass_text(c.forbes_constant_kg, 1),
+        e = u.energy_label()
     ));
     s.push_str("\nScenarios\n");
     for sc in &plan.scenarios {
         let k = &sc.compensation;
         s.push_str(&format!(
             "  {}: {}\n    intake_fraction {}, intake_lag_days {}, activity_fraction {}, rmr_adaptation_kcal_per_kg {}, diet_change_kcal_per_day {}\n",
-            sc.name, sc.assumptions(), k.intake_fraction, k.intake_lag_days, k.activity_fraction, k.rmr_adaptation_kcal_per_kg, k.diet_change_kcal_per_day
+            sc.name, assumptions_text(k, u), k.intake_fraction, k.intake_lag_days, k.activity_fraction, k.rmr_adaptation_kcal_per_kg, k.diet_change_kcal_per_day
         ));
     }
     s.push_str(&format!("\nScreening: {}\n\n", r.screening.recommendation));

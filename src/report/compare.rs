@@ -2,9 +2,11 @@
 //! band, and optionally a dose-response table. Renders as table, CSV, JSON (keys per
 //! PLAN.md) or Markdown.
 
+use crate::model::Compensation;
 use crate::plan::Plan;
-use crate::report::table::{align_numbers, new_table, warnings_text};
-use crate::report::{DoseSummary, ScheduleReport, cautions_text};
+use crate::report::table::{align_numbers, dose_amount_text, new_table, warnings_text};
+use crate::report::units::Units;
+use crate::report::{DoseSummary, ScheduleReport, assumptions_text, cautions_text};
 use crate::safety::{ScreeningOutcome, Warning};
 use crate::simulate::band::Band;
 use crate::simulate::{Phase, ScenarioRun};
@@ -50,6 +52,9 @@ pub struct CompareScenario {
     pub name: String,
     /// Assumptions in plain words.
     pub assumptions: String,
+    /// The numbers behind them, for the words in other units.
+    #[serde(skip)]
+    pub compensation: Compensation,
     /// One row per checkpoint.
     pub rows: Vec<CompareRow>,
 }
@@ -196,6 +201,7 @@ impl CompareReport {
             .map(|(run, b)| CompareScenario {
                 name: run.name.clone(),
                 assumptions: run.assumptions.clone(),
+                compensation: run.compensation,
                 rows: rows(plan, run, Some(b), &weeks, m0),
             })
             .collect();
@@ -231,48 +237,74 @@ fn week_label(r: &CompareReport, row: &CompareRow) -> String {
     format!("{}{tag}\n{}", row.week, row.date)
 }
 
-/// The quantities printed per checkpoint, with their formatting.
 /// A printed quantity: its label and how a row shows it.
-type Quantity = (&'static str, fn(&CompareRow) -> String);
+type Quantity = (String, Box<dyn Fn(&CompareRow) -> String>);
 
-fn quantities() -> Vec<Quantity> {
+/// The quantities printed per checkpoint, with their formatting in units `u`.
+fn quantities(u: Units) -> Vec<Quantity> {
+    let (m, e) = (u.mass_label(), u.energy_label());
     vec![
-        ("mass [kg] (band)", |r| {
-            format!(
-                "{:.1} ({:.1}-{:.1})",
-                r.mass_kg, r.mass_low_kg, r.mass_high_kg
-            )
-        }),
-        ("fat mass [kg]", |r| format!("{:.1}", r.fat_mass_kg)),
-        ("fat-free mass [kg]", |r| {
-            format!("{:.1}", r.fat_free_mass_kg)
-        }),
-        ("change [kg]", |r| format!("{:+.2}", r.mass_change_kg)),
-        ("minutes per session", |r| r.minutes_per_session.to_string()),
-        ("prescribed net [kcal]", |r| {
-            format!("{:.0}", r.prescribed_net_kcal)
-        }),
-        ("achieved deficit [kcal]", |r| {
-            format!("{:.0}", r.achieved_deficit_kcal)
-        }),
-        ("dose share", |r| format!("{:.0}%", r.dose_share * 100.0)),
+        (
+            format!("mass [{m}] (band)"),
+            Box::new(move |r| {
+                format!(
+                    "{:.1} ({:.1}-{:.1})",
+                    u.mass(r.mass_kg),
+                    u.mass(r.mass_low_kg),
+                    u.mass(r.mass_high_kg)
+                )
+            }),
+        ),
+        (
+            format!("fat mass [{m}]"),
+            Box::new(move |r| format!("{:.1}", u.mass(r.fat_mass_kg))),
+        ),
+        (
+            format!("fat-free mass [{m}]"),
+            Box::new(move |r| format!("{:.1}", u.mass(r.fat_free_mass_kg))),
+        ),
+        (
+            format!("change [{m}]"),
+            Box::new(move |r| format!("{:+.2}", u.mass(r.mass_change_kg))),
+        ),
+        (
+            "minutes per session".to_string(),
+            Box::new(|r| r.minutes_per_session.to_string()),
+        ),
+        (
+            format!("prescribed net [{e}]"),
+            Box::new(move |r| format!("{:.0}", u.energy(r.prescribed_net_kcal))),
+        ),
+        (
+            format!("achieved deficit [{e}]"),
+            Box::new(move |r| format!("{:.0}", u.energy(r.achieved_deficit_kcal))),
+        ),
+        (
+            "dose share".to_string(),
+            Box::new(|r| format!("{:.0}%", r.dose_share * 100.0)),
+        ),
     ]
 }
 
-fn main_table(r: &CompareReport, style: comfy_table::TableStyle, markdown: bool) -> Table {
+fn main_table(
+    r: &CompareReport,
+    style: comfy_table::TableStyle,
+    markdown: bool,
+    u: Units,
+) -> Table {
     let mut header = vec!["week (end)", "quantity"];
     header.extend(r.scenarios.iter().map(|s| s.name.as_str()));
     let mut t = new_table(&header);
     t.load_style(style);
     for (i, _) in r.checkpoints.iter().enumerate() {
-        for (j, (name, f)) in quantities().into_iter().enumerate() {
+        for (j, (name, f)) in quantities(u).into_iter().enumerate() {
             let label = if j == 0 {
                 let l = week_label(r, &r.scenarios[0].rows[i]);
                 if markdown { l.replace('\n', " ") } else { l }
             } else {
                 String::new()
             };
-            let mut row = vec![label, name.to_string()];
+            let mut row = vec![label, name];
             row.extend(r.scenarios.iter().map(|s| f(&s.rows[i])));
             t.add_row(row);
         }
@@ -281,12 +313,20 @@ fn main_table(r: &CompareReport, style: comfy_table::TableStyle, markdown: bool)
     t
 }
 
-fn dose_table(r: &CompareReport, d: &DoseResponse, style: comfy_table::TableStyle) -> Table {
-    let mut header = vec![format!("dose [{}]", r.dose.unit), "scenario".to_string()];
+fn dose_table(
+    r: &CompareReport,
+    d: &DoseResponse,
+    style: comfy_table::TableStyle,
+    u: Units,
+) -> Table {
+    let mut header = vec![
+        format!("dose [{}]", u.dose_label(r.dose.kind)),
+        "scenario".to_string(),
+    ];
     header.extend(
         r.checkpoints
             .iter()
-            .map(|w| format!("week {w} change [kg]")),
+            .map(|w| format!("week {w} change [{}]", u.mass_label())),
     );
     let refs: Vec<&str> = header.iter().map(String::as_str).collect();
     let mut t = new_table(&refs);
@@ -295,17 +335,19 @@ fn dose_table(r: &CompareReport, d: &DoseResponse, style: comfy_table::TableStyl
         for (i, s) in row.scenarios.iter().enumerate() {
             let mut cells = vec![
                 if i == 0 {
-                    format!("{}", row.dose)
+                    dose_amount_text(u, r.dose.kind, row.dose)
                 } else {
                     String::new()
                 },
                 s.name.clone(),
             ];
-            cells.extend(
-                s.rows
-                    .iter()
-                    .map(|p| format!("{:+.2} ({} min)", p.mass_change_kg, p.minutes_per_session)),
-            );
+            cells.extend(s.rows.iter().map(|p| {
+                format!(
+                    "{:+.2} ({} min)",
+                    u.mass(p.mass_change_kg),
+                    p.minutes_per_session
+                )
+            }));
             t.add_row(cells);
         }
     }
@@ -313,21 +355,26 @@ fn dose_table(r: &CompareReport, d: &DoseResponse, style: comfy_table::TableStyl
     t
 }
 
-fn text(r: &CompareReport, markdown: bool) -> String {
+fn text(r: &CompareReport, markdown: bool, u: Units) -> String {
     let (style, h) = if markdown {
         (presets::ASCII_MARKDOWN, "## ")
     } else {
         (presets::ASCII_FULL_CONDENSED, "")
     };
+    let dose = format!(
+        "{} {}",
+        dose_amount_text(u, r.dose.kind, r.dose.amount),
+        u.dose_label(r.dose.kind)
+    );
     let mut s = if markdown {
         format!(
-            "# Scenario comparison: participant {}\n\nPlan: {}; dose {} {}.\n\n",
-            r.participant_id, r.plan, r.dose.amount, r.dose.unit
+            "# Scenario comparison: participant {}\n\nPlan: {}; dose {dose}.\n\n",
+            r.participant_id, r.plan
         )
     } else {
         format!(
-            "dosewright scenario comparison: participant {} ({}); dose {} {}\n\n",
-            r.participant_id, r.plan, r.dose.amount, r.dose.unit
+            "dosewright scenario comparison: participant {} ({}); dose {dose}\n\n",
+            r.participant_id, r.plan
         )
     };
     s.push_str(&format!("{h}Assumptions\n"));
@@ -335,7 +382,11 @@ fn text(r: &CompareReport, markdown: bool) -> String {
         s.push('\n');
     }
     for sc in &r.scenarios {
-        s.push_str(&format!("- {}: {}\n", sc.name, sc.assumptions));
+        s.push_str(&format!(
+            "- {}: {}\n",
+            sc.name,
+            assumptions_text(&sc.compensation, u)
+        ));
     }
     s.push('\n');
     let follow = if r.follow_up_weeks > 0 {
@@ -355,7 +406,7 @@ fn text(r: &CompareReport, markdown: bool) -> String {
     if markdown {
         s.push('\n');
     }
-    s.push_str(&format!("{}\n", main_table(r, style, markdown)));
+    s.push_str(&format!("{}\n", main_table(r, style, markdown, u)));
     if markdown {
         s.push('\n');
     }
@@ -371,7 +422,7 @@ fn text(r: &CompareReport, markdown: bool) -> String {
         if markdown {
             s.push('\n');
         }
-        s.push_str(&format!("{}\n\n", dose_table(r, d, style)));
+        s.push_str(&format!("{}\n\n", dose_table(r, d, style, u)));
     }
     let warn = warnings_text(&r.warnings);
     let cautions = cautions_text(&r.screening);
@@ -386,14 +437,14 @@ fn text(r: &CompareReport, markdown: bool) -> String {
     s
 }
 
-/// The table for a terminal.
-pub fn render_table(r: &CompareReport) -> String {
-    text(r, false)
+/// The table for a terminal, in units `u`.
+pub fn render_table(r: &CompareReport, u: Units) -> String {
+    text(r, false, u)
 }
 
-/// Markdown for documents.
-pub fn render_markdown(r: &CompareReport) -> String {
-    text(r, true)
+/// Markdown for documents, in units `u`.
+pub fn render_markdown(r: &CompareReport, u: Units) -> String {
+    text(r, true, u)
 }
 
 /// CSV: one row per scenario and checkpoint (then the dose-response rows, if any).

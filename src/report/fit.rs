@@ -4,6 +4,7 @@
 use crate::app::LogInput;
 use crate::report::chart::{LineChart, Series};
 use crate::report::table::{align_numbers, new_table, warnings_text};
+use crate::report::units::Units;
 use crate::report::{LogSummary, ScheduleReport, cautions_text};
 use crate::safety::{ScreeningOutcome, Warning};
 use crate::simulate::fit::FitResult;
@@ -47,7 +48,7 @@ impl FitReport {
             });
         }
         warnings.extend(schedule.warnings.iter().cloned());
-        let meaning = meaning(&fit);
+        let meaning = meaning(&fit, Units::default());
         FitReport {
             tool: schedule.tool.clone(),
             plan: schedule.plan.clone(),
@@ -62,7 +63,8 @@ impl FitReport {
     }
 }
 
-fn meaning(f: &FitResult) -> String {
+/// What the fitted number means, in words, with energies and masses in units `u`.
+fn meaning(f: &FitResult, u: Units) -> String {
     let what = match f.parameter {
         "intake_fraction" => {
             "of the delivered exercise energy is offset, expressed as extra intake"
@@ -80,20 +82,20 @@ fn meaning(f: &FitResult) -> String {
         "The interval is narrow for a single person, but it only reflects scatter of the weigh-ins around the model, not the model's own error."
     };
     format!(
-        "About {:.0}% (approximate 95% interval {:.0}% to {:.0}%) {what}: on average {:.0} kcal/day of the {:.0} kcal/day of exercise energy delivered over {} days. This is an effective compensation: weigh-ins alone cannot tell eating more from moving less or from metabolic adaptation, and they carry water and scale error (here an RMS residual of {:.2} kg over {} weigh-ins). {firmness}",
+        "About {:.0}% (approximate 95% interval {:.0}% to {:.0}%) {what}: on average {} of the {} of exercise energy delivered over {} days. This is an effective compensation: weigh-ins alone cannot tell eating more from moving less or from metabolic adaptation, and they carry water and scale error (here an RMS residual of {} over {} weigh-ins). {firmness}",
         f.estimate * 100.0,
         f.interval[0] * 100.0,
         f.interval[1] * 100.0,
-        f.extra_intake_kcal_per_day,
-        f.exercise_kcal_per_day,
+        u.per_day_text(f.extra_intake_kcal_per_day, 0),
+        u.per_day_text(f.exercise_kcal_per_day, 0),
         f.span_days,
-        f.rmse_kg,
+        u.mass_text(f.rmse_kg, 2),
         f.weigh_ins
     )
 }
 
-/// The table for a terminal.
-pub fn render_table(r: &FitReport) -> String {
+/// The table for a terminal, in units `u`.
+pub fn render_table(r: &FitReport, u: Units) -> String {
     let f = &r.fit;
     let log = r.log.as_ref().map_or(String::new(), |l| {
         format!(" from {} up to {}", l.path, l.as_of)
@@ -103,17 +105,30 @@ pub fn render_table(r: &FitReport) -> String {
         r.participant_id, r.plan, f.parameter, f.scenario
     );
     s.push_str(&format!(
-        "Estimate {:.3}; approximate 95% interval {:.3} to {:.3} (profile of the sum of squares, SSE <= SSE_min x (1 + 3.84/(n-1)))\nImplied extra intake: {:.0} kcal/day on average (of {:.0} kcal/day of exercise energy delivered)\nRMS residual {:.2} kg over {} weigh-ins spanning {} days\n\n",
-        f.estimate, f.interval[0], f.interval[1], f.extra_intake_kcal_per_day, f.exercise_kcal_per_day, f.rmse_kg, f.weigh_ins, f.span_days
+        "Estimate {:.3}; approximate 95% interval {:.3} to {:.3} (profile of the sum of squares, SSE <= SSE_min x (1 + 3.84/(n-1)))\nImplied extra intake: {} on average (of {} of exercise energy delivered)\nRMS residual {} over {} weigh-ins spanning {} days\n\n",
+        f.estimate,
+        f.interval[0],
+        f.interval[1],
+        u.per_day_text(f.extra_intake_kcal_per_day, 0),
+        u.per_day_text(f.exercise_kcal_per_day, 0),
+        u.mass_text(f.rmse_kg, 2),
+        f.weigh_ins,
+        f.span_days
     ));
-    s.push_str(&format!("What it means: {}\n\n", r.meaning));
-    let mut t = new_table(&["date", "measured [kg]", "model [kg]", "residual [kg]"]);
+    s.push_str(&format!("What it means: {}\n\n", meaning(f, u)));
+    let m = u.mass_label();
+    let mut t = new_table(&[
+        "date",
+        &format!("measured [{m}]"),
+        &format!("model [{m}]"),
+        &format!("residual [{m}]"),
+    ]);
     for x in &f.residuals_kg {
         t.add_row(vec![
             x.date.to_string(),
-            format!("{:.2}", x.measured_kg),
-            format!("{:.2}", x.model_kg),
-            format!("{:+.2}", x.residual),
+            format!("{:.2}", u.mass(x.measured_kg)),
+            format!("{:.2}", u.mass(x.model_kg)),
+            format!("{:+.2}", u.mass(x.residual)),
         ]);
     }
     align_numbers(&mut t, 1);
@@ -124,23 +139,24 @@ pub fn render_table(r: &FitReport) -> String {
     s
 }
 
-/// Measured mass against the model with and without the fitted compensation.
-pub fn chart(r: &FitReport) -> LineChart {
+/// Measured mass against the model with and without the fitted compensation, in
+/// units `u`.
+pub fn chart(r: &FitReport, u: Units) -> LineChart {
     let f = &r.fit;
     let weeks = |v: &[(u32, f64)]| {
         v.iter()
-            .map(|(d, m)| (f64::from(*d) / 7.0, *m))
+            .map(|(d, m)| (f64::from(*d) / 7.0, u.mass(*m)))
             .collect::<Vec<_>>()
     };
     let measured: Vec<(f64, f64)> = f
         .residuals_kg
         .iter()
-        .map(|x| (f64::from(x.day) / 7.0, x.measured_kg))
+        .map(|x| (f64::from(x.day) / 7.0, u.mass(x.measured_kg)))
         .collect();
     LineChart {
         title: "Measured and modelled body mass".to_string(),
         x_label: "Time from start [weeks]".to_string(),
-        y_label: "Body mass [kg]".to_string(),
+        y_label: format!("Body mass [{}]", u.mass_label()),
         series: vec![
             Series {
                 name: "measured weigh-ins".to_string(),

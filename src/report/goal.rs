@@ -2,6 +2,7 @@
 //! scenario, as a table or JSON (keys per PLAN.md).
 
 use crate::report::table::{align_numbers, new_table, warnings_text};
+use crate::report::units::Units;
 use crate::report::{ScheduleReport, cautions_text};
 use crate::safety::{ScreeningOutcome, Warning};
 use crate::simulate::goal::{GoalAnswer, GoalRequest};
@@ -73,35 +74,48 @@ impl GoalReport {
     }
 }
 
-fn unit_of(key: &str) -> &'static str {
-    match key {
-        "kcal_per_session" => "kcal/session",
-        "kcal_per_week" => "kcal/week",
-        "kcal_per_kg_week" => "kcal/kg/week",
-        _ => "min/week",
-    }
-}
-
-fn fmt_dose(a: &GoalAnswer) -> String {
+/// The dose in the display unit, with the decimals of the solver's resolution (a
+/// step in kJ is 4.184 times the step in kcal, so they still show it).
+fn fmt_dose(a: &GoalAnswer, u: Units) -> String {
+    let decimals = usize::from(a.resolution < 1.0);
     match a.dose {
-        Some(d) if a.resolution < 1.0 => format!("{d:.1}"),
-        Some(d) => format!("{d:.0}"),
+        Some(d) => format!("{:.decimals$}", u.dose(a.dose_unit, d)),
         None => "out of reach".to_string(),
     }
 }
 
-/// The table for a terminal.
-pub fn render_table(r: &GoalReport) -> String {
-    let unit = r.scenarios.first().map_or("", |a| unit_of(a.dose_unit));
+/// The resolution the dose is rounded up to, in the plan's unit and, when converted,
+/// in the display unit.
+fn fmt_resolution(a: Option<&GoalAnswer>, u: Units) -> String {
+    let Some(a) = a else {
+        return "1".to_string();
+    };
+    let plan_unit = Units::default().dose_label(a.dose_unit);
+    let shown = u.dose_label(a.dose_unit);
+    if shown == plan_unit {
+        format!("{}", a.resolution)
+    } else {
+        // 0.1 kcal/kg/week is 0.4184 kJ/kg/week: four decimals, trailing zeros cut.
+        let step = format!("{:.4}", u.dose(a.dose_unit, a.resolution));
+        let step = step.trim_end_matches('0').trim_end_matches('.');
+        format!("{} {plan_unit} ({step} {shown})", a.resolution)
+    }
+}
+
+/// The table for a terminal, in units `u`.
+pub fn render_table(r: &GoalReport, u: Units) -> String {
+    let first = r.scenarios.first();
+    let unit = first.map_or(String::new(), |a| u.dose_label(a.dose_unit));
+    let m = u.mass_label();
     let mut s = format!(
-        "dosewright dose for a goal: participant {} ({})\nGoal: lose {:.2} kg ({:.1}% of {:.1} kg) by the end of week {}\nDose kind: {unit}, rounded up to {}; solved on the full model (ramp, rounding, maximum and weekly re-prescription as in `schedule`)\n\n",
+        "dosewright dose for a goal: participant {} ({})\nGoal: lose {} ({:.1}% of {}) by the end of week {}\nDose kind: {unit}, rounded up to {}; solved on the full model (ramp, rounding, maximum and weekly re-prescription as in `schedule`)\n\n",
         r.participant_id,
         r.plan,
-        r.request.lose_kg,
+        u.mass_text(r.request.lose_kg, 2),
         r.lose_percent,
-        r.baseline_mass_kg,
+        u.mass_text(r.baseline_mass_kg, 1),
         r.request.by_week,
-        r.scenarios.first().map_or(1.0, |a| a.resolution)
+        fmt_resolution(first, u)
     );
     let mut t = new_table(&[
         "scenario",
@@ -109,11 +123,11 @@ pub fn render_table(r: &GoalReport) -> String {
         &format!("dose [{unit}]"),
         "min/session week 1",
         &format!("min/session week {}", r.request.by_week),
-        "loss [kg]",
-        "one step lower [kg]",
+        &format!("loss [{m}]"),
+        &format!("one step lower [{m}]"),
     ]);
     for a in &r.scenarios {
-        let opt = |v: Option<f64>| v.map_or("-".to_string(), |x| format!("{x:.3}"));
+        let opt = |v: Option<f64>| v.map_or("-".to_string(), |x| format!("{:.3}", u.mass(x)));
         let mins = |v: Option<u32>| v.map_or("-".to_string(), |m| m.to_string());
         t.add_row(vec![
             a.name.clone(),
@@ -122,7 +136,7 @@ pub fn render_table(r: &GoalReport) -> String {
             } else {
                 "no".into()
             },
-            fmt_dose(a),
+            fmt_dose(a, u),
             mins(a.minutes_week1),
             mins(a.minutes_goal_week),
             opt(a.loss_kg),

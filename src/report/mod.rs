@@ -11,6 +11,7 @@ pub mod goal;
 pub mod json;
 pub mod sessions;
 pub mod table;
+pub mod units;
 
 use crate::error::Error;
 use crate::model::Baseline;
@@ -27,6 +28,9 @@ pub struct ActivitySummary {
     pub label: String,
     /// How the intensity is given.
     pub intensity: String,
+    /// The intensity itself, for descriptions in other units.
+    #[serde(skip)]
+    pub intensity_spec: crate::activity::Intensity,
     /// MET at baseline mass.
     pub met_at_baseline: f64,
     /// Relative intensity at baseline (multiples of own RMR).
@@ -130,6 +134,7 @@ impl ScheduleReport {
             activity: ActivitySummary {
                 label: plan.activity.label.clone(),
                 intensity: plan.activity.intensity.describe(),
+                intensity_spec: plan.activity.intensity.clone(),
                 met_at_baseline: met0,
                 relative_intensity_at_baseline: sim.physiology.relative_intensity(
                     met0,
@@ -185,6 +190,11 @@ impl ScheduleReport {
                 }),
         }
     }
+}
+
+/// A scenario's assumptions in plain words, energy rates in the display unit.
+pub fn assumptions_text(c: &crate::model::Compensation, units: units::Units) -> String {
+    c.assumptions_with(|kcal, decimals| units.per_day_text(kcal, decimals))
 }
 
 /// The cautions block of text outputs.

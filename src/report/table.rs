@@ -2,7 +2,8 @@
 //! outcome of every scenario, warnings and cautions.
 
 use crate::plan::EnergyBasis;
-use crate::report::{ScheduleReport, cautions_text};
+use crate::report::units::{EnergyUnit, Units};
+use crate::report::{ScheduleReport, assumptions_text, cautions_text};
 use crate::safety::Warning;
 use crate::simulate::{MassSource, Phase};
 use comfy_table::{Cell, CellAlignment, Table, presets};
@@ -25,7 +26,7 @@ pub fn align_numbers(t: &mut Table, left: usize) {
 }
 
 /// The baseline block shared by `schedule` and `check`.
-pub fn baseline_text(r: &ScheduleReport) -> String {
+pub fn baseline_text(r: &ScheduleReport, u: Units) -> String {
     let b = &r.baseline;
     let fat_note = if b.fat_mass_estimated {
         "estimated from BMI, Deurenberg 1991"
@@ -35,7 +36,8 @@ pub fn baseline_text(r: &ScheduleReport) -> String {
     let rmr_note = if (b.rmr_factor - 1.0).abs() > 1e-12 {
         format!(
             "measured; the equation gives {:.0}, personal factor {:.3}",
-            b.rmr_equation_kcal_per_day, b.rmr_factor
+            u.energy(b.rmr_equation_kcal_per_day),
+            b.rmr_factor
         )
     } else {
         "from the equation".to_string()
@@ -51,22 +53,22 @@ pub fn baseline_text(r: &ScheduleReport) -> String {
         _ => "default 1.5, FAO/WHO/UNU 2004 sedentary-light range",
     };
     format!(
-        "Baseline\n  mass {:.1} kg, BMI {:.1} kg/m^2\n  fat mass {:.1} kg ({:.1}% body fat, {fat_note}), fat-free mass {:.1} kg\n  RMR {:.0} kcal/day ({rmr_note})\n  intake {:.0} kcal/day ({intake_note}); expenditure {:.0} kcal/day; PAL {:.2} ({pal_note})\n  non-exercise activity {:.0} kcal/day\n",
-        b.mass_kg,
+        "Baseline\n  mass {}, BMI {:.1} kg/m^2\n  fat mass {} ({:.1}% body fat, {fat_note}), fat-free mass {}\n  RMR {} ({rmr_note})\n  intake {} ({intake_note}); expenditure {}; PAL {:.2} ({pal_note})\n  non-exercise activity {}\n",
+        u.mass_text(b.mass_kg, 1),
         b.bmi,
-        b.fat_mass_kg,
+        u.mass_text(b.fat_mass_kg, 1),
         b.body_fat_percent,
-        b.fat_free_mass_kg,
-        b.rmr_kcal_per_day,
-        b.intake_kcal_per_day,
-        b.tdee_kcal_per_day,
+        u.mass_text(b.fat_free_mass_kg, 1),
+        u.per_day_text(b.rmr_kcal_per_day, 0),
+        u.per_day_text(b.intake_kcal_per_day, 0),
+        u.per_day_text(b.tdee_kcal_per_day, 0),
         b.pal,
-        b.activity_kcal_per_day
+        u.per_day_text(b.activity_kcal_per_day, 0)
     )
 }
 
-/// Activity, dose and protocol in two lines.
-pub fn protocol_text(r: &ScheduleReport) -> String {
+/// Activity, dose and protocol in three lines.
+pub fn protocol_text(r: &ScheduleReport, u: Units) -> String {
     let a = &r.activity;
     let d = &r.dose;
     let p = &r.protocol;
@@ -96,11 +98,11 @@ pub fn protocol_text(r: &ScheduleReport) -> String {
     format!(
         "Activity: {} - {}; {:.2} MET at baseline, {:.1} x own RMR\nDose: {} {}{energy}; sessions on {}; {max}\nProtocol: {} weeks from {}, {} follow-up weeks, ends {}\n",
         a.label,
-        a.intensity,
+        a.intensity_spec.describe_with(|kmh| u.speed_text(kmh)),
         a.met_at_baseline,
         a.relative_intensity_at_baseline,
-        fmt_amount(d.amount),
-        d.unit,
+        dose_amount_text(u, d.kind, d.amount),
+        u.dose_label(d.kind),
         p.session_days.join(" "),
         p.weeks,
         p.start,
@@ -109,8 +111,13 @@ pub fn protocol_text(r: &ScheduleReport) -> String {
     )
 }
 
-fn fmt_amount(v: f64) -> String {
-    if v == v.trunc() {
+/// A dose amount in the display unit: as the plan gives it when in the plan's own
+/// unit, with one decimal once converted to kJ.
+pub fn dose_amount_text(u: Units, kind: &str, amount: f64) -> String {
+    let v = u.dose(kind, amount);
+    if u.energy == EnergyUnit::Kj && kind != "minutes_per_week" {
+        format!("{v:.1}")
+    } else if v == v.trunc() {
         format!("{v:.0}")
     } else {
         format!("{v}")
@@ -118,7 +125,7 @@ fn fmt_amount(v: f64) -> String {
 }
 
 /// The outcome table of every scenario.
-pub fn outcome_table(r: &ScheduleReport) -> String {
+pub fn outcome_table(r: &ScheduleReport, u: Units) -> String {
     let p = &r.protocol;
     let mut ends = vec![(
         format!("At the end of the protocol (week {})", p.weeks),
@@ -138,16 +145,17 @@ pub fn outcome_table(r: &ScheduleReport) -> String {
     let mut s = String::from("Projected outcome by scenario\n");
     for (title, week) in ends {
         let k = week as usize - 1;
+        let (m, e) = (u.mass_label(), u.energy_label());
         let mut t = new_table(&[
             "scenario",
             "date",
-            "mass [kg]",
-            "band [kg]",
-            "fat [kg]",
-            "fat-free [kg]",
-            "change [kg]",
-            "prescribed net [kcal]",
-            "achieved deficit [kcal]",
+            &format!("mass [{m}]"),
+            &format!("band [{m}]"),
+            &format!("fat [{m}]"),
+            &format!("fat-free [{m}]"),
+            &format!("change [{m}]"),
+            &format!("prescribed net [{e}]"),
+            &format!("achieved deficit [{e}]"),
             "dose share",
         ]);
         for (i, sc) in r.scenarios.iter().enumerate() {
@@ -158,18 +166,18 @@ pub fn outcome_table(r: &ScheduleReport) -> String {
                 .and_then(|b| b.scenarios.get(i))
                 .and_then(|b| b.weeks.get(k))
                 .map_or("-".to_string(), |w| {
-                    format!("{:.1}-{:.1}", w.mass_low_kg, w.mass_high_kg)
+                    format!("{:.1}-{:.1}", u.mass(w.mass_low_kg), u.mass(w.mass_high_kg))
                 });
             t.add_row(vec![
                 sc.name.clone(),
                 (p.start + chrono::Days::new(7 * u64::from(week))).to_string(),
-                format!("{:.1}", e.mass_kg),
+                format!("{:.1}", u.mass(e.mass_kg)),
                 band,
-                format!("{:.1}", e.fat_mass_kg),
-                format!("{:.1}", e.fat_free_mass_kg),
-                format!("{:+.1}", e.mass_kg - m0),
-                format!("{:.0}", e.prescribed_net_kcal),
-                format!("{:.0}", e.achieved_deficit_kcal),
+                format!("{:.1}", u.mass(e.fat_mass_kg)),
+                format!("{:.1}", u.mass(e.fat_free_mass_kg)),
+                format!("{:+.1}", u.mass(e.mass_kg - m0)),
+                format!("{:.0}", u.energy(e.prescribed_net_kcal)),
+                format!("{:.0}", u.energy(e.achieved_deficit_kcal)),
                 format!("{:.0}%", e.dose_share * 100.0),
             ]);
         }
@@ -177,7 +185,11 @@ pub fn outcome_table(r: &ScheduleReport) -> String {
         s.push_str(&format!("{title}\n{t}\n"));
     }
     for sc in &r.scenarios {
-        s.push_str(&format!("  {}: {}\n", sc.name, sc.assumptions));
+        s.push_str(&format!(
+            "  {}: {}\n",
+            sc.name,
+            assumptions_text(&sc.compensation, u)
+        ));
     }
     if let Some(b) = &r.projection_band {
         s.push_str(&format!(
@@ -191,17 +203,18 @@ pub fn outcome_table(r: &ScheduleReport) -> String {
 
 /// Sessions, minutes, energy and dose delivered against planned, for a re-planned
 /// schedule (empty without a log).
-pub fn adherence_text(r: &ScheduleReport, index: usize) -> String {
+pub fn adherence_text(r: &ScheduleReport, index: usize, u: Units) -> String {
     let sc = &r.scenarios[index];
     let (Some(total), Some(log)) = (&sc.adherence, &r.log) else {
         return String::new();
     };
-    let unit = r.dose.unit;
+    let unit = u.dose_label(r.dose.kind);
+    let dose = |v: f64| u.dose(r.dose.kind, v);
     let mut t = new_table(&[
         "week",
         "sessions delivered / planned",
         "minutes delivered / prescribed",
-        "net kcal delivered / prescribed",
+        &format!("net {} delivered / prescribed", u.energy_label()),
         &format!("dose delivered / prescribed [{unit}]"),
         "mean RPE",
         "mean HR [bpm]",
@@ -217,8 +230,16 @@ pub fn adherence_text(r: &ScheduleReport, index: usize) -> String {
             format!("{}{part}", w.week),
             format!("{} / {}", w.sessions_delivered, w.sessions_planned),
             format!("{:.0} / {:.0}", w.minutes_delivered, w.minutes_prescribed),
-            format!("{:.0} / {:.0}", w.net_kcal_delivered, w.net_kcal_prescribed),
-            format!("{:.1} / {:.1}", w.dose_delivered, w.dose_prescribed),
+            format!(
+                "{:.0} / {:.0}",
+                u.energy(w.net_kcal_delivered),
+                u.energy(w.net_kcal_prescribed)
+            ),
+            format!(
+                "{:.1} / {:.1}",
+                dose(w.dose_delivered),
+                dose(w.dose_prescribed)
+            ),
             opt(w.mean_rpe),
             opt(w.mean_hr_bpm),
         ]);
@@ -232,11 +253,13 @@ pub fn adherence_text(r: &ScheduleReport, index: usize) -> String {
         ),
         format!(
             "{:.0} / {:.0}",
-            total.net_kcal_delivered, total.net_kcal_prescribed
+            u.energy(total.net_kcal_delivered),
+            u.energy(total.net_kcal_prescribed)
         ),
         format!(
             "{:.1} / {:.1} a week",
-            total.dose_delivered_per_week, total.dose_prescribed_per_week
+            dose(total.dose_delivered_per_week),
+            dose(total.dose_prescribed_per_week)
         ),
         opt(total.mean_rpe),
         opt(total.mean_hr_bpm),
@@ -261,15 +284,15 @@ pub fn warnings_text(warnings: &[Warning]) -> String {
 }
 
 /// Render the schedule of scenario `index` and the outcome of all.
-pub fn render(r: &ScheduleReport, index: usize) -> String {
+pub fn render(r: &ScheduleReport, index: usize, u: Units) -> String {
     let sc = &r.scenarios[index];
     let mut out = format!(
         "dosewright session schedule: participant {} ({})\n\n",
         r.participant_id, r.plan
     );
-    out.push_str(&baseline_text(r));
+    out.push_str(&baseline_text(r, u));
     out.push('\n');
-    out.push_str(&protocol_text(r));
+    out.push_str(&protocol_text(r, u));
     out.push_str(&format!("Screening: {}\n\n", r.screening.recommendation));
     let which = if r.scenarios.len() > 1 {
         format!(
@@ -282,7 +305,8 @@ pub fn render(r: &ScheduleReport, index: usize) -> String {
     };
     out.push_str(&format!(
         "Schedule for scenario \"{}\"{which}: {}\n",
-        sc.name, sc.assumptions
+        sc.name,
+        assumptions_text(&sc.compensation, u)
     ));
     let mut t = new_table(&[
         "week",
@@ -290,15 +314,15 @@ pub fn render(r: &ScheduleReport, index: usize) -> String {
         "day",
         "minutes",
         "MET",
-        "gross [kcal]",
-        "net [kcal]",
+        &format!("gross [{}]", u.energy_label()),
+        &format!("net [{}]", u.energy_label()),
         "x own rest",
-        "mass at week start [kg]",
+        &format!("mass at week start [{}]", u.mass_label()),
     ]);
     for wk in &sc.weeks {
         let mass = format!(
             "{:.1} {}",
-            wk.reference_mass_kg,
+            u.mass(wk.reference_mass_kg),
             match wk.mass_source {
                 MassSource::Measured => "measured",
                 MassSource::Projected => "projected",
@@ -333,8 +357,8 @@ pub fn render(r: &ScheduleReport, index: usize) -> String {
                 },
                 s.minutes.to_string(),
                 format!("{:.1}", s.met),
-                format!("{:.0}", s.gross_kcal),
-                format!("{:.0}", s.net_kcal),
+                format!("{:.0}", u.energy(s.gross_kcal)),
+                format!("{:.0}", u.energy(s.net_kcal)),
                 format!("{:.1}", s.relative_intensity),
                 if first { mass.clone() } else { String::new() },
             ]);
@@ -342,7 +366,7 @@ pub fn render(r: &ScheduleReport, index: usize) -> String {
     }
     align_numbers(&mut t, 3);
     out.push_str(&format!("{t}\n"));
-    out.push_str(&adherence_text(r, index));
+    out.push_str(&adherence_text(r, index, u));
     let follow = r.protocol.follow_up_weeks;
     if follow > 0 {
         out.push_str(&format!(
@@ -353,7 +377,7 @@ pub fn render(r: &ScheduleReport, index: usize) -> String {
         ));
     }
     out.push('\n');
-    out.push_str(&outcome_table(r));
+    out.push_str(&outcome_table(r, u));
     out.push('\n');
     out.push_str(&warnings_text(&r.warnings));
     out.push('\n');
