@@ -165,6 +165,78 @@ pub struct DisplayArgs {
     pub energy: EnergyArg,
 }
 
+/// Output formats of `cohort`.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, ValueEnum)]
+pub enum CohortFormat {
+    /// Summary tables with staffing and cautions.
+    Table,
+    /// One row per participant, arm and scenario.
+    Csv,
+    /// The summaries as JSON (keys per PLAN.md, "Cohort JSON").
+    Json,
+}
+
+/// The integrator of `cohort` (MODEL.md 6).
+#[derive(Debug, Clone, Copy, PartialEq, Eq, ValueEnum)]
+pub enum IntegratorArg {
+    /// Classic Runge-Kutta 4 with one-day steps (fast; within 1e-4 kg of dopri5 over 10 years).
+    Rk4,
+    /// Dormand-Prince 5(4) with tight tolerances (what `schedule` uses).
+    Dopri5,
+}
+
+/// The seed `cohort` uses when none is given.
+pub const DEFAULT_SEED: u64 = 20_270_101;
+
+/// The options of `cohort`.
+#[derive(Debug, Clone, Args)]
+pub struct CohortArgs {
+    /// The study file (TOML).
+    pub study: PathBuf,
+    /// The roster (CSV: id,sex,age_years,height_cm,mass_kg[,body_fat_percent,...][,arm]).
+    #[arg(long, value_name = "FILE")]
+    pub roster: Option<PathBuf>,
+    /// Draw N participants from the study's [synthetic] population instead (seeded; arms by permuted blocks).
+    #[arg(long, value_name = "N")]
+    pub synthetic: Option<usize>,
+    /// Assign arms by permuted blocks stratified by sex (for a roster without an arm column).
+    #[arg(long)]
+    pub randomise: bool,
+    /// Random seed for synthetic draws and randomisation.
+    #[arg(long, default_value_t = DEFAULT_SEED)]
+    pub seed: u64,
+    /// Simulate every participant in every arm (the counterfactual view of the dose effect).
+    #[arg(long)]
+    pub all_arms: bool,
+    /// Draws per participant.
+    #[arg(long, default_value_t = 1, value_name = "K")]
+    pub draws: u32,
+    /// Worker threads (default: RAYON_NUM_THREADS, else one per core).
+    #[arg(long, value_name = "N")]
+    pub threads: Option<usize>,
+    /// The integrator.
+    #[arg(long, value_enum, default_value_t = IntegratorArg::Rk4)]
+    pub integrator: IntegratorArg,
+    /// Add a checkpoint week (repeatable); the end of the protocol and of follow-up are always shown.
+    #[arg(long = "at-week", value_name = "N")]
+    pub at_week: Vec<u32>,
+    /// Output format.
+    #[arg(long, value_enum, default_value_t = CohortFormat::Table)]
+    pub format: CohortFormat,
+    /// Write the output to this file (atomically) instead of standard output.
+    #[arg(long, value_name = "FILE")]
+    pub out: Option<PathBuf>,
+    /// Also write SVG charts into this folder.
+    #[arg(long, value_name = "DIR")]
+    pub chart: Option<PathBuf>,
+    /// No progress bar.
+    #[arg(long)]
+    pub quiet: bool,
+    /// Display units.
+    #[command(flatten)]
+    pub display: DisplayArgs,
+}
+
 /// The commands.
 #[derive(Debug, Subcommand)]
 pub enum Command {
@@ -298,6 +370,9 @@ pub enum Command {
         /// Where to write it; an existing file is never overwritten.
         file: Option<PathBuf>,
     },
+    /// Simulate a study's cohort: every participant in its arm (or every arm), summarised per arm.
+    #[command(group = clap::ArgGroup::new("who").required(true).args(["roster", "synthetic"]))]
+    Cohort(CohortArgs),
     /// List or search the built-in activity table and show the ACSM equations.
     Activities {
         /// A code (or its first digits) or words of the label, e.g. "cycling".

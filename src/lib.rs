@@ -21,6 +21,7 @@ pub mod plan;
 pub mod report;
 pub mod safety;
 pub mod simulate;
+pub mod study;
 
 pub use error::Error;
 pub use plan::Plan;

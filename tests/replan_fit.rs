@@ -132,6 +132,7 @@ fn run_with(plan: &Plan, obs: Option<&Observed>) -> RunOutput {
         observed: obs,
         anchor: obs.is_some(),
         weeks: plan.protocol.total_weeks(),
+        integrator: Default::default(),
     };
     run(plan, &physiology, &baseline, &plan.scenarios[0], mode, None).expect("the run succeeds")
 }
@@ -739,6 +740,7 @@ fn the_fit_interval_is_the_profile_of_the_sum_of_squares() {
             observed: Some(&obs),
             anchor: false,
             weeks: fit_plan.protocol.total_weeks(),
+            integrator: Default::default(),
         };
         let out = run(&fit_plan, &physiology, &baseline, &sc, mode, None).unwrap();
         obs.weigh_ins

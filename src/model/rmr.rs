@@ -22,6 +22,16 @@ pub enum Sex {
     Male,
 }
 
+impl Sex {
+    /// The plan-file word.
+    pub fn name(self) -> &'static str {
+        match self {
+            Sex::Female => "female",
+            Sex::Male => "male",
+        }
+    }
+}
+
 /// The published RMR equations a plan may choose.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
 #[serde(rename_all = "kebab-case")]

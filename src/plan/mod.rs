@@ -4,7 +4,7 @@
 mod locate;
 pub mod raw;
 pub mod starter;
-mod validate;
+pub(crate) mod validate;
 
 use crate::activity::Activity;
 use crate::model::{Compensation, Constants, Subject};

@@ -52,17 +52,25 @@ pub fn parse_plan(file: &str, text: &str) -> Result<Plan, Error> {
     // A UTF-8 byte-order mark is accepted (editors on Windows write one).
     let text = text.strip_prefix('\u{feff}').unwrap_or(text);
     let cx = Cx { file, src: text };
+    let raw: RawPlan = deserialize(file, text)?;
+    cx.plan(raw)
+}
+
+/// TOML text into raw structs: syntax errors and unknown keys in the user's terms.
+pub(crate) fn deserialize<T: serde::de::DeserializeOwned>(
+    file: &str,
+    text: &str,
+) -> Result<T, Error> {
     if let Err(e) = toml::from_str::<toml::Table>(text) {
         let off = e.span().map_or(0, |s| s.start);
         let (key, message) = syntax_message(text, off, e.message());
         return Err(Error::at(file, text, off, &key, message));
     }
-    let raw: RawPlan = toml::from_str(text).map_err(|e| {
+    toml::from_str(text).map_err(|e| {
         let off = e.span().map_or(0, |s| s.start);
-        let key = cx.key_at(off);
+        let key = super::locate::key_at(text, off);
         Error::at(file, text, off, &key, tidy(e.message()))
-    })?;
-    cx.plan(raw)
+    })
 }
 
 /// A TOML syntax error in the user's terms: the key where the line assigns one, and a
@@ -147,9 +155,10 @@ fn tidy(msg: &str) -> String {
         )
 }
 
-struct Cx<'a> {
-    file: &'a str,
-    src: &'a str,
+/// The validation context: the file's name and text, for messages with positions.
+pub(crate) struct Cx<'a> {
+    pub(crate) file: &'a str,
+    pub(crate) src: &'a str,
 }
 
 /// MET of a warm-up or cool-down when the plan gives none: easy walking or cycling
@@ -167,12 +176,12 @@ fn fmt_num(v: f64) -> String {
 }
 
 impl Cx<'_> {
-    fn err(&self, span: &Range<usize>, key: &str, msg: impl Into<String>) -> Error {
+    pub(crate) fn err(&self, span: &Range<usize>, key: &str, msg: impl Into<String>) -> Error {
         Error::at(self.file, self.src, span.start, key, msg)
     }
 
     /// An error about the whole file (no position: a missing table has none).
-    fn file_err(&self, key: &str, msg: &str) -> Error {
+    pub(crate) fn file_err(&self, key: &str, msg: &str) -> Error {
         Error::Input(crate::error::InputError {
             location: crate::error::Location::file(self.file),
             key: Some(key.to_string()),
@@ -180,11 +189,7 @@ impl Cx<'_> {
         })
     }
 
-    fn key_at(&self, offset: usize) -> String {
-        super::locate::key_at(self.src, offset)
-    }
-
-    fn required<'v, T>(
+    pub(crate) fn required<'v, T>(
         &self,
         v: &'v Option<S<T>>,
         table: &Range<usize>,
@@ -202,7 +207,14 @@ impl Cx<'_> {
     }
 
     /// A finite number within `lo..=hi`.
-    fn number(&self, v: &Num, key: &str, lo: f64, hi: f64, unit: &str) -> Result<f64, Error> {
+    pub(crate) fn number(
+        &self,
+        v: &Num,
+        key: &str,
+        lo: f64,
+        hi: f64,
+        unit: &str,
+    ) -> Result<f64, Error> {
         let x = *v.get_ref();
         if !x.is_finite() {
             return Err(self.err(
@@ -231,7 +243,14 @@ impl Cx<'_> {
     }
 
     /// A finite number with `lo < x <= hi`.
-    fn number_above(&self, v: &Num, key: &str, lo: f64, hi: f64, unit: &str) -> Result<f64, Error> {
+    pub(crate) fn number_above(
+        &self,
+        v: &Num,
+        key: &str,
+        lo: f64,
+        hi: f64,
+        unit: &str,
+    ) -> Result<f64, Error> {
         let x = *v.get_ref();
         if !x.is_finite() {
             return Err(self.err(
@@ -260,7 +279,7 @@ impl Cx<'_> {
     }
 
     /// A whole number within `lo..=hi`.
-    fn whole(&self, v: &Num, key: &str, lo: u32, hi: u32) -> Result<u32, Error> {
+    pub(crate) fn whole(&self, v: &Num, key: &str, lo: u32, hi: u32) -> Result<u32, Error> {
         let x = *v.get_ref();
         if !x.is_finite() || x.fract() != 0.0 {
             return Err(self.err(
@@ -285,7 +304,7 @@ impl Cx<'_> {
         Ok(x as u32)
     }
 
-    fn opt_number(
+    pub(crate) fn opt_number(
         &self,
         v: &Option<Num>,
         key: &str,
@@ -298,7 +317,12 @@ impl Cx<'_> {
             .transpose()
     }
 
-    fn choice<T: Copy>(&self, v: &S<String>, key: &str, options: &[(&str, T)]) -> Result<T, Error> {
+    pub(crate) fn choice<T: Copy>(
+        &self,
+        v: &S<String>,
+        key: &str,
+        options: &[(&str, T)],
+    ) -> Result<T, Error> {
         let s = v.get_ref().as_str();
         options
             .iter()
@@ -326,7 +350,7 @@ impl Cx<'_> {
         let ract = raw.activity.as_ref().ok_or_else(|| self.file_err("activity", "missing required table [activity]; give exactly one of compendium_code, met, walking, running, cycling_watts, vo2_reserve_percent"))?;
         let constants = self.constants(raw.model.as_ref())?;
         let (id, subject, screening, fitness) = self.participant(rp)?;
-        let protocol = self.protocol(rprot)?;
+        let protocol = self.protocol(rprot, None)?;
         let activity = self.activity(ract.get_ref(), ract.span(), "activity", fitness.as_ref())?;
         let rotation = self.rotation(raw.rotation, &protocol, fitness.as_ref())?;
         let calendar = self.calendar(raw.calendar.as_ref())?;
@@ -427,7 +451,7 @@ impl Cx<'_> {
     /// The `[[rotation]]` entries, each with its raw activity and span (for the
     /// positive-net-energy check once the baseline is known).
     #[allow(clippy::type_complexity)]
-    fn rotation(
+    pub(crate) fn rotation(
         &self,
         raw: Option<Vec<S<RawRotation>>>,
         protocol: &Protocol,
@@ -484,7 +508,7 @@ impl Cx<'_> {
         Ok(out)
     }
 
-    fn calendar(&self, rc: Option<&S<RawCalendar>>) -> Result<CalendarSettings, Error> {
+    pub(crate) fn calendar(&self, rc: Option<&S<RawCalendar>>) -> Result<CalendarSettings, Error> {
         let Some(rc) = rc else {
             return Ok(CalendarSettings::default());
         };
@@ -643,7 +667,12 @@ impl Cx<'_> {
         ))
     }
 
-    fn fitness(&self, rf: &S<RawFitness>, mass_kg: f64, age: f64) -> Result<Fitness, Error> {
+    pub(crate) fn fitness(
+        &self,
+        rf: &S<RawFitness>,
+        mass_kg: f64,
+        age: f64,
+    ) -> Result<Fitness, Error> {
         let f = rf.get_ref();
         let tn = "participant.fitness";
         let k = |key: &str| format!("{tn}.{key}");
@@ -751,7 +780,7 @@ impl Cx<'_> {
         })
     }
 
-    fn date(&self, v: &S<RawDate>, key: &str) -> Result<NaiveDate, Error> {
+    pub(crate) fn date(&self, v: &S<RawDate>, key: &str) -> Result<NaiveDate, Error> {
         let bad = |what: &str| {
             self.err(
                 &v.span(),
@@ -783,7 +812,12 @@ impl Cx<'_> {
     /// Distinct weekdays. Session days (`spare = false`) must not be empty and are
     /// sorted Monday first; spare days may be empty and keep the order listed, which
     /// is the order `add-session` uses them in.
-    fn days(&self, v: &S<Vec<S<String>>>, key: &str, spare: bool) -> Result<Vec<Weekday>, Error> {
+    pub(crate) fn days(
+        &self,
+        v: &S<Vec<S<String>>>,
+        key: &str,
+        spare: bool,
+    ) -> Result<Vec<Weekday>, Error> {
         const DAYS: [(&str, Weekday); 7] = [
             ("mon", Weekday::Mon),
             ("tue", Weekday::Tue),
@@ -821,7 +855,13 @@ impl Cx<'_> {
         Ok(out)
     }
 
-    fn protocol(&self, rp: &S<RawProtocol>) -> Result<Protocol, Error> {
+    /// The protocol; `arm_dose` is the dose of a study arm, which the protocol table
+    /// must then not give.
+    pub(crate) fn protocol(
+        &self,
+        rp: &S<RawProtocol>,
+        arm_dose: Option<Dose>,
+    ) -> Result<Protocol, Error> {
         let t = rp.span();
         let p = rp.get_ref();
         let tn = "protocol";
@@ -928,7 +968,11 @@ impl Cx<'_> {
             let span = p.over_max.as_ref().map_or(t.clone(), |v| v.span());
             return Err(self.err(&span, "protocol.over_max", "\"add-session\" needs a free weekday, but all seven are session days; use \"split\" or \"cap\""));
         }
-        let dose = self.dose(self.required(&p.dose, &t, tn, "dose", "add a [protocol.dose] table with exactly one of kcal_per_session, kcal_per_week, kcal_per_kg_week, minutes_per_week")?)?;
+        let dose = match (arm_dose, &p.dose) {
+            (Some(_), Some(d)) => return Err(self.err(&d.span(), "protocol.dose", "a study gives the dose in each [[arm]], not in [protocol]; move it to an arm's dose = { ... }")),
+            (Some(d), None) => d,
+            (None, _) => self.dose(self.required(&p.dose, &t, tn, "dose", "add a [protocol.dose] table with exactly one of kcal_per_session, kcal_per_week, kcal_per_kg_week, minutes_per_week")?, "protocol.dose")?,
+        };
         let ramp = match &p.ramp {
             Some(r) => {
                 let rr = r.get_ref();
@@ -1013,7 +1057,7 @@ impl Cx<'_> {
     }
 
     /// A warm-up or cool-down table.
-    fn easy(&self, re: &S<RawEasy>, tn: &str) -> Result<EasyPart, Error> {
+    pub(crate) fn easy(&self, re: &S<RawEasy>, tn: &str) -> Result<EasyPart, Error> {
         let e = re.get_ref();
         let minutes = self.whole(
             self.required(
@@ -1034,7 +1078,8 @@ impl Cx<'_> {
         Ok(EasyPart { minutes, met })
     }
 
-    fn dose(&self, rd: &S<RawDose>) -> Result<Dose, Error> {
+    /// A dose table whose keys are named under `tn`.
+    pub(crate) fn dose(&self, rd: &S<RawDose>, tn: &str) -> Result<Dose, Error> {
         let d = rd.get_ref();
         let given: Vec<(&Num, &str)> = [
             (&d.kcal_per_session, "kcal_per_session"),
@@ -1047,13 +1092,13 @@ impl Cx<'_> {
         .collect();
         let (v, k) = match given.as_slice() {
             [one] => *one,
-            [] => return Err(self.err(&rd.span(), "protocol.dose", "no dose amount; give exactly one of kcal_per_session, kcal_per_week, kcal_per_kg_week, minutes_per_week")),
+            [] => return Err(self.err(&rd.span(), tn, "no dose amount; give exactly one of kcal_per_session, kcal_per_week, kcal_per_kg_week, minutes_per_week")),
             [_, second, ..] => {
                 let names: Vec<&str> = given.iter().map(|(_, k)| *k).collect();
-                return Err(self.err(&second.0.span(), &format!("protocol.dose.{}", second.1), format!("two dose amounts given ({}); give exactly one", names.join(", "))));
+                return Err(self.err(&second.0.span(), &format!("{tn}.{}", second.1), format!("two dose amounts given ({}); give exactly one", names.join(", "))));
             }
         };
-        let key = format!("protocol.dose.{k}");
+        let key = format!("{tn}.{k}");
         let amount = match k {
             "kcal_per_session" => {
                 DoseAmount::KcalPerSession(self.number(v, &key, 10.0, 3000.0, " kcal")?)
@@ -1069,7 +1114,7 @@ impl Cx<'_> {
         let basis = match &d.basis {
             Some(b) => self.choice(
                 b,
-                "protocol.dose.basis",
+                &format!("{tn}.basis"),
                 &[("gross", EnergyBasis::Gross), ("net", EnergyBasis::Net)],
             )?,
             None => EnergyBasis::Gross,
@@ -1077,7 +1122,7 @@ impl Cx<'_> {
         let mass_basis = match &d.mass_basis {
             Some(b) => self.choice(
                 b,
-                "protocol.dose.mass_basis",
+                &format!("{tn}.mass_basis"),
                 &[
                     ("baseline", MassBasis::Baseline),
                     ("current", MassBasis::Current),
@@ -1119,7 +1164,7 @@ impl Cx<'_> {
         Ok((speed, grade))
     }
 
-    fn activity(
+    pub(crate) fn activity(
         &self,
         a: &RawActivity,
         span: Range<usize>,
@@ -1226,7 +1271,7 @@ impl Cx<'_> {
         Ok(Activity { intensity, label })
     }
 
-    fn constants(&self, rm: Option<&S<RawModel>>) -> Result<Constants, Error> {
+    pub(crate) fn constants(&self, rm: Option<&S<RawModel>>) -> Result<Constants, Error> {
         let mut c = Constants::default();
         let Some(rm) = rm else { return Ok(c) };
         let m = rm.get_ref();
@@ -1262,7 +1307,7 @@ impl Cx<'_> {
         Ok(c)
     }
 
-    fn scenarios(&self, rs: Option<&[S<RawScenario>]>) -> Result<Vec<Scenario>, Error> {
+    pub(crate) fn scenarios(&self, rs: Option<&[S<RawScenario>]>) -> Result<Vec<Scenario>, Error> {
         let Some(rs) = rs.filter(|r| !r.is_empty()) else {
             return Ok(vec![Scenario {
                 name: "as prescribed".to_string(),

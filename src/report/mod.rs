@@ -4,6 +4,7 @@
 pub mod activities;
 pub mod chart;
 pub mod check;
+pub mod cohort;
 pub mod compare;
 pub mod csv;
 pub mod fit;

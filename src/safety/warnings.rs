@@ -359,3 +359,65 @@ fn intake_warnings(plan: &Plan, sc: &ScenarioRun, out: &mut Vec<Warning>) {
         out.push(w("intake-below-floor", format!("scenario \"{name}\": with the diet change, intake falls below {floor:.0} kcal/day, the usual floor without supervision, in {} {} (lowest {lowest:.0} kcal/day)", plural(&below_floor), week_ranges(&below_floor))));
     }
 }
+
+/// Warnings of a cohort: sessions over the maximum per arm, and the screening,
+/// estimated body fat and age notes counted over participants.
+pub fn cohort_warnings(
+    study: &crate::study::Study,
+    members: &[crate::simulate::cohort::Member],
+    summary: &crate::simulate::cohort::CohortSummary,
+) -> Vec<Warning> {
+    let mut out = Vec::new();
+    let ids = |f: &dyn Fn(&crate::simulate::cohort::Member) -> bool| -> (usize, String) {
+        let v: Vec<&str> = members
+            .iter()
+            .filter(|m| f(m))
+            .map(|m| m.participant.id.as_str())
+            .collect();
+        let shown = v.iter().take(8).copied().collect::<Vec<_>>().join(", ");
+        let more = if v.len() > 8 {
+            format!(" and {} more", v.len() - 8)
+        } else {
+            String::new()
+        };
+        (v.len(), format!("{shown}{more}"))
+    };
+    let vigorous = std::iter::once(&study.activity)
+        .chain(study.rotation.iter().map(|r| &r.activity))
+        .any(|a| a.intensity.met_at(70.0) >= VIGOROUS_MET);
+    let (n, who) = ids(&|m| m.participant.screening.is_none());
+    if n > 0 {
+        out.push(w("screening-not-recorded", format!("{n} of {} participants have no screening answers ({who}); complete the ACSM pre-participation screening before their first session", members.len())));
+    }
+    let (n, who) = ids(&|m| {
+        crate::safety::screen(m.participant.screening.as_ref(), vigorous).clearance_missing
+    });
+    if n > 0 {
+        out.push(w("clearance-missing", format!("{n} participant(s) need medical clearance that the roster does not record ({who}); obtain it before exercise begins")));
+    }
+    let (n, _) = ids(&|m| {
+        vigorous
+            && m.participant
+                .screening
+                .is_none_or(|s| !s.exercises_regularly)
+    });
+    if n > 0 {
+        out.push(w("vigorous-start", format!("the study's activity is vigorous (6 MET or more) for {n} participant(s) not recorded as exercising regularly: start light to moderate and progress gradually (a ramp)")));
+    }
+    let (n, _) = ids(&|m| m.participant.subject.body_fat_percent.is_none());
+    if n > 0 {
+        out.push(w("fat-mass-estimated", format!("fat mass is estimated from BMI (Deurenberg et al. 1991, SEE 4.1% body fat) for {n} of {} participants; measured body fat makes the projections firmer", members.len())));
+    }
+    let (n, _) = ids(&|m| m.participant.subject.age_years >= 60.0);
+    if n > 0 {
+        out.push(w("older-adult-met", format!("{n} participant(s) are 60 or older: standard METs assume 3.5 ml/kg/min at rest and tend to overstate their cost of activity (Willis et al. 2024, J Sport Health Sci 13:13), so their minutes may be too few for the energy target")));
+    }
+    if let Some(max) = study.protocol.max_session_minutes {
+        for a in &summary.arms {
+            for s in a.scenarios.iter().filter(|s| s.over_max_share > 0.0) {
+                out.push(w("session-over-max", format!("arm \"{}\", scenario \"{}\": {:.0}% of participants have sessions over the {max:.0}-minute maximum in some week before the \"{}\" policy acts (longest {} min in the last week)", a.name, s.name, s.over_max_share * 100.0, study.protocol.over_max.name(), s.minutes_last_week.max)));
+            }
+        }
+    }
+    out
+}

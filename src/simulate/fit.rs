@@ -116,6 +116,7 @@ fn curve(
         observed: Some(obs),
         anchor: false,
         weeks,
+        integrator: crate::simulate::integrate::Integrator::Dopri5,
     };
     let out = run(plan, &physiology, &baseline, &sc, mode, None)?;
     let days = (obs.as_of_day as usize + 1).min(out.daily.len());

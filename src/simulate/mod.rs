@@ -6,6 +6,7 @@
 
 pub mod adherence;
 pub mod band;
+pub mod cohort;
 pub mod fit;
 pub mod goal;
 pub mod integrate;
@@ -283,23 +284,7 @@ pub fn simulate_observed(plan: &Plan, observed: Option<&Observed>) -> Result<Sim
         )?
         .weeks;
         without?;
-        let last = weeks.last().expect("a plan has at least one week");
-        let protocol_end = &weeks[plan.protocol.weeks as usize - 1];
-        let outcome = Outcome {
-            end_date: plan.protocol.end_date(),
-            mass_kg: last.end.mass_kg,
-            fat_mass_kg: last.end.fat_mass_kg,
-            fat_free_mass_kg: last.end.fat_free_mass_kg,
-            mass_change_kg: last.end.mass_kg - baseline.mass_kg,
-            fat_mass_change_kg: last.end.fat_mass_kg - baseline.fat_mass_kg,
-            fat_free_mass_change_kg: last.end.fat_free_mass_kg - baseline.fat_free_mass_kg,
-            prescribed_net_kcal: last.end.prescribed_net_kcal,
-            achieved_deficit_kcal: last.end.achieved_deficit_kcal,
-            dose_share: last.end.dose_share,
-            protocol_end_mass_kg: protocol_end.end.mass_kg,
-            protocol_end_mass_change_kg: protocol_end.end.mass_kg - baseline.mass_kg,
-            protocol_end_dose_share: protocol_end.end.dose_share,
-        };
+        let outcome = outcome(plan, &baseline, &weeks);
         let adherence = observed.map(|o| {
             let covered: Vec<&adherence::WeekAdherence> =
                 weeks.iter().filter_map(|w| w.adherence.as_ref()).collect();
@@ -320,6 +305,27 @@ pub fn simulate_observed(plan: &Plan, observed: Option<&Observed>) -> Result<Sim
         drift_mass_4_weeks_kg: drift,
         scenarios,
     })
+}
+
+/// The end state of a run's weeks.
+pub fn outcome(plan: &Plan, baseline: &Baseline, weeks: &[WeekRecord]) -> Outcome {
+    let last = weeks.last().expect("a plan has at least one week");
+    let protocol_end = &weeks[plan.protocol.weeks as usize - 1];
+    Outcome {
+        end_date: plan.protocol.end_date(),
+        mass_kg: last.end.mass_kg,
+        fat_mass_kg: last.end.fat_mass_kg,
+        fat_free_mass_kg: last.end.fat_free_mass_kg,
+        mass_change_kg: last.end.mass_kg - baseline.mass_kg,
+        fat_mass_change_kg: last.end.fat_mass_kg - baseline.fat_mass_kg,
+        fat_free_mass_change_kg: last.end.fat_free_mass_kg - baseline.fat_free_mass_kg,
+        prescribed_net_kcal: last.end.prescribed_net_kcal,
+        achieved_deficit_kcal: last.end.achieved_deficit_kcal,
+        dose_share: last.end.dose_share,
+        protocol_end_mass_kg: protocol_end.end.mass_kg,
+        protocol_end_mass_change_kg: protocol_end.end.mass_kg - baseline.mass_kg,
+        protocol_end_dose_share: protocol_end.end.dose_share,
+    }
 }
 
 /// End-of-week masses of every scenario with no exercise at all (the counterfactual
@@ -358,6 +364,8 @@ pub struct RunMode<'a> {
     pub anchor: bool,
     /// Weeks to run (at most the plan's protocol plus follow-up).
     pub weeks: u32,
+    /// The integrator.
+    pub integrator: integrate::Integrator,
 }
 
 impl RunMode<'_> {
@@ -376,6 +384,7 @@ impl RunMode<'_> {
             observed: None,
             anchor: false,
             weeks: plan.protocol.total_weeks(),
+            integrator: integrate::Integrator::Dopri5,
         }
     }
 }
@@ -505,7 +514,8 @@ pub fn run(
         for cut in cuts {
             let len = f64::from(cut - from);
             let samples =
-                integrate(physiology, comp, &bouts, y, len, 1.0).map_err(|(t, why)| {
+                integrate::integrate_with(mode.integrator, physiology, comp, &bouts, y, len, 1.0)
+                    .map_err(|(t, why)| {
                     let day = from + t.floor() as u32;
                     range_error(
                         plan,

@@ -1,0 +1,304 @@
+//! The cohort report: per arm and scenario the spread of mass and fat-mass change,
+//! dose share, session minutes and the share over the maximum; supervised hours for
+//! staffing. Rendered as a table, a per-participant CSV, or JSON ("Cohort JSON",
+//! PLAN.md).
+
+use super::table::{align_numbers, new_table};
+use super::units::Units;
+use crate::safety;
+use crate::simulate::cohort::Member;
+use crate::simulate::cohort::{ArmSpread, CohortSummary, MemberResult, Spread, StaffHours};
+use crate::study::Study;
+use serde::Serialize;
+
+/// A pair of arms compared (filled in when uncertainty is simulated).
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct Comparison {
+    /// The two arms.
+    pub arms: [String; 2],
+    /// Scenario.
+    pub scenario: String,
+    /// Mean difference in mass change, kg (second minus first).
+    pub mean_difference_kg: f64,
+    /// SD of mass change, kg.
+    pub sd_kg: f64,
+    /// Participants per arm for power 0.8.
+    pub n_per_arm_power80: Option<f64>,
+    /// Participants per arm for power 0.9.
+    pub n_per_arm_power90: Option<f64>,
+}
+
+/// Everything `cohort` reports.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct CohortReport {
+    /// Tool and version.
+    pub tool: String,
+    /// The study file.
+    pub study: String,
+    /// The study's name.
+    pub name: String,
+    /// Where the participants came from.
+    pub source: String,
+    /// How arms were assigned.
+    pub allocation: String,
+    /// Every participant simulated in every arm.
+    pub all_arms: bool,
+    /// The random seed (synthetic draws and randomisation).
+    pub seed: u64,
+    /// Draws per participant.
+    pub draws: u32,
+    /// Participants.
+    pub participants: usize,
+    /// The integrator.
+    pub integrator: &'static str,
+    /// Checkpoint weeks.
+    pub checkpoints: Vec<u32>,
+    /// Protocol weeks.
+    pub weeks: u32,
+    /// Maximum session minutes.
+    pub max_session_minutes: Option<f64>,
+    /// Per arm.
+    pub arms: Vec<ArmSpread>,
+    /// Supervised session-hours (allocated runs; every run with `--all-arms` and no allocation).
+    pub staff_hours: StaffHours,
+    /// Arm pairs (with uncertainty).
+    pub comparisons: Vec<Comparison>,
+    /// Warnings with stable codes.
+    pub warnings: Vec<safety::Warning>,
+    /// The standing cautions.
+    pub cautions: Vec<&'static str>,
+    /// One row per participant, arm and scenario (CSV only).
+    #[serde(skip)]
+    pub rows: Vec<ParticipantRow>,
+}
+
+/// One participant's run in one arm and scenario (the per-participant CSV).
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct ParticipantRow {
+    /// Code.
+    pub id: String,
+    /// Arm.
+    pub arm: String,
+    /// Allocated to this arm (false for a counterfactual run with `--all-arms`).
+    pub allocated: bool,
+    /// Scenario.
+    pub scenario: String,
+    /// Sex.
+    pub sex: &'static str,
+    /// Age, years.
+    pub age_years: f64,
+    /// Height, cm.
+    pub height_cm: f64,
+    /// Baseline mass, kg.
+    pub baseline_mass_kg: f64,
+    /// Mass change at the end of the protocol, kg.
+    pub mass_change_kg: f64,
+    /// Fat-mass change at the end of the protocol, kg.
+    pub fat_mass_change_kg: f64,
+    /// Dose share at the end of the protocol (empty for a control).
+    pub dose_share: Option<f64>,
+    /// Longest session in week 1, minutes.
+    pub minutes_week1: u32,
+    /// Longest session in the last week, minutes.
+    pub minutes_last_week: u32,
+    /// Over the maximum in some week.
+    pub over_max: bool,
+    /// Prescribed net exercise energy, kcal.
+    pub prescribed_net_kcal: f64,
+    /// Whole-session hours over the protocol.
+    pub session_hours: f64,
+}
+
+/// Build the per-participant rows.
+pub fn participant_rows(
+    study: &Study,
+    members: &[Member],
+    results: &[MemberResult],
+) -> Vec<ParticipantRow> {
+    let mut rows = Vec::new();
+    for (m, r) in members.iter().zip(results) {
+        let s = &m.participant.subject;
+        for run in &r.runs {
+            rows.push(ParticipantRow {
+                id: m.participant.id.clone(),
+                arm: study.arms[run.arm].name.clone(),
+                allocated: m.arm.is_none_or(|a| a == run.arm),
+                scenario: study.scenarios[run.scenario].name.clone(),
+                sex: s.sex.name(),
+                age_years: s.age_years,
+                height_cm: s.height_cm,
+                baseline_mass_kg: r.baseline_mass_kg,
+                mass_change_kg: run.protocol_end_mass_change_kg,
+                fat_mass_change_kg: run.protocol_end_fat_mass_change_kg,
+                dose_share: run.dose_share,
+                minutes_week1: run.minutes_week1,
+                minutes_last_week: run.minutes_last_week,
+                over_max: run.over_max,
+                prescribed_net_kcal: run.prescribed_net_kcal,
+                session_hours: f64::from(run.session_minutes_by_week.iter().sum::<u32>()) / 60.0,
+            });
+        }
+    }
+    rows
+}
+
+impl CohortReport {
+    /// Attach the summaries to the report header.
+    pub fn with_summary(mut self, s: CohortSummary) -> CohortReport {
+        self.arms = s.arms;
+        self.staff_hours = s.staff_hours;
+        self
+    }
+}
+
+/// A signed value with one decimal, never "-0.0" or "+-0.0".
+fn signed(v: f64) -> String {
+    let s = format!("{v:+.1}");
+    if s == "-0.0" { "+0.0".to_string() } else { s }
+}
+
+fn spread_cells(s: &Spread, u: Units) -> String {
+    format!(
+        "{} ({:.1}) [{} to {}]",
+        signed(u.mass(s.mean)),
+        u.mass(s.sd),
+        signed(u.mass(s.p5)),
+        signed(u.mass(s.p95))
+    )
+}
+
+/// The table: one row per arm and scenario, then staffing and the cautions.
+pub fn table(r: &CohortReport, u: Units) -> String {
+    let ml = u.mass_label();
+    let mut out = format!(
+        "dosewright cohort: {} ({})\n{} participants from {}; {}{}\nseed {}, {} draw(s) per participant, integrator {}\nProtocol: {} weeks{}\n\n",
+        r.name,
+        r.study,
+        r.participants,
+        r.source,
+        r.allocation,
+        if r.all_arms {
+            "; every participant simulated in every arm"
+        } else {
+            ""
+        },
+        r.seed,
+        r.draws,
+        r.integrator,
+        r.weeks,
+        r.max_session_minutes.map_or(String::new(), |m| format!(
+            ", maximum {m:.0} min per session"
+        )),
+    );
+    let h_mass = format!("mass change [{ml}] mean (SD) [5th to 95th]");
+    let h_fat = format!("fat change [{ml}] mean");
+    let h_last = format!("min/session week {} median (95th, max)", r.weeks);
+    let mut t = new_table(&[
+        "arm",
+        "scenario",
+        "n",
+        &h_mass,
+        &h_fat,
+        "dose share",
+        "min/session week 1 median (95th, max)",
+        &h_last,
+        "over max",
+    ]);
+    align_numbers(&mut t, 2);
+    for a in &r.arms {
+        for s in &a.scenarios {
+            t.add_row(vec![
+                if a.control && !a.name.contains("control") {
+                    format!("{} (control)", a.name)
+                } else {
+                    a.name.clone()
+                },
+                s.name.clone(),
+                a.participants.to_string(),
+                spread_cells(&s.mass_change_kg, u),
+                signed(u.mass(s.fat_mass_change_kg.mean)),
+                s.dose_share_mean
+                    .map_or("-".to_string(), |d| format!("{:.0}%", d * 100.0)),
+                format!(
+                    "{:.0} ({:.0}, {})",
+                    s.minutes_week1.median, s.minutes_week1.p95, s.minutes_week1.max
+                ),
+                format!(
+                    "{:.0} ({:.0}, {})",
+                    s.minutes_last_week.median, s.minutes_last_week.p95, s.minutes_last_week.max
+                ),
+                format!("{:.0}%", s.over_max_share * 100.0),
+            ]);
+        }
+    }
+    out.push_str(&format!(
+        "Outcome at the end of the protocol (week {}), over participants\n{t}\n\n",
+        r.weeks
+    ));
+    if r.checkpoints.len() > 1 || r.checkpoints.first() != Some(&r.weeks) {
+        let mut header = vec!["arm".to_string(), "scenario".to_string()];
+        header.extend(r.checkpoints.iter().map(|w| format!("week {w} [{ml}]")));
+        let refs: Vec<&str> = header.iter().map(String::as_str).collect();
+        let mut c = new_table(&refs);
+        align_numbers(&mut c, 2);
+        for a in &r.arms {
+            for s in &a.scenarios {
+                let mut row = vec![a.name.clone(), s.name.clone()];
+                row.extend(s.checkpoints.iter().map(|p| {
+                    format!(
+                        "{} ({:.1})",
+                        signed(u.mass(p.mass_change_kg.mean)),
+                        u.mass(p.mass_change_kg.sd)
+                    )
+                }));
+                c.add_row(row);
+            }
+        }
+        out.push_str(&format!(
+            "Mass change at the checkpoints, mean (SD)\n{c}\n\n"
+        ));
+    }
+    let mut st = new_table(&[
+        "arm",
+        "participants",
+        "peak session-hours/week (week)",
+        "total session-hours",
+    ]);
+    align_numbers(&mut st, 1);
+    for a in &r.arms {
+        st.add_row(vec![
+            a.name.clone(),
+            a.participants.to_string(),
+            format!(
+                "{:.1} (week {})",
+                a.staff_hours.peak_per_week, a.staff_hours.peak_week
+            ),
+            format!("{:.1}", a.staff_hours.total),
+        ]);
+    }
+    out.push_str(&format!(
+        "Supervised session-hours (warm-up, time at target and cool-down; one participant per session; first scenario)\n{st}\nTrial as allocated: peak {:.1} h/week (week {}), {:.1} h in all\n\n",
+        r.staff_hours.peak_per_week, r.staff_hours.peak_week, r.staff_hours.total
+    ));
+    if !r.warnings.is_empty() {
+        out.push_str("Warnings\n");
+        for w in &r.warnings {
+            out.push_str(&format!("  - [{}] {}\n", w.code, w.message));
+        }
+        out.push('\n');
+    }
+    out.push_str("Cautions\n");
+    for c in &r.cautions {
+        out.push_str(&format!("  - {c}\n"));
+    }
+    out
+}
+
+/// The per-participant CSV (metric, kcal).
+pub fn csv(r: &CohortReport) -> String {
+    let mut w = csv::Writer::from_writer(Vec::new());
+    for row in &r.rows {
+        w.serialize(row).expect("rows serialize");
+    }
+    String::from_utf8(w.into_inner().expect("in memory")).expect("CSV is UTF-8")
+}

@@ -1,0 +1,75 @@
+#![allow(missing_docs)] // fields are the study keys, documented in the README
+//! Raw study structs: exactly the TOML file, every value with its byte span, unknown
+//! keys refused. The shared protocol tables are the plan's own raw structs.
+
+use crate::plan::raw::{
+    Num, RawActivity, RawCalendar, RawDose, RawModel, RawProtocol, RawRotation, RawScenario, S,
+};
+use serde::Deserialize;
+
+/// The whole study file.
+#[derive(Debug, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct RawStudy {
+    pub study: Option<S<RawStudyMeta>>,
+    pub protocol: Option<S<RawProtocol>>,
+    pub activity: Option<S<RawActivity>>,
+    pub rotation: Option<Vec<S<RawRotation>>>,
+    pub model: Option<S<RawModel>>,
+    pub scenario: Option<Vec<S<RawScenario>>>,
+    pub calendar: Option<S<RawCalendar>>,
+    pub arm: Option<Vec<S<RawArm>>>,
+    pub synthetic: Option<S<RawSynthetic>>,
+}
+
+/// `[study]`.
+#[derive(Debug, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct RawStudyMeta {
+    pub name: Option<S<String>>,
+    pub block_size: Option<Num>,
+}
+
+/// `[[arm]]`.
+#[derive(Debug, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct RawArm {
+    pub name: Option<S<String>>,
+    pub dose: Option<S<RawDose>>,
+}
+
+/// A number, or a distribution table `{ dist = "normal", ... }`.
+#[derive(Debug, Deserialize)]
+#[serde(untagged)]
+pub enum RawValue {
+    /// A fixed value.
+    Fixed(f64),
+    /// A distribution.
+    Dist(RawDist),
+}
+
+/// `{ dist = "normal" | "uniform" | "beta", mean, sd, min, max, alpha, beta }`.
+#[derive(Debug, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct RawDist {
+    pub dist: String,
+    pub mean: Option<f64>,
+    pub sd: Option<f64>,
+    pub min: Option<f64>,
+    pub max: Option<f64>,
+    pub alpha: Option<f64>,
+    pub beta: Option<f64>,
+}
+
+/// `[synthetic]`: the population participants are drawn from.
+#[derive(Debug, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct RawSynthetic {
+    pub female_fraction: Option<Num>,
+    pub age_years: Option<S<RawValue>>,
+    pub height_cm_female: Option<S<RawValue>>,
+    pub height_cm_male: Option<S<RawValue>>,
+    pub bmi: Option<S<RawValue>>,
+    pub body_fat_percent: Option<S<RawValue>>,
+    pub pal: Option<S<RawValue>>,
+}

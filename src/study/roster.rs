@@ -1,0 +1,357 @@
+//! The roster: one CSV row per participant, with the plan's participant keys as
+//! columns (`id, sex, age_years, height_cm, mass_kg` required; `body_fat_percent,
+//! rmr_kcal_per_day, intake_kcal_per_day, pal`, the screening answers and `arm`
+//! optional). Every value is checked against the plan's ranges (PLAN.md), and each
+//! participant is calibrated, so an error names the row and the column.
+
+use super::Study;
+use crate::error::{Error, InputError, Location};
+use crate::model::energy::{CalibrationError, calibrate};
+use crate::model::{Sex, Subject};
+use crate::plan::{Participant, Screening};
+
+/// One roster row.
+#[derive(Debug, Clone, PartialEq)]
+pub struct RosterEntry {
+    /// Line in the file (the header is line 1).
+    pub line: usize,
+    /// The participant.
+    pub participant: Participant,
+    /// The arm the roster assigns, if any.
+    pub arm: Option<usize>,
+}
+
+/// An allowed range with its unit.
+type Range = (f64, f64, &'static str);
+
+/// Columns: name, required, and the allowed range with its unit (None: text/bool).
+const COLUMNS: [(&str, bool, Option<Range>); 14] = [
+    ("id", true, None),
+    ("sex", true, None),
+    ("age_years", true, Some((18.0, 100.0, " years"))),
+    ("height_cm", true, Some((120.0, 230.0, " cm"))),
+    ("mass_kg", true, Some((30.0, 350.0, " kg"))),
+    ("body_fat_percent", false, Some((3.0, 70.0, " %"))),
+    (
+        "rmr_kcal_per_day",
+        false,
+        Some((600.0, 5000.0, " kcal/day")),
+    ),
+    (
+        "intake_kcal_per_day",
+        false,
+        Some((500.0, 10000.0, " kcal/day")),
+    ),
+    ("pal", false, Some((1.1, 2.5, ""))),
+    ("exercises_regularly", false, None),
+    ("known_disease", false, None),
+    ("signs_or_symptoms", false, None),
+    ("medical_clearance", false, None),
+    ("arm", false, None),
+];
+
+struct Cx<'a> {
+    file: &'a str,
+}
+
+impl Cx<'_> {
+    fn err(&self, line: Option<usize>, column: Option<&str>, message: String) -> Error {
+        Error::Input(InputError {
+            location: Location {
+                file: self.file.to_string(),
+                line,
+                column: None,
+            },
+            key: column.map(str::to_string),
+            message,
+        })
+    }
+}
+
+/// Read and validate a roster for `study`.
+pub fn load_roster(path: &std::path::Path, study: &Study) -> Result<Vec<RosterEntry>, Error> {
+    let name = path.display().to_string();
+    let bytes = std::fs::read(path).map_err(|e| Error::Unreadable {
+        path: name.clone(),
+        reason: crate::plan::validate::io_reason(&e),
+    })?;
+    let text = String::from_utf8(bytes).map_err(|_| Error::Unreadable {
+        path: name.clone(),
+        reason: "not UTF-8 text; save the roster as UTF-8 CSV".to_string(),
+    })?;
+    parse_roster(&name, &text, study)
+}
+
+/// Parse and validate roster text; `file` names it in errors.
+pub fn parse_roster(file: &str, text: &str, study: &Study) -> Result<Vec<RosterEntry>, Error> {
+    let cx = Cx { file };
+    let text = text.strip_prefix('\u{feff}').unwrap_or(text);
+    let mut lines = text.lines().enumerate().filter(|(_, l)| {
+        let t = l.trim();
+        !t.is_empty() && !t.starts_with('#')
+    });
+    let Some((h_at, header)) = lines.next() else {
+        return Err(cx.err(
+            None,
+            None,
+            format!(
+                "empty roster; the first line is the header, e.g. {}",
+                required_header()
+            ),
+        ));
+    };
+    let header: Vec<String> = header.split(',').map(|c| c.trim().to_string()).collect();
+    let mut index = [None; COLUMNS.len()];
+    for (i, h) in header.iter().enumerate() {
+        let Some(k) = COLUMNS.iter().position(|(n, ..)| n == h) else {
+            let looks_like_data = h.parse::<f64>().is_ok();
+            let hint = if looks_like_data {
+                format!(
+                    "the first line holds data; insert the header {} as line 1",
+                    required_header()
+                )
+            } else {
+                format!(
+                    "allowed columns {}",
+                    COLUMNS.iter().map(|c| c.0).collect::<Vec<_>>().join(", ")
+                )
+            };
+            return Err(cx.err(
+                Some(h_at + 1),
+                Some(h),
+                format!("unknown column \"{h}\"; {hint}"),
+            ));
+        };
+        if index[k].is_some() {
+            return Err(cx.err(
+                Some(h_at + 1),
+                Some(h),
+                format!("column \"{h}\" appears twice in the header"),
+            ));
+        }
+        index[k] = Some(i);
+    }
+    for (k, (n, required, _)) in COLUMNS.iter().enumerate() {
+        if *required && index[k].is_none() {
+            return Err(cx.err(
+                Some(h_at + 1),
+                Some(n),
+                format!(
+                    "missing required column; the header needs {}",
+                    required_header()
+                ),
+            ));
+        }
+    }
+    let mut out: Vec<RosterEntry> = Vec::new();
+    for (at, line) in lines {
+        let ln = at + 1;
+        let cells: Vec<&str> = line.split(',').map(str::trim).collect();
+        if cells.len() != header.len() {
+            return Err(cx.err(Some(ln), None, format!("{} cells for {} columns; every row needs one cell per header column (no commas inside values)", cells.len(), header.len())));
+        }
+        let cell = |k: usize| index[k].map(|i| cells[i]).filter(|c| !c.is_empty());
+        let num = |k: usize| -> Result<Option<f64>, Error> {
+            let (n, _, range) = COLUMNS[k];
+            let Some(c) = cell(k) else { return Ok(None) };
+            let (lo, hi, unit) = range.expect("a numeric column");
+            let x: f64 = c.parse().map_err(|_| {
+                cx.err(
+                    Some(ln),
+                    Some(n),
+                    format!("value \"{c}\" is not a number; allowed {lo} to {hi}{unit}"),
+                )
+            })?;
+            if n == "height_cm" && (1.2..=2.3).contains(&x) {
+                return Err(cx.err(Some(ln), Some(n), format!("value {c} looks like metres; give the height in centimetres (e.g. {:.0}); allowed 120 to 230 cm", x * 100.0)));
+            }
+            if n == "body_fat_percent" && x > 0.0 && x < 1.0 {
+                return Err(cx.err(Some(ln), Some(n), format!("value {c} looks like a fraction; give a percent (e.g. {:.0}); allowed 3 to 70", x * 100.0)));
+            }
+            if !x.is_finite() || x < lo || x > hi {
+                return Err(cx.err(
+                    Some(ln),
+                    Some(n),
+                    format!("value {c} is out of range; allowed {lo} to {hi}{unit}"),
+                ));
+            }
+            Ok(Some(x))
+        };
+        let id = cell(0).ok_or_else(|| {
+            cx.err(
+                Some(ln),
+                Some("id"),
+                "empty; give a pseudonymous code such as \"R-104\"".to_string(),
+            )
+        })?;
+        if let Some(first) = out.iter().find(|e| e.participant.id == id) {
+            return Err(cx.err(
+                Some(ln),
+                Some("id"),
+                format!(
+                    "\"{id}\" is already used on line {}; codes must be unique",
+                    first.line
+                ),
+            ));
+        }
+        let sex = match cell(1) {
+            Some("female") => Sex::Female,
+            Some("male") => Sex::Male,
+            Some(other) => {
+                return Err(cx.err(
+                    Some(ln),
+                    Some("sex"),
+                    format!("unknown value \"{other}\"; allowed female, male"),
+                ));
+            }
+            None => {
+                return Err(cx.err(
+                    Some(ln),
+                    Some("sex"),
+                    "empty; allowed female, male".to_string(),
+                ));
+            }
+        };
+        let need = |k: usize| -> Result<f64, Error> {
+            num(k)?.ok_or_else(|| {
+                let (n, _, r) = COLUMNS[k];
+                let (lo, hi, unit) = r.expect("numeric");
+                cx.err(
+                    Some(ln),
+                    Some(n),
+                    format!("empty; allowed {lo} to {hi}{unit}"),
+                )
+            })
+        };
+        let (age, height, mass) = (need(2)?, need(3)?, need(4)?);
+        let bmi = crate::model::composition::bmi(mass, height);
+        if !(13.0..=80.0).contains(&bmi) {
+            return Err(cx.err(Some(ln), Some("mass_kg"), format!("value {mass} with height {height} cm gives BMI {bmi:.1}, outside the allowed 13 to 80 kg/m^2; check the units (kg, cm; a mass in pounds must be converted)")));
+        }
+        let flag = |k: usize| -> Result<Option<bool>, Error> {
+            match cell(k) {
+                None => Ok(None),
+                Some("true") => Ok(Some(true)),
+                Some("false") => Ok(Some(false)),
+                Some(other) => Err(cx.err(
+                    Some(ln),
+                    Some(COLUMNS[k].0),
+                    format!("unknown value \"{other}\"; allowed true, false"),
+                )),
+            }
+        };
+        let answers = [flag(9)?, flag(10)?, flag(11)?];
+        let screening = match answers {
+            [Some(a), Some(b), Some(c)] => Some(Screening {
+                exercises_regularly: a,
+                known_disease: b,
+                signs_or_symptoms: c,
+                medical_clearance: flag(12)?.unwrap_or(false),
+            }),
+            [None, None, None] => None,
+            _ => {
+                let missing = (9..12)
+                    .find(|k| answers[k - 9].is_none())
+                    .expect("one is missing");
+                return Err(cx.err(Some(ln), Some(COLUMNS[missing].0), "empty while other screening answers are given; answer all three (true or false) or none".to_string()));
+            }
+        };
+        let arm = match cell(13) {
+            None => None,
+            Some(a) => Some(study.arm_index(a).ok_or_else(|| {
+                cx.err(
+                    Some(ln),
+                    Some("arm"),
+                    format!(
+                        "unknown arm \"{a}\"; the study's arms are {}",
+                        study
+                            .arms
+                            .iter()
+                            .map(|a| format!("\"{}\"", a.name))
+                            .collect::<Vec<_>>()
+                            .join(", ")
+                    ),
+                )
+            })?),
+        };
+        let subject = Subject {
+            sex,
+            age_years: age,
+            height_cm: height,
+            mass_kg: mass,
+            body_fat_percent: num(5)?,
+            rmr_kcal_per_day: num(6)?,
+            intake_kcal_per_day: num(7)?,
+            pal: num(8)?,
+        };
+        check_calibrates(&subject, study).map_err(|(col, msg)| {
+            cx.err(Some(ln), Some(col), format!("participant \"{id}\": {msg}"))
+        })?;
+        out.push(RosterEntry {
+            line: ln,
+            participant: Participant {
+                id: id.to_string(),
+                subject,
+                screening,
+                fitness: None,
+            },
+            arm,
+        });
+    }
+    if out.is_empty() {
+        return Err(cx.err(
+            None,
+            None,
+            "the roster has a header but no participants; add one row per participant".to_string(),
+        ));
+    }
+    let with_arm = out.iter().filter(|e| e.arm.is_some()).count();
+    if with_arm > 0 && with_arm < out.len() {
+        let e = out
+            .iter()
+            .find(|e| e.arm.is_none())
+            .expect("some row has no arm");
+        return Err(cx.err(Some(e.line), Some("arm"), "empty while other rows give an arm; give every participant an arm, or leave the column empty everywhere and use --randomise".to_string()));
+    }
+    Ok(out)
+}
+
+fn required_header() -> String {
+    COLUMNS
+        .iter()
+        .filter(|c| c.1)
+        .map(|c| c.0)
+        .collect::<Vec<_>>()
+        .join(",")
+}
+
+/// Calibrate a participant with the study's model; on failure the column to blame
+/// and what is wrong. Also every activity must cost more than rest at baseline.
+pub(crate) fn check_calibrates(
+    subject: &Subject,
+    study: &Study,
+) -> Result<(), (&'static str, String)> {
+    let (baseline, physiology) = calibrate(subject, &study.constants).map_err(|e| match e {
+        CalibrationError::PalTooLow { activity_kcal_per_day, pal, minimum_pal } => (
+            if subject.pal.is_some() { "pal" } else { "intake_kcal_per_day" },
+            format!("PAL {pal:.2} leaves {activity_kcal_per_day:.0} kcal/day for non-exercise activity after the thermic effect of food; allowed a PAL above {minimum_pal:.2}"),
+        ),
+        CalibrationError::EstimatedFatOutOfRange(p) => (
+            "body_fat_percent",
+            format!("body fat estimated from BMI (Deurenberg 1991) is {p:.1}%, outside 3 to 70%; give a measured body_fat_percent"),
+        ),
+    })?;
+    for a in std::iter::once(&study.activity).chain(study.rotation.iter().map(|r| &r.activity)) {
+        let met = a.intensity.met_at(baseline.mass_kg);
+        if physiology.net_kcal_per_min(met, baseline.mass_kg, baseline.rmr_kcal_per_day) <= 0.0 {
+            return Err((
+                "mass_kg",
+                format!(
+                    "\"{}\" at {met:.2} MET costs no more than rest for this participant; the study's activity is too light",
+                    a.label
+                ),
+            ));
+        }
+    }
+    Ok(())
+}
