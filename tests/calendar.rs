@@ -451,6 +451,17 @@ fn the_example_plan_gives_one_timed_event_per_session() {
             "no event on {closed}"
         );
     }
+    // The week's other sessions carry the make-up note.
+    for e in cal.events() {
+        let start = &e.one("DTSTART").raw;
+        if start.starts_with("20270322") || start.starts_with("20270324") {
+            assert!(
+                e.text("DESCRIPTION")
+                    .contains("Closures this week: 1 session(s) closed"),
+                "{start}"
+            );
+        }
+    }
     // Warm-up and cool-down are in each session: 5 + at target + 5 minutes.
     assert!(sessions.iter().all(|s| s.session_minutes == s.minutes + 10));
 }
