@@ -890,3 +890,22 @@ fn python_icalendar_reads_the_calendars() {
     }
     assert!(Path::new(&script).exists());
 }
+
+#[test]
+fn snapshot_of_a_week_with_closures() {
+    // Week 4 of the example plan: Good Friday closed, its energy spread over Monday
+    // and Wednesday. Line ends shown as LF here; CRLF is checked above.
+    let dir = with_plan(EX206, "ex-206-rotation-heart-rate.toml");
+    let bytes = calendar(
+        &dir,
+        &[
+            "ex-206-rotation-heart-rate.toml",
+            "--from",
+            "2027-03-22",
+            "--to",
+            "2027-03-28",
+        ],
+    );
+    let text = String::from_utf8(bytes).unwrap().replace("\r\n", "\n");
+    insta::assert_snapshot!("ex206_week_4", text);
+}

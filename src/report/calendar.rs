@@ -161,8 +161,9 @@ pub fn check_times(plan: &SessionPlan, settings: &CalendarSettings) -> Result<()
             message,
         })
     };
-    let sessions = || plan.weeks.iter().flat_map(|w| w.sessions.iter());
-    for second in sessions().filter(|s| s.bout == Some(2)) {
+    let sessions: Vec<&PlannedSession> =
+        plan.weeks.iter().flat_map(|w| w.sessions.iter()).collect();
+    for second in sessions.iter().filter(|s| s.bout == Some(2)) {
         let When::Timed(start2, _) = when(second, settings) else {
             return Ok(());
         };
@@ -175,9 +176,15 @@ pub fn check_times(plan: &SessionPlan, settings: &CalendarSettings) -> Result<()
                 ),
             ));
         }
-        let first = sessions().find(|s| s.date == second.date && s.bout == Some(1));
-        if let Some(first) = first
-            && let When::Timed(start1, end1) = when(first, settings)
+    }
+    // Sessions are in date order, so a first bout comes just before its second.
+    for pair in sessions.windows(2) {
+        let (first, second) = (pair[0], pair[1]);
+        if first.bout != Some(1) || second.bout != Some(2) || first.date != second.date {
+            continue;
+        }
+        if let (When::Timed(start1, end1), When::Timed(start2, _)) =
+            (when(first, settings), when(second, settings))
             && end1 > start2
         {
             return Err(err(
