@@ -1701,7 +1701,8 @@ fn assert_schedule_contract(j: &Value, shape: &Shape) {
                 assert!(sessions.is_empty(), "follow-up week {n}: no sessions");
             }
             let mut prev = None;
-            let mut per_date: std::collections::BTreeMap<chrono::NaiveDate, u64> =
+            // Minutes and activity (index into the plan's activities) of each date.
+            let mut per_date: std::collections::BTreeMap<chrono::NaiveDate, (u64, u64)> =
                 Default::default();
             for x in sessions {
                 let d = date(text(x, "date"));
@@ -1719,14 +1720,34 @@ fn assert_schedule_contract(j: &Value, shape: &Shape) {
                     .as_u64()
                     .unwrap_or_else(|| panic!("minutes is a whole number: {x}"));
                 assert!(m > 0);
-                *per_date.entry(d).or_default() += m;
+                let activity = x["activity_index"].as_u64().expect("activity_index");
+                let entry = per_date.entry(d).or_insert((0, activity));
+                assert_eq!(entry.1, activity, "{d}: one activity a date");
+                entry.0 += m;
                 assert!(num(x, "met") > 1.0);
                 let gross = num(x, "gross_kcal");
                 let net = num(x, "net_kcal");
                 assert!(gross > net && net > 0.0, "gross {gross} > net {net} > 0");
             }
-            for (d, m) in &per_date {
-                assert_eq!(*m, mps, "minutes on {d} add up to minutes_per_session");
+            // minutes_per_session is the longest session of the week; the dates of one
+            // activity share one length (with a rotation each activity has its own).
+            let mut lengths: std::collections::BTreeMap<u64, BTreeSet<u64>> = Default::default();
+            for (d, (m, activity)) in &per_date {
+                assert!(*m <= mps, "minutes on {d} within minutes_per_session");
+                lengths.entry(*activity).or_default().insert(*m);
+            }
+            for (activity, ms) in &lengths {
+                assert_eq!(
+                    ms.len(),
+                    1,
+                    "week {n}: activity {activity} has one length: {ms:?}"
+                );
+            }
+            if let Some(longest) = per_date.values().map(|(m, _)| *m).max() {
+                assert_eq!(
+                    longest, mps,
+                    "week {n}: the longest date is minutes_per_session"
+                );
             }
             if let (Some(k), true) = (shape.sessions_per_week, n <= shape.weeks) {
                 assert_eq!(per_date.len(), k, "session dates in week {n}");
