@@ -124,7 +124,7 @@ pub enum LogAction {
     },
 }
 
-/// The optional participant log of `schedule`, `compare` and `goal`.
+/// The optional participant log of `schedule`, `calendar`, `compare` and `goal`.
 #[derive(Debug, Clone, Args)]
 pub struct LogArgs {
     /// A participant log (CSV): re-plan from its weigh-ins and delivered sessions.
@@ -262,6 +262,29 @@ pub enum Command {
         /// Display units.
         #[command(flatten)]
         display: DisplayArgs,
+    },
+    /// Write the planned sessions as an iCalendar file (.ics), one event per session or bout.
+    Calendar {
+        /// The plan file (TOML). Without one, a built-in demo plan runs.
+        plan: Option<PathBuf>,
+        /// Whose sessions the calendar holds (default: the first scenario).
+        #[arg(long)]
+        scenario: Option<String>,
+        /// The calendar file to write (atomically), e.g. sessions.ics.
+        #[arg(long, value_name = "FILE")]
+        out: PathBuf,
+        /// DTSTAMP of every event, RFC 3339 in UTC or with an offset (default: the protocol start, 00:00 UTC).
+        #[arg(long, value_name = "DATETIME")]
+        stamp: Option<String>,
+        /// Only sessions on or after this date (YYYY-MM-DD).
+        #[arg(long, value_name = "DATE")]
+        from: Option<NaiveDate>,
+        /// Only sessions on or before this date (YYYY-MM-DD).
+        #[arg(long, value_name = "DATE")]
+        to: Option<NaiveDate>,
+        /// The participant log to re-plan from.
+        #[command(flatten)]
+        logged: LogArgs,
     },
     /// Compare every scenario side by side at checkpoint weeks, optionally for several doses.
     Compare {

@@ -373,6 +373,156 @@ fn usage_cases() -> Vec<Case> {
                 "error: null.txt: not a regular file (a folder, device or pipe); refusing to replace it, choose a file path",
             ),
         ),
+        // calendar
+        case(
+            "calendar_without_out",
+            &["calendar", "plan.toml"],
+            Clap(&[
+                "the following required arguments were not provided",
+                "--out <FILE>",
+            ]),
+        ),
+        case(
+            "calendar_missing_plan_file",
+            &["calendar", "missing.toml", "--out", "cal.ics"],
+            Exact("error: missing.toml: cannot read: no such file"),
+        ),
+        case(
+            "calendar_stamp_not_a_date_time",
+            &[
+                "calendar",
+                "plan.toml",
+                "--out",
+                "cal.ics",
+                "--stamp",
+                "yesterday",
+            ],
+            Exact(
+                "error: --stamp yesterday: not a date-time; give an RFC 3339 date-time such as 2027-03-01T08:00:00Z (or with an offset, 2027-03-01T09:00:00+01:00)",
+            ),
+        ),
+        case(
+            "calendar_stamp_a_date_only",
+            &[
+                "calendar",
+                "plan.toml",
+                "--out",
+                "cal.ics",
+                "--stamp",
+                "2027-01-11",
+            ],
+            Exact(
+                "error: --stamp 2027-01-11: not a date-time; give an RFC 3339 date-time such as 2027-03-01T08:00:00Z (or with an offset, 2027-03-01T09:00:00+01:00)",
+            ),
+        ),
+        case(
+            "calendar_stamp_without_a_value",
+            &["calendar", "plan.toml", "--out", "cal.ics", "--stamp"],
+            Clap(&["error: a value is required for '--stamp <DATETIME>' but none was supplied"]),
+        ),
+        case(
+            "calendar_from_after_to",
+            &[
+                "calendar",
+                "plan.toml",
+                "--out",
+                "cal.ics",
+                "--from",
+                "2027-03-01",
+                "--to",
+                "2027-02-01",
+            ],
+            Exact(
+                "error: --from 2027-03-01 is after --to 2027-02-01; give a span that runs forward",
+            ),
+        ),
+        case(
+            "calendar_from_not_a_date",
+            &[
+                "calendar",
+                "plan.toml",
+                "--out",
+                "cal.ics",
+                "--from",
+                "2027-02-30",
+            ],
+            Clap(&["error: invalid value '2027-02-30' for '--from <DATE>'"]),
+        ),
+        case(
+            "calendar_no_session_in_the_span",
+            &[
+                "calendar",
+                "plan.toml",
+                "--out",
+                "cal.ics",
+                "--from",
+                "2027-07-01",
+            ],
+            Exact(
+                "error: no planned session on or after 2027-07-01 to put in a calendar; the plan's sessions run from 2027-01-11 to 2027-06-25",
+            ),
+        ),
+        case(
+            "calendar_unknown_scenario",
+            &[
+                "calendar",
+                "plan.toml",
+                "--out",
+                "cal.ics",
+                "--scenario",
+                "nobody",
+            ],
+            Exact(
+                "error: --scenario: no scenario named \"nobody\" in plan.toml; the plan has \"as prescribed\", \"eats back 40%\", \"mixed compensation\"",
+            ),
+        ),
+        case(
+            "calendar_as_of_without_log",
+            &[
+                "calendar",
+                "plan.toml",
+                "--out",
+                "cal.ics",
+                "--as-of",
+                "2027-02-01",
+            ],
+            Clap(&[
+                "the following required arguments were not provided",
+                "--log <FILE>",
+            ]),
+        ),
+        case(
+            "calendar_out_names_the_plan",
+            &["calendar", "plan.toml", "--out", "plan.toml"],
+            Exact("error: --out plan.toml: that is an input file; refusing to overwrite it"),
+        ),
+        case(
+            "calendar_out_names_the_log",
+            &[
+                "calendar",
+                "plan.toml",
+                "--log",
+                "log.csv",
+                "--out",
+                "log.csv",
+            ],
+            Exact("error: --out log.csv: that is an input file; refusing to overwrite it"),
+        ),
+        prepared(
+            "calendar_out_names_a_folder",
+            &[Prep::Dir("cal.ics")],
+            &["calendar", "plan.toml", "--out", "cal.ics"],
+            Exact(
+                "error: cal.ics: not a regular file (a folder, device or pipe); refusing to replace it, choose a file path",
+            ),
+        ),
+        case(
+            "calendar_out_into_a_missing_folder",
+            &["calendar", "plan.toml", "--out", "nodir/cal.ics"],
+            Exact(
+                "error: nodir/cal.ics: the folder nodir does not exist; create it first or choose another path",
+            ),
+        ),
         // compare
         case(
             "compare_without_a_plan",
@@ -1342,6 +1492,18 @@ fn writers() -> Vec<Writer> {
             files: &["out.csv"],
         },
         Writer {
+            name: "calendar --out",
+            args: &[
+                "calendar",
+                "plan.toml",
+                "--log",
+                "log.csv",
+                "--out",
+                "out.ics",
+            ],
+            files: &["out.ics"],
+        },
+        Writer {
             name: "compare --out",
             args: &[
                 "compare",
@@ -1525,6 +1687,23 @@ fn a_failed_run_leaves_earlier_outputs_byte_identical() {
             "error: bad.csv:44:3: mass_kg: value 10400 is out of range; allowed 30 to 350 kg",
         ),
         (
+            "calendar, bad plan",
+            &["calendar", "bad.toml", "--out", "out.txt"],
+            "error: bad.toml:10:11: participant.mass_kg: value 3000 is out of range; allowed 30 to 350 kg",
+        ),
+        (
+            "calendar, bad log row",
+            &[
+                "calendar",
+                "plan.toml",
+                "--log",
+                "bad.csv",
+                "--out",
+                "out.txt",
+            ],
+            "error: bad.csv:44:3: mass_kg: value 10400 is out of range; allowed 30 to 350 kg",
+        ),
+        (
             "compare, bad plan",
             &[
                 "compare", "bad.toml", "--out", "out.txt", "--chart", "charts",
@@ -1691,6 +1870,12 @@ fn a_read_only_folder_leaves_earlier_files_byte_identical() {
             "out/out.txt",
         ),
         (
+            "calendar --out",
+            &["calendar", "plan.toml", "--out", "out/out.txt"],
+            "out",
+            "out/out.txt",
+        ),
+        (
             "compare --out",
             &[
                 "compare",
@@ -1838,6 +2023,7 @@ fn a_temporary_file_that_cannot_be_made_leaves_the_earlier_file_alone() {
     }
     for args in [
         &["schedule", "plan.toml", "--out"][..],
+        &["calendar", "plan.toml", "--out"][..],
         &["compare", "plan.toml", "--format", "json", "--out"][..],
         &[
             "goal",
@@ -2018,6 +2204,36 @@ fn outputs() -> Vec<OutputRun> {
                 "json",
                 "--out",
                 "s.json",
+            ],
+        ),
+        (
+            "calendar",
+            &[("calendar", "")],
+            vec![
+                "calendar",
+                "plan.toml",
+                "--log",
+                "log.csv",
+                "--out",
+                "cal.ics",
+            ],
+        ),
+        (
+            "calendar of a part, another scenario and stamp",
+            &[],
+            vec![
+                "calendar",
+                "plan.toml",
+                "--scenario",
+                "eats back 40%",
+                "--from",
+                "2027-02-01",
+                "--to",
+                "2027-03-01",
+                "--stamp",
+                "2027-01-05T10:00:00+02:00",
+                "--out",
+                "part.ics",
             ],
         ),
         (
@@ -2453,6 +2669,27 @@ const AUDIT: &[Audited] = &[
         Screen::Outcome,
     ),
     audited(
+        "calendar",
+        ("calendar", ""),
+        &["calendar", "plan.toml", "--out", "cal.ics"],
+        Where::File("cal.ics"),
+        Screen::Outcome,
+    ),
+    audited(
+        "calendar with a log",
+        ("calendar", ""),
+        &[
+            "calendar",
+            "plan.toml",
+            "--log",
+            "log.csv",
+            "--out",
+            "cal.ics",
+        ],
+        Where::File("cal.ics"),
+        Screen::Outcome,
+    ),
+    audited(
         "compare table",
         ("compare", "table"),
         &["compare", "plan.toml", "--doses", "6,12"],
@@ -2794,6 +3031,27 @@ fn svg_text(svg: &str) -> String {
     parts.join(" ")
 }
 
+/// The text of an iCalendar file as a reader sees it: lines unfolded (RFC 5545 3.1,
+/// CRLF and one blank removed) and TEXT unescaped (3.3.11), so a folded or escaped
+/// caution still reads whole.
+fn ics_text(ics: &str) -> String {
+    let unfolded = ics.replace("\r\n ", "").replace("\r\n\t", "");
+    let mut out = String::with_capacity(unfolded.len());
+    let mut chars = unfolded.chars();
+    while let Some(c) = chars.next() {
+        if c != '\\' {
+            out.push(c);
+            continue;
+        }
+        match chars.next() {
+            Some('n' | 'N') => out.push('\n'),
+            Some(e) => out.push(e),
+            None => {}
+        }
+    }
+    out
+}
+
 /// The audit's checks: (concept, does `text` show it). `outcome` is the plan's
 /// screening recommendation.
 fn missing_concepts(text: &str, screen: Screen, outcome: &str) -> Vec<&'static str> {
@@ -2839,7 +3097,13 @@ fn audited_text(a: &Audited, plan: &str) -> String {
         Where::File(f) => {
             let t = std::fs::read_to_string(dir.path().join(f))
                 .unwrap_or_else(|e| panic!("{}: {f}: {e}", a.name));
-            if f.ends_with(".svg") { svg_text(&t) } else { t }
+            if f.ends_with(".svg") {
+                svg_text(&t)
+            } else if f.ends_with(".ics") {
+                ics_text(&t)
+            } else {
+                t
+            }
         }
     }
 }

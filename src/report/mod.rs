@@ -2,6 +2,7 @@
 //! report. Renderers never call back into the simulation.
 
 pub mod activities;
+pub mod calendar;
 pub mod chart;
 pub mod check;
 pub mod cohort;

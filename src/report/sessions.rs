@@ -44,6 +44,8 @@ pub struct PlannedSession {
     pub energy_kcal: f64,
     /// Gross energy of the whole session, kcal.
     pub gross_kcal: f64,
+    /// Net energy of the whole session (above rest, `model.rest_for_net`), kcal.
+    pub net_kcal: f64,
     /// The relative targets at the week's reference mass.
     pub targets: RelativeTargets,
 }
@@ -118,6 +120,7 @@ pub fn session_plan(plan: &Plan, run: &ScenarioRun) -> SessionPlan {
                         EnergyBasis::Net => s.net_kcal,
                     },
                     gross_kcal: s.gross_kcal,
+                    net_kcal: s.net_kcal,
                     targets: relative_targets(s.met, w.reference_mass_kg, age, fitness),
                 });
             }

@@ -1,0 +1,116 @@
+#!/usr/bin/python3
+"""Check a dosewright calendar with the Python icalendar package (Debian
+python3-icalendar), a reader independent of the Rust crate that wrote it.
+
+Usage: check-ics.py CALENDAR.ics SCHEDULE.json [SCENARIO]
+
+SCHEDULE.json is `dosewright schedule PLAN --format json` of the same plan (and log);
+SCENARIO is the name given to `calendar --scenario` (default: the first scenario).
+Checks (RFC 5545): VERSION 2.0 and PRODID once each (3.6); every VEVENT has UID,
+DTSTAMP (in UTC, 3.8.7.2), DTSTART and DTEND (3.6.1) and reads without errors; UIDs
+are unique (3.8.4.7); one event per planned session, in date order; a timed event
+lasts the whole session, an all-day event one day (DTEND exclusive, 3.8.2.2).
+Prints "check-ics: ... ok" and exits 0, or lists the problems and exits 1.
+"""
+
+import datetime
+import json
+import sys
+
+import icalendar
+
+
+def planned_sessions(schedule, name):
+    scenarios = schedule["scenarios"]
+    if name is None:
+        scenario = scenarios[0]
+    else:
+        matching = [s for s in scenarios if s["name"] == name]
+        if not matching:
+            sys.exit("check-ics: no scenario named %r in the schedule" % name)
+        scenario = matching[0]
+    return [
+        s
+        for w in scenario["weeks"]
+        if w["phase"] == "protocol"
+        for s in w["sessions"]
+    ]
+
+
+def main(argv):
+    if len(argv) not in (3, 4):
+        sys.exit(__doc__)
+    with open(argv[1], "rb") as f:
+        data = f.read()
+    with open(argv[2], encoding="utf-8") as f:
+        schedule = json.load(f)
+    sessions = planned_sessions(schedule, argv[3] if len(argv) == 4 else None)
+
+    problems = []
+    cal = icalendar.Calendar.from_ical(data)
+    for key in ("VERSION", "PRODID"):
+        # A repeated property reads as a list.
+        if cal.get(key) is None or isinstance(cal.get(key), list):
+            problems.append("%s is not there exactly once" % key)
+    if str(cal.get("VERSION")) != "2.0":
+        problems.append("VERSION is %r, not 2.0" % cal.get("VERSION"))
+    events = cal.walk("VEVENT")
+    uids = set()
+    stamps = set()
+    for i, ev in enumerate(events):
+        uid = str(ev.get("UID", ""))
+        label = uid or "event %d" % (i + 1)
+        if getattr(ev, "errors", None):
+            problems.append("%s: read with errors %r" % (label, ev.errors))
+        for key in ("UID", "DTSTAMP", "DTSTART", "DTEND"):
+            if key not in ev:
+                problems.append("%s: no %s" % (label, key))
+        if uid in uids:
+            problems.append("%s: UID twice" % label)
+        uids.add(uid)
+        if "DTSTAMP" in ev:
+            stamp = ev.decoded("DTSTAMP")
+            if stamp.utcoffset() != datetime.timedelta(0):
+                problems.append("%s: DTSTAMP not in UTC" % label)
+            stamps.add(stamp)
+    if len(stamps) > 1:
+        problems.append("more than one DTSTAMP: %s" % sorted(stamps))
+
+    if len(events) != len(sessions):
+        problems.append(
+            "%d events for %d planned sessions" % (len(events), len(sessions))
+        )
+    for ev, s in zip(events, sessions):
+        if "DTSTART" not in ev or "DTEND" not in ev:
+            continue
+        start, end = ev.decoded("DTSTART"), ev.decoded("DTEND")
+        label = str(ev.get("UID"))
+        if isinstance(start, datetime.datetime):
+            if start.date().isoformat() != s["date"]:
+                problems.append("%s: starts %s, session on %s" % (label, start, s["date"]))
+            minutes = (end - start).total_seconds() / 60
+            if minutes != s["session_minutes"]:
+                problems.append(
+                    "%s: lasts %g min, session %d min"
+                    % (label, minutes, s["session_minutes"])
+                )
+        else:
+            if start.isoformat() != s["date"]:
+                problems.append("%s: on %s, session on %s" % (label, start, s["date"]))
+            if end - start != datetime.timedelta(days=1):
+                problems.append("%s: all-day event of %s" % (label, end - start))
+
+    if problems:
+        print("check-ics: %s: %d problem(s)" % (argv[1], len(problems)))
+        for p in problems:
+            print("  - " + p)
+        return 1
+    print(
+        "check-ics: %s: %d events for %d planned sessions, unique UIDs, durations match: ok"
+        % (argv[1], len(events), len(sessions))
+    )
+    return 0
+
+
+if __name__ == "__main__":
+    sys.exit(main(sys.argv))
