@@ -10,6 +10,7 @@ pub mod fit;
 pub mod goal;
 pub mod json;
 pub mod sessions;
+pub mod sheets;
 pub mod table;
 
 use crate::error::Error;
