@@ -54,9 +54,10 @@ fn example() -> Option<(&'static str, &'static str)> {
     Some((EXAMPLE_NAME, EXAMPLE))
 }
 
-/// The pages of an HTML file (the text after each `<section class="sheet">`).
+/// The pages of an HTML file (the text after each `<section class="sheet` or
+/// `"sheet dense">`).
 fn pages(html: &str) -> Vec<&str> {
-    html.split("<section class=\"sheet\">").skip(1).collect()
+    html.split("<section class=\"sheet").skip(1).collect()
 }
 
 /// The blocks of a text file (one per page).
@@ -352,6 +353,12 @@ fn split_bouts_share_their_prescription_and_get_a_line_each() {
         5
     );
     assert_eq!(h.matches("<span class=\"label\">bout 2</span>").count(), 5);
+    // Five rows make a dense page (smaller type) so that the week fits one page
+    // (scripts/check-sheets-pdf prints it); three rows do not.
+    assert!(h.contains("<section class=\"sheet dense\">"));
+    let normal = html_of(example(), &["--week", "4"]);
+    assert!(normal.contains("<section class=\"sheet\">"));
+    assert!(!normal.contains("sheet dense\""));
 }
 
 #[test]

@@ -378,6 +378,13 @@ th { background: #ececec; font-size: 8pt; font-weight: 600; overflow-wrap: norma
 h2 { font-size: 9.5pt; margin: 0 0 1mm; }
 .cautions ul { margin: 0; padding-left: 4mm; }
 .cautions li { margin-bottom: 0.6mm; font-size: 8pt; }
+.dense .facts p, .dense .notes p { font-size: 8pt; margin-bottom: 0.5mm; }
+.dense .sessions td { font-size: 7.5pt; line-height: 1.15; padding: 0.6mm 1mm; }
+.dense .sessions td.rec { height: 9mm; }
+.dense .sessions tbody.group td.rec { height: 6mm; }
+.dense .box { margin-top: 2mm; padding: 1mm 2mm; }
+.dense .notes-box { min-height: 8mm; }
+.dense .cautions li { font-size: 7.5pt; margin-bottom: 0.3mm; }
 "#;
 
 /// Self-contained HTML: one page (`<section class="sheet">`) per participant and
@@ -480,11 +487,18 @@ fn html_sessions(h: &mut String, group: &[&PlannedSession]) {
     h.push_str("</tbody>\n");
 }
 
+/// More table rows than this make a page dense (smaller type, less padding), so that
+/// a week of seven days with two bouts each still fits one page.
+const DENSE_ROWS: usize = 4;
+
 fn html_page(h: &mut String, input: &SheetInput, w: &PlannedWeek) {
     let e = escape;
+    let rows = rows(w);
+    let dense = rows.len() > DENSE_ROWS;
+    let class = if dense { "sheet dense" } else { "sheet" };
     let _ = write!(
         h,
-        "<section class=\"sheet\">\n<header><div><div class=\"kind\">Session sheet</div><h1>{}, week {} of {}</h1></div><div class=\"dates\">{}</div></header>\n<div class=\"facts\">\n<p>{}</p>\n<p>{}</p>\n<p>{}</p>\n</div>\n",
+        "<section class=\"{class}\">\n<header><div><div class=\"kind\">Session sheet</div><h1>{}, week {} of {}</h1></div><div class=\"dates\">{}</div></header>\n<div class=\"facts\">\n<p>{}</p>\n<p>{}</p>\n<p>{}</p>\n</div>\n",
         e(&input.sessions.participant_id),
         w.week,
         input.sessions.weeks.len(),
@@ -496,13 +510,23 @@ fn html_page(h: &mut String, input: &SheetInput, w: &PlannedWeek) {
     if let Some(c) = clearance_words(&input.screening) {
         let _ = writeln!(h, "<p class=\"alert\">{}</p>", e(c));
     }
+    // Column widths, percent; a dense page gives the session column more, so that its
+    // lines do not wrap in the smaller type.
+    let widths: [&str; 9] = if dense {
+        ["10", "13", "22", "5.5", "25.5", "5.5", "6", "5.5", "7"]
+    } else {
+        ["11.5", "16", "17", "5.5", "26", "5.5", "6", "5.5", "7"]
+    };
+    h.push_str("<table class=\"sessions\">\n<colgroup>");
+    for width in widths {
+        let _ = write!(h, "<col style=\"width:{width}%\">");
+    }
     h.push_str(concat!(
-        "<table class=\"sessions\">\n<colgroup><col style=\"width:11.5%\"><col style=\"width:16%\"><col style=\"width:17%\"><col style=\"width:5.5%\"><col style=\"width:26%\">",
-        "<col style=\"width:5.5%\"><col style=\"width:6%\"><col style=\"width:5.5%\"><col style=\"width:7%\"></colgroup>\n",
+        "</colgroup>\n",
         "<thead><tr><th rowspan=\"2\">Date</th><th rowspan=\"2\">Activity and intensity</th><th rowspan=\"2\">Session</th><th rowspan=\"2\">kcal</th><th rowspan=\"2\">Targets</th><th class=\"rec\" colspan=\"4\">Delivered (fill in)</th></tr>\n",
         "<tr><th class=\"rec\">min</th><th class=\"rec\">avg HR</th><th class=\"rec\">RPE</th><th class=\"rec\">initials</th></tr></thead>\n",
     ));
-    for row in rows(w) {
+    for row in rows {
         match row {
             Row::Sessions(group) => html_sessions(h, &group),
             Row::Closed(d) => {
