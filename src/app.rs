@@ -3,7 +3,7 @@
 use crate::activity::compendium;
 use crate::cli::{
     Command, CompareFormat, DisplayArgs, EnergyArg, FitParameterArg, FormatArg, GoalFormat,
-    LogAction, LogArgs, UnitsArg,
+    LogAction, LogArgs, PaperArg, SheetsFormat, UnitsArg,
 };
 use crate::error::Error;
 use crate::files::{check_target, refuse_overwriting_inputs, write_atomic};
@@ -187,6 +187,82 @@ pub fn calendar_file(
         span,
         warnings: r.warnings,
     })
+}
+
+/// Which protocol weeks `sheets` prints.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum WeekSelection {
+    /// One protocol week.
+    Week(u32),
+    /// Every protocol week that overlaps the two dates (both included).
+    Dates(NaiveDate, NaiveDate),
+}
+
+/// The protocol (exercise) weeks a selection names, in order. A week outside the
+/// protocol, a start date after the end date, or dates that no protocol week
+/// overlaps are usage errors. Needs only the plan, so it runs before the simulation.
+pub fn sheet_weeks(plan: &Plan, selection: WeekSelection) -> Result<Vec<u32>, Error> {
+    let p = &plan.protocol;
+    let week_start = |w: u32| p.start + chrono::Days::new(7 * u64::from(w - 1));
+    let day = |d: NaiveDate| d.format("%a %Y-%m-%d");
+    match selection {
+        WeekSelection::Week(n) if (1..=p.weeks).contains(&n) => Ok(vec![n]),
+        WeekSelection::Week(n) => {
+            let what = if n > p.weeks && n <= p.total_weeks() {
+                "a follow-up week, with no sessions"
+            } else {
+                "not a week of the protocol"
+            };
+            Err(Error::Usage(format!(
+                "--week {n}: {what}; allowed 1 to {} (the exercise weeks of {})",
+                p.weeks, plan.source_name
+            )))
+        }
+        WeekSelection::Dates(from, to) if from > to => Err(dates_upside_down(from, to)),
+        WeekSelection::Dates(from, to) => {
+            let weeks: Vec<u32> = (1..=p.weeks)
+                .filter(|&w| week_start(w) <= to && week_start(w) + chrono::Days::new(6) >= from)
+                .collect();
+            if weeks.is_empty() {
+                return Err(Error::Usage(format!(
+                    "--from {from} --to {to}: no exercise week overlaps these dates; the exercise weeks of {} run from {} (week 1) to {} (week {})",
+                    plan.source_name,
+                    day(p.start),
+                    day(week_start(p.weeks) + chrono::Days::new(6)),
+                    p.weeks
+                )));
+            }
+            Ok(weeks)
+        }
+    }
+}
+
+fn dates_upside_down(from: NaiveDate, to: NaiveDate) -> Error {
+    Error::Usage(format!(
+        "--from {from} is after --to {to}; give the earlier date with --from"
+    ))
+}
+
+/// One participant's sheets: the planned sessions of `scenario` (default the first),
+/// re-planned from the log when there is one, for `weeks`, with the screening
+/// outcome; and the warnings the plan and the log earn.
+pub fn sheet_input(
+    plan: &Plan,
+    log: &LogInput,
+    scenario: Option<&str>,
+    weeks: Vec<u32>,
+) -> Result<(report::sheets::SheetInput, Vec<Warning>), Error> {
+    let sim = simulate_observed(plan, log.observed.as_ref())?;
+    let mut r = ScheduleReport::new(plan, sim);
+    r.warnings.extend(log.warnings.iter().cloned());
+    let index = r.scenario_index(scenario)?;
+    let input = report::sheets::SheetInput {
+        sessions: report::sessions::session_plan(plan, &r.scenarios[index]),
+        weeks,
+        screening: r.screening,
+        log: log.summary.clone(),
+    };
+    Ok((input, r.warnings))
 }
 
 /// The plan with ad-hoc scenarios from `--add-scenario` appended.
@@ -445,6 +521,59 @@ pub fn run(command: &Command) -> Result<Printed, Error> {
                 stdout: String::new(),
                 stderr,
             })
+        }
+        Command::Sheets {
+            plan,
+            week,
+            from,
+            to,
+            scenario,
+            format,
+            out,
+            paper,
+            logged: LogArgs { log, as_of },
+        } => {
+            if *format == SheetsFormat::Html && out.is_none() {
+                return Err(Error::Usage(
+                    "--format html writes a file: give --out FILE.html (or --format text to print the sheets here)"
+                        .to_string(),
+                ));
+            }
+            let selection = match (week, from, to) {
+                (Some(n), _, _) => WeekSelection::Week(*n),
+                (None, Some(f), Some(t)) => WeekSelection::Dates(*f, *t),
+                _ => unreachable!("clap requires --week or --from with --to"),
+            };
+            if let WeekSelection::Dates(f, t) = selection
+                && f > t
+            {
+                return Err(dates_upside_down(f, t));
+            }
+            if let Some(o) = out {
+                let mut inputs: Vec<&Path> = plan.iter().map(PathBuf::as_path).collect();
+                inputs.extend(log.iter().map(PathBuf::as_path));
+                refuse_overwriting_inputs(o, &inputs)?;
+                check_target(o, false)?;
+            }
+            let plan = load(plan.as_deref())?;
+            let weeks = sheet_weeks(&plan, selection)?;
+            let log = read_log(&plan, log.as_deref(), *as_of)?;
+            let (input, warnings) = sheet_input(&plan, &log, scenario.as_deref(), weeks)?;
+            let text = match format {
+                SheetsFormat::Html => {
+                    let paper = match paper {
+                        PaperArg::A4 => report::sheets::Paper::A4,
+                        PaperArg::Letter => report::sheets::Paper::Letter,
+                    };
+                    report::sheets::html(&[input], paper)
+                }
+                SheetsFormat::Text => report::sheets::text(&[input]),
+            };
+            let mut printed = Printed::default();
+            if !warnings.is_empty() {
+                printed.stderr = report::table::warnings_text(&warnings);
+            }
+            deliver(printed, text, out)
         }
         Command::Compare {
             plan,

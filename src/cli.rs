@@ -47,6 +47,24 @@ pub enum GoalFormat {
     Json,
 }
 
+/// Output formats of `sheets`.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, ValueEnum)]
+pub enum SheetsFormat {
+    /// One self-contained HTML file to print, one page per week (needs --out).
+    Html,
+    /// The same content as plain text.
+    Text,
+}
+
+/// The paper the HTML sheets are laid out for.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, ValueEnum)]
+pub enum PaperArg {
+    /// ISO A4, 210 x 297 mm.
+    A4,
+    /// US Letter, 8.5 x 11 in.
+    Letter,
+}
+
 /// Parameters `fit` can estimate.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, ValueEnum)]
 pub enum FitParameterArg {
@@ -282,6 +300,36 @@ pub enum Command {
         /// Only sessions on or before this date (YYYY-MM-DD).
         #[arg(long, value_name = "DATE")]
         to: Option<NaiveDate>,
+        /// The participant log to re-plan from.
+        #[command(flatten)]
+        logged: LogArgs,
+    },
+    /// Print weekly session sheets for the supervising trainer: one page per week.
+    #[command(group = clap::ArgGroup::new("weeks").required(true).args(["week", "from"]))]
+    Sheets {
+        /// The plan file (TOML). Without one, the built-in demo plan runs.
+        plan: Option<PathBuf>,
+        /// The protocol week to print.
+        #[arg(long, value_name = "N")]
+        week: Option<u32>,
+        /// Print every protocol week that overlaps --from to --to (YYYY-MM-DD).
+        #[arg(long, value_name = "DATE", requires = "to")]
+        from: Option<NaiveDate>,
+        /// The last date of the range (YYYY-MM-DD), with --from.
+        #[arg(long, value_name = "DATE", requires = "from")]
+        to: Option<NaiveDate>,
+        /// Whose minutes the sheets show (default: the first scenario).
+        #[arg(long)]
+        scenario: Option<String>,
+        /// Output format.
+        #[arg(long, value_enum, default_value_t = SheetsFormat::Html)]
+        format: SheetsFormat,
+        /// Write the sheets to this file (atomically); required with --format html.
+        #[arg(long, value_name = "FILE")]
+        out: Option<PathBuf>,
+        /// The paper the HTML asks the browser for (the layout fits both).
+        #[arg(long, value_enum, default_value_t = PaperArg::A4)]
+        paper: PaperArg,
         /// The participant log to re-plan from.
         #[command(flatten)]
         logged: LogArgs,

@@ -523,6 +523,232 @@ fn usage_cases() -> Vec<Case> {
                 "error: nodir/cal.ics: the folder nodir does not exist; create it first or choose another path",
             ),
         ),
+        // sheets
+        case(
+            "sheets_week_0",
+            &["sheets", "plan.toml", "--week", "0", "--out", "s.html"],
+            Exact(
+                "error: --week 0: not a week of the protocol; allowed 1 to 24 (the exercise weeks of plan.toml)",
+            ),
+        ),
+        case(
+            "sheets_week_99",
+            &["sheets", "plan.toml", "--week", "99", "--format", "text"],
+            Exact(
+                "error: --week 99: not a week of the protocol; allowed 1 to 24 (the exercise weeks of plan.toml)",
+            ),
+        ),
+        case(
+            "sheets_a_follow_up_week",
+            &["sheets", "plan.toml", "--week", "30", "--out", "s.html"],
+            Exact(
+                "error: --week 30: a follow-up week, with no sessions; allowed 1 to 24 (the exercise weeks of plan.toml)",
+            ),
+        ),
+        case(
+            "sheets_week_not_a_number",
+            &["sheets", "plan.toml", "--week", "four", "--out", "s.html"],
+            Clap(&["error: invalid value 'four' for '--week <N>'"]),
+        ),
+        case(
+            "sheets_from_after_to",
+            &[
+                "sheets",
+                "plan.toml",
+                "--from",
+                "2027-03-01",
+                "--to",
+                "2027-02-01",
+                "--out",
+                "s.html",
+            ],
+            Exact(
+                "error: --from 2027-03-01 is after --to 2027-02-01; give the earlier date with --from",
+            ),
+        ),
+        case(
+            "sheets_from_after_to_is_refused_before_the_plan_is_read",
+            &[
+                "sheets",
+                "missing.toml",
+                "--from",
+                "2027-03-01",
+                "--to",
+                "2027-02-01",
+                "--format",
+                "text",
+            ],
+            Exact(
+                "error: --from 2027-03-01 is after --to 2027-02-01; give the earlier date with --from",
+            ),
+        ),
+        case(
+            "sheets_dates_outside_the_protocol",
+            &[
+                "sheets",
+                "plan.toml",
+                "--from",
+                "2027-07-01",
+                "--to",
+                "2027-07-31",
+                "--out",
+                "s.html",
+            ],
+            Exact(
+                "error: --from 2027-07-01 --to 2027-07-31: no exercise week overlaps these dates; the exercise weeks of plan.toml run from Mon 2027-01-11 (week 1) to Sun 2027-06-27 (week 24)",
+            ),
+        ),
+        case(
+            "sheets_week_and_from",
+            &[
+                "sheets",
+                "plan.toml",
+                "--week",
+                "3",
+                "--from",
+                "2027-01-11",
+                "--to",
+                "2027-01-31",
+                "--out",
+                "s.html",
+            ],
+            Clap(&["error: the argument '--week <N>' cannot be used with '--from <DATE>'"]),
+        ),
+        case(
+            "sheets_without_a_week",
+            &["sheets", "plan.toml", "--out", "s.html"],
+            Clap(&[
+                "the following required arguments were not provided",
+                "<--week <N>|--from <DATE>>",
+            ]),
+        ),
+        case(
+            "sheets_from_without_to",
+            &[
+                "sheets",
+                "plan.toml",
+                "--from",
+                "2027-01-11",
+                "--out",
+                "s.html",
+            ],
+            Clap(&[
+                "the following required arguments were not provided",
+                "--to <DATE>",
+            ]),
+        ),
+        case(
+            "sheets_html_without_out",
+            &["sheets", "plan.toml", "--week", "1"],
+            Exact(
+                "error: --format html writes a file: give --out FILE.html (or --format text to print the sheets here)",
+            ),
+        ),
+        case(
+            "sheets_format_pdf",
+            &["sheets", "plan.toml", "--week", "1", "--format", "pdf"],
+            Clap(&[
+                "error: invalid value 'pdf' for '--format <FORMAT>'",
+                "[possible values: html, text]",
+            ]),
+        ),
+        case(
+            "sheets_paper_a5",
+            &[
+                "sheets",
+                "plan.toml",
+                "--week",
+                "1",
+                "--paper",
+                "a5",
+                "--out",
+                "s.html",
+            ],
+            Clap(&[
+                "error: invalid value 'a5' for '--paper <PAPER>'",
+                "[possible values: a4, letter]",
+            ]),
+        ),
+        case(
+            "sheets_unknown_scenario",
+            &[
+                "sheets",
+                "plan.toml",
+                "--week",
+                "1",
+                "--scenario",
+                "nobody",
+                "--out",
+                "s.html",
+            ],
+            Exact(
+                "error: --scenario: no scenario named \"nobody\" in plan.toml; the plan has \"as prescribed\", \"eats back 40%\", \"mixed compensation\"",
+            ),
+        ),
+        case(
+            "sheets_out_names_the_plan",
+            &["sheets", "plan.toml", "--week", "1", "--out", "plan.toml"],
+            Exact("error: --out plan.toml: that is an input file; refusing to overwrite it"),
+        ),
+        case(
+            "sheets_out_names_the_log",
+            &[
+                "sheets",
+                "plan.toml",
+                "--week",
+                "1",
+                "--log",
+                "log.csv",
+                "--out",
+                "log.csv",
+            ],
+            Exact("error: --out log.csv: that is an input file; refusing to overwrite it"),
+        ),
+        case(
+            "sheets_out_into_a_missing_folder",
+            &[
+                "sheets",
+                "plan.toml",
+                "--week",
+                "1",
+                "--out",
+                "nodir/s.html",
+            ],
+            Exact(
+                "error: nodir/s.html: the folder nodir does not exist; create it first or choose another path",
+            ),
+        ),
+        case(
+            "sheets_as_of_without_log",
+            &[
+                "sheets",
+                "plan.toml",
+                "--week",
+                "1",
+                "--as-of",
+                "2027-02-01",
+                "--out",
+                "s.html",
+            ],
+            Clap(&[
+                "the following required arguments were not provided",
+                "--log <FILE>",
+            ]),
+        ),
+        case(
+            "sheets_missing_log_file",
+            &[
+                "sheets",
+                "plan.toml",
+                "--week",
+                "1",
+                "--log",
+                "missing.csv",
+                "--out",
+                "s.html",
+            ],
+            Exact("error: missing.csv: cannot read: no such file"),
+        ),
         // compare
         case(
             "compare_without_a_plan",
@@ -1480,6 +1706,36 @@ fn writers() -> Vec<Writer> {
             files: &["out.txt"],
         },
         Writer {
+            name: "sheets --out",
+            args: &[
+                "sheets",
+                "plan.toml",
+                "--log",
+                "log.csv",
+                "--from",
+                "2027-02-01",
+                "--to",
+                "2027-02-28",
+                "--out",
+                "out.html",
+            ],
+            files: &["out.html"],
+        },
+        Writer {
+            name: "sheets --format text --out",
+            args: &[
+                "sheets",
+                "plan.toml",
+                "--week",
+                "3",
+                "--format",
+                "text",
+                "--out",
+                "out.txt",
+            ],
+            files: &["out.txt"],
+        },
+        Writer {
             name: "schedule --format csv --out",
             args: &[
                 "schedule",
@@ -1751,6 +2007,32 @@ fn a_failed_run_leaves_earlier_outputs_byte_identical() {
                 "charts",
             ],
             "error: bad.csv:44:3: mass_kg: value 10400 is out of range; allowed 30 to 350 kg",
+        ),
+        (
+            "sheets, bad plan",
+            &["sheets", "bad.toml", "--week", "2", "--out", "out.txt"],
+            "error: bad.toml:10:11: participant.mass_kg: value 3000 is out of range; allowed 30 to 350 kg",
+        ),
+        (
+            "sheets, bad log row",
+            &[
+                "sheets",
+                "plan.toml",
+                "--log",
+                "bad.csv",
+                "--week",
+                "2",
+                "--format",
+                "text",
+                "--out",
+                "out.txt",
+            ],
+            "error: bad.csv:44:3: mass_kg: value 10400 is out of range; allowed 30 to 350 kg",
+        ),
+        (
+            "sheets, a week outside the protocol",
+            &["sheets", "plan.toml", "--week", "25", "--out", "out.txt"],
+            "error: --week 25: a follow-up week, with no sessions; allowed 1 to 24 (the exercise weeks of plan.toml)",
         ),
         (
             "log add, bad row",
@@ -2237,6 +2519,50 @@ fn outputs() -> Vec<OutputRun> {
             ],
         ),
         (
+            "sheets html",
+            &[("sheets", "html")],
+            vec![
+                "sheets",
+                "plan.toml",
+                "--log",
+                "log.csv",
+                "--from",
+                "2027-01-11",
+                "--to",
+                "2027-06-27",
+                "--out",
+                "s.html",
+            ],
+        ),
+        (
+            "sheets html letter",
+            &[],
+            vec![
+                "sheets",
+                "plan.toml",
+                "--week",
+                "20",
+                "--paper",
+                "letter",
+                "--out",
+                "s.html",
+            ],
+        ),
+        (
+            "sheets text",
+            &[("sheets", "text")],
+            vec![
+                "sheets",
+                "plan.toml",
+                "--log",
+                "log.csv",
+                "--week",
+                "11",
+                "--format",
+                "text",
+            ],
+        ),
+        (
             "compare table + charts",
             &[("compare", "table"), ("compare", "chart")],
             vec![
@@ -2690,6 +3016,54 @@ const AUDIT: &[Audited] = &[
         Screen::Outcome,
     ),
     audited(
+        "sheets html",
+        ("sheets", "html"),
+        &["sheets", "plan.toml", "--week", "1", "--out", "s.html"],
+        Where::File("s.html"),
+        Screen::Outcome,
+    ),
+    audited(
+        "sheets html with a log, several weeks",
+        ("sheets", "html"),
+        &[
+            "sheets",
+            "plan.toml",
+            "--log",
+            "log.csv",
+            "--from",
+            "2027-03-01",
+            "--to",
+            "2027-03-31",
+            "--out",
+            "s.html",
+        ],
+        Where::File("s.html"),
+        Screen::Outcome,
+    ),
+    audited(
+        "sheets text",
+        ("sheets", "text"),
+        &["sheets", "plan.toml", "--week", "2", "--format", "text"],
+        Where::Stdout,
+        Screen::Outcome,
+    ),
+    audited(
+        "sheets text --out",
+        ("sheets", "text"),
+        &[
+            "sheets",
+            "plan.toml",
+            "--week",
+            "2",
+            "--format",
+            "text",
+            "--out",
+            "s.txt",
+        ],
+        Where::File("s.txt"),
+        Screen::Outcome,
+    ),
+    audited(
         "compare table",
         ("compare", "table"),
         &["compare", "plan.toml", "--doses", "6,12"],
@@ -3052,6 +3426,35 @@ fn ics_text(ics: &str) -> String {
     out
 }
 
+/// The text of an HTML file as a reader sees it: the `<style>` left out, every tag
+/// a space, entities read, white space collapsed (a phrase may cross elements).
+fn html_text(html: &str) -> String {
+    let body = match (html.find("</style>"), html.find("<style>")) {
+        (Some(end), Some(start)) => format!("{}{}", &html[..start], &html[end..]),
+        _ => html.to_string(),
+    };
+    let mut out = String::new();
+    let mut in_tag = false;
+    for c in body.chars() {
+        match c {
+            '<' => in_tag = true,
+            '>' if in_tag => {
+                in_tag = false;
+                out.push(' ');
+            }
+            c if !in_tag => out.push(c),
+            _ => {}
+        }
+    }
+    let out = out
+        .replace("&lt;", "<")
+        .replace("&gt;", ">")
+        .replace("&quot;", "\"")
+        .replace("&apos;", "'")
+        .replace("&amp;", "&");
+    out.split_whitespace().collect::<Vec<_>>().join(" ")
+}
+
 /// The audit's checks: (concept, does `text` show it). `outcome` is the plan's
 /// screening recommendation.
 fn missing_concepts(text: &str, screen: Screen, outcome: &str) -> Vec<&'static str> {
@@ -3101,6 +3504,8 @@ fn audited_text(a: &Audited, plan: &str) -> String {
                 svg_text(&t)
             } else if f.ends_with(".ics") {
                 ics_text(&t)
+            } else if f.ends_with(".html") {
+                html_text(&t)
             } else {
                 t
             }
@@ -3183,6 +3588,18 @@ fn the_audit_catches_an_output_without_cautions() {
     assert_eq!(
         missing_concepts(&full, Screen::Outcome, "screening not recorded"),
         ["screening outcome"]
+    );
+    // In HTML only what a reader sees counts: not the style sheet, not an attribute.
+    let hidden = format!(
+        "<style>/* {} */</style><p title=\"{}\">Week 1</p>",
+        dosewright::safety::CAUTIONS[2],
+        dosewright::safety::CAUTIONS[2]
+    );
+    assert!(missing_concepts(&html_text(&hidden), Screen::Outcome, "x").contains(&"stop signs"));
+    let shown = format!("<ul><li>{}</li></ul>", full.replace('\n', "</li><li>"));
+    assert_eq!(
+        missing_concepts(&html_text(&shown), Screen::Outcome, "x"),
+        Vec::<&str>::new()
     );
 }
 

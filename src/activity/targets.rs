@@ -47,6 +47,13 @@ pub fn karvonen(hr_rest: f64, hr_max: f64, fraction: f64) -> f64 {
     hr_rest + fraction * (hr_max - hr_rest)
 }
 
+/// `x` rounded to 6 decimals, so that a value at a class boundary stays there after a
+/// round trip through the equations (60% of VO2 reserve to MET and back gives
+/// 0.5999999999999999, which must still be vigorous).
+fn without_float_noise(x: f64) -> f64 {
+    (x * 1e6).round() / 1e6
+}
+
 /// The ACSM intensity classes.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
 #[serde(rename_all = "kebab-case")]
@@ -64,6 +71,7 @@ pub enum IntensityClass {
 impl IntensityClass {
     /// The class of an absolute intensity in MET.
     pub fn of_met(met: f64) -> IntensityClass {
+        let met = without_float_noise(met);
         if met < 2.0 {
             IntensityClass::VeryLight
         } else if met < 3.0 {
@@ -77,6 +85,7 @@ impl IntensityClass {
 
     /// The class of a relative intensity, a fraction of the HR or VO2 reserve.
     pub fn of_reserve(fraction: f64) -> IntensityClass {
+        let fraction = without_float_noise(fraction);
         if fraction < 0.30 {
             IntensityClass::VeryLight
         } else if fraction < 0.40 {
@@ -225,5 +234,35 @@ mod tests {
         assert_eq!(IntensityClass::of_reserve(0.40), IntensityClass::Moderate);
         assert_eq!(IntensityClass::of_reserve(0.60), IntensityClass::Vigorous);
         assert_eq!(IntensityClass::Moderate.rpe(), (12, 13));
+    }
+
+    #[test]
+    fn a_class_boundary_survives_a_round_trip_through_the_equations() {
+        // 60% of VO2 reserve is vigorous (ACSM GETP 10th ed., REFERENCES.md 6.2) for
+        // any peak: to MET by the VO2-reserve equation and back to the fraction.
+        let mut below = 0;
+        for peak in [15.0, 22.5, 22.547_4, 31.3, 48.0] {
+            let met = vo2_reserve_vo2(0.60, peak) / ML_O2_PER_MET;
+            let f = vo2_reserve_fraction(met, peak);
+            assert!((f - 0.60).abs() < 1e-12, "{peak}: {f}");
+            below += usize::from(f < 0.60);
+            assert_eq!(
+                IntensityClass::of_reserve(f),
+                IntensityClass::Vigorous,
+                "{peak}"
+            );
+        }
+        // The check means something: at least one round trip lands just below 0.60.
+        assert!(below > 0);
+        assert_eq!(
+            IntensityClass::of_reserve(0.6 - 1e-12),
+            IntensityClass::Vigorous
+        );
+        assert_eq!(
+            IntensityClass::of_met(3.0 - 1e-12),
+            IntensityClass::Moderate
+        );
+        // A real step below the boundary is still below it.
+        assert_eq!(IntensityClass::of_reserve(0.599), IntensityClass::Moderate);
     }
 }

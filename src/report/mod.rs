@@ -12,6 +12,7 @@ pub mod fit;
 pub mod goal;
 pub mod json;
 pub mod sessions;
+pub mod sheets;
 pub mod table;
 pub mod units;
 

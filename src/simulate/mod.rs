@@ -122,9 +122,9 @@ pub struct WeekRecord {
     pub reference_rmr_kcal_per_day: f64,
     /// `r_w` (0 in follow-up).
     pub ramp_fraction: f64,
-    /// Minutes of each session (0 in follow-up).
+    /// Minutes at target of the week's longest session (0 in follow-up).
     pub minutes_per_session: u32,
-    /// Minutes of each session before rounding.
+    /// Minutes of the longest session before rounding.
     pub minutes_unrounded: f64,
     /// Sessions this week.
     pub sessions_per_week: u32,
