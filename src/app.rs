@@ -532,6 +532,9 @@ pub fn run(command: &Command) -> Result<Printed, Error> {
             out,
             paper,
             logged: LogArgs { log, as_of },
+            roster,
+            randomise,
+            seed,
         } => {
             if *format == SheetsFormat::Html && out.is_none() {
                 return Err(Error::Usage(
@@ -552,27 +555,42 @@ pub fn run(command: &Command) -> Result<Printed, Error> {
             if let Some(o) = out {
                 let mut inputs: Vec<&Path> = plan.iter().map(PathBuf::as_path).collect();
                 inputs.extend(log.iter().map(PathBuf::as_path));
+                inputs.extend(roster.iter().map(PathBuf::as_path));
                 refuse_overwriting_inputs(o, &inputs)?;
                 check_target(o, false)?;
             }
-            let plan = load(plan.as_deref())?;
-            let weeks = sheet_weeks(&plan, selection)?;
-            let log = read_log(&plan, log.as_deref(), *as_of)?;
-            let (input, warnings) = sheet_input(&plan, &log, scenario.as_deref(), weeks)?;
+            let (inputs, warnings, notes) = match (roster, plan) {
+                (Some(roster), Some(study)) => study_sheet_inputs(
+                    study,
+                    roster,
+                    *randomise,
+                    *seed,
+                    selection,
+                    scenario.as_deref(),
+                )?,
+                _ => {
+                    let plan = load(plan.as_deref())?;
+                    let weeks = sheet_weeks(&plan, selection)?;
+                    let log = read_log(&plan, log.as_deref(), *as_of)?;
+                    let (input, warnings) = sheet_input(&plan, &log, scenario.as_deref(), weeks)?;
+                    (vec![input], warnings, String::new())
+                }
+            };
             let text = match format {
                 SheetsFormat::Html => {
                     let paper = match paper {
                         PaperArg::A4 => report::sheets::Paper::A4,
                         PaperArg::Letter => report::sheets::Paper::Letter,
                     };
-                    report::sheets::html(&[input], paper)
+                    report::sheets::html(&inputs, paper)
                 }
-                SheetsFormat::Text => report::sheets::text(&[input]),
+                SheetsFormat::Text => report::sheets::text(&inputs),
             };
             let mut printed = Printed::default();
             if !warnings.is_empty() {
                 printed.stderr = report::table::warnings_text(&warnings);
             }
+            printed.stderr.push_str(&notes);
             deliver(printed, text, out)
         }
         Command::Compare {
@@ -1151,4 +1169,76 @@ fn cohort_command(args: &crate::cli::CohortArgs) -> Result<Printed, Error> {
             .push_str(&charts::write_cohort_charts(dir, &r, units)?);
     }
     deliver(printed, text, &args.out)
+}
+
+/// The sheets of every participant of a study's roster in its arm, in roster order.
+/// Participants of a control arm have no sessions and get no sheet (a note says so).
+fn study_sheet_inputs(
+    study_path: &Path,
+    roster: &Path,
+    randomise: bool,
+    seed: u64,
+    selection: WeekSelection,
+    scenario: Option<&str>,
+) -> Result<(Vec<report::sheets::SheetInput>, Vec<Warning>, String), Error> {
+    let study = crate::study::load_study(study_path)?;
+    let rows = crate::study::roster::load_roster(roster, &study)?;
+    let given = rows.iter().all(|r| r.arm.is_some());
+    let arms: Vec<usize> = match (given, randomise) {
+        (true, false) => rows.iter().map(|r| r.arm.expect("checked")).collect(),
+        (true, true) => {
+            return Err(Error::Usage(
+                "--randomise: the roster already gives every participant an arm; leave out --randomise, or empty the roster's arm column".to_string(),
+            ));
+        }
+        (false, true) => {
+            let sexes: Vec<crate::model::Sex> =
+                rows.iter().map(|r| r.participant.subject.sex).collect();
+            crate::study::randomise::permuted_blocks(
+                &sexes,
+                study.arms.len(),
+                study.block_size as usize,
+                seed,
+            )
+        }
+        (false, false) => {
+            return Err(Error::Usage(format!(
+                "{}: the roster gives no arm, so the sheets cannot know each participant's dose; add an arm column, or use --randomise (with --seed, as for cohort)",
+                roster.display()
+            )));
+        }
+    };
+    let mut inputs = Vec::new();
+    let mut warnings = Vec::new();
+    let mut controls = Vec::new();
+    for (row, arm) in rows.iter().zip(arms) {
+        if study.arms[arm].is_control() {
+            controls.push(row.participant.id.clone());
+            continue;
+        }
+        let plan = study.plan_for(&row.participant, arm);
+        let weeks = sheet_weeks(&plan, selection)?;
+        let (input, w) = sheet_input(&plan, &LogInput::default(), scenario, weeks)?;
+        inputs.push(input);
+        warnings.extend(w.into_iter().map(|mut x| {
+            x.message = format!("{}: {}", row.participant.id, x.message);
+            x
+        }));
+    }
+    let notes = if controls.is_empty() {
+        String::new()
+    } else {
+        format!(
+            "no sheet for {} participant(s) of a control arm (no sessions): {}\n",
+            controls.len(),
+            controls.join(", ")
+        )
+    };
+    if inputs.is_empty() {
+        return Err(Error::Usage(format!(
+            "{}: every participant is in a control arm; there are no sessions to print",
+            roster.display()
+        )));
+    }
+    Ok((inputs, warnings, notes))
 }

@@ -333,6 +333,15 @@ pub enum Command {
         /// The participant log to re-plan from.
         #[command(flatten)]
         logged: LogArgs,
+        /// PLAN is a study file: print every participant of this roster in its arm, in roster order.
+        #[arg(long, value_name = "FILE", requires = "plan", conflicts_with = "log")]
+        roster: Option<PathBuf>,
+        /// With --roster: assign arms by permuted blocks stratified by sex (as `cohort --randomise`).
+        #[arg(long, requires = "roster")]
+        randomise: bool,
+        /// With --roster --randomise: the random seed.
+        #[arg(long, requires = "randomise", default_value_t = DEFAULT_SEED)]
+        seed: u64,
     },
     /// Compare every scenario side by side at checkpoint weeks, optionally for several doses.
     Compare {
