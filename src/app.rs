@@ -919,10 +919,11 @@ mod charts {
         r: &crate::report::cohort::CohortReport,
         u: Units,
     ) -> Result<String, Error> {
-        use crate::report::chart::{cohort_mass_chart, cohort_minutes_chart};
+        use crate::report::chart::{cohort_mass_chart, cohort_minutes_chart, cohort_power_chart};
         let charts = vec![
             ("mass-change", cohort_mass_chart(r, u)),
             ("minutes", cohort_minutes_chart(r)),
+            ("power", cohort_power_chart(r)),
         ];
         let paths = write_charts(dir, &stem(&r.name), &charts)?;
         Ok(paths
@@ -1085,9 +1086,9 @@ fn cohort_command(args: &crate::cli::CohortArgs) -> Result<Printed, Error> {
         CohortFormat::Csv => refuse_display_units(units, "csv")?,
         CohortFormat::Json => refuse_display_units(units, "json")?,
     }
-    if args.draws != 1 {
+    if !(1..=10_000).contains(&args.draws) {
         return Err(Error::Usage(format!(
-            "--draws {}: only one draw per participant is simulated yet (the study has no uncertainty to draw); use --draws 1",
+            "--draws {}: allowed 1 to 10000 draws per participant",
             args.draws
         )));
     }
@@ -1108,6 +1109,8 @@ fn cohort_command(args: &crate::cli::CohortArgs) -> Result<Printed, Error> {
             IntegratorArg::Dopri5 => Integrator::Dopri5,
         },
         checkpoints: cohort_checkpoints(&study, &args.at_week)?,
+        draws: args.draws,
+        seed: args.seed,
     };
     let pool = {
         let mut b = rayon::ThreadPoolBuilder::new();

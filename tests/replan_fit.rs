@@ -133,6 +133,8 @@ fn run_with(plan: &Plan, obs: Option<&Observed>) -> RunOutput {
         anchor: obs.is_some(),
         weeks: plan.protocol.total_weeks(),
         integrator: Default::default(),
+        attendance: None,
+        last_exercise_week: None,
     };
     run(plan, &physiology, &baseline, &plan.scenarios[0], mode, None).expect("the run succeeds")
 }
@@ -741,6 +743,8 @@ fn the_fit_interval_is_the_profile_of_the_sum_of_squares() {
             anchor: false,
             weeks: fit_plan.protocol.total_weeks(),
             integrator: Default::default(),
+            attendance: None,
+            last_exercise_week: None,
         };
         let out = run(&fit_plan, &physiology, &baseline, &sc, mode, None).unwrap();
         obs.weigh_ins

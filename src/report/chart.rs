@@ -1187,3 +1187,63 @@ pub fn cohort_minutes_chart(r: &super::cohort::CohortReport) -> LineChart {
         y_includes_zero: true,
     }
 }
+
+/// Cohort: power against participants per arm for each arm compared with the first
+/// arm (first scenario), by the two-sample normal approximation with the simulated
+/// difference and SD (Altman 1991), recruitment divided by the completion rate.
+pub fn cohort_power_chart(r: &super::cohort::CohortReport) -> LineChart {
+    use crate::study::sample_size::power;
+    let first = r.arms.first().map(|a| a.name.clone()).unwrap_or_default();
+    let scenario = r
+        .arms
+        .first()
+        .and_then(|a| a.scenarios.first())
+        .map(|s| s.name.clone())
+        .unwrap_or_default();
+    let comps: Vec<&super::cohort::Comparison> = r
+        .comparisons
+        .iter()
+        .filter(|c| c.arms[0] == first && c.scenario == scenario && c.mean_difference_kg != 0.0)
+        .collect();
+    let largest = comps
+        .iter()
+        .filter_map(|c| c.n_per_arm_power90)
+        .fold(20.0, f64::max)
+        .min(5000.0);
+    let top = nice_number(largest * 1.3, true);
+    let series = comps
+        .iter()
+        .enumerate()
+        .map(|(slot, c)| Series {
+            name: format!("{} vs {}", c.arms[1], c.arms[0]),
+            points: (0..=100)
+                .map(|i| {
+                    let n = top * f64::from(i) / 100.0;
+                    (
+                        n,
+                        100.0 * power(n * c.completion_rate, c.mean_difference_kg, c.sd_kg),
+                    )
+                })
+                .collect(),
+            dashed: false,
+            slot: slot + 1,
+            markers_only: false,
+        })
+        .collect();
+    LineChart {
+        title: format!(
+            "Power against participants per arm (scenario \"{scenario}\", week {})",
+            r.weeks
+        ),
+        x_label: "Participants recruited per arm".to_string(),
+        y_label: "Power [%]".to_string(),
+        series,
+        band: None,
+        marker: None,
+        caption: caption(
+            "Two-sided alpha 0.05, two-sample normal approximation with the simulated difference and SD in mass change; recruits times the completion rate complete.",
+        ),
+        x_range: Some((0.0, top)),
+        y_includes_zero: true,
+    }
+}

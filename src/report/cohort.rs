@@ -20,8 +20,10 @@ pub struct Comparison {
     pub scenario: String,
     /// Mean difference in mass change, kg (second minus first).
     pub mean_difference_kg: f64,
-    /// SD of mass change, kg.
+    /// Pooled SD of mass change of the two arms, kg.
     pub sd_kg: f64,
+    /// The lower expected completion rate of the two arms.
+    pub completion_rate: f64,
     /// Participants per arm for power 0.8.
     pub n_per_arm_power80: Option<f64>,
     /// Participants per arm for power 0.9.
@@ -142,9 +144,41 @@ pub fn participant_rows(
     rows
 }
 
+/// Every pair of arms in every scenario: the difference in mean mass change at the end
+/// of the protocol (intention to treat, second arm minus first), the pooled SD of the
+/// two arms, and the participants per arm to recruit for power 0.8 and 0.9 (two-sided
+/// alpha 0.05), divided by the lower completion rate of the two.
+pub fn comparisons(arms: &[ArmSpread]) -> Vec<Comparison> {
+    use crate::study::sample_size::{Z_POWER_80, Z_POWER_90, n_per_arm, recruit};
+    let mut out = Vec::new();
+    for (i, a) in arms.iter().enumerate() {
+        for b in &arms[i + 1..] {
+            for (sa, sb) in a.scenarios.iter().zip(&b.scenarios) {
+                let delta = sb.mass_change_kg.mean - sa.mass_change_kg.mean;
+                let sd =
+                    ((sa.mass_change_kg.sd.powi(2) + sb.mass_change_kg.sd.powi(2)) / 2.0).sqrt();
+                let rate = |x: &ArmSpread| x.completing / (x.participants.max(1) as f64);
+                let completion = rate(a).min(rate(b));
+                let n = |z| n_per_arm(delta, sd, z).map(|n| recruit(n, completion));
+                out.push(Comparison {
+                    arms: [a.name.clone(), b.name.clone()],
+                    scenario: sa.name.clone(),
+                    mean_difference_kg: delta,
+                    sd_kg: sd,
+                    completion_rate: completion,
+                    n_per_arm_power80: n(Z_POWER_80),
+                    n_per_arm_power90: n(Z_POWER_90),
+                });
+            }
+        }
+    }
+    out
+}
+
 impl CohortReport {
     /// Attach the summaries to the report header.
     pub fn with_summary(mut self, s: CohortSummary) -> CohortReport {
+        self.comparisons = comparisons(&s.arms);
         self.arms = s.arms;
         self.staff_hours = s.staff_hours;
         self
@@ -257,6 +291,53 @@ pub fn table(r: &CohortReport, u: Units) -> String {
         out.push_str(&format!(
             "Mass change at the checkpoints, mean (SD)\n{c}\n\n"
         ));
+    }
+    if r.arms.iter().any(|a| a.completing < a.participants as f64) {
+        let mut c = new_table(&[
+            "arm",
+            "scenario",
+            "expected completing",
+            &format!("completers: mass change [{ml}] mean (SD)"),
+        ]);
+        align_numbers(&mut c, 2);
+        for a in &r.arms {
+            for s in &a.scenarios {
+                c.add_row(vec![
+                    a.name.clone(),
+                    s.name.clone(),
+                    format!("{:.1} of {}", a.completing, a.participants),
+                    s.mass_change_completers_kg.map_or("-".to_string(), |m| {
+                        format!("{} ({:.1})", signed(u.mass(m.mean)), u.mass(m.sd))
+                    }),
+                ]);
+            }
+        }
+        out.push_str(&format!("Completers (the outcome table above is intention to treat: everyone, drop-outs included)\n{c}\n\n"));
+    }
+    if !r.comparisons.is_empty() {
+        let mut c = new_table(&[
+            "arms",
+            "scenario",
+            &format!("difference [{ml}]"),
+            &format!("SD [{ml}]"),
+            "completion",
+            "n per arm, power 0.8",
+            "n per arm, power 0.9",
+        ]);
+        align_numbers(&mut c, 2);
+        for x in &r.comparisons {
+            let n = |v: Option<f64>| v.map_or("-".to_string(), |n| format!("{n:.0}"));
+            c.add_row(vec![
+                format!("{} vs {}", x.arms[1], x.arms[0]),
+                x.scenario.clone(),
+                signed(u.mass(x.mean_difference_kg)),
+                format!("{:.2}", u.mass(x.sd_kg)),
+                format!("{:.0}%", x.completion_rate * 100.0),
+                n(x.n_per_arm_power80),
+                n(x.n_per_arm_power90),
+            ]);
+        }
+        out.push_str(&format!("Participants per arm to detect the difference in mass change at week {} (two-sided alpha 0.05; n = 2 (z_0.975 + z_power)^2 SD^2 / difference^2, Altman 1991; divided by the completion rate)\n{c}\n\n", r.weeks));
     }
     let mut st = new_table(&[
         "arm",

@@ -412,6 +412,11 @@ pub fn cohort_warnings(
     if n > 0 {
         out.push(w("older-adult-met", format!("{n} participant(s) are 60 or older: standard METs assume 3.5 ml/kg/min at rest and tend to overstate their cost of activity (Willis et al. 2024, J Sport Health Sci 13:13), so their minutes may be too few for the energy target")));
     }
+    if let Some(control) = summary.arms.iter().find(|a| a.control)
+        && control.scenarios.iter().any(|s| s.mass_change_kg.sd < 0.5)
+    {
+        out.push(w("sample-size-optimistic", format!("in the control arm \"{}\" the simulated SD of mass change is under 0.5 kg: the model holds only the stated uncertainties, while real trials also vary with diet, life events and measurement (often SDs of 3 kg or more over a year); the participants per arm are then far too few: give diet_change_kcal_per_day a distribution in [[scenario]] or take the SD from earlier trials", control.name)));
+    }
     if let Some(max) = study.protocol.max_session_minutes {
         for a in &summary.arms {
             for s in a.scenarios.iter().filter(|s| s.over_max_share > 0.0) {

@@ -11,8 +11,13 @@
 use super::integrate::Integrator;
 use super::{RunMode, ScenarioRun, calibrated, run};
 use crate::error::Error;
+use crate::plan::SCENARIO_KEYS;
 use crate::plan::{Participant, Plan};
+use crate::study::RmrError;
 use crate::study::Study;
+use rand::rngs::ChaCha8Rng;
+use rand::{RngExt, SeedableRng};
+use rand_distr::{Distribution, Normal};
 use rayon::prelude::*;
 use serde::Serialize;
 
@@ -34,6 +39,10 @@ pub struct CohortRequest {
     pub integrator: Integrator,
     /// Checkpoint weeks (end of week N), sorted, distinct.
     pub checkpoints: Vec<u32>,
+    /// Draws per participant.
+    pub draws: u32,
+    /// The seed every draw's stream derives from.
+    pub seed: u64,
 }
 
 /// What one participant's run in one arm and scenario contributes.
@@ -65,6 +74,10 @@ pub struct RunSummary {
     pub over_max: bool,
     /// Prescribed net exercise energy over the protocol, kcal.
     pub prescribed_net_kcal: f64,
+    /// The draw (0-based).
+    pub draw: u32,
+    /// Still exercising at the end of the protocol (did not drop out).
+    pub completed: bool,
 }
 
 /// One participant's runs.
@@ -132,75 +145,318 @@ fn summarise_run(
             .collect(),
         over_max: w[..weeks].iter().any(|x| x.over_max.is_some()),
         prescribed_net_kcal: end.prescribed_net_kcal,
+        draw: 0,
+        completed: true,
     }
 }
 
-/// Simulate one member in its arms and every scenario.
+/// The random stream of draw `draw` of member `index` for `seed`, apart from the
+/// streams that draw synthetic participants.
+pub fn draw_rng(seed: u64, index: usize, draw: u32) -> ChaCha8Rng {
+    let mut r = ChaCha8Rng::seed_from_u64(super::splitmix64(seed ^ DRAW_DOMAIN));
+    r.set_stream(((index as u64) << 32) | u64::from(draw));
+    r
+}
+
+/// Mixed into the seed of draw streams, so they never coincide with the streams of
+/// synthetic participants (an arbitrary odd constant).
+const DRAW_DOMAIN: u64 = 0x5DEE_CE66_D1A4_F87D;
+
+/// One draw of a member: the participant with the RMR equation's error and the
+/// estimated body fat's error drawn, each scenario's compensation drawn, the
+/// attendance key and the last week with exercise. With no uncertainty it is the
+/// member itself, every draw alike.
+struct Draw {
+    participant: Participant,
+    scenarios: Vec<crate::plan::Scenario>,
+    attendance: Option<super::Attendance>,
+    last_exercise_week: Option<u32>,
+}
+
+fn draw(study: &Study, m: &Member, index: usize, d: u32, seed: u64) -> Draw {
+    let mut participant = m.participant.clone();
+    let mut scenarios = study.scenarios.clone();
+    let mut rng = draw_rng(seed, index, d);
+    // The order of draws is fixed: scenarios, RMR, body fat, attendance, drop-out.
+    for (sc, dists) in scenarios.iter_mut().zip(&study.scenario_dists) {
+        for ((key, ..), dist) in SCENARIO_KEYS.iter().zip(dists) {
+            if let Some(dist) = dist {
+                sc.compensation.set(key, dist.sample(&mut rng));
+            }
+        }
+    }
+    let Some(u) = study.uncertainty else {
+        return Draw {
+            participant,
+            scenarios,
+            attendance: None,
+            last_exercise_week: None,
+        };
+    };
+    let s = &mut participant.subject;
+    let b = crate::model::composition::bmi(s.mass_kg, s.height_cm);
+    if s.body_fat_percent.is_none() && u.body_fat_error_percent > 0.0 {
+        let est = crate::model::composition::deurenberg_percent_fat(b, s.age_years, s.sex);
+        let n = Normal::new(0.0, u.body_fat_error_percent).expect("validated SD");
+        // Truncated to the plan's range of body fat (rejection).
+        let bf = loop {
+            let x = est + n.sample(&mut rng);
+            if (3.0..=70.0).contains(&x) {
+                break x;
+            }
+        };
+        s.body_fat_percent = Some(bf);
+    }
+    if s.rmr_kcal_per_day.is_none() {
+        let fat = s.mass_kg
+            * s.body_fat_percent.unwrap_or_else(|| {
+                crate::model::composition::deurenberg_percent_fat(b, s.age_years, s.sex)
+            })
+            / 100.0;
+        let eq = study.constants.rmr_equation.kcal_per_day(
+            s.sex,
+            s.mass_kg,
+            s.mass_kg - fat,
+            s.height_cm,
+            s.age_years,
+        );
+        let sd = match u.rmr_error {
+            RmrError::Published => study.constants.rmr_equation.relative_error(s.sex, eq).0,
+            RmrError::Sd(x) => x,
+        };
+        if sd > 0.0 {
+            let n = Normal::new(1.0, sd).expect("validated SD");
+            // A multiplicative normal factor held within +-3 SD (and above 0.5).
+            let f = loop {
+                let x = n.sample(&mut rng);
+                if (x - 1.0).abs() <= 3.0 * sd && x > 0.5 {
+                    break x;
+                }
+            };
+            s.rmr_kcal_per_day = Some(eq * f);
+        }
+    }
+    let key = rng.random::<u64>();
+    let attendance = (u.attendance < 1.0).then_some(super::Attendance {
+        probability: u.attendance,
+        key,
+    });
+    let weeks = study.protocol.weeks;
+    let last_exercise_week = (u.dropout_per_week > 0.0)
+        .then(|| {
+            // The first week in which the weekly hazard strikes; exercise ends before it.
+            (1..=weeks).find(|_| rng.random::<f64>() < u.dropout_per_week)
+        })
+        .flatten()
+        .map(|w| w - 1);
+    Draw {
+        participant,
+        scenarios,
+        attendance,
+        last_exercise_week,
+    }
+}
+
+/// One scenario of one draw in every arm by the fast path; None when a run leaves
+/// the model's range (the full run then reports it).
+#[allow(clippy::too_many_arguments)]
+fn fast_row(
+    study: &Study,
+    arms: &[usize],
+    plans: &[Plan],
+    physiology: &crate::model::Physiology,
+    baseline: &crate::model::Baseline,
+    sc: &crate::plan::Scenario,
+    dr: &Draw,
+    si: usize,
+    req: &CohortRequest,
+) -> Option<Vec<RunSummary>> {
+    use super::fast::fast_run;
+    let comp = &sc.compensation;
+    let without = fast_run(&plans[0], physiology, baseline, comp, false, None, None)?;
+    let weeks = study.protocol.weeks as usize;
+    let mut row = Vec::with_capacity(arms.len());
+    for (a, plan) in arms.iter().zip(plans) {
+        let control = study.arms[*a].is_control();
+        let r = if control {
+            without.clone()
+        } else {
+            fast_run(
+                plan,
+                physiology,
+                baseline,
+                comp,
+                true,
+                dr.attendance,
+                dr.last_exercise_week,
+            )?
+        };
+        let at = |w: u32| w as usize - 1;
+        let end = weeks - 1;
+        let dose_share = (!control).then(|| {
+            let p = r.prescribed_net_kcal[end];
+            if p > 0.0 {
+                (r.deficit_kcal[end] - without.deficit_kcal[end]) / p
+            } else {
+                0.0
+            }
+        });
+        let minutes = if control {
+            vec![0; weeks]
+        } else {
+            r.minutes.clone()
+        };
+        let session = if control {
+            vec![0; weeks]
+        } else {
+            r.session_minutes.clone()
+        };
+        row.push(RunSummary {
+            arm: *a,
+            scenario: si,
+            mass_change_kg: req
+                .checkpoints
+                .iter()
+                .map(|c| r.mass_kg[at(*c)] - baseline.mass_kg)
+                .collect(),
+            fat_mass_change_kg: req
+                .checkpoints
+                .iter()
+                .map(|c| r.fat_kg[at(*c)] - baseline.fat_mass_kg)
+                .collect(),
+            protocol_end_mass_change_kg: r.mass_kg[end] - baseline.mass_kg,
+            protocol_end_fat_mass_change_kg: r.fat_kg[end] - baseline.fat_mass_kg,
+            dose_share,
+            minutes_week1: minutes[0],
+            minutes_last_week: minutes[end],
+            minutes_by_week: minutes,
+            session_minutes_by_week: session,
+            over_max: !control && r.over_max,
+            prescribed_net_kcal: if control {
+                0.0
+            } else {
+                r.prescribed_net_kcal[end]
+            },
+            draw: 0,
+            completed: true,
+        });
+    }
+    Some(row)
+}
+
+/// Simulate one member (at position `index`) in its arms, every scenario and every draw.
 pub fn simulate_member(
     study: &Study,
     m: &Member,
+    index: usize,
     req: &CohortRequest,
 ) -> Result<MemberResult, Error> {
     let arms = arms_of(study, m, req.all_arms);
-    let plans: Vec<Plan> = arms
+    let random = study.has_uncertainty();
+    let mut runs = Vec::with_capacity(arms.len() * study.scenarios.len() * req.draws as usize);
+    let mut baseline_mass_kg = m.participant.subject.mass_kg;
+    // The plans differ between draws only in the participant's calibration and the
+    // scenarios, which the runs take from the draw.
+    let base_plans: Vec<Plan> = arms
         .iter()
         .map(|a| study.plan_for(&m.participant, *a))
         .collect();
-    let (baseline, physiology) = calibrated(&plans[0])?;
-    let mut runs = Vec::with_capacity(arms.len() * study.scenarios.len());
-    let mut per_scenario: Vec<Vec<RunSummary>> = Vec::new();
-    for (si, sc) in study.scenarios.iter().enumerate() {
-        let mode = |plan: &Plan, exercise: bool| RunMode {
-            exercise,
-            integrator: req.integrator,
-            ..RunMode::projection(plan)
-        };
-        let without = run(
-            &plans[0],
-            &physiology,
-            &baseline,
-            sc,
-            mode(&plans[0], false),
-            None,
-        )?;
-        let deficits: Vec<f64> = without
-            .weeks
-            .iter()
-            .map(|w| w.end.achieved_deficit_kcal)
-            .collect();
-        let mut row = Vec::with_capacity(arms.len());
-        for (a, plan) in arms.iter().zip(&plans) {
-            let control = study.arms[*a].is_control();
-            let slot = Slot {
-                arm: *a,
-                scenario: si,
-                control,
-            };
-            let summary = if control {
-                summarise_run(plan, slot, &without, &baseline, &req.checkpoints)
-            } else {
-                let out = run(
-                    plan,
+    for d in 0..req.draws {
+        if d > 0 && !random {
+            // Nothing varies: every draw is the first.
+            let first: Vec<RunSummary> = runs[..arms.len() * study.scenarios.len()].to_vec();
+            runs.extend(first.into_iter().map(|r| RunSummary { draw: d, ..r }));
+            continue;
+        }
+        let dr = draw(study, m, index, d, req.seed);
+        let plans = &base_plans;
+        let (baseline, physiology) = crate::model::energy::calibrate(&dr.participant.subject, &study.constants)
+            .map_err(|e| Error::Usage(format!("{}: participant {} (draw {}) cannot be calibrated: {e:?}; narrow the [uncertainty] errors", study.source_name, m.participant.id, d + 1)))?;
+        if d == 0 {
+            baseline_mass_kg = baseline.mass_kg;
+        }
+        let mut per_scenario: Vec<Vec<RunSummary>> = Vec::new();
+        for (si, sc) in dr.scenarios.iter().enumerate() {
+            if req.integrator == Integrator::Rk4
+                && plans.iter().all(super::fast::eligible)
+                && let Some(row) = fast_row(
+                    study,
+                    &arms,
+                    plans,
                     &physiology,
                     &baseline,
                     sc,
-                    mode(plan, true),
-                    Some(&deficits),
-                )?;
-                summarise_run(plan, slot, &out, &baseline, &req.checkpoints)
+                    &dr,
+                    si,
+                    req,
+                )
+            {
+                per_scenario.push(
+                    row.into_iter()
+                        .map(|mut s| {
+                            s.draw = d;
+                            s.completed = dr.last_exercise_week.is_none();
+                            s
+                        })
+                        .collect(),
+                );
+                continue;
+            }
+            let mode = |plan: &Plan, exercise: bool| RunMode {
+                exercise,
+                integrator: req.integrator,
+                attendance: dr.attendance,
+                last_exercise_week: dr.last_exercise_week,
+                ..RunMode::projection(plan)
             };
-            row.push(summary);
+            let without = run(
+                &plans[0],
+                &physiology,
+                &baseline,
+                sc,
+                mode(&plans[0], false),
+                None,
+            )?;
+            let deficits: Vec<f64> = without
+                .weeks
+                .iter()
+                .map(|w| w.end.achieved_deficit_kcal)
+                .collect();
+            let mut row = Vec::with_capacity(arms.len());
+            for (a, plan) in arms.iter().zip(plans) {
+                let control = study.arms[*a].is_control();
+                let slot = Slot {
+                    arm: *a,
+                    scenario: si,
+                    control,
+                };
+                let mut summary = if control {
+                    summarise_run(plan, slot, &without, &baseline, &req.checkpoints)
+                } else {
+                    let out = run(
+                        plan,
+                        &physiology,
+                        &baseline,
+                        sc,
+                        mode(plan, true),
+                        Some(&deficits),
+                    )?;
+                    summarise_run(plan, slot, &out, &baseline, &req.checkpoints)
+                };
+                summary.draw = d;
+                summary.completed = dr.last_exercise_week.is_none();
+                row.push(summary);
+            }
+            per_scenario.push(row);
         }
-        per_scenario.push(row);
-    }
-    // Arm-major order.
-    for ai in 0..arms.len() {
-        for row in &per_scenario {
-            runs.push(row[ai].clone());
+        for ai in 0..arms.len() {
+            for row in &per_scenario {
+                runs.push(row[ai].clone());
+            }
         }
     }
     Ok(MemberResult {
-        baseline_mass_kg: baseline.mass_kg,
+        baseline_mass_kg,
         runs,
     })
 }
@@ -215,8 +471,9 @@ pub fn run_cohort(
 ) -> Result<Vec<MemberResult>, Error> {
     let results: Vec<Result<MemberResult, Error>> = members
         .par_iter()
-        .map(|m| {
-            let r = simulate_member(study, m, req);
+        .enumerate()
+        .map(|(i, m)| {
+            let r = simulate_member(study, m, i, req);
             tick();
             r
         })
@@ -275,6 +532,51 @@ pub fn percentile(sorted: &[f64], q: f64) -> f64 {
     let lo = h.floor() as usize;
     let hi = h.ceil() as usize;
     sorted[lo] + (h - lo as f64) * (sorted[hi] - sorted[lo])
+}
+
+/// Whole minutes counted by value: the percentiles of [`percentile`] without sorting.
+struct MinuteCounts {
+    counts: Vec<u64>,
+    n: u64,
+}
+
+impl MinuteCounts {
+    fn of(values: impl Iterator<Item = u32>) -> MinuteCounts {
+        let mut counts: Vec<u64> = Vec::new();
+        let mut n = 0;
+        for v in values {
+            let i = v as usize;
+            if i >= counts.len() {
+                counts.resize(i + 1, 0);
+            }
+            counts[i] += 1;
+            n += 1;
+        }
+        MinuteCounts { counts, n }
+    }
+
+    /// The `k`-th smallest value (0-based).
+    fn nth(&self, k: u64) -> f64 {
+        let mut seen = 0;
+        for (v, c) in self.counts.iter().enumerate() {
+            seen += c;
+            if seen > k {
+                return v as f64;
+            }
+        }
+        0.0
+    }
+
+    /// As [`percentile`] on the sorted values.
+    fn percentile(&self, q: f64) -> f64 {
+        if self.n == 0 {
+            return 0.0;
+        }
+        let h = (self.n - 1) as f64 * q;
+        let (lo, hi) = (h.floor() as u64, h.ceil() as u64);
+        let (a, b) = (self.nth(lo), self.nth(hi));
+        a + (h - lo as f64) * (b - a)
+    }
 }
 
 /// Mean, SD (n - 1), median, 5th and 95th percentiles.
@@ -376,8 +678,12 @@ pub struct StaffHours {
 }
 
 impl StaffHours {
-    fn of(minutes_by_week: &[u64]) -> StaffHours {
-        let by_week: Vec<f64> = minutes_by_week.iter().map(|m| *m as f64 / 60.0).collect();
+    /// Hours from the minutes of every run, averaged over `draws` draws.
+    fn of(minutes_by_week: &[u64], draws: f64) -> StaffHours {
+        let by_week: Vec<f64> = minutes_by_week
+            .iter()
+            .map(|m| *m as f64 / 60.0 / draws)
+            .collect();
         let (peak_week, peak) =
             by_week.iter().enumerate().fold(
                 (0, 0.0),
@@ -386,7 +692,7 @@ impl StaffHours {
         StaffHours {
             peak_per_week: peak,
             peak_week: peak_week as u32 + 1,
-            total: minutes_by_week.iter().sum::<u64>() as f64 / 60.0,
+            total: minutes_by_week.iter().sum::<u64>() as f64 / 60.0 / draws,
             by_week,
         }
     }
@@ -397,8 +703,10 @@ impl StaffHours {
 pub struct ScenarioSpread {
     /// Scenario name.
     pub name: String,
-    /// Mass change at the end of the protocol, kg.
+    /// Mass change at the end of the protocol, kg, over everyone (intention to treat).
     pub mass_change_kg: Spread,
+    /// The same over completers only (None when nobody completes).
+    pub mass_change_completers_kg: Option<Spread>,
     /// Fat-mass change at the end of the protocol, kg.
     pub fat_mass_change_kg: Spread,
     /// Every checkpoint.
@@ -429,7 +737,7 @@ pub struct ArmSpread {
     pub control: bool,
     /// Participants simulated in this arm.
     pub participants: usize,
-    /// Participants expected to complete (everyone, until drop-out is modelled).
+    /// Participants expected to complete (not dropping out), over draws.
     pub completing: f64,
     /// Every scenario.
     pub scenarios: Vec<ScenarioSpread>,
@@ -483,7 +791,10 @@ pub fn summarise(
                     }
                 }
             }
-            let participants = runs.iter().filter(|(_, r)| r.scenario == 0).count();
+            let first = runs.iter().filter(|(_, r)| r.scenario == 0);
+            let participants = first.clone().filter(|(_, r)| r.draw == 0).count();
+            let completed = first.filter(|(_, r)| r.completed).count();
+            let draws = f64::from(req.draws.max(1));
             let scenarios = (0..ns)
                 .map(|si| {
                     let rs: Vec<&RunSummary> = runs
@@ -496,10 +807,17 @@ pub fn summarise(
                     let u =
                         |g: fn(&RunSummary) -> u32| rs.iter().map(|r| g(r)).collect::<Vec<u32>>();
                     let mass = f(|r| r.protocol_end_mass_change_kg);
+                    let completers: Vec<f64> = rs
+                        .iter()
+                        .filter(|r| r.completed)
+                        .map(|r| r.protocol_end_mass_change_kg)
+                        .collect();
                     let n = rs.len().max(1) as f64;
                     ScenarioSpread {
                         name: study.scenarios[si].name.clone(),
                         mass_change_kg: Spread::of(&mass),
+                        mass_change_completers_kg: (!completers.is_empty())
+                            .then(|| Spread::of(&completers)),
                         fat_mass_change_kg: Spread::of(&f(|r| r.protocol_end_fat_mass_change_kg)),
                         checkpoints: req
                             .checkpoints
@@ -521,14 +839,12 @@ pub fn summarise(
                         minutes_last_week: MinutesSpread::of(&u(|r| r.minutes_last_week)),
                         minutes_by_week: (0..weeks)
                             .map(|w| {
-                                let mut v: Vec<f64> =
-                                    rs.iter().map(|r| f64::from(r.minutes_by_week[w])).collect();
-                                v.sort_by(f64::total_cmp);
+                                let h = MinuteCounts::of(rs.iter().map(|r| r.minutes_by_week[w]));
                                 WeekMinutes {
                                     week: w as u32 + 1,
-                                    median: percentile(&v, 0.5),
-                                    p5: percentile(&v, 0.05),
-                                    p95: percentile(&v, 0.95),
+                                    median: h.percentile(0.5),
+                                    p5: h.percentile(0.05),
+                                    p95: h.percentile(0.95),
                                 }
                             })
                             .collect(),
@@ -551,14 +867,14 @@ pub fn summarise(
                 name: arm.name.clone(),
                 control: arm.is_control(),
                 participants,
-                completing: participants as f64,
+                completing: completed as f64 / draws,
                 scenarios,
-                staff_hours: StaffHours::of(&staff),
+                staff_hours: StaffHours::of(&staff, draws),
             }
         })
         .collect();
     CohortSummary {
         arms,
-        staff_hours: StaffHours::of(&staff_total),
+        staff_hours: StaffHours::of(&staff_total, f64::from(req.draws.max(1))),
     }
 }

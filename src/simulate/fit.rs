@@ -117,6 +117,8 @@ fn curve(
         anchor: false,
         weeks,
         integrator: crate::simulate::integrate::Integrator::Dopri5,
+        attendance: None,
+        last_exercise_week: None,
     };
     let out = run(plan, &physiology, &baseline, &sc, mode, None)?;
     let days = (obs.as_of_day as usize + 1).min(out.daily.len());

@@ -7,6 +7,7 @@
 pub mod adherence;
 pub mod band;
 pub mod cohort;
+pub mod fast;
 pub mod fit;
 pub mod goal;
 pub mod integrate;
@@ -366,6 +367,41 @@ pub struct RunMode<'a> {
     pub weeks: u32,
     /// The integrator.
     pub integrator: integrate::Integrator,
+    /// Planned sessions delivered with this probability, drawn per session from the key
+    /// (None: every session delivered).
+    pub attendance: Option<Attendance>,
+    /// The last week with exercise (a participant who drops out stops exercising
+    /// and goes on being simulated); None: every protocol week.
+    pub last_exercise_week: Option<u32>,
+}
+
+/// Session attendance of one draw: each planned bout is delivered with probability
+/// `probability`, decided by a hash of `key`, its day and bout number, so the same
+/// draw misses the same sessions in every arm (common random numbers).
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct Attendance {
+    /// Probability a planned session is delivered.
+    pub probability: f64,
+    /// The draw's key.
+    pub key: u64,
+}
+
+/// SplitMix64 (Steele, Lea and Flood 2014, OOPSLA "Fast splittable pseudorandom number
+/// generators"): a well-mixed 64-bit hash of `x`.
+pub fn splitmix64(x: u64) -> u64 {
+    let mut z = x.wrapping_add(0x9E37_79B9_7F4A_7C15);
+    z = (z ^ (z >> 30)).wrapping_mul(0xBF58_476D_1CE4_E5B9);
+    z = (z ^ (z >> 27)).wrapping_mul(0x94D0_49BB_1331_11EB);
+    z ^ (z >> 31)
+}
+
+impl Attendance {
+    /// Whether the bout on `day` (days from the start) with number `bout` is delivered.
+    pub fn delivered(&self, day: u32, bout: u32) -> bool {
+        let h = splitmix64(self.key ^ splitmix64(u64::from(day) << 8 | u64::from(bout)));
+        // The top 53 bits as a uniform number in [0, 1).
+        ((h >> 11) as f64) / ((1u64 << 53) as f64) < self.probability
+    }
 }
 
 impl RunMode<'_> {
@@ -385,6 +421,8 @@ impl RunMode<'_> {
             anchor: false,
             weeks: plan.protocol.total_weeks(),
             integrator: integrate::Integrator::Dopri5,
+            attendance: None,
+            last_exercise_week: None,
         }
     }
 }
@@ -444,7 +482,8 @@ pub fn run(
             rmr_kcal_per_day: rmr_w,
         };
         let in_protocol = w <= p.weeks;
-        let rx = (mode.exercise && in_protocol).then(|| {
+        let exercising = in_protocol && mode.last_exercise_week.is_none_or(|last| w <= last);
+        let rx = (mode.exercise && exercising).then(|| {
             prescribe(
                 plan,
                 physiology,
@@ -479,7 +518,14 @@ pub fn run(
         };
         let mut bouts: Vec<Bout> = rx
             .as_ref()
-            .map(|r| r.model_bouts(plan, |d| !is_past(d)))
+            .map(|r| {
+                r.model_bouts(plan, |b| {
+                    !is_past(&b.date)
+                        && mode.attendance.is_none_or(|a| {
+                            a.delivered((b.date - p.start).num_days() as u32, b.bout.unwrap_or(1))
+                        })
+                })
+            })
             .unwrap_or_default();
         if let (Some(o), true) = (obs, mode.exercise) {
             // A delivered session's minutes are its time at target; its warm-up and

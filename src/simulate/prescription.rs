@@ -93,10 +93,10 @@ pub struct Prescription {
 
 impl Prescription {
     /// The bouts to integrate: each bout at its activity, with its warm-up and
-    /// cool-down. `keep` chooses the bouts (by date) that count.
-    pub fn model_bouts(&self, plan: &Plan, keep: impl Fn(&NaiveDate) -> bool) -> Vec<Bout> {
+    /// cool-down. `keep` chooses the bouts that count.
+    pub fn model_bouts(&self, plan: &Plan, keep: impl Fn(&PlannedBout) -> bool) -> Vec<Bout> {
         let mut out = Vec::with_capacity(self.bouts.len() * 3);
-        for b in self.bouts.iter().filter(|b| keep(&b.date)) {
+        for b in self.bouts.iter().filter(|b| keep(b)) {
             out.push(Bout {
                 minutes: f64::from(b.minutes),
                 intensity: plan.activity_at(b.activity).intensity.clone(),

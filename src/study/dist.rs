@@ -78,6 +78,22 @@ impl Dist {
         matches!(self, Dist::Fixed { .. })
     }
 
+    /// A central value: the fixed value, the normal's mean held within its bounds, the
+    /// uniform's midpoint, the scaled beta's mean.
+    pub fn centre(&self) -> f64 {
+        match *self {
+            Dist::Fixed { value } => value,
+            Dist::Normal { mean, min, max, .. } => mean.clamp(min, max),
+            Dist::Uniform { min, max } => 0.5 * (min + max),
+            Dist::Beta {
+                alpha,
+                beta,
+                min,
+                max,
+            } => min + (max - min) * alpha / (alpha + beta),
+        }
+    }
+
     /// The lowest and highest value it can take.
     pub fn bounds(&self) -> (f64, f64) {
         match *self {

@@ -11,6 +11,7 @@ pub mod dist;
 pub mod randomise;
 pub mod raw;
 pub mod roster;
+pub mod sample_size;
 pub mod synthetic;
 mod validate;
 
@@ -85,6 +86,46 @@ pub struct Study {
     pub population: Option<Population>,
     /// Permuted-block size for `--randomise` (a multiple of the number of arms).
     pub block_size: u32,
+    /// Distributions of scenario values, per scenario in `SCENARIO_KEYS` order (None:
+    /// the fixed value in `scenarios`).
+    pub scenario_dists: Vec<[Option<Dist>; 5]>,
+    /// Individual variation, attendance and drop-out (None: none).
+    pub uncertainty: Option<Uncertainty>,
+}
+
+/// How the RMR equation's own error is drawn.
+#[derive(Debug, Clone, Copy, PartialEq, Serialize)]
+#[serde(rename_all = "snake_case")]
+pub enum RmrError {
+    /// The equation's published relative error (`RmrEquation::relative_error`).
+    Published,
+    /// A stated relative SD.
+    Sd(f64),
+}
+
+/// `[uncertainty]`.
+#[derive(Debug, Clone, Copy, PartialEq, Serialize)]
+pub struct Uncertainty {
+    /// The RMR factor's relative SD (a multiplicative normal factor around 1).
+    pub rmr_error: RmrError,
+    /// SD of body fat where it is estimated from BMI, percent (Deurenberg 1991: 4.1).
+    pub body_fat_error_percent: f64,
+    /// Probability a planned session is delivered.
+    pub attendance: f64,
+    /// Weekly drop-out hazard; a dropped participant stops exercising.
+    pub dropout_per_week: f64,
+}
+
+impl Study {
+    /// Whether a draw can differ from the deterministic run.
+    pub fn has_uncertainty(&self) -> bool {
+        self.uncertainty.is_some()
+            || self
+                .scenario_dists
+                .iter()
+                .flatten()
+                .any(|d| d.is_some_and(|d| !d.is_fixed()))
+    }
 }
 
 /// The dose a control arm's plan carries. It is never prescribed: control runs have

@@ -3,7 +3,7 @@
 //! keys refused. The shared protocol tables are the plan's own raw structs.
 
 use crate::plan::raw::{
-    Num, RawActivity, RawCalendar, RawDose, RawModel, RawProtocol, RawRotation, RawScenario, S,
+    Num, RawActivity, RawCalendar, RawDose, RawModel, RawProtocol, RawRotation, S,
 };
 use serde::Deserialize;
 
@@ -16,10 +16,56 @@ pub struct RawStudy {
     pub activity: Option<S<RawActivity>>,
     pub rotation: Option<Vec<S<RawRotation>>>,
     pub model: Option<S<RawModel>>,
-    pub scenario: Option<Vec<S<RawScenario>>>,
+    pub scenario: Option<Vec<S<RawStudyScenario>>>,
     pub calendar: Option<S<RawCalendar>>,
     pub arm: Option<Vec<S<RawArm>>>,
     pub synthetic: Option<S<RawSynthetic>>,
+    pub uncertainty: Option<S<RawUncertainty>>,
+}
+
+/// `[[scenario]]` of a study: each value fixed or a distribution.
+#[derive(Debug, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct RawStudyScenario {
+    pub name: Option<S<String>>,
+    pub intake_fraction: Option<S<RawValue>>,
+    pub intake_lag_days: Option<S<RawValue>>,
+    pub activity_fraction: Option<S<RawValue>>,
+    pub rmr_adaptation_kcal_per_kg: Option<S<RawValue>>,
+    pub diet_change_kcal_per_day: Option<S<RawValue>>,
+}
+
+impl RawStudyScenario {
+    /// The values by scenario key, in `SCENARIO_KEYS` order.
+    pub fn values(&self) -> [&Option<S<RawValue>>; 5] {
+        [
+            &self.intake_fraction,
+            &self.intake_lag_days,
+            &self.activity_fraction,
+            &self.rmr_adaptation_kcal_per_kg,
+            &self.diet_change_kcal_per_day,
+        ]
+    }
+}
+
+/// `[uncertainty]`: individual variation, attendance and drop-out for `--draws`.
+#[derive(Debug, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct RawUncertainty {
+    pub rmr_error: Option<S<RawRmrError>>,
+    pub body_fat_error_percent: Option<Num>,
+    pub attendance: Option<Num>,
+    pub dropout_per_week: Option<Num>,
+}
+
+/// `rmr_error = "published"` or a relative SD such as 0.1.
+#[derive(Debug, Deserialize)]
+#[serde(untagged)]
+pub enum RawRmrError {
+    /// A relative SD.
+    Sd(f64),
+    /// A word.
+    Word(String),
 }
 
 /// `[study]`.

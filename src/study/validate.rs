@@ -3,10 +3,12 @@
 
 use super::dist::{Dist, MIN_NORMAL_MASS};
 use super::raw::*;
-use super::{Arm, Population, Study};
+use super::{Arm, Population, RmrError, Study, Uncertainty};
 use crate::error::Error;
+use crate::model::Compensation;
 use crate::plan::raw::S;
 use crate::plan::validate::{Cx, io_reason};
+use crate::plan::{SCENARIO_KEYS, Scenario};
 use std::ops::Range;
 
 /// Read and validate a study file.
@@ -78,7 +80,12 @@ fn study(cx: &Cx, raw: RawStudy) -> Result<Study, Error> {
         .map(|(r, _)| r.0)
         .collect();
     let calendar = cx.calendar(raw.calendar.as_ref())?;
-    let scenarios = cx.scenarios(raw.scenario.as_deref())?;
+    let (scenarios, scenario_dists) = scenarios(cx, raw.scenario.as_deref())?;
+    let uncertainty = raw
+        .uncertainty
+        .as_ref()
+        .map(|u| uncertainty(cx, u))
+        .transpose()?;
     let population = raw
         .synthetic
         .as_ref()
@@ -129,8 +136,126 @@ fn study(cx: &Cx, raw: RawStudy) -> Result<Study, Error> {
         calendar,
         population,
         block_size,
+        scenario_dists,
+        uncertainty,
     })
 }
+
+/// The scenarios, each value fixed or a distribution. A scenario's `compensation`
+/// holds the fixed values and, for a distribution, its centre (the value shown where
+/// one number is needed; draws sample the distribution).
+#[allow(clippy::type_complexity)]
+fn scenarios(
+    cx: &Cx,
+    rs: Option<&[S<RawStudyScenario>]>,
+) -> Result<(Vec<Scenario>, Vec<[Option<Dist>; 5]>), Error> {
+    let Some(rs) = rs.filter(|r| !r.is_empty()) else {
+        return Ok((
+            vec![Scenario {
+                name: "as prescribed".to_string(),
+                compensation: Compensation::default(),
+            }],
+            vec![[None; 5]],
+        ));
+    };
+    let mut out: Vec<Scenario> = Vec::new();
+    let mut dists = Vec::new();
+    for (i, r) in rs.iter().enumerate() {
+        let s = r.get_ref();
+        let tn = format!("scenario[{}]", i + 1);
+        let name = cx.required(
+            &s.name,
+            &r.span(),
+            &tn,
+            "name",
+            "every scenario needs a unique, non-empty name",
+        )?;
+        let n = name.get_ref().trim();
+        if n.is_empty() {
+            return Err(cx.err(
+                &name.span(),
+                &format!("{tn}.name"),
+                "empty; every scenario needs a unique, non-empty name",
+            ));
+        }
+        if out.iter().any(|o| o.name == n) {
+            return Err(cx.err(
+                &name.span(),
+                &format!("{tn}.name"),
+                format!("\"{n}\" is used by an earlier scenario; names must be unique"),
+            ));
+        }
+        let mut compensation = Compensation::default();
+        let mut d: [Option<Dist>; 5] = [None; 5];
+        for (k, ((key, lo, hi, unit), v)) in SCENARIO_KEYS.iter().zip(s.values()).enumerate() {
+            if let Some(v) = v {
+                let dist = value(cx, v, &format!("{tn}.{key}"), *lo, *hi, unit)?;
+                compensation.set(key, dist.centre());
+                if !dist.is_fixed() {
+                    d[k] = Some(dist);
+                }
+            }
+        }
+        out.push(Scenario {
+            name: n.to_string(),
+            compensation,
+        });
+        dists.push(d);
+    }
+    Ok((out, dists))
+}
+
+fn uncertainty(cx: &Cx, ru: &S<RawUncertainty>) -> Result<Uncertainty, Error> {
+    let u = ru.get_ref();
+    let tn = "uncertainty";
+    let rmr_error = match &u.rmr_error {
+        None => RmrError::Published,
+        Some(v) => match v.get_ref() {
+            RawRmrError::Word(w) if w == "published" => RmrError::Published,
+            RawRmrError::Word(w) => {
+                return Err(cx.err(&v.span(), "uncertainty.rmr_error", format!("unknown value \"{w}\"; allowed \"published\" (the equation's own relative error) or a relative SD from 0 to 0.3, e.g. 0.1")));
+            }
+            RawRmrError::Sd(x) if x.is_finite() && (0.0..=0.3).contains(x) => RmrError::Sd(*x),
+            RawRmrError::Sd(x) => {
+                return Err(cx.err(&v.span(), "uncertainty.rmr_error", format!("value {x} is out of range; allowed a relative SD from 0 to 0.3 (0.1 is 10%), or \"published\"")));
+            }
+        },
+    };
+    let num = |v: &Option<crate::plan::raw::Num>,
+               key: &str,
+               lo: f64,
+               hi: f64,
+               unit: &str,
+               default: f64|
+     -> Result<f64, Error> {
+        Ok(cx
+            .opt_number(v, &format!("{tn}.{key}"), lo, hi, unit)?
+            .unwrap_or(default))
+    };
+    Ok(Uncertainty {
+        rmr_error,
+        body_fat_error_percent: num(
+            &u.body_fat_error_percent,
+            "body_fat_error_percent",
+            0.0,
+            10.0,
+            " % body fat",
+            DEURENBERG_SEE_PERCENT,
+        )?,
+        attendance: num(&u.attendance, "attendance", 0.05, 1.0, "", 1.0)?,
+        dropout_per_week: num(
+            &u.dropout_per_week,
+            "dropout_per_week",
+            0.0,
+            0.5,
+            " per week",
+            0.0,
+        )?,
+    })
+}
+
+/// Deurenberg et al. 1991 (Br J Nutr 65:105): SEE of body fat from BMI, 4.1 %.
+pub const DEURENBERG_SEE_PERCENT: f64 = 4.1;
 
 fn arms(cx: &Cx, raw: Option<&[S<RawArm>]>) -> Result<Vec<Arm>, Error> {
     let Some(raw) = raw.filter(|r| !r.is_empty()) else {
