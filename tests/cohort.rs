@@ -1289,6 +1289,430 @@ fn the_library_runner_does_not_depend_on_the_thread_count() {
 }
 
 // ---------------------------------------------------------------------------
+// Bad rosters, study files and requests: exit code 2, the exact message
+// ---------------------------------------------------------------------------
+
+const H: &str = "id,sex,age_years,height_cm,mass_kg";
+
+/// One bad run: the study (None: the pilot study), the roster text, the arguments
+/// after `cohort study.toml`, and the full standard error.
+struct Bad {
+    name: &'static str,
+    study: Option<String>,
+    roster: String,
+    args: &'static [&'static str],
+    expected: String,
+}
+
+fn bad_roster(
+    name: &'static str,
+    roster: &str,
+    args: &'static [&'static str],
+    expected: &str,
+) -> Bad {
+    Bad {
+        name,
+        study: None,
+        roster: roster.to_string(),
+        args,
+        expected: format!("error: {expected}\n"),
+    }
+}
+
+/// The pilot study with each `(old, new)` replaced (each `old` exactly once).
+fn pilot_with(edits: &[(&str, &str)]) -> String {
+    edit(&repo_file(PILOT), edits)
+}
+
+fn bad_study(
+    name: &'static str,
+    study: String,
+    args: &'static [&'static str],
+    expected: &str,
+) -> Bad {
+    Bad {
+        name,
+        study: Some(study),
+        roster: format!("{H}\nBS-01,female,40,165,80\n"),
+        args,
+        expected: format!("error: {expected}\n"),
+    }
+}
+
+const RANDOMISE: &[&str] = &["--randomise"];
+const ARMS_ALL: &str = "\"control\", \"8 kcal/kg/week\", \"12 kcal/kg/week\"";
+
+fn bad_runs() -> Vec<Bad> {
+    let pilot = repo_file(PILOT);
+    let synthetic_at = pilot
+        .find("\n# The population to draw")
+        .expect("the [synthetic] comment");
+    // The tables themselves (the file's opening comment names them too).
+    let arms_at = pilot.find("\n[[arm]]\n").unwrap() + 1;
+    let arms_end = pilot.find("\n[[scenario]]\n").unwrap() + 1;
+    let no_arms = format!("{}{}", &pilot[..arms_at], &pilot[arms_end..]);
+    let dose_8 =
+        "dose = { kcal_per_kg_week = 8.0, basis = \"gross\", mass_basis = \"baseline\" }\n";
+    let dose_12 =
+        "dose = { kcal_per_kg_week = 12.0, basis = \"gross\", mass_basis = \"baseline\" }\n";
+    let ramp = "[protocol.ramp]\nweeks = 4                      # full dose from week 5\nstart_fraction = 0.5\n";
+    let line_of =
+        |text: &str, needle: &str| text[..text.find(needle).unwrap()].matches('\n').count() + 1;
+    let pal_line = line_of(&pilot, "pal = { dist");
+    let bmi_line = line_of(&pilot, "bmi = { dist");
+    vec![
+        // Rosters. Line numbers are file lines (the header is line 1).
+        bad_roster(
+            "missing_column",
+            "id,sex,age_years,height_cm\nR-1,female,40,165\n",
+            RANDOMISE,
+            "roster.csv:1: mass_kg: missing required column; the header needs id,sex,age_years,height_cm,mass_kg",
+        ),
+        bad_roster(
+            "height_in_metres",
+            &format!("{H}\nR-1,female,40,165,80\nR-2,male,50,1.78,90\n"),
+            RANDOMISE,
+            "roster.csv:3: height_cm: value 1.78 looks like metres; give the height in centimetres (e.g. 178); allowed 120 to 230 cm",
+        ),
+        bad_roster(
+            "duplicate_code",
+            &format!("{H}\nR-1,female,40,165,80\nR-2,male,50,175,90\nR-1,male,45,170,85\n"),
+            RANDOMISE,
+            "roster.csv:4: id: \"R-1\" is already used on line 2; codes must be unique",
+        ),
+        bad_roster(
+            "unknown_arm",
+            &format!("{H},arm\nR-1,female,40,165,80,control\nR-2,male,50,175,90,high dose\n"),
+            &[],
+            &format!(
+                "roster.csv:3: arm: unknown arm \"high dose\"; the study's arms are {ARMS_ALL}"
+            ),
+        ),
+        bad_roster(
+            "arm_name_in_other_case",
+            &format!("{H},arm\nR-1,female,40,165,80,Control\n"),
+            &[],
+            &format!("roster.csv:2: arm: unknown arm \"Control\"; the study's arms are {ARMS_ALL}"),
+        ),
+        bad_roster(
+            "empty_file",
+            "",
+            RANDOMISE,
+            "roster.csv: empty roster; the first line is the header, e.g. id,sex,age_years,height_cm,mass_kg",
+        ),
+        bad_roster(
+            "only_blank_lines_and_comments",
+            "\n# invented\n\n",
+            RANDOMISE,
+            "roster.csv: empty roster; the first line is the header, e.g. id,sex,age_years,height_cm,mass_kg",
+        ),
+        bad_roster(
+            "header_only",
+            &format!("{H}\n"),
+            RANDOMISE,
+            "roster.csv: the roster has a header but no participants; add one row per participant",
+        ),
+        bad_roster(
+            "too_few_cells",
+            &format!("{H}\nR-1,female,40,165,80\nR-2,male,50,175\n"),
+            RANDOMISE,
+            "roster.csv:3: 4 cells for 5 columns; every row needs one cell per header column (no commas inside values)",
+        ),
+        bad_roster(
+            "too_many_cells",
+            &format!("{H}\nR-1,female,40,165,80,1.5\n"),
+            RANDOMISE,
+            "roster.csv:2: 6 cells for 5 columns; every row needs one cell per header column (no commas inside values)",
+        ),
+        bad_roster(
+            "mixed_arm_column",
+            &format!(
+                "{H},arm\nR-1,female,40,165,80,control\nR-2,male,50,175,90,\nR-3,male,52,172,88,control\n"
+            ),
+            &[],
+            "roster.csv:3: arm: empty while other rows give an arm; give every participant an arm, or leave the column empty everywhere and use --randomise",
+        ),
+        bad_roster(
+            "not_a_number",
+            &format!("{H}\nR-1,female,forty,165,80\n"),
+            RANDOMISE,
+            "roster.csv:2: age_years: value \"forty\" is not a number; allowed 18 to 100 years",
+        ),
+        bad_roster(
+            "comment_and_blank_lines_keep_file_line_numbers",
+            &format!("# invented roster\n{H}\n\nR-1,female,40,165,80\nR-2,male,50,175,ninety\n"),
+            RANDOMISE,
+            "roster.csv:5: mass_kg: value \"ninety\" is not a number; allowed 30 to 350 kg",
+        ),
+        bad_roster(
+            "windows_line_endings",
+            &format!("{H}\r\nR-1,female,40,165,80\r\nR-2,male,50,175,x\r\n"),
+            RANDOMISE,
+            "roster.csv:3: mass_kg: value \"x\" is not a number; allowed 30 to 350 kg",
+        ),
+        bad_roster(
+            "out_of_range",
+            &format!("{H}\nR-1,female,17,165,80\n"),
+            RANDOMISE,
+            "roster.csv:2: age_years: value 17 is out of range; allowed 18 to 100 years",
+        ),
+        bad_roster(
+            "mass_in_pounds",
+            &format!("{H}\nR-1,female,40,165,300\n"),
+            RANDOMISE,
+            "roster.csv:2: mass_kg: value 300 with height 165 cm gives BMI 110.2, outside the allowed 13 to 80 kg/m^2; check the units (kg, cm; a mass in pounds must be converted)",
+        ),
+        bad_roster(
+            "body_fat_as_a_fraction",
+            &format!("{H},body_fat_percent\nR-1,female,40,165,80,0.38\n"),
+            RANDOMISE,
+            "roster.csv:2: body_fat_percent: value 0.38 looks like a fraction; give a percent (e.g. 38); allowed 3 to 70",
+        ),
+        bad_roster(
+            "unknown_column",
+            &format!("{H},weight_lb\nR-1,female,40,165,80,176\n"),
+            RANDOMISE,
+            "roster.csv:1: weight_lb: unknown column \"weight_lb\"; allowed columns id, sex, age_years, height_cm, mass_kg, body_fat_percent, rmr_kcal_per_day, intake_kcal_per_day, pal, exercises_regularly, known_disease, signs_or_symptoms, medical_clearance, arm",
+        ),
+        bad_roster(
+            "column_twice",
+            &format!("{H},mass_kg\nR-1,female,40,165,80,80\n"),
+            RANDOMISE,
+            "roster.csv:1: mass_kg: column \"mass_kg\" appears twice in the header",
+        ),
+        bad_roster(
+            "unknown_sex",
+            &format!("{H}\nR-1,F,40,165,80\n"),
+            RANDOMISE,
+            "roster.csv:2: sex: unknown value \"F\"; allowed female, male",
+        ),
+        bad_roster(
+            "empty_code",
+            &format!("{H}\n,female,40,165,80\n"),
+            RANDOMISE,
+            "roster.csv:2: id: empty; give a pseudonymous code such as \"R-104\"",
+        ),
+        bad_roster(
+            "partial_screening",
+            &format!(
+                "{H},exercises_regularly,known_disease,signs_or_symptoms\nR-1,female,40,165,80,true,,false\n"
+            ),
+            RANDOMISE,
+            "roster.csv:2: known_disease: empty while other screening answers are given; answer all three (true or false) or none",
+        ),
+        bad_roster(
+            "pal_below_the_model",
+            &format!("{H},pal\nR-1,female,40,165,80,1.1\n"),
+            RANDOMISE,
+            "roster.csv:2: pal: participant \"R-1\": PAL 1.10 leaves -15 kcal/day for non-exercise activity after the thermic effect of food; allowed a PAL above 1.11",
+        ),
+        // Allocation requests.
+        bad_roster(
+            "randomise_with_an_arm_column",
+            &format!("{H},arm\nR-1,female,40,165,80,control\n"),
+            RANDOMISE,
+            "--randomise: the roster already gives every participant an arm; leave out --randomise, or empty the roster's arm column",
+        ),
+        bad_roster(
+            "no_arms_and_no_allocation",
+            &format!("{H}\nR-1,female,40,165,80\n"),
+            &[],
+            &format!(
+                "the roster gives no arm; add an arm column (one of {ARMS_ALL}), or use --randomise or --all-arms"
+            ),
+        ),
+        bad_roster(
+            "empty_arm_column_and_no_allocation",
+            &format!("{H},arm\nR-1,female,40,165,80,\n"),
+            &[],
+            &format!(
+                "the roster gives no arm; add an arm column (one of {ARMS_ALL}), or use --randomise or --all-arms"
+            ),
+        ),
+        // Study files. Positions are line:column of the offending value or table.
+        bad_study(
+            "dose_in_the_protocol",
+            pilot_with(&[(
+                "[protocol.ramp]",
+                "[protocol.dose]\nkcal_per_week = 1000\n\n[protocol.ramp]",
+            )]),
+            RANDOMISE,
+            &format!(
+                "study.toml:{}:1: protocol.dose: a study gives the dose in each [[arm]], not in [protocol]; move it to an arm's dose = {{ ... }}",
+                line_of(&pilot, "[protocol.ramp]")
+            ),
+        ),
+        bad_study(
+            "no_arm",
+            no_arms,
+            RANDOMISE,
+            "study.toml: arm: no [[arm]]; give one [[arm]] per dose, each with a name and a dose = { kcal_per_kg_week = ... } (an arm with no dose is a control)",
+        ),
+        bad_study(
+            "every_arm_a_control",
+            pilot_with(&[(dose_8, ""), (dose_12, ""), (ramp, "")]),
+            RANDOMISE,
+            "study.toml: arm: every arm is a control with no exercise; give at least one arm a dose = { ... }",
+        ),
+        bad_study(
+            "duplicate_arm_name",
+            pilot_with(&[("name = \"12 kcal/kg/week\"", "name = \"8 kcal/kg/week\"")]),
+            RANDOMISE,
+            &format!(
+                "study.toml:{}:8: arm[3].name: \"8 kcal/kg/week\" is used by an earlier arm; names must be unique",
+                line_of(&pilot, "name = \"12 kcal/kg/week\"")
+            ),
+        ),
+        bad_study(
+            "block_size_not_a_multiple_of_the_arms",
+            pilot_with(&[("block_size = 6 ", "block_size = 4 ")]),
+            RANDOMISE,
+            &format!(
+                "study.toml:{}:14: study.block_size: value 4 is not a multiple of the 3 arms; allowed 3, 6, 9, ...",
+                line_of(&pilot, "block_size = 6")
+            ),
+        ),
+        bad_study(
+            "unknown_distribution",
+            pilot_with(&[(
+                "dist = \"uniform\", min = 1.4",
+                "dist = \"lognormal\", min = 1.4",
+            )]),
+            RANDOMISE,
+            &format!(
+                "study.toml:{pal_line}:7: synthetic.pal: unknown dist \"lognormal\"; allowed normal, uniform, beta"
+            ),
+        ),
+        bad_study(
+            "normal_with_sd_0",
+            pilot_with(&[("mean = 30, sd = 3,", "mean = 30, sd = 0,")]),
+            RANDOMISE,
+            &format!(
+                "study.toml:{bmi_line}:7: synthetic.bmi: mean 30 and sd 0: the mean must be finite and the sd above 0"
+            ),
+        ),
+        bad_study(
+            "bounds_keeping_under_5_percent",
+            pilot_with(&[(
+                "mean = 30, sd = 3, min = 25, max = 38",
+                "mean = 30, sd = 3, min = 36, max = 38",
+            )]),
+            RANDOMISE,
+            // Share kept: Phi((38-30)/3) - Phi((36-30)/3) = Phi(2.667) - Phi(2) =
+            // 0.99617 - 0.97725 = 0.0189 (standard normal table; derived).
+            &format!(
+                "study.toml:{bmi_line}:7: synthetic.bmi: the bounds 36 to 38 keep 1.9% of a normal with mean 30 and sd 3; allowed bounds that keep at least 5% (check the mean and units)"
+            ),
+        ),
+        bad_study(
+            "heights_in_metres",
+            pilot_with(&[(
+                "height_cm_male = { dist = \"normal\", mean = 178, sd = 7, min = 160, max = 198 }",
+                "height_cm_male = { dist = \"normal\", mean = 1.78, sd = 0.07 }",
+            )]),
+            RANDOMISE,
+            &format!(
+                "study.toml:{}:18: synthetic.height_cm_male: the bounds 120 to 230 keep 0.0% of a normal with mean 1.78 and sd 0.07; allowed bounds that keep at least 5% (check the mean and units)",
+                line_of(&pilot, "height_cm_male")
+            ),
+        ),
+        bad_study(
+            "synthetic_without_a_population",
+            pilot[..synthetic_at + 1].to_string(),
+            &[],
+            "--synthetic: study.toml has no [synthetic] table describing the population to draw from; add one, or give --roster FILE",
+        ),
+    ]
+}
+
+#[test]
+fn bad_rosters_and_studies_name_the_place_and_exit_with_code_2() {
+    let mut failures = Vec::new();
+    for b in bad_runs() {
+        let dir = Scratch::new("cohort-bad");
+        dir.write(
+            "study.toml",
+            b.study.clone().unwrap_or_else(|| repo_file(PILOT)),
+        );
+        dir.write("roster.csv", &b.roster);
+        let who: Vec<&str> = if b.name == "synthetic_without_a_population" {
+            vec!["--synthetic", "5"]
+        } else {
+            vec!["--roster", "roster.csv"]
+        };
+        let r = run(dir
+            .cmd()
+            .args(["cohort", "study.toml"])
+            .args(&who)
+            .args(b.args)
+            .arg("--quiet"));
+        if r.code != Some(2) || !r.stdout.is_empty() || r.stderr != b.expected {
+            failures.push(format!(
+                "{}: exit {:?}, stdout {:?}\n  got:  {:?}\n  want: {:?}",
+                b.name, r.code, r.stdout, r.stderr, b.expected
+            ));
+        }
+        assert_eq!(
+            dir.listing(),
+            ["roster.csv", "study.toml"],
+            "{}: nothing written",
+            b.name
+        );
+    }
+    assert!(failures.is_empty(), "{}", failures.join("\n"));
+}
+
+#[test]
+fn bad_requests_exit_with_code_2() {
+    for (args, msg) in [
+        (
+            &[PILOT, "--synthetic", "0"][..],
+            "error: --synthetic 0: allowed 1 to 100000 participants\n",
+        ),
+        (
+            &[PILOT, "--roster", PILOT_ALLOCATED, "--at-week", "37"][..],
+            "error: --at-week 37: outside the study's weeks; allowed 1 to 36 (protocol and follow-up)\n",
+        ),
+        (
+            &[PILOT, "--roster", PILOT_ALLOCATED, "--threads", "0"][..],
+            "error: --threads 0: allowed 1 to 256\n",
+        ),
+        (
+            &[PILOT, "--roster", PILOT_ALLOCATED, "--draws", "2"][..],
+            "error: --draws 2: only one draw per participant is simulated yet (the study has no uncertainty to draw); use --draws 1\n",
+        ),
+        (
+            &[
+                PILOT,
+                "--roster",
+                "demo-data/no-such-roster.csv",
+                "--randomise",
+            ][..],
+            "error: demo-data/no-such-roster.csv: cannot read: no such file\n",
+        ),
+    ] {
+        let r = cohort_in_root(args);
+        assert_eq!(r.code, Some(2), "{args:?}: {}", r.stderr);
+        assert_eq!(r.stdout, "");
+        assert_eq!(r.stderr, msg);
+    }
+    // Exactly one of --roster and --synthetic (clap's own usage error, also code 2).
+    for args in [
+        &[PILOT][..],
+        &[PILOT, "--roster", PILOT_ROSTER, "--synthetic", "4"][..],
+    ] {
+        let r = cohort_in_root(args);
+        assert_eq!(r.code, Some(2), "{args:?}");
+        assert_eq!(r.stdout, "");
+        assert!(
+            r.stderr.contains("--roster <FILE>|--synthetic <N>"),
+            "{}",
+            r.stderr
+        );
+    }
+}
+
+// ---------------------------------------------------------------------------
 // Percentiles
 // ---------------------------------------------------------------------------
 
