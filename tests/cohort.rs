@@ -1784,3 +1784,138 @@ fn snapshot_pilot_allocated_table() {
     assert_eq!(r.code, Some(0), "{}", r.stderr);
     insta::assert_snapshot!("pilot_allocated_table", r.stdout);
 }
+
+// ---------------------------------------------------------------------------
+// Open bugs (see the ignore text; un-ignore once fixed in src/)
+// ---------------------------------------------------------------------------
+
+#[test]
+#[ignore = "bug: the roster splits on commas and keeps CSV quotes, so \"PIL-001\" becomes an id with quote marks (the participant log reads quoted cells)"]
+fn a_quoted_roster_cell_is_read_without_its_quotes() {
+    // A spreadsheet may save every text cell in double quotes (RFC 4180). The log
+    // parser reads them (src/log/parse.rs); the roster keeps the quote marks as part
+    // of the code, silently, and a quoted number is refused as "not a number".
+    let dir = Scratch::new("cohort-quoted");
+    dir.write("study.toml", repo_file(PILOT));
+    dir.write(
+        "roster.csv",
+        format!("{H},arm\n\"PIL-001\",\"female\",40,165,\"80.0\",\"control\"\n"),
+    );
+    let r = run(dir.cmd().args([
+        "cohort",
+        "study.toml",
+        "--roster",
+        "roster.csv",
+        "--quiet",
+        "--format",
+        "csv",
+    ]));
+    assert_eq!(r.code, Some(0), "{}", r.stderr);
+    let rows = csv_rows(&r.stdout);
+    assert_eq!(rows[0]["id"], "PIL-001");
+    assert_eq!(rows[0]["baseline_mass_kg"], "80.0");
+}
+
+#[test]
+#[ignore = "bug: an arm with no participants is summarised as a 0.0 kg change with a 0% dose share instead of no data"]
+fn an_arm_without_participants_reports_no_numbers() {
+    // With nobody in the 12 kcal/kg/week arm, its summaries are over no one, yet the
+    // JSON gives mass_change_kg {mean 0, sd 0, ...} and dose_share_mean 0, and the
+    // table prints "+0.0 (0.0)" and "0%" for a dosed arm: numbers no run produced.
+    let dir = Scratch::new("cohort-empty-arm");
+    dir.write("study.toml", repo_file(PILOT));
+    dir.write(
+        "roster.csv",
+        format!("{H},arm\nEA-01,female,40,165,80,control\nEA-02,male,50,178,90,8 kcal/kg/week\n"),
+    );
+    let r = run(dir.cmd().args([
+        "cohort",
+        "study.toml",
+        "--roster",
+        "roster.csv",
+        "--quiet",
+        "--format",
+        "json",
+    ]));
+    assert_eq!(r.code, Some(0), "{}", r.stderr);
+    let j: Value = serde_json::from_str(&r.stdout).unwrap();
+    let empty = json_arm(&j, "12 kcal/kg/week");
+    assert_eq!(empty["participants"], 0);
+    for s in array(empty, "scenarios") {
+        assert!(
+            s["dose_share_mean"].is_null(),
+            "dose share over no one: {}",
+            s["dose_share_mean"]
+        );
+        assert!(
+            s["mass_change_kg"]["mean"].is_null(),
+            "mean over no one: {}",
+            s["mass_change_kg"]
+        );
+    }
+}
+
+#[test]
+#[ignore = "bug: a [synthetic] value that is neither a number nor a distribution table gets serde's \"data did not match any variant of untagged enum RawValue\""]
+fn a_synthetic_value_of_the_wrong_shape_says_what_is_allowed() {
+    for (old, new) in [
+        (
+            "pal = { dist = \"uniform\", min = 1.4, max = 1.7 }",
+            "pal = \"high\"",
+        ),
+        (
+            "pal = { dist = \"uniform\", min = 1.4, max = 1.7 }",
+            "pal = { dist = \"uniform\", min = 1.4, max = 1.7, mode = 1.5 }",
+        ),
+    ] {
+        let dir = Scratch::new("cohort-shape");
+        dir.write("study.toml", pilot_with(&[(old, new)]));
+        let r = run(dir
+            .cmd()
+            .args(["cohort", "study.toml", "--synthetic", "3", "--quiet"]));
+        assert_eq!(r.code, Some(2));
+        assert!(!r.stderr.contains("untagged enum"), "{}", r.stderr);
+        assert!(
+            r.stderr.contains("synthetic.pal") && r.stderr.contains("dist"),
+            "names the key and the allowed forms: {}",
+            r.stderr
+        );
+    }
+}
+
+#[test]
+#[ignore = "bug: cohort gives no intake-pal-drift warning for a roster row whose measured intake and PAL disagree, though schedule does and the drift moves the arm's mass change"]
+fn a_participant_out_of_balance_before_exercise_earns_the_drift_warning() {
+    // README: every output carries the warnings the plan earns. DR-01's intake (2400
+    // kcal/day) is below the 2535 kcal/day her PAL implies (Mifflin-St Jeor RMR
+    // 10 x 93.6 + 6.25 x 170.5 - 5 x 41 - 161 = 1635.6 kcal/day, x 1.55; derived), so
+    // `schedule` warns intake-pal-drift; in the cohort she loses about 2.5 kg in 24
+    // weeks in the control arm with nothing said.
+    let dir = Scratch::new("cohort-drift");
+    dir.write("study.toml", repo_file(PILOT));
+    dir.write(
+        "roster.csv",
+        "id,sex,age_years,height_cm,mass_kg,intake_kcal_per_day,pal,arm\nDR-01,female,41,170.5,93.6,2400,1.55,control\n",
+    );
+    let r = run(dir.cmd().args([
+        "cohort",
+        "study.toml",
+        "--roster",
+        "roster.csv",
+        "--quiet",
+        "--format",
+        "json",
+    ]));
+    assert_eq!(r.code, Some(0), "{}", r.stderr);
+    let j: Value = serde_json::from_str(&r.stdout).unwrap();
+    let control = &array(json_arm(&j, "control"), "scenarios")[0];
+    assert!(
+        num(&control["mass_change_kg"], "mean") < -2.0,
+        "the drift is there"
+    );
+    assert!(
+        warning_codes(&j).iter().any(|c| c == "intake-pal-drift"),
+        "warnings: {:?}",
+        warning_codes(&j)
+    );
+}
