@@ -3,7 +3,9 @@
 //! cautions on every human-facing output.
 //!
 //! Every case runs the real binary in a fresh scratch folder holding a copy of the
-//! demo plan (`plan.toml`) and the demo log (`log.csv`); both are invented data.
+//! demo plan (`plan.toml`), the demo log (`log.csv`), a small study (`study.toml`)
+//! and two rosters for it (`roster.csv` with arms, `roster-no-arms.csv` without);
+//! all are invented data.
 #![cfg(unix)]
 
 mod common;
@@ -20,12 +22,132 @@ const DEMO_LOG: &str = include_str!("../demo-data/demo-017-log.csv");
 const PLAN_FIRST: &str = "2027-01-11";
 const PLAN_LAST: &str = "2027-09-20";
 
-/// A fresh folder with `plan.toml` and `log.csv`.
+/// The study of the `cohort` cases without its `[synthetic]` population: three
+/// arms (a control with no dose and two energy doses), 8 weeks and 4 of follow-up,
+/// two scenarios. Small, so that a cohort runs in milliseconds.
+macro_rules! study_without_population {
+    () => {
+        r#"# An invented three-arm study for the hard-edge tests.
+[study]
+name = "hard edges study"
+
+[protocol]
+start = 2027-01-04
+weeks = 8
+follow_up_weeks = 4
+session_days = ["mon", "wed", "fri"]
+max_session_minutes = 60
+
+[activity]
+compendium_code = "17200"
+label = "treadmill walk, brisk"
+
+[[arm]]
+name = "control"
+
+[[arm]]
+name = "low"
+dose = { kcal_per_kg_week = 6.0 }
+
+[[arm]]
+name = "high"
+dose = { kcal_per_kg_week = 12.0 }
+
+[[scenario]]
+name = "as prescribed"
+
+[[scenario]]
+name = "eats back 40%"
+intake_fraction = 0.4
+intake_lag_days = 21.0
+"#
+    };
+}
+
+/// The study of the `cohort` cases (`study.toml`), with a synthetic population.
+const STUDY: &str = concat!(
+    study_without_population!(),
+    r#"
+[synthetic]
+female_fraction = 0.5
+age_years = { dist = "uniform", min = 30, max = 59 }
+height_cm_female = { dist = "normal", mean = 164, sd = 6, min = 150, max = 180 }
+height_cm_male = { dist = "normal", mean = 177, sd = 7, min = 160, max = 195 }
+bmi = { dist = "normal", mean = 30, sd = 3, min = 25, max = 38 }
+body_fat_percent = { dist = "beta", alpha = 4, beta = 5, min = 25, max = 50 }
+pal = { dist = "uniform", min = 1.4, max = 1.7 }
+"#
+);
+
+/// The same study with no population to draw from.
+const STUDY_WITHOUT_POPULATION: &str = study_without_population!();
+
+/// The file-name stem of the study's charts (its name, spaces as `_`).
+const COHORT_CHARTS: [&str; 2] = [
+    "charts/hard_edges_study-mass-change.svg",
+    "charts/hard_edges_study-minutes.svg",
+];
+
+/// A roster with the screening answers and an arm for everyone (`roster.csv`):
+/// three screening results (no clearance needed as a beginner, known disease with
+/// clearance on file, exercising regularly).
+const ROSTER: &str = "\
+id,sex,age_years,height_cm,mass_kg,body_fat_percent,pal,exercises_regularly,known_disease,signs_or_symptoms,medical_clearance,arm
+R-101,female,44,165,86.0,40.0,1.5,false,false,false,false,control
+R-102,male,51,178,98.5,31.0,1.55,false,false,false,false,low
+R-103,female,38,160,79.0,38.5,1.45,false,false,false,false,high
+R-104,male,47,182,104.0,33.0,1.6,false,false,false,false,high
+R-105,female,56,168,92.0,42.0,1.5,false,true,false,true,low
+R-106,male,42,175,95.0,30.5,1.5,true,false,false,false,control
+";
+
+/// The same participants and arms with no screening answers.
+const ROSTER_UNSCREENED: &str = "\
+id,sex,age_years,height_cm,mass_kg,body_fat_percent,pal,arm
+R-101,female,44,165,86.0,40.0,1.5,control
+R-102,male,51,178,98.5,31.0,1.55,low
+R-103,female,38,160,79.0,38.5,1.45,high
+R-104,male,47,182,104.0,33.0,1.6,high
+R-105,female,56,168,92.0,42.0,1.5,low
+R-106,male,42,175,95.0,30.5,1.5,control
+";
+
+/// The same participants with no arm column (`roster-no-arms.csv`).
+const ROSTER_NO_ARMS: &str = "\
+id,sex,age_years,height_cm,mass_kg,body_fat_percent,pal,exercises_regularly,known_disease,signs_or_symptoms,medical_clearance
+R-101,female,44,165,86.0,40.0,1.5,false,false,false,false
+R-102,male,51,178,98.5,31.0,1.55,false,false,false,false
+R-103,female,38,160,79.0,38.5,1.45,false,false,false,false
+R-104,male,47,182,104.0,33.0,1.6,false,false,false,false
+R-105,female,56,168,92.0,42.0,1.5,false,true,false,true
+R-106,male,42,175,95.0,30.5,1.5,true,false,false,false
+";
+
+/// The files every fresh folder holds.
+const INPUTS: [&str; 5] = [
+    "log.csv",
+    "plan.toml",
+    "roster-no-arms.csv",
+    "roster.csv",
+    "study.toml",
+];
+
+/// A fresh folder with the demo plan and log, the study and its rosters.
 fn fresh(tag: &str) -> Scratch {
     let dir = Scratch::new(tag);
     dir.write("plan.toml", DEMO_PLAN);
     dir.write("log.csv", DEMO_LOG);
+    dir.write("study.toml", STUDY);
+    dir.write("roster.csv", ROSTER);
+    dir.write("roster-no-arms.csv", ROSTER_NO_ARMS);
     dir
+}
+
+/// The sorted listing of a fresh folder with `extra` files added.
+fn inputs_and(extra: &[&str]) -> Vec<String> {
+    let mut v: Vec<String> = INPUTS.iter().chain(extra).map(|s| s.to_string()).collect();
+    v.sort();
+    v
 }
 
 // ---------------------------------------------------------------------------
@@ -1271,6 +1393,276 @@ fn usage_cases() -> Vec<Case> {
             &["log"],
             Clap(&["Usage: dosewright log <COMMAND>"]),
         ),
+        // cohort (the study and rosters of `fresh`)
+        case(
+            "cohort_without_roster_or_synthetic",
+            &["cohort", "study.toml"],
+            Clap(&[
+                "the following required arguments were not provided",
+                "<--roster <FILE>|--synthetic <N>>",
+            ]),
+        ),
+        case(
+            "cohort_roster_and_synthetic",
+            &[
+                "cohort",
+                "study.toml",
+                "--roster",
+                "roster.csv",
+                "--synthetic",
+                "5",
+            ],
+            Clap(&["error: the argument '--roster <FILE>' cannot be used with '--synthetic <N>'"]),
+        ),
+        case(
+            "cohort_without_a_study",
+            &["cohort", "--synthetic", "5"],
+            Clap(&[
+                "the following required arguments were not provided",
+                "<STUDY>",
+            ]),
+        ),
+        case(
+            "cohort_synthetic_0",
+            &["cohort", "study.toml", "--synthetic", "0"],
+            Exact("error: --synthetic 0: allowed 1 to 100000 participants"),
+        ),
+        case(
+            "cohort_synthetic_too_many",
+            &["cohort", "study.toml", "--synthetic", "100001"],
+            Exact("error: --synthetic 100001: allowed 1 to 100000 participants"),
+        ),
+        case(
+            "cohort_synthetic_not_a_number",
+            &["cohort", "study.toml", "--synthetic", "five"],
+            Clap(&["error: invalid value 'five' for '--synthetic <N>'"]),
+        ),
+        prepared(
+            "cohort_synthetic_without_a_population",
+            &[Prep::File("no-population.toml", STUDY_WITHOUT_POPULATION)],
+            &["cohort", "no-population.toml", "--synthetic", "5"],
+            Exact(
+                "error: --synthetic: no-population.toml has no [synthetic] table describing the population to draw from; add one, or give --roster FILE",
+            ),
+        ),
+        case(
+            "cohort_threads_0",
+            &["cohort", "study.toml", "--synthetic", "5", "--threads", "0"],
+            Exact("error: --threads 0: allowed 1 to 256"),
+        ),
+        case(
+            "cohort_threads_257",
+            &[
+                "cohort",
+                "study.toml",
+                "--roster",
+                "roster.csv",
+                "--threads",
+                "257",
+            ],
+            Exact("error: --threads 257: allowed 1 to 256"),
+        ),
+        case(
+            "cohort_at_week_0",
+            &["cohort", "study.toml", "--synthetic", "5", "--at-week", "0"],
+            Exact(
+                "error: --at-week 0: outside the study's weeks; allowed 1 to 12 (protocol and follow-up)",
+            ),
+        ),
+        case(
+            "cohort_at_week_past_the_end",
+            &[
+                "cohort",
+                "study.toml",
+                "--roster",
+                "roster.csv",
+                "--at-week",
+                "4",
+                "--at-week",
+                "13",
+            ],
+            Exact(
+                "error: --at-week 13: outside the study's weeks; allowed 1 to 12 (protocol and follow-up)",
+            ),
+        ),
+        case(
+            "cohort_draws_2",
+            &["cohort", "study.toml", "--synthetic", "5", "--draws", "2"],
+            Exact(
+                "error: --draws 2: only one draw per participant is simulated yet (the study has no uncertainty to draw); use --draws 1",
+            ),
+        ),
+        case(
+            "cohort_format_xml",
+            &[
+                "cohort",
+                "study.toml",
+                "--synthetic",
+                "5",
+                "--format",
+                "xml",
+            ],
+            Clap(&[
+                "error: invalid value 'xml' for '--format <FORMAT>'",
+                "[possible values: table, csv, json]",
+            ]),
+        ),
+        case(
+            "cohort_integrator_euler",
+            &[
+                "cohort",
+                "study.toml",
+                "--synthetic",
+                "5",
+                "--integrator",
+                "euler",
+            ],
+            Clap(&[
+                "error: invalid value 'euler' for '--integrator <INTEGRATOR>'",
+                "[possible values: rk4, dopri5]",
+            ]),
+        ),
+        case(
+            "cohort_json_in_us_units",
+            &[
+                "cohort",
+                "study.toml",
+                "--synthetic",
+                "5",
+                "--format",
+                "json",
+                "--units",
+                "us",
+            ],
+            Exact(
+                "error: --units us with --format json: JSON and CSV are always metric and kcal (kg, km/h, kcal, as in plan files and logs); leave out --units and --energy, or choose a human-readable format such as --format table",
+            ),
+        ),
+        case(
+            "cohort_csv_in_kj_with_out_and_charts",
+            &[
+                "cohort",
+                "study.toml",
+                "--roster",
+                "roster.csv",
+                "--format",
+                "csv",
+                "--energy",
+                "kj",
+                "--out",
+                "c.csv",
+                "--chart",
+                "charts",
+            ],
+            Exact(
+                "error: --energy kj with --format csv: JSON and CSV are always metric and kcal (kg, km/h, kcal, as in plan files and logs); leave out --units and --energy, or choose a human-readable format such as --format table",
+            ),
+        ),
+        case(
+            "cohort_missing_study_file",
+            &["cohort", "missing.toml", "--synthetic", "5"],
+            Exact("error: missing.toml: cannot read: no such file"),
+        ),
+        case(
+            "cohort_missing_roster_file",
+            &["cohort", "study.toml", "--roster", "missing.csv"],
+            Exact("error: missing.csv: cannot read: no such file"),
+        ),
+        case(
+            "cohort_given_a_plan",
+            &["cohort", "plan.toml", "--synthetic", "5"],
+            Exact(
+                "error: plan.toml:5:2: participant: unknown field `participant`, expected one of `study`, `protocol`, `activity`, `rotation`, `model`, `scenario`, `calendar`, `arm`, `synthetic`",
+            ),
+        ),
+        case(
+            "cohort_out_names_the_study",
+            &[
+                "cohort",
+                "study.toml",
+                "--roster",
+                "roster.csv",
+                "--out",
+                "study.toml",
+            ],
+            Exact("error: --out study.toml: that is an input file; refusing to overwrite it"),
+        ),
+        case(
+            "cohort_out_names_the_roster",
+            &[
+                "cohort",
+                "study.toml",
+                "--roster",
+                "roster.csv",
+                "--format",
+                "csv",
+                "--out",
+                "./roster.csv",
+            ],
+            Exact("error: --out ./roster.csv: that is an input file; refusing to overwrite it"),
+        ),
+        prepared(
+            "cohort_out_names_the_study_through_a_link",
+            &[Prep::Link("link.toml", "study.toml")],
+            &[
+                "cohort",
+                "study.toml",
+                "--synthetic",
+                "5",
+                "--out",
+                "link.toml",
+            ],
+            Exact("error: --out link.toml: that is an input file; refusing to overwrite it"),
+        ),
+        case(
+            "cohort_out_into_a_missing_folder_with_charts",
+            &[
+                "cohort",
+                "study.toml",
+                "--synthetic",
+                "5",
+                "--chart",
+                "charts",
+                "--out",
+                "nodir/c.txt",
+            ],
+            Exact(
+                "error: nodir/c.txt: the folder nodir does not exist; create it first or choose another path",
+            ),
+        ),
+        prepared(
+            "cohort_out_names_a_folder",
+            &[Prep::Dir("adir")],
+            &["cohort", "study.toml", "--synthetic", "5", "--out", "adir"],
+            Exact(
+                "error: adir: not a regular file (a folder, device or pipe); refusing to replace it, choose a file path",
+            ),
+        ),
+        case(
+            "cohort_randomise_an_allocated_roster",
+            &[
+                "cohort",
+                "study.toml",
+                "--roster",
+                "roster.csv",
+                "--randomise",
+            ],
+            Exact(
+                "error: --randomise: the roster already gives every participant an arm; leave out --randomise, or empty the roster's arm column",
+            ),
+        ),
+        case(
+            "cohort_roster_without_arms",
+            &["cohort", "study.toml", "--roster", "roster-no-arms.csv"],
+            Exact(
+                "error: the roster gives no arm; add an arm column (one of \"control\", \"low\", \"high\"), or use --randomise or --all-arms",
+            ),
+        ),
+        case(
+            "cohort_seed_negative",
+            &["cohort", "study.toml", "--synthetic", "5", "--seed", "-1"],
+            Clap(&["error: unexpected argument '-1' found"]),
+        ),
         // check, init, activities
         case(
             "check_without_a_plan",
@@ -1793,6 +2185,59 @@ fn writers() -> Vec<Writer> {
             files: &["out.txt"],
         },
         Writer {
+            name: "cohort --out",
+            args: &[
+                "cohort",
+                "study.toml",
+                "--roster",
+                "roster.csv",
+                "--out",
+                "out.txt",
+            ],
+            files: &["out.txt"],
+        },
+        Writer {
+            name: "cohort --format csv --out",
+            args: &[
+                "cohort",
+                "study.toml",
+                "--synthetic",
+                "12",
+                "--format",
+                "csv",
+                "--out",
+                "out.csv",
+            ],
+            files: &["out.csv"],
+        },
+        Writer {
+            name: "cohort --format json --out",
+            args: &[
+                "cohort",
+                "study.toml",
+                "--roster",
+                "roster-no-arms.csv",
+                "--randomise",
+                "--format",
+                "json",
+                "--out",
+                "out.json",
+            ],
+            files: &["out.json"],
+        },
+        Writer {
+            name: "cohort --chart",
+            args: &[
+                "cohort",
+                "study.toml",
+                "--roster",
+                "roster.csv",
+                "--chart",
+                "charts",
+            ],
+            files: &COHORT_CHARTS,
+        },
+        Writer {
             name: "schedule --chart",
             args: &["schedule", "plan.toml", "--chart", "charts"],
             files: &SCHEDULE_CHARTS,
@@ -1903,10 +2348,11 @@ fn every_writer_renames_a_temporary_file_and_leaves_none_behind() {
         std::fs::read_to_string(dir.path().join("starter.toml")).unwrap(),
         dosewright::plan::starter::STARTER_PLAN
     );
-    assert_eq!(dir.listing(), ["log.csv", "plan.toml", "starter.toml"]);
+    assert_eq!(dir.listing(), inputs_and(&["starter.toml"]));
 }
 
-/// A plan that fails validation, and a log with one bad row at the end.
+/// A plan that fails validation, a log with one bad row at the end, a study with a
+/// dose out of range and a roster with a mass typed without its point.
 fn bad_inputs(dir: &Scratch) {
     dir.write(
         "bad.toml",
@@ -1915,6 +2361,20 @@ fn bad_inputs(dir: &Scratch) {
     dir.write(
         "bad.csv",
         format!("{DEMO_LOG}2027-03-24,weigh-in,10400,,,,,,,typed without the point\n"),
+    );
+    dir.write(
+        "bad-study.toml",
+        edit(
+            STUDY,
+            &[("kcal_per_kg_week = 12.0", "kcal_per_kg_week = 1200")],
+        ),
+    );
+    dir.write(
+        "bad-roster.csv",
+        edit(
+            ROSTER,
+            &[("R-104,male,47,182,104.0", "R-104,male,47,182,1040")],
+        ),
     );
 }
 
@@ -2065,6 +2525,52 @@ fn a_failed_run_leaves_earlier_outputs_byte_identical() {
             "error: bad.csv:44:3: mass_kg: value 10400 is out of range; allowed 30 to 350 kg",
         ),
         (
+            "cohort, bad study",
+            &[
+                "cohort",
+                "bad-study.toml",
+                "--roster",
+                "roster.csv",
+                "--out",
+                "out.txt",
+                "--chart",
+                "charts",
+            ],
+            "error: bad-study.toml:25:29: arm[3].dose.kcal_per_kg_week: value 1200 is out of range; allowed 0.5 to 150 kcal/kg/week",
+        ),
+        (
+            "cohort, bad roster row",
+            &[
+                "cohort",
+                "study.toml",
+                "--roster",
+                "bad-roster.csv",
+                "--format",
+                "csv",
+                "--out",
+                "out.txt",
+                "--chart",
+                "charts",
+            ],
+            "error: bad-roster.csv:5: mass_kg: value 1040 is out of range; allowed 30 to 350 kg",
+        ),
+        (
+            "cohort, a checkpoint outside the study",
+            &[
+                "cohort",
+                "study.toml",
+                "--synthetic",
+                "8",
+                "--at-week",
+                "40",
+                "--out",
+                "out.txt",
+                "--chart",
+                "charts",
+            ],
+            "error: --at-week 40: outside the study's weeks; allowed 1 to 12 (protocol and follow-up)",
+        ),
+        (
             "init over an earlier file",
             &["init", "out.txt"],
             "error: out.txt: the file exists; refusing to overwrite it (choose another name or remove it first)",
@@ -2076,6 +2582,7 @@ fn a_failed_run_leaves_earlier_outputs_byte_identical() {
         seed(&dir, &["out.txt"]);
         seed(&dir, &SCHEDULE_CHARTS);
         seed(&dir, &[FIT_CHART]);
+        seed(&dir, &COHORT_CHARTS);
         let before = snapshot(dir.path());
         let r = run(dir.cmd().args(*args));
         assert_eq!(r.code, Some(2), "{name}: {}", r.stderr);
@@ -2217,6 +2724,32 @@ fn a_read_only_folder_leaves_earlier_files_byte_identical() {
             "charts/DEMO-017-fit.svg",
         ),
         (
+            "cohort --out",
+            &[
+                "cohort",
+                "study.toml",
+                "--roster",
+                "roster.csv",
+                "--out",
+                "out/out.txt",
+            ],
+            "out",
+            "out/out.txt",
+        ),
+        (
+            "cohort --chart",
+            &[
+                "cohort",
+                "study.toml",
+                "--synthetic",
+                "6",
+                "--chart",
+                "charts",
+            ],
+            "charts",
+            COHORT_CHARTS[0],
+        ),
+        (
             "init FILE",
             &["init", "out/new.toml"],
             "out",
@@ -2244,6 +2777,7 @@ fn a_read_only_folder_leaves_earlier_files_byte_identical() {
         seed(&dir, &["out/out.txt"]);
         seed(&dir, &SCHEDULE_CHARTS);
         seed(&dir, &[FIT_CHART]);
+        seed(&dir, &COHORT_CHARTS);
         std::fs::write(dir.path().join("out/log.csv"), DEMO_LOG).unwrap();
         // Every file and folder may be written by anyone: only the locked folder
         // stands in the way.
@@ -2317,6 +2851,16 @@ fn a_temporary_file_that_cannot_be_made_leaves_the_earlier_file_alone() {
             "--out",
         ][..],
         &["fit", "plan.toml", "--log", "log.csv", "--out"][..],
+        &["cohort", "study.toml", "--roster", "roster.csv", "--out"][..],
+        &[
+            "cohort",
+            "study.toml",
+            "--synthetic",
+            "4",
+            "--format",
+            "json",
+            "--out",
+        ][..],
     ] {
         let dir = fresh("long-name");
         dir.write(&long, OLD);
@@ -2336,7 +2880,7 @@ fn a_temporary_file_that_cannot_be_made_leaves_the_earlier_file_alone() {
             after.get(&long),
             "{args:?}: the earlier file"
         );
-        assert_eq!(dir.listing(), ["log.csv", long.as_str(), "plan.toml"]);
+        assert_eq!(dir.listing(), inputs_and(&[long.as_str()]));
     }
 
     // The same for the log that `log add` appends to.
@@ -2356,7 +2900,7 @@ fn a_temporary_file_that_cannot_be_made_leaves_the_earlier_file_alone() {
     ]));
     assert_eq!(r.code, Some(1), "{}", r.stderr);
     assert_eq!(before.get(&long), snapshot(dir.path()).get(&long));
-    assert_eq!(dir.listing(), ["log.csv", long.as_str(), "plan.toml"]);
+    assert_eq!(dir.listing(), inputs_and(&[long.as_str()]));
 }
 
 #[test]
@@ -2378,7 +2922,7 @@ fn an_output_into_proc_fails_and_leaves_no_file() {
         r.stderr
     );
     assert!(!Path::new(&target).exists());
-    assert_eq!(dir.listing(), ["log.csv", "plan.toml"]);
+    assert_eq!(dir.listing(), inputs_and(&[]));
 }
 
 #[test]
@@ -2643,6 +3187,108 @@ fn outputs() -> Vec<OutputRun> {
                 "json",
             ],
         ),
+        (
+            "cohort table + charts",
+            &[("cohort", "table"), ("cohort", "chart")],
+            vec![
+                "cohort",
+                "study.toml",
+                "--roster",
+                "roster.csv",
+                "--at-week",
+                "4",
+                "--chart",
+                "charts",
+            ],
+        ),
+        (
+            "cohort csv",
+            &[("cohort", "csv")],
+            vec![
+                "cohort",
+                "study.toml",
+                "--roster",
+                "roster-no-arms.csv",
+                "--all-arms",
+                "--format",
+                "csv",
+            ],
+        ),
+        (
+            "cohort json",
+            &[("cohort", "json")],
+            vec![
+                "cohort",
+                "study.toml",
+                "--synthetic",
+                "24",
+                "--format",
+                "json",
+            ],
+        ),
+        (
+            "cohort json, randomised roster, dopri5, --out",
+            &[],
+            vec![
+                "cohort",
+                "study.toml",
+                "--roster",
+                "roster-no-arms.csv",
+                "--randomise",
+                "--seed",
+                "7",
+                "--integrator",
+                "dopri5",
+                "--format",
+                "json",
+                "--out",
+                "c.json",
+            ],
+        ),
+        (
+            "cohort table + charts, 1 thread",
+            &[],
+            vec![
+                "cohort",
+                "study.toml",
+                "--synthetic",
+                "24",
+                "--all-arms",
+                "--threads",
+                "1",
+                "--chart",
+                "charts",
+            ],
+        ),
+        (
+            "cohort table + charts, 2 threads",
+            &[],
+            vec![
+                "cohort",
+                "study.toml",
+                "--synthetic",
+                "24",
+                "--all-arms",
+                "--threads",
+                "2",
+                "--chart",
+                "charts",
+            ],
+        ),
+        (
+            "cohort csv, 2 threads",
+            &[],
+            vec![
+                "cohort",
+                "study.toml",
+                "--synthetic",
+                "24",
+                "--threads",
+                "2",
+                "--format",
+                "csv",
+            ],
+        ),
         ("check", &[("check", "")], vec!["check", "plan.toml"]),
         ("activities", &[("activities", "")], vec!["activities"]),
         (
@@ -2713,6 +3359,22 @@ fn outputs() -> Vec<OutputRun> {
                 "plan.toml",
                 "--log",
                 "log.csv",
+                "--chart",
+                "charts",
+                "--units",
+                "us",
+                "--energy",
+                "kj",
+            ],
+        ),
+        (
+            "cohort table + charts in US units and kJ",
+            &[("cohort", DISPLAY_UNITS)],
+            vec![
+                "cohort",
+                "study.toml",
+                "--synthetic",
+                "12",
                 "--chart",
                 "charts",
                 "--units",
@@ -2847,6 +3509,43 @@ fn the_determinism_runs_cover_every_command_format_and_chart() {
     }
 }
 
+#[test]
+fn cohort_outputs_do_not_depend_on_the_number_of_threads() {
+    // Summaries are computed sequentially on the results collected in participant
+    // order, so every byte (table, charts, CSV, JSON) is the same with 1, 2 or 5
+    // worker threads and with the thread count from RAYON_NUM_THREADS.
+    let runs: [&[&str]; 3] = [
+        &["--chart", "charts"],
+        &["--format", "csv"],
+        &["--format", "json"],
+    ];
+    for extra in runs {
+        let base: Vec<&str> = ["cohort", "study.toml", "--synthetic", "40", "--all-arms"]
+            .into_iter()
+            .chain(extra.iter().copied())
+            .collect();
+        let with = |threads: &str| {
+            let mut a = base.clone();
+            a.extend(["--threads", threads]);
+            outcome(&a, &[])
+        };
+        let one = with("1");
+        assert_eq!(one.0, Some(0), "{extra:?}: {}", one.2);
+        assert!(!one.1.is_empty(), "{extra:?}: prints the output");
+        for n in ["2", "5"] {
+            assert!(
+                one == with(n),
+                "{extra:?}: --threads {n} differs from --threads 1"
+            );
+        }
+        let from_env = outcome(&base, &[("RAYON_NUM_THREADS", "3")]);
+        assert!(
+            one == from_env,
+            "{extra:?}: RAYON_NUM_THREADS=3 differs from --threads 1"
+        );
+    }
+}
+
 // ---------------------------------------------------------------------------
 // 6. Cautions on every human-facing output
 // ---------------------------------------------------------------------------
@@ -2856,7 +3555,10 @@ fn the_determinism_runs_cover_every_command_format_and_chart() {
 // reason): `every_command_format_and_chart_is_audited` reads the commands, their
 // `--format` values and their `--chart` options from `--help` and fails on any that
 // is in neither table. Machine-readable outputs (JSON) are audited by
-// `json_outputs_carry_the_screening_and_the_cautions`.
+// `json_outputs_carry_the_screening_and_the_cautions`, against the same KNOWN_GAPS.
+// A cohort has many participants: its outputs are audited for every distinct
+// screening result among them (`Screen::Roster`), for a screened and an unscreened
+// roster.
 
 /// Where an output's text is.
 #[derive(Clone, Copy)]
@@ -2874,6 +3576,10 @@ enum Screen {
     Outcome,
     /// No participant: the call to screen first.
     Call,
+    /// Many participants (a cohort): every distinct screening result among them, in
+    /// the grid's words; participants with no answers may instead be named by the
+    /// `screening-not-recorded` warning.
+    Roster,
 }
 
 struct Audited {
@@ -2901,6 +3607,26 @@ const fn audited(
 }
 
 const SCHEDULE_CHART_ARGS: &[&str] = &["schedule", "plan.toml", "--chart", "charts"];
+const COHORT_CHART_ARGS: &[&str] = &[
+    "cohort",
+    "study.toml",
+    "--roster",
+    "roster.csv",
+    "--chart",
+    "charts",
+];
+const COHORT_CHART_US_KJ_ARGS: &[&str] = &[
+    "cohort",
+    "study.toml",
+    "--roster",
+    "roster.csv",
+    "--chart",
+    "charts",
+    "--units",
+    "us",
+    "--energy",
+    "kj",
+];
 const COMPARE_CHART_ARGS: &[&str] = &["compare", "plan.toml", "--chart", "charts"];
 const SCHEDULE_CHART_US_KJ_ARGS: &[&str] = &[
     "schedule",
@@ -3157,6 +3883,70 @@ const AUDIT: &[Audited] = &[
         Screen::Outcome,
     ),
     audited(
+        "cohort table",
+        ("cohort", "table"),
+        &["cohort", "study.toml", "--roster", "roster.csv"],
+        Where::Stdout,
+        Screen::Roster,
+    ),
+    audited(
+        "cohort table, synthetic population in every arm",
+        ("cohort", "table"),
+        &[
+            "cohort",
+            "study.toml",
+            "--synthetic",
+            "12",
+            "--all-arms",
+            "--at-week",
+            "4",
+        ],
+        Where::Stdout,
+        Screen::Roster,
+    ),
+    audited(
+        "cohort table --out",
+        ("cohort", "table"),
+        &[
+            "cohort",
+            "study.toml",
+            "--roster",
+            "roster.csv",
+            "--out",
+            "c.txt",
+        ],
+        Where::File("c.txt"),
+        Screen::Roster,
+    ),
+    audited(
+        "cohort csv side notes",
+        ("cohort", "csv"),
+        &[
+            "cohort",
+            "study.toml",
+            "--roster",
+            "roster.csv",
+            "--format",
+            "csv",
+        ],
+        Where::Stderr,
+        Screen::Roster,
+    ),
+    audited(
+        "cohort mass-change chart",
+        ("cohort", "chart"),
+        COHORT_CHART_ARGS,
+        Where::File(COHORT_CHARTS[0]),
+        Screen::Roster,
+    ),
+    audited(
+        "cohort minutes chart",
+        ("cohort", "chart"),
+        COHORT_CHART_ARGS,
+        Where::File(COHORT_CHARTS[1]),
+        Screen::Roster,
+    ),
+    audited(
         "check",
         ("check", ""),
         &["check", "plan.toml"],
@@ -3321,6 +4111,36 @@ const AUDIT: &[Audited] = &[
         Screen::Outcome,
     ),
     audited(
+        "cohort table in US units and kJ",
+        ("cohort", DISPLAY_UNITS),
+        &[
+            "cohort",
+            "study.toml",
+            "--roster",
+            "roster.csv",
+            "--units",
+            "us",
+            "--energy",
+            "kj",
+        ],
+        Where::Stdout,
+        Screen::Roster,
+    ),
+    audited(
+        "cohort mass-change chart in US units and kJ",
+        ("cohort", DISPLAY_UNITS),
+        COHORT_CHART_US_KJ_ARGS,
+        Where::File(COHORT_CHARTS[0]),
+        Screen::Roster,
+    ),
+    audited(
+        "cohort minutes chart in US units and kJ",
+        ("cohort", DISPLAY_UNITS),
+        COHORT_CHART_US_KJ_ARGS,
+        Where::File(COHORT_CHARTS[1]),
+        Screen::Roster,
+    ),
+    audited(
         "check in US units and kJ",
         ("check", DISPLAY_UNITS),
         &["check", "plan.toml", "--units", "us", "--energy", "kj"],
@@ -3360,7 +4180,43 @@ const NOT_REPORTS: &[((&str, &str), &str)] = &[(
 /// owners fix them in src/). Each is asserted to be still missing, so closing one
 /// fails here until it is removed from this list; `cautions_have_no_known_gaps`
 /// (ignored) is the goal.
-const KNOWN_GAPS: &[(&str, &str)] = &[];
+const KNOWN_GAPS: &[(&str, &str)] = &[
+    // `cohort` (src/report/cohort.rs, src/app.rs `cohort_command`, src/report/chart.rs
+    // `cohort_*_chart`): the table, its charts and the JSON give no screening result
+    // for participants whose answers are recorded. Participants without answers are
+    // named by the `screening-not-recorded` warning (and those whose result calls
+    // for clearance that is not on file by `clearance-missing`), but a screened
+    // roster's results ("no medical clearance needed; ...", "medical clearance
+    // recommended before any exercise ...", ...) appear nowhere: a count of
+    // participants per result, as "Screening: N ...", would close these.
+    ("cohort table", "screening outcome"),
+    ("cohort table --out", "screening outcome"),
+    ("cohort table in US units and kJ", "screening outcome"),
+    ("cohort json", "screening outcome"),
+    // The two charts' captions end with the generic caution ("Screen before
+    // exercise, obtain clearance where indicated, and stop on warning signs ...")
+    // but, unlike the schedule's charts (`screening_caption`), with no screening
+    // result, not even the call to screen of the not-recorded warning.
+    ("cohort mass-change chart", "screening outcome"),
+    (
+        "cohort mass-change chart in US units and kJ",
+        "screening outcome",
+    ),
+    ("cohort minutes chart", "screening outcome"),
+    (
+        "cohort minutes chart in US units and kJ",
+        "screening outcome",
+    ),
+    // `cohort --format csv` writes nothing to standard error: neither the warnings
+    // nor the cautions that `schedule` and `compare` give beside their CSV
+    // (`side_notes`), and the per-participant CSV has no screening column.
+    ("cohort csv side notes", "screening outcome"),
+    ("cohort csv side notes", "clearance"),
+    ("cohort csv side notes", "stop signs"),
+    ("cohort csv side notes", "model estimates"),
+    ("cohort csv side notes", "local clinical rules"),
+    ("cohort csv side notes", "licensed professionals"),
+];
 
 /// The demo plan without its screening block.
 fn unscreened_plan() -> String {
@@ -3458,11 +4314,26 @@ fn html_text(html: &str) -> String {
 /// The audit's checks: (concept, does `text` show it). `outcome` is the plan's
 /// screening recommendation.
 fn missing_concepts(text: &str, screen: Screen, outcome: &str) -> Vec<&'static str> {
+    missing_concepts_of(text, screen, &[outcome.to_string()])
+}
+
+/// The screening result of a participant with no answers.
+fn not_recorded() -> String {
+    dosewright::safety::screen(None, false).recommendation
+}
+
+/// The audit's checks, with every screening result the output is about: one for a
+/// plan, each distinct one among a cohort's participants.
+fn missing_concepts_of(text: &str, screen: Screen, outcomes: &[String]) -> Vec<&'static str> {
     let lower = text.to_lowercase();
     let mut missing = Vec::new();
     let screening = match screen {
-        Screen::Outcome => text.contains(outcome),
+        Screen::Outcome => outcomes.iter().all(|o| text.contains(o.as_str())),
         Screen::Call => lower.contains("pre-participation") && lower.contains("screening"),
+        Screen::Roster => outcomes.iter().all(|o| {
+            text.contains(o.as_str())
+                || (*o == not_recorded() && text.contains("[screening-not-recorded]"))
+        }),
     };
     if !screening {
         missing.push("screening outcome");
@@ -3488,10 +4359,40 @@ fn missing_concepts(text: &str, screen: Screen, outcome: &str) -> Vec<&'static s
     missing
 }
 
-/// The text of one audited output for `plan`.
-fn audited_text(a: &Audited, plan: &str) -> String {
+/// The distinct screening results of the participants a cohort run simulates, in
+/// roster order: those of the roster it names (`roster.csv` holding `roster`), or of
+/// a synthetic population, which has no answers.
+fn cohort_outcomes(args: &[&str], roster: &str) -> Vec<String> {
+    if args.contains(&"--synthetic") {
+        return vec![not_recorded()];
+    }
+    let at = args
+        .iter()
+        .position(|a| *a == "--roster")
+        .expect("a roster");
+    let text = match args[at + 1] {
+        "roster.csv" => roster,
+        "roster-no-arms.csv" => ROSTER_NO_ARMS,
+        other => panic!("no roster text for {other}"),
+    };
+    let study = dosewright::study::parse_study("study.toml", STUDY).expect("the study");
+    let rows =
+        dosewright::study::roster::parse_roster("roster.csv", text, &study).expect("the roster");
+    let mut out: Vec<String> = Vec::new();
+    for r in rows {
+        let o = dosewright::safety::screen(r.participant.screening.as_ref(), false).recommendation;
+        if !out.contains(&o) {
+            out.push(o);
+        }
+    }
+    out
+}
+
+/// The text of one audited output for `plan` and `roster`.
+fn audited_text(a: &Audited, plan: &str, roster: &str) -> String {
     let dir = fresh("cautions");
     dir.write("plan.toml", plan);
+    dir.write("roster.csv", roster);
     let r = run(dir.cmd().args(a.args));
     assert_eq!(r.code, Some(0), "{}: {}", a.name, r.stderr);
     match a.at {
@@ -3513,22 +4414,42 @@ fn audited_text(a: &Audited, plan: &str) -> String {
     }
 }
 
+/// The two inputs every audited output is read for: a screened participant and
+/// roster, then an unscreened participant and roster.
+fn audit_inputs() -> [(String, &'static str); 2] {
+    [
+        (DEMO_PLAN.to_string(), ROSTER),
+        (unscreened_plan(), ROSTER_UNSCREENED),
+    ]
+}
+
 /// (output, concept) pairs missing from the audited outputs, for both a screened
-/// and an unscreened participant.
+/// and an unscreened participant (and roster).
 fn audit_findings() -> BTreeSet<(String, String)> {
     let mut found = BTreeSet::new();
-    let unscreened = unscreened_plan();
-    let plans = [DEMO_PLAN.to_string(), unscreened];
-    let outcomes: Vec<String> = plans.iter().map(|p| recommendation(p)).collect();
+    let inputs = audit_inputs();
+    let outcomes: Vec<String> = inputs.iter().map(|(p, _)| recommendation(p)).collect();
     assert!(
         outcomes[1].starts_with("screening not recorded"),
         "{}",
         outcomes[1]
     );
+    assert_eq!(
+        cohort_outcomes(&["--roster", "roster.csv"], ROSTER).len(),
+        3
+    );
+    assert_eq!(
+        cohort_outcomes(&["--roster", "roster.csv"], ROSTER_UNSCREENED),
+        [not_recorded()]
+    );
     for a in AUDIT {
-        for (plan, outcome) in plans.iter().zip(&outcomes) {
-            let text = audited_text(a, plan);
-            for c in missing_concepts(&text, a.screen, outcome) {
+        for ((plan, roster), outcome) in inputs.iter().zip(&outcomes) {
+            let text = audited_text(a, plan, roster);
+            let wanted = match a.screen {
+                Screen::Roster => cohort_outcomes(a.args, roster),
+                _ => vec![outcome.clone()],
+            };
+            for c in missing_concepts_of(&text, a.screen, &wanted) {
                 found.insert((a.name.to_string(), c.to_string()));
             }
         }
@@ -3536,16 +4457,17 @@ fn audit_findings() -> BTreeSet<(String, String)> {
     found
 }
 
-#[test]
-fn every_human_facing_output_carries_the_cautions() {
-    let found = audit_findings();
+/// Compare what an audit found with the known gaps of the outputs it audits
+/// (`names`): nothing new may be missing, and no known gap may have closed.
+fn against_known_gaps(found: &BTreeSet<(String, String)>, names: &BTreeSet<String>) {
     let known: BTreeSet<(String, String)> = KNOWN_GAPS
         .iter()
+        .filter(|(o, _)| names.contains(*o))
         .map(|(o, c)| (o.to_string(), c.to_string()))
         .collect();
     let new: Vec<_> = found.difference(&known).collect();
     assert!(new.is_empty(), "outputs lacking cautions: {new:?}");
-    let closed: Vec<_> = known.difference(&found).collect();
+    let closed: Vec<_> = known.difference(found).collect();
     assert!(
         closed.is_empty(),
         "known gaps now closed (remove them from KNOWN_GAPS): {closed:?}"
@@ -3556,9 +4478,43 @@ fn every_human_facing_output_carries_the_cautions() {
 }
 
 #[test]
+fn every_human_facing_output_carries_the_cautions() {
+    let names: BTreeSet<String> = AUDIT.iter().map(|a| a.name.to_string()).collect();
+    against_known_gaps(&audit_findings(), &names);
+}
+
+#[test]
+#[ignore = "the goal: the cohort outputs lack the screening result (see KNOWN_GAPS)"]
 fn cautions_have_no_known_gaps() {
-    let found = audit_findings();
+    let mut found = audit_findings();
+    found.extend(json_findings());
     assert!(found.is_empty(), "outputs lacking cautions: {found:?}");
+}
+
+/// Every concept an audit can find missing.
+const CONCEPTS: [&str; 7] = [
+    "screening outcome",
+    "clearance",
+    "stop signs",
+    "model estimates",
+    "local clinical rules",
+    "licensed professionals",
+    "cautions",
+];
+
+#[test]
+fn known_gaps_name_audited_outputs_and_concepts() {
+    let names: BTreeSet<String> = AUDIT
+        .iter()
+        .map(|a| a.name.to_string())
+        .chain(JSON_OUTPUTS.iter().map(|(c, _)| format!("{c} json")))
+        .collect();
+    for (o, c) in KNOWN_GAPS {
+        assert!(names.contains(*o), "KNOWN_GAPS: no audited output {o:?}");
+        assert!(CONCEPTS.contains(c), "KNOWN_GAPS: no concept {c:?}");
+    }
+    let unique: BTreeSet<_> = KNOWN_GAPS.iter().collect();
+    assert_eq!(unique.len(), KNOWN_GAPS.len(), "KNOWN_GAPS: an entry twice");
 }
 
 #[test]
@@ -3600,6 +4556,27 @@ fn the_audit_catches_an_output_without_cautions() {
     assert_eq!(
         missing_concepts(&html_text(&shown), Screen::Outcome, "x"),
         Vec::<&str>::new()
+    );
+    // A cohort's output must show every distinct result among its participants;
+    // those with no answers may be named by the warning's code instead.
+    let results = ["no medical clearance needed; y".to_string(), not_recorded()];
+    let cautions = dosewright::safety::CAUTIONS.join("\n");
+    let warned = format!(
+        "  - [screening-not-recorded] 1 of 2 participants have no screening answers\n{cautions}"
+    );
+    assert_eq!(
+        missing_concepts_of(&warned, Screen::Roster, &results),
+        ["screening outcome"]
+    );
+    let summed = format!("Screening: 1 no medical clearance needed; y.\n{warned}");
+    assert_eq!(
+        missing_concepts_of(&summed, Screen::Roster, &results),
+        Vec::<&str>::new()
+    );
+    // The code alone does not stand for a recorded result.
+    assert_eq!(
+        missing_concepts_of(&warned, Screen::Roster, &results[..1]),
+        ["screening outcome"]
     );
 }
 
@@ -3651,24 +4628,83 @@ const JSON_OUTPUTS: &[(&str, &[&str])] = &[
         "fit",
         &["fit", "plan.toml", "--log", "log.csv", "--format", "json"],
     ),
+    (
+        "cohort",
+        &[
+            "cohort",
+            "study.toml",
+            "--roster",
+            "roster.csv",
+            "--format",
+            "json",
+        ],
+    ),
 ];
 
-#[test]
-fn json_outputs_carry_the_screening_and_the_cautions() {
-    for plan in [DEMO_PLAN.to_string(), unscreened_plan()] {
+/// Every string value in a JSON document.
+fn json_strings(v: &serde_json::Value, out: &mut Vec<String>) {
+    match v {
+        serde_json::Value::String(s) => out.push(s.clone()),
+        serde_json::Value::Array(a) => a.iter().for_each(|x| json_strings(x, out)),
+        serde_json::Value::Object(o) => o.values().for_each(|x| json_strings(x, out)),
+        _ => {}
+    }
+}
+
+/// (`CMD json`, concept) pairs missing from the JSON outputs, for a screened and an
+/// unscreened participant (and roster): `screening.recommendation` must be the
+/// participant's result (for a cohort, which has no one participant: every distinct
+/// result among them, in any string, or the `screening-not-recorded` warning for
+/// those without answers), and `cautions` the standing cautions.
+fn json_findings() -> BTreeSet<(String, String)> {
+    let mut found = BTreeSet::new();
+    for (plan, roster) in audit_inputs() {
         let outcome = recommendation(&plan);
-        for (name, args) in JSON_OUTPUTS {
+        for (cmd, args) in JSON_OUTPUTS {
+            let name = format!("{cmd} json");
             let dir = fresh("json-cautions");
             dir.write("plan.toml", &plan);
+            dir.write("roster.csv", roster);
             let r = run(dir.cmd().args(*args));
             assert_eq!(r.code, Some(0), "{name}: {}", r.stderr);
             let j: serde_json::Value = serde_json::from_str(&r.stdout).unwrap();
-            assert_eq!(text(&j["screening"], "recommendation"), outcome, "{name}");
-            let cautions: Vec<&str> = array(&j, "cautions")
-                .iter()
-                .map(|c| c.as_str().unwrap())
-                .collect();
-            assert_eq!(cautions, dosewright::safety::CAUTIONS, "{name}");
+            let screened = if *cmd == "cohort" {
+                let mut strings = Vec::new();
+                json_strings(&j, &mut strings);
+                let codes: Vec<&str> = array(&j, "warnings")
+                    .iter()
+                    .map(|w| text(w, "code"))
+                    .collect();
+                cohort_outcomes(args, roster).iter().all(|o| {
+                    strings.iter().any(|s| s.contains(o.as_str()))
+                        || (*o == not_recorded() && codes.contains(&"screening-not-recorded"))
+                })
+            } else {
+                j.get("screening")
+                    .and_then(|s| s.get("recommendation"))
+                    .and_then(|r| r.as_str())
+                    == Some(outcome.as_str())
+            };
+            if !screened {
+                found.insert((name.clone(), "screening outcome".to_string()));
+            }
+            let cautions: Option<Vec<&str>> = j
+                .get("cautions")
+                .and_then(|c| c.as_array())
+                .map(|a| a.iter().filter_map(|c| c.as_str()).collect());
+            if cautions.as_deref() != Some(&dosewright::safety::CAUTIONS[..]) {
+                found.insert((name, "cautions".to_string()));
+            }
         }
     }
+    found
+}
+
+#[test]
+fn json_outputs_carry_the_screening_and_the_cautions() {
+    let names: BTreeSet<String> = JSON_OUTPUTS
+        .iter()
+        .map(|(c, _)| format!("{c} json"))
+        .collect();
+    against_known_gaps(&json_findings(), &names);
 }
