@@ -920,11 +920,17 @@ mod charts {
         u: Units,
     ) -> Result<String, Error> {
         use crate::report::chart::{cohort_mass_chart, cohort_minutes_chart, cohort_power_chart};
-        let charts = vec![
+        let mut charts = vec![
             ("mass-change", cohort_mass_chart(r, u)),
             ("minutes", cohort_minutes_chart(r)),
             ("power", cohort_power_chart(r)),
         ];
+        let screening = crate::report::cohort::screening_line(&r.screening);
+        for (_, c) in charts.iter_mut() {
+            c.caption.push_str(&format!(
+                " {screening} Stop at once on chest pain, unusual breathlessness, dizziness or palpitations."
+            ));
+        }
         let paths = write_charts(dir, &stem(&r.name), &charts)?;
         Ok(paths
             .iter()
@@ -1151,10 +1157,15 @@ fn cohort_command(args: &crate::cli::CohortArgs) -> Result<Printed, Error> {
         integrator: req.integrator.name(),
         checkpoints: req.checkpoints.clone(),
         weeks: study.protocol.weeks,
+        follow_up_weeks: study.protocol.follow_up_weeks,
         max_session_minutes: study.protocol.max_session_minutes,
         arms: Vec::new(),
         staff_hours: summary.staff_hours.clone(),
         comparisons: Vec::new(),
+        screening: report::cohort::screening_counts(
+            &members,
+            crate::safety::warnings::study_is_vigorous(&study),
+        ),
         warnings: crate::safety::warnings::cohort_warnings(&study, &members, &summary),
         cautions: crate::safety::CAUTIONS.to_vec(),
         rows: report::cohort::participant_rows(&study, &members, &results),
@@ -1163,8 +1174,15 @@ fn cohort_command(args: &crate::cli::CohortArgs) -> Result<Printed, Error> {
     let mut printed = Printed::default();
     let text = match args.format {
         CohortFormat::Table => report::cohort::table(&r, units),
-        CohortFormat::Json => report::json::render(&r),
-        CohortFormat::Csv => report::cohort::csv(&r),
+        CohortFormat::Json => {
+            printed.stderr = report::cohort::side_notes(&r);
+            report::json::render(&r)
+        }
+        CohortFormat::Csv => {
+            printed.stderr = report::table::warnings_text(&r.warnings);
+            printed.stderr.push_str(&report::cohort::side_notes(&r));
+            report::cohort::csv(&r)
+        }
     };
     if let Some(dir) = &args.chart {
         printed

@@ -57,6 +57,8 @@ pub struct CohortReport {
     pub checkpoints: Vec<u32>,
     /// Protocol weeks.
     pub weeks: u32,
+    /// Follow-up weeks.
+    pub follow_up_weeks: u32,
     /// Maximum session minutes.
     pub max_session_minutes: Option<f64>,
     /// Per arm.
@@ -65,6 +67,8 @@ pub struct CohortReport {
     pub staff_hours: StaffHours,
     /// Arm pairs (with uncertainty).
     pub comparisons: Vec<Comparison>,
+    /// Screening results over the participants: how many have each.
+    pub screening: Vec<ScreeningCount>,
     /// Warnings with stable codes.
     pub warnings: Vec<safety::Warning>,
     /// The standing cautions.
@@ -72,6 +76,41 @@ pub struct CohortReport {
     /// One row per participant, arm and scenario (CSV only).
     #[serde(skip)]
     pub rows: Vec<ParticipantRow>,
+}
+
+/// Participants with one screening result.
+#[derive(Debug, Clone, PartialEq, Eq, Serialize)]
+pub struct ScreeningCount {
+    /// The result in words (ACSM 2015 algorithm).
+    pub recommendation: String,
+    /// Participants with it.
+    pub participants: usize,
+}
+
+/// Count the participants' screening results (for a study whose most intense
+/// activity is `vigorous` or not), in order of first appearance.
+pub fn screening_counts(members: &[Member], vigorous: bool) -> Vec<ScreeningCount> {
+    let mut out: Vec<ScreeningCount> = Vec::new();
+    for m in members {
+        let rec = safety::screen(m.participant.screening.as_ref(), vigorous).recommendation;
+        match out.iter_mut().find(|c| c.recommendation == rec) {
+            Some(c) => c.participants += 1,
+            None => out.push(ScreeningCount {
+                recommendation: rec,
+                participants: 1,
+            }),
+        }
+    }
+    out
+}
+
+/// The screening results in one line, for chart captions and side notes.
+pub fn screening_line(counts: &[ScreeningCount]) -> String {
+    let parts: Vec<String> = counts
+        .iter()
+        .map(|c| format!("{} participant(s): {}", c.participants, c.recommendation))
+        .collect();
+    format!("Screening: {}.", parts.join("; "))
 }
 
 /// One participant's run in one arm and scenario (the per-participant CSV).
@@ -85,6 +124,10 @@ pub struct ParticipantRow {
     pub allocated: bool,
     /// Scenario.
     pub scenario: String,
+    /// Draw (1-based).
+    pub draw: u32,
+    /// Still exercising at the end of the protocol in this draw.
+    pub completed: bool,
     /// Sex.
     pub sex: &'static str,
     /// Age, years.
@@ -127,17 +170,21 @@ pub fn participant_rows(
                 allocated: m.arm.is_none_or(|a| a == run.arm),
                 scenario: study.scenarios[run.scenario].name.clone(),
                 sex: s.sex.name(),
-                age_years: s.age_years,
-                height_cm: s.height_cm,
-                baseline_mass_kg: r.baseline_mass_kg,
-                mass_change_kg: run.protocol_end_mass_change_kg,
-                fat_mass_change_kg: run.protocol_end_fat_mass_change_kg,
-                dose_share: run.dose_share,
+                draw: run.draw + 1,
+                completed: run.completed,
+                age_years: round4(s.age_years),
+                height_cm: round4(s.height_cm),
+                baseline_mass_kg: round4(r.baseline_mass_kg),
+                mass_change_kg: round4(run.protocol_end_mass_change_kg),
+                fat_mass_change_kg: round4(run.protocol_end_fat_mass_change_kg),
+                dose_share: run.dose_share.map(round4),
                 minutes_week1: run.minutes_week1,
                 minutes_last_week: run.minutes_last_week,
                 over_max: run.over_max,
-                prescribed_net_kcal: run.prescribed_net_kcal,
-                session_hours: f64::from(run.session_minutes_by_week.iter().sum::<u32>()) / 60.0,
+                prescribed_net_kcal: round4(run.prescribed_net_kcal),
+                session_hours: round4(
+                    f64::from(run.session_minutes_by_week.iter().sum::<u32>()) / 60.0,
+                ),
             });
         }
     }
@@ -205,7 +252,7 @@ fn spread_cells(s: &Spread, u: Units) -> String {
 pub fn table(r: &CohortReport, u: Units) -> String {
     let ml = u.mass_label();
     let mut out = format!(
-        "dosewright cohort: {} ({})\n{} participants from {}; {}{}\nseed {}, {} draw(s) per participant, integrator {}\nProtocol: {} weeks{}\n\n",
+        "dosewright cohort: {} ({})\n{} participants from {}; {}{}\nseed {}, {} draw(s) per participant, integrator {}\nProtocol: {} weeks{}{}\n\n",
         r.name,
         r.study,
         r.participants,
@@ -220,6 +267,11 @@ pub fn table(r: &CohortReport, u: Units) -> String {
         r.draws,
         r.integrator,
         r.weeks,
+        if r.follow_up_weeks > 0 {
+            format!(" and {} follow-up weeks", r.follow_up_weeks)
+        } else {
+            String::new()
+        },
         r.max_session_minutes.map_or(String::new(), |m| format!(
             ", maximum {m:.0} min per session"
         )),
@@ -368,11 +420,31 @@ pub fn table(r: &CohortReport, u: Units) -> String {
         }
         out.push('\n');
     }
-    out.push_str("Cautions\n");
+    out.push_str(&side_notes(r));
+    out
+}
+
+/// The screening results and the cautions (the end of the table; standard error
+/// beside the CSV and JSON).
+pub fn side_notes(r: &CohortReport) -> String {
+    let mut out = String::from("Screening (ACSM 2015 pre-participation algorithm)\n");
+    for c in &r.screening {
+        out.push_str(&format!(
+            "  - {} participant(s): {}\n",
+            c.participants, c.recommendation
+        ));
+    }
+    out.push_str("\nCautions\n");
     for c in &r.cautions {
         out.push_str(&format!("  - {c}\n"));
     }
     out
+}
+
+/// Round to 4 decimals, as the JSON does, so the CSV bytes are stable and readable.
+fn round4(v: f64) -> f64 {
+    let r = (v * 1e4).round() / 1e4;
+    if r == 0.0 { 0.0 } else { r }
 }
 
 /// The per-participant CSV (metric, kcal).

@@ -360,6 +360,14 @@ fn intake_warnings(plan: &Plan, sc: &ScenarioRun, out: &mut Vec<Warning>) {
     }
 }
 
+/// Whether any of a study's activities is vigorous (6 MET or more; a study has no
+/// VO2peak, so the absolute class). Leg cycling is judged at 70 kg.
+pub fn study_is_vigorous(study: &crate::study::Study) -> bool {
+    std::iter::once(&study.activity)
+        .chain(study.rotation.iter().map(|r| &r.activity))
+        .any(|a| a.intensity.met_at(70.0) >= VIGOROUS_MET)
+}
+
 /// Warnings of a cohort: sessions over the maximum per arm, and the screening,
 /// estimated body fat and age notes counted over participants.
 pub fn cohort_warnings(
@@ -382,9 +390,7 @@ pub fn cohort_warnings(
         };
         (v.len(), format!("{shown}{more}"))
     };
-    let vigorous = std::iter::once(&study.activity)
-        .chain(study.rotation.iter().map(|r| &r.activity))
-        .any(|a| a.intensity.met_at(70.0) >= VIGOROUS_MET);
+    let vigorous = study_is_vigorous(study);
     let (n, who) = ids(&|m| m.participant.screening.is_none());
     if n > 0 {
         out.push(w("screening-not-recorded", format!("{n} of {} participants have no screening answers ({who}); complete the ACSM pre-participation screening before their first session", members.len())));
@@ -411,6 +417,9 @@ pub fn cohort_warnings(
     let (n, _) = ids(&|m| m.participant.subject.age_years >= 60.0);
     if n > 0 {
         out.push(w("older-adult-met", format!("{n} participant(s) are 60 or older: standard METs assume 3.5 ml/kg/min at rest and tend to overstate their cost of activity (Willis et al. 2024, J Sport Health Sci 13:13), so their minutes may be too few for the energy target")));
+    }
+    for a in summary.arms.iter().filter(|a| a.participants == 0) {
+        out.push(w("arm-empty", format!("arm \"{}\" has no participants: its summaries are empty (shown as zeros) and its comparisons mean nothing; recruit or allocate more participants", a.name)));
     }
     if let Some(control) = summary.arms.iter().find(|a| a.control)
         && control.scenarios.iter().any(|s| s.mass_change_kg.sd < 0.5)

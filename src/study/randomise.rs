@@ -11,6 +11,9 @@ use crate::model::Sex;
 use rand::rngs::ChaCha8Rng;
 use rand::{RngExt, SeedableRng};
 
+/// Mixed into the seed of the allocation streams (an arbitrary odd constant).
+const ALLOCATION_DOMAIN: u64 = 0xA110_CA7E_5EED_0001;
+
 /// The arm (index) of each participant, in input order.
 pub fn permuted_blocks(sexes: &[Sex], arms: usize, block_size: usize, seed: u64) -> Vec<usize> {
     assert!(
@@ -19,7 +22,10 @@ pub fn permuted_blocks(sexes: &[Sex], arms: usize, block_size: usize, seed: u64)
     );
     let mut out = vec![0; sexes.len()];
     for (stream, stratum) in [Sex::Female, Sex::Male].into_iter().enumerate() {
-        let mut rng = ChaCha8Rng::seed_from_u64(seed);
+        // Its own seed domain, so the allocation is independent of the streams that
+        // draw synthetic participants from the same seed.
+        let mut rng =
+            ChaCha8Rng::seed_from_u64(crate::simulate::splitmix64(seed ^ ALLOCATION_DOMAIN));
         rng.set_stream(stream as u64);
         let mut block: Vec<usize> = Vec::new();
         for (i, _) in sexes.iter().enumerate().filter(|(_, s)| **s == stratum) {

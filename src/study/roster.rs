@@ -100,7 +100,10 @@ pub fn parse_roster(file: &str, text: &str, study: &Study) -> Result<Vec<RosterE
             ),
         ));
     };
-    let header: Vec<String> = header.split(',').map(|c| c.trim().to_string()).collect();
+    let header: Vec<String> = header
+        .split(',')
+        .map(|c| c.trim().trim_matches('"').trim().to_string())
+        .collect();
     let mut index = [None; COLUMNS.len()];
     for (i, h) in header.iter().enumerate() {
         let Some(k) = COLUMNS.iter().position(|(n, ..)| n == h) else {
@@ -146,7 +149,16 @@ pub fn parse_roster(file: &str, text: &str, study: &Study) -> Result<Vec<RosterE
     let mut out: Vec<RosterEntry> = Vec::new();
     for (at, line) in lines {
         let ln = at + 1;
-        let cells: Vec<&str> = line.split(',').map(str::trim).collect();
+        // A cell in double quotes (as spreadsheets write text) is read without them.
+        let cells: Vec<&str> = line
+            .split(',')
+            .map(|c| {
+                let c = c.trim();
+                c.strip_prefix('"')
+                    .and_then(|x| x.strip_suffix('"'))
+                    .map_or(c, str::trim)
+            })
+            .collect();
         if cells.len() != header.len() {
             return Err(cx.err(Some(ln), None, format!("{} cells for {} columns; every row needs one cell per header column (no commas inside values)", cells.len(), header.len())));
         }
@@ -248,7 +260,12 @@ pub fn parse_roster(file: &str, text: &str, study: &Study) -> Result<Vec<RosterE
                 signs_or_symptoms: c,
                 medical_clearance: flag(12)?.unwrap_or(false),
             }),
-            [None, None, None] => None,
+            [None, None, None] => {
+                if flag(12)?.is_some() {
+                    return Err(cx.err(Some(ln), Some("medical_clearance"), "given without the screening answers; give exercises_regularly, known_disease and signs_or_symptoms too (true or false)".to_string()));
+                }
+                None
+            }
             _ => {
                 let missing = (9..12)
                     .find(|k| answers[k - 9].is_none())
