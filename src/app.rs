@@ -1070,12 +1070,7 @@ pub fn cohort_members(
     } else {
         return Err(Error::Usage(format!(
             "the roster gives no arm; add an arm column (one of {}), or use --randomise or --all-arms",
-            study
-                .arms
-                .iter()
-                .map(|a| format!("\"{}\"", a.name))
-                .collect::<Vec<_>>()
-                .join(", ")
+            study.arm_names()
         )));
     };
     Ok((members, source, allocation))

@@ -211,10 +211,10 @@ pub const DEFAULT_SEED: u64 = 20_270_101;
 pub struct CohortArgs {
     /// The study file (TOML).
     pub study: PathBuf,
-    /// The roster (CSV: id,sex,age_years,height_cm,mass_kg[,body_fat_percent,...][,arm]).
+    /// The roster (CSV with columns id, sex, age_years, height_cm, mass_kg, optional ones and arm).
     #[arg(long, value_name = "FILE")]
     pub roster: Option<PathBuf>,
-    /// Draw N participants from the study's [synthetic] population instead (seeded; arms by permuted blocks).
+    /// Draw N participants from the population of the study's synthetic table instead (seeded; arms by permuted blocks).
     #[arg(long, value_name = "N")]
     pub synthetic: Option<usize>,
     /// Assign arms by permuted blocks stratified by sex (for a roster without an arm column).

@@ -1307,6 +1307,39 @@ impl Cx<'_> {
         Ok(c)
     }
 
+    /// A scenario's name: required, non-empty, not used by an earlier scenario.
+    pub(crate) fn scenario_name<'v>(
+        &self,
+        name: &'v Option<S<String>>,
+        table: &Range<usize>,
+        tn: &str,
+        earlier: &[Scenario],
+    ) -> Result<&'v str, Error> {
+        let name = self.required(
+            name,
+            table,
+            tn,
+            "name",
+            "every scenario needs a unique, non-empty name",
+        )?;
+        let n = name.get_ref().trim();
+        if n.is_empty() {
+            return Err(self.err(
+                &name.span(),
+                &format!("{tn}.name"),
+                "empty; every scenario needs a unique, non-empty name",
+            ));
+        }
+        if earlier.iter().any(|o| o.name == n) {
+            return Err(self.err(
+                &name.span(),
+                &format!("{tn}.name"),
+                format!("\"{n}\" is used by an earlier scenario; names must be unique"),
+            ));
+        }
+        Ok(n)
+    }
+
     pub(crate) fn scenarios(&self, rs: Option<&[S<RawScenario>]>) -> Result<Vec<Scenario>, Error> {
         let Some(rs) = rs.filter(|r| !r.is_empty()) else {
             return Ok(vec![Scenario {
@@ -1318,28 +1351,7 @@ impl Cx<'_> {
         for (i, r) in rs.iter().enumerate() {
             let s = r.get_ref();
             let tn = format!("scenario[{}]", i + 1);
-            let name = self.required(
-                &s.name,
-                &r.span(),
-                &tn,
-                "name",
-                "every scenario needs a unique, non-empty name",
-            )?;
-            let n = name.get_ref().trim();
-            if n.is_empty() {
-                return Err(self.err(
-                    &name.span(),
-                    &format!("{tn}.name"),
-                    "empty; every scenario needs a unique, non-empty name",
-                ));
-            }
-            if out.iter().any(|o| o.name == n) {
-                return Err(self.err(
-                    &name.span(),
-                    &format!("{tn}.name"),
-                    format!("\"{n}\" is used by an earlier scenario; names must be unique"),
-                ));
-            }
+            let n = self.scenario_name(&s.name, &r.span(), &tn, &out)?;
             let k = |key: &str| format!("{tn}.{key}");
             let value = |v: &Option<Num>, key: &str| -> Result<f64, Error> {
                 let (lo, hi, unit) = scenario_range(key);

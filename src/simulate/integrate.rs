@@ -102,17 +102,9 @@ pub fn integrate_with(
     }
 }
 
-/// Classic RK4 (Kutta 1901; e.g. Hairer, Norsett and Wanner 1993, Solving Ordinary
-/// Differential Equations I, II.1) with output every `step` days and internal steps of
-/// at most one day.
-pub fn integrate_rk4(
-    physiology: &Physiology,
-    compensation: &Compensation,
-    bouts: &[Bout],
-    y0: State,
-    days: f64,
-    step: f64,
-) -> Result<Samples, (f64, String)> {
+/// The number of output steps of `step` days in `days` days, which must be a whole
+/// positive number.
+fn output_steps(days: f64, step: f64) -> Result<usize, (f64, String)> {
     if days <= 0.0 || step <= 0.0 {
         return Err((
             0.0,
@@ -126,6 +118,21 @@ pub fn integrate_rk4(
             format!("{days} days is not a whole number of {step}-day steps"),
         ));
     }
+    Ok(n)
+}
+
+/// Classic RK4 (Kutta 1901; e.g. Hairer, Norsett and Wanner 1993, Solving Ordinary
+/// Differential Equations I, II.1) with output every `step` days and internal steps of
+/// at most one day.
+pub fn integrate_rk4(
+    physiology: &Physiology,
+    compensation: &Compensation,
+    bouts: &[Bout],
+    y0: State,
+    days: f64,
+    step: f64,
+) -> Result<Samples, (f64, String)> {
+    let n = output_steps(days, step)?;
     let rhs = Rhs {
         physiology,
         compensation,
@@ -177,12 +184,7 @@ pub fn integrate(
     days: f64,
     step: f64,
 ) -> Result<Samples, (f64, String)> {
-    if days <= 0.0 || step <= 0.0 {
-        return Err((
-            0.0,
-            format!("nothing to integrate: {days} days in steps of {step}"),
-        ));
-    }
+    let n = output_steps(days, step)?;
     let rhs = Rhs {
         physiology,
         compensation,
@@ -201,13 +203,6 @@ pub fn integrate(
             model.bounds().1
         };
         return Err((reached, e.to_string()));
-    }
-    let n = (days / step).round() as usize;
-    if (n as f64 * step - days).abs() > 1e-9 * days.max(1.0) {
-        return Err((
-            0.0,
-            format!("{days} days is not a whole number of {step}-day steps"),
-        ));
     }
     let mut times = Vec::with_capacity(n + 1);
     let mut states = Vec::with_capacity(n + 1);

@@ -137,6 +137,15 @@ const CONTROL_DOSE: Dose = Dose {
 };
 
 impl Study {
+    /// The arms' names, quoted and joined: `"control", "8 kcal/kg/week"`.
+    pub fn arm_names(&self) -> String {
+        self.arms
+            .iter()
+            .map(|a| format!("\"{}\"", a.name))
+            .collect::<Vec<_>>()
+            .join(", ")
+    }
+
     /// The index of the arm named `name`.
     pub fn arm_index(&self, name: &str) -> Option<usize> {
         self.arms.iter().position(|a| a.name == name)

@@ -281,12 +281,7 @@ pub fn parse_roster(file: &str, text: &str, study: &Study) -> Result<Vec<RosterE
                     Some("arm"),
                     format!(
                         "unknown arm \"{a}\"; the study's arms are {}",
-                        study
-                            .arms
-                            .iter()
-                            .map(|a| format!("\"{}\"", a.name))
-                            .collect::<Vec<_>>()
-                            .join(", ")
+                        study.arm_names()
                     ),
                 )
             })?),

@@ -163,28 +163,7 @@ fn scenarios(
     for (i, r) in rs.iter().enumerate() {
         let s = r.get_ref();
         let tn = format!("scenario[{}]", i + 1);
-        let name = cx.required(
-            &s.name,
-            &r.span(),
-            &tn,
-            "name",
-            "every scenario needs a unique, non-empty name",
-        )?;
-        let n = name.get_ref().trim();
-        if n.is_empty() {
-            return Err(cx.err(
-                &name.span(),
-                &format!("{tn}.name"),
-                "empty; every scenario needs a unique, non-empty name",
-            ));
-        }
-        if out.iter().any(|o| o.name == n) {
-            return Err(cx.err(
-                &name.span(),
-                &format!("{tn}.name"),
-                format!("\"{n}\" is used by an earlier scenario; names must be unique"),
-            ));
-        }
+        let n = cx.scenario_name(&s.name, &r.span(), &tn, &out)?;
         let mut compensation = Compensation::default();
         let mut d: [Option<Dist>; 5] = [None; 5];
         for (k, ((key, lo, hi, unit), v)) in SCENARIO_KEYS.iter().zip(s.values()).enumerate() {
