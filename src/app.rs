@@ -108,6 +108,8 @@ pub struct CalendarRequest {
     pub from: Option<NaiveDate>,
     /// Last date to include.
     pub to: Option<NaiveDate>,
+    /// Display units of the descriptions.
+    pub units: Units,
 }
 
 /// A written calendar: the file's text and what it holds.
@@ -180,7 +182,14 @@ pub fn calendar_file(
             .and_time(chrono::NaiveTime::MIN)
             .and_utc()
     });
-    let text = report::calendar::render(&chosen, &plan.calendar, stamp, &r.screening, &r.warnings);
+    let text = report::calendar::render(
+        &chosen,
+        &plan.calendar,
+        stamp,
+        &r.screening,
+        &r.warnings,
+        request.units,
+    );
     Ok(CalendarFile {
         text,
         events: dates.len(),
@@ -261,6 +270,7 @@ pub fn sheet_input(
         weeks,
         screening: r.screening,
         log: log.summary.clone(),
+        units: Units::default(),
     };
     Ok((input, r.warnings))
 }
@@ -484,6 +494,7 @@ pub fn run(command: &Command) -> Result<Printed, Error> {
             from,
             to,
             logged: LogArgs { log, as_of },
+            display,
         } => {
             let stamp = stamp
                 .as_deref()
@@ -504,6 +515,7 @@ pub fn run(command: &Command) -> Result<Printed, Error> {
                 stamp,
                 from: *from,
                 to: *to,
+                units: display_units(display),
             };
             let cal = calendar_file(&plan, &log, &request)?;
             write_atomic(out, cal.text.as_bytes(), false)?;
@@ -535,7 +547,9 @@ pub fn run(command: &Command) -> Result<Printed, Error> {
             roster,
             randomise,
             seed,
+            display,
         } => {
+            let units = display_units(display);
             if *format == SheetsFormat::Html && out.is_none() {
                 return Err(Error::Usage(
                     "--format html writes a file: give --out FILE.html (or --format text to print the sheets here)"
@@ -559,7 +573,7 @@ pub fn run(command: &Command) -> Result<Printed, Error> {
                 refuse_overwriting_inputs(o, &inputs)?;
                 check_target(o, false)?;
             }
-            let (inputs, warnings, notes) = match (roster, plan) {
+            let (mut inputs, warnings, notes) = match (roster, plan) {
                 (Some(roster), Some(study)) => study_sheet_inputs(
                     study,
                     roster,
@@ -576,6 +590,9 @@ pub fn run(command: &Command) -> Result<Printed, Error> {
                     (vec![input], warnings, String::new())
                 }
             };
+            for i in &mut inputs {
+                i.units = units;
+            }
             let text = match format {
                 SheetsFormat::Html => {
                     let paper = match paper {

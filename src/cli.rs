@@ -303,6 +303,9 @@ pub enum Command {
         /// The participant log to re-plan from.
         #[command(flatten)]
         logged: LogArgs,
+        /// Display units of the event descriptions.
+        #[command(flatten)]
+        display: DisplayArgs,
     },
     /// Print weekly session sheets for the supervising trainer: one page per week.
     #[command(group = clap::ArgGroup::new("weeks").required(true).args(["week", "from"]))]
@@ -342,6 +345,9 @@ pub enum Command {
         /// With --roster --randomise: the random seed.
         #[arg(long, requires = "randomise", default_value_t = DEFAULT_SEED)]
         seed: u64,
+        /// Display units.
+        #[command(flatten)]
+        display: DisplayArgs,
     },
     /// Compare every scenario side by side at checkpoint weeks, optionally for several doses.
     Compare {

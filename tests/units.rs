@@ -792,3 +792,74 @@ fn snapshot_demo_schedule_table_in_us_units_and_kj() {
     assert_eq!(r.code, Some(0), "{}", r.stderr);
     insta::assert_snapshot!("demo_schedule_table_us_kj", r.stdout);
 }
+
+/// Sheets and calendars in US units and kJ: the reference mass in lb equals the
+/// metric sheet's kg / 0.45359237, the walking speed in mph the km/h / 1.609344, and
+/// each energy in kJ the kcal x 4.184, to the printed precision (NIST SP 811, 2008,
+/// Appendix B.8 for all three factors).
+#[test]
+fn sheets_and_calendar_follow_units_and_energy() {
+    let dir = Scratch::new("units-sheets");
+    let plan =
+        std::fs::read_to_string(manifest_dir().join("plans/ex-206-rotation-heart-rate.toml"))
+            .unwrap();
+    dir.write("plan.toml", &plan);
+    let sheet = |extra: &[&str]| {
+        let r = run(dir
+            .cmd()
+            .args(["sheets", "plan.toml", "--week", "2", "--format", "text"])
+            .args(extra));
+        assert_eq!(r.code, Some(0), "{}", r.stderr);
+        r.stdout
+    };
+    let number_after = |t: &str, before: &str, after: &str| -> f64 {
+        let i = t.find(before).unwrap_or_else(|| panic!("{before} in {t}")) + before.len();
+        let rest = &t[i..];
+        rest[..rest.find(after).unwrap()].trim().parse().unwrap()
+    };
+    let metric = sheet(&[]);
+    let us = sheet(&["--units", "us", "--energy", "kj"]);
+    let kg = number_after(&metric, "body mass of ", " kg");
+    let lb = number_after(&us, "body mass of ", " lb");
+    assert!(
+        (lb - kg / 0.453_592_37).abs() <= 0.05 + kg * 1e-3 / 0.453_592_37,
+        "{kg} kg vs {lb} lb"
+    );
+    let kmh = number_after(&metric, "intensity  ", " km/h");
+    let mph = number_after(&us, "intensity  ", " mph");
+    assert!(
+        (mph - kmh / 1.609_344).abs() <= 0.05 + 0.05 / 1.609_344,
+        "{kmh} km/h vs {mph} mph"
+    );
+    let kcal = number_after(&metric, "min in all; ", " kcal");
+    let kj = number_after(&us, "min in all; ", " kJ");
+    assert!(
+        (kj - kcal * 4.184).abs() <= 0.5 + 0.5 * 4.184,
+        "{kcal} kcal vs {kj} kJ"
+    );
+    assert!(
+        us.contains("mass ________ lb"),
+        "the weigh-in box asks for lb"
+    );
+    // The calendar's descriptions.
+    let r = run(dir.cmd().args([
+        "calendar",
+        "plan.toml",
+        "--out",
+        "c.ics",
+        "--units",
+        "us",
+        "--energy",
+        "kj",
+    ]));
+    assert_eq!(r.code, Some(0), "{}", r.stderr);
+    let ics = std::fs::read_to_string(dir.path().join("c.ics"))
+        .unwrap()
+        .replace("\r\n ", "");
+    assert!(ics.contains(" kJ gross\\, "), "energy in kJ");
+    assert!(
+        ics.contains(" lb (projected)") || ics.contains(" lb (measured)"),
+        "mass in lb"
+    );
+    assert!(ics.contains(" mph at 1.0% grade"), "speed in mph");
+}

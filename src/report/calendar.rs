@@ -19,6 +19,7 @@
 //! 3.7.3 PRODID, 3.7.4 VERSION, 3.8.2.2 DTEND, 3.8.4.7 UID, 3.8.7.2 DTSTAMP.
 
 use super::sessions::{PlannedSession, PlannedWeek, SessionPlan};
+use super::units::Units;
 use crate::error::{Error, InputError, Location};
 use crate::plan::{CalendarSettings, EnergyBasis};
 use crate::safety::{CAUTIONS, ScreeningOutcome, Warning};
@@ -233,6 +234,7 @@ fn description(
     w: &PlannedWeek,
     s: &PlannedSession,
     screening: &ScreeningOutcome,
+    u: Units,
 ) -> String {
     let t = &s.targets;
     let mut lines = vec![format!(
@@ -247,7 +249,11 @@ fn description(
             "Bout {b} of 2: the session is split into two bouts this day."
         ));
     }
-    lines.push(format!("Activity: {}: {}.", s.activity, s.intensity_text));
+    lines.push(format!(
+        "Activity: {}: {}.",
+        s.activity,
+        s.intensity.describe_with(|kmh| u.speed_text(kmh))
+    ));
     let mut intensity = format!("Intensity: {:.1} MET, {}", s.met, t.class.name());
     if let Some(f) = t.vo2_reserve_fraction {
         intensity.push_str(&format!(", about {:.0}% of VO2 reserve", f * 100.0));
@@ -279,8 +285,10 @@ fn description(
         EnergyBasis::Net => "net",
     };
     lines.push(format!(
-        "Energy of the whole session: {:.0} kcal gross, {:.0} kcal net of rest (the dose counts {basis}).",
-        s.gross_kcal, s.net_kcal
+        "Energy of the whole session: {:.0} {e} gross, {:.0} {e} net of rest (the dose counts {basis}).",
+        u.energy(s.gross_kcal),
+        u.energy(s.net_kcal),
+        e = u.energy_label()
     ));
     if let Some(hr) = &t.heart_rate {
         lines.push(format!(
@@ -299,8 +307,9 @@ fn description(
         t.rpe.0, t.rpe.1, t.talk_test
     ));
     lines.push(format!(
-        "Minutes set from a body mass of {:.1} kg ({}) at the start of the week.",
-        w.reference_mass_kg,
+        "Minutes set from a body mass of {:.1} {} ({}) at the start of the week.",
+        u.mass(w.reference_mass_kg),
+        u.mass_label(),
         match w.mass_source {
             MassSource::Measured => "measured",
             MassSource::Projected => "projected",
@@ -374,6 +383,7 @@ pub fn render(
     stamp: DateTime<Utc>,
     screening: &ScreeningOutcome,
     warnings: &[Warning],
+    u: Units,
 ) -> String {
     let plan_file = plan_file_name(&plan.plan);
     let mut cal = Calendar::empty();
@@ -409,7 +419,7 @@ pub fn render(
             ))
             .timestamp(stamp)
             .summary(&summary(&plan.participant_id, w.week, s))
-            .description(&description(plan, w, s, screening));
+            .description(&description(plan, w, s, screening, u));
             match when(s, settings) {
                 When::Timed(start, end) => {
                     e.starts(start).ends(end);

@@ -23,6 +23,7 @@
 use super::LogSummary;
 use super::chart::escape;
 use super::sessions::{PlannedSession, PlannedWeek, SessionPlan};
+use super::units::Units;
 use crate::activity::Intensity;
 use crate::activity::targets::{HeartRateTarget, RelativeTargets};
 use crate::plan::EnergyBasis;
@@ -45,6 +46,8 @@ pub struct SheetInput {
     pub screening: ScreeningOutcome,
     /// The participant log the sessions were re-planned from.
     pub log: Option<LogSummary>,
+    /// Display units (mass, speed, energy).
+    pub units: Units,
 }
 
 impl SheetInput {
@@ -133,7 +136,7 @@ fn dates(w: &PlannedWeek) -> String {
     format!("{} to {}", day(w.start), day(w.end))
 }
 
-fn mass_words(w: &PlannedWeek) -> String {
+fn mass_words(w: &PlannedWeek, u: Units) -> String {
     let source = match (w.mass_source, w.week) {
         (MassSource::Measured, 1) => "measured at baseline".to_string(),
         (MassSource::Measured, _) => "measured at the latest weigh-in".to_string(),
@@ -142,15 +145,16 @@ fn mass_words(w: &PlannedWeek) -> String {
         }
     };
     format!(
-        "Minutes computed for a body mass of {:.1} kg ({source}).",
-        w.reference_mass_kg
+        "Minutes computed for a body mass of {:.1} {} ({source}).",
+        u.mass(w.reference_mass_kg),
+        u.mass_label()
     )
 }
 
-fn basis_words(basis: EnergyBasis) -> &'static str {
+fn basis_words(basis: EnergyBasis, u: Units) -> String {
     match basis {
-        EnergyBasis::Gross => "gross kcal",
-        EnergyBasis::Net => "kcal net of rest",
+        EnergyBasis::Gross => format!("gross {}", u.energy_label()),
+        EnergyBasis::Net => format!("{} net of rest", u.energy_label()),
     }
 }
 
@@ -165,7 +169,7 @@ fn source_words(input: &SheetInput) -> String {
         "Plan: {}; scenario: \"{}\"; energy: {} for the whole session{}.",
         s.plan,
         s.scenario,
-        basis_words(s.basis),
+        basis_words(s.basis, input.units),
         if easy {
             ", warm-up and cool-down included"
         } else {
@@ -223,7 +227,7 @@ fn group_words(group: &[&PlannedSession]) -> Option<String> {
 }
 
 /// How the plan gives the intensity, with the MET at the week's reference mass.
-fn intensity_words(s: &PlannedSession) -> String {
+fn intensity_words(s: &PlannedSession, u: Units) -> String {
     let how = match &s.intensity {
         Intensity::Compendium { code, version, .. } => format!("Compendium {code} ({version})"),
         Intensity::Met { .. } => "MET stated in the plan".to_string(),
@@ -234,7 +238,7 @@ fn intensity_words(s: &PlannedSession) -> String {
         | Intensity::Running {
             speed_kmh,
             grade_percent,
-        } => format!("{speed_kmh:.1} km/h at {grade_percent:.1}% grade"),
+        } => format!("{} at {grade_percent:.1}% grade", u.speed_text(*speed_kmh)),
         Intensity::CyclingWatts { watts } => format!("{watts:.0} W"),
         Intensity::Vo2Reserve { percent, .. } => format!("{percent:.0}% of VO2 reserve"),
     };
@@ -269,8 +273,8 @@ fn session_parts(s: &PlannedSession) -> Vec<String> {
         .collect()
 }
 
-fn energy_words(s: &PlannedSession) -> String {
-    format!("{:.0} kcal", s.energy_kcal)
+fn energy_words(s: &PlannedSession, u: Units) -> String {
+    format!("{:.0} {}", u.energy(s.energy_kcal), u.energy_label())
 }
 
 fn percent_range((lo, hi): (f64, f64)) -> String {
@@ -450,7 +454,7 @@ fn html_record(label: Option<String>) -> String {
 }
 
 /// One group of sessions: the prescription once, a line each to record.
-fn html_sessions(h: &mut String, group: &[&PlannedSession]) {
+fn html_sessions(h: &mut String, group: &[&PlannedSession], u: Units) {
     let e = escape;
     let s = group[0];
     let (class, span) = match group.len() {
@@ -470,15 +474,15 @@ fn html_sessions(h: &mut String, group: &[&PlannedSession]) {
         let _ = write!(session, "<span>{}</span>", e(&part));
     }
     let energy = match group.len() {
-        1 => format!("<b>{:.0}</b>", s.energy_kcal),
-        _ => format!("<b>{:.0}</b> each", s.energy_kcal),
+        1 => format!("<b>{:.0}</b>", u.energy(s.energy_kcal)),
+        _ => format!("<b>{:.0}</b> each", u.energy(s.energy_kcal)),
     };
     let _ = writeln!(
         h,
         "<tbody{class}><tr><td{span}>{}</td><td{span}><span><b>{}</b></span><span class=\"sub\">{}</span></td><td{span}>{session}</td><td{span}>{energy}</td><td{span}>{}</td>{}</tr>",
         html_day(s.date),
         e(&s.activity),
-        e(&intensity_words(s)),
+        e(&intensity_words(s, u)),
         html_targets(&s.targets),
         html_record(record_label(group, s)),
     );
@@ -504,7 +508,7 @@ fn html_page(h: &mut String, input: &SheetInput, w: &PlannedWeek) {
         w.week,
         input.sessions.weeks.len(),
         e(&dates(w)),
-        e(&mass_words(w)),
+        e(&mass_words(w, input.units)),
         e(&heart_rate_basis(w)),
         e(&source_words(input)),
     );
@@ -522,14 +526,14 @@ fn html_page(h: &mut String, input: &SheetInput, w: &PlannedWeek) {
     for width in widths {
         let _ = write!(h, "<col style=\"width:{width}%\">");
     }
-    h.push_str(concat!(
+    h.push_str(&concat!(
         "</colgroup>\n",
-        "<thead><tr><th rowspan=\"2\">Date</th><th rowspan=\"2\">Activity and intensity</th><th rowspan=\"2\">Session</th><th rowspan=\"2\">kcal</th><th rowspan=\"2\">Targets</th><th class=\"rec\" colspan=\"4\">Delivered (fill in)</th></tr>\n",
+        "<thead><tr><th rowspan=\"2\">Date</th><th rowspan=\"2\">Activity and intensity</th><th rowspan=\"2\">Session</th><th rowspan=\"2\">{ENERGY}</th><th rowspan=\"2\">Targets</th><th class=\"rec\" colspan=\"4\">Delivered (fill in)</th></tr>\n",
         "<tr><th class=\"rec\">min</th><th class=\"rec\">avg HR</th><th class=\"rec\">RPE</th><th class=\"rec\">initials</th></tr></thead>\n",
-    ));
+    ).replace("{ENERGY}", input.units.energy_label()));
     for row in rows {
         match row {
-            Row::Sessions(group) => html_sessions(h, &group),
+            Row::Sessions(group) => html_sessions(h, &group, input.units),
             Row::Closed(d) => {
                 let _ = writeln!(
                     h,
@@ -555,13 +559,16 @@ fn html_page(h: &mut String, input: &SheetInput, w: &PlannedWeek) {
                 .collect::<String>()
         );
     }
-    h.push_str(concat!(
-        "<div class=\"box weigh\"><h2>Weigh-in</h2>",
-        "<span>date <span class=\"blank\"></span></span>",
-        "<span>mass <span class=\"blank short\"></span> kg</span>",
-        "<span>body fat, if measured <span class=\"blank short\"></span> %</span></div>\n",
-        "<div class=\"box notes-box\"><h2>Notes</h2></div>\n",
-    ));
+    h.push_str(
+        &concat!(
+            "<div class=\"box weigh\"><h2>Weigh-in</h2>",
+            "<span>date <span class=\"blank\"></span></span>",
+            "<span>mass <span class=\"blank short\"></span> {MASS}</span>",
+            "<span>body fat, if measured <span class=\"blank short\"></span> %</span></div>\n",
+            "<div class=\"box notes-box\"><h2>Notes</h2></div>\n",
+        )
+        .replace("{MASS}", input.units.mass_label()),
+    );
     let _ = write!(
         h,
         "<div class=\"box cautions\"><h2>Screening and cautions</h2><ul>\n<li><b>{}</b></li>\n",
@@ -597,7 +604,7 @@ pub fn text(inputs: &[SheetInput]) -> String {
 
 fn text_page(t: &mut String, input: &SheetInput, w: &PlannedWeek) {
     let _ = writeln!(t, "{} ({})", title(input, w), dates(w));
-    let _ = writeln!(t, "{}", mass_words(w));
+    let _ = writeln!(t, "{}", mass_words(w, input.units));
     let _ = writeln!(t, "{}", heart_rate_basis(w));
     let _ = writeln!(t, "{}", source_words(input));
     if let Some(c) = clearance_words(&input.screening) {
@@ -609,7 +616,7 @@ fn text_page(t: &mut String, input: &SheetInput, w: &PlannedWeek) {
             Row::Sessions(group) => {
                 let s = group[0];
                 let _ = writeln!(t, "{}  {}", day(s.date), s.activity);
-                let _ = writeln!(t, "  intensity  {}", intensity_words(s));
+                let _ = writeln!(t, "  intensity  {}", intensity_words(s, input.units));
                 let each = if group.len() > 1 { " each" } else { "" };
                 let session: Vec<String> = group_words(&group)
                     .into_iter()
@@ -619,7 +626,7 @@ fn text_page(t: &mut String, input: &SheetInput, w: &PlannedWeek) {
                     t,
                     "  session    {}; {}{each}",
                     session.join(" "),
-                    energy_words(s)
+                    energy_words(s, input.units)
                 );
                 let _ = writeln!(t, "  targets    {}", target_parts(&s.targets).join("; "));
                 for one in &group {
@@ -642,7 +649,8 @@ fn text_page(t: &mut String, input: &SheetInput, w: &PlannedWeek) {
     }
     let _ = writeln!(
         t,
-        "\nWeigh-in: date {BLANK}  mass {BLANK} kg  body fat, if measured {BLANK} %"
+        "\nWeigh-in: date {BLANK}  mass {BLANK} {}  body fat, if measured {BLANK} %",
+        input.units.mass_label()
     );
     let _ = writeln!(t, "Notes:\n");
     let _ = writeln!(t, "Screening and cautions");
