@@ -9,7 +9,7 @@
 //! order statistics (Hyndman RJ, Fan Y 1996, Am Stat 50:361, definition 7).
 
 use super::integrate::Integrator;
-use super::{RunMode, ScenarioRun, calibrated, run};
+use super::{RunMode, run};
 use crate::error::Error;
 use crate::plan::SCENARIO_KEYS;
 use crate::plan::{Participant, Plan};
@@ -479,44 +479,6 @@ pub fn run_cohort(
         })
         .collect();
     results.into_iter().collect()
-}
-
-/// The same simulation as `schedule` runs for one participant, as a scenario run, for
-/// checks that the cohort and the single plan agree.
-pub fn single_plan_run(plan: &Plan, integrator: Integrator) -> Result<Vec<ScenarioRun>, Error> {
-    let (baseline, physiology) = calibrated(plan)?;
-    let mut out = Vec::new();
-    for sc in &plan.scenarios {
-        let mode = |exercise: bool| RunMode {
-            exercise,
-            integrator,
-            ..RunMode::projection(plan)
-        };
-        let without = run(plan, &physiology, &baseline, sc, mode(false), None)?;
-        let deficits: Vec<f64> = without
-            .weeks
-            .iter()
-            .map(|w| w.end.achieved_deficit_kcal)
-            .collect();
-        let weeks = run(
-            plan,
-            &physiology,
-            &baseline,
-            sc,
-            mode(true),
-            Some(&deficits),
-        )?
-        .weeks;
-        out.push(ScenarioRun {
-            name: sc.name.clone(),
-            assumptions: sc.assumptions(),
-            compensation: sc.compensation,
-            outcome: super::outcome(plan, &baseline, &weeks),
-            weeks,
-            adherence: None,
-        });
-    }
-    Ok(out)
 }
 
 // ---------------------------------------------------------------------------
