@@ -1155,7 +1155,7 @@ fn cohort_command(args: &crate::cli::CohortArgs) -> Result<Printed, Error> {
     let results = pool.install(|| run_cohort(&study, &members, &req, &|| bar.inc(1)));
     bar.finish_and_clear();
     let results = results?;
-    let summary = summarise(&study, &members, &results, &req);
+    let summary = pool.install(|| summarise(&study, &results, &req));
     let r = report::cohort::CohortReport {
         tool: format!("dosewright {}", env!("CARGO_PKG_VERSION")),
         study: study.source_name.clone(),
@@ -1180,7 +1180,12 @@ fn cohort_command(args: &crate::cli::CohortArgs) -> Result<Printed, Error> {
         ),
         warnings: crate::safety::warnings::cohort_warnings(&study, &members, &summary),
         cautions: crate::safety::CAUTIONS.to_vec(),
-        rows: report::cohort::participant_rows(&study, &members, &results),
+        // One row per run, for the CSV only.
+        rows: if args.format == CohortFormat::Csv {
+            report::cohort::participant_rows(&study, &members, &results.members)
+        } else {
+            Vec::new()
+        },
     }
     .with_summary(summary);
     let mut printed = Printed::default();

@@ -126,3 +126,82 @@ fn the_fast_path_equals_the_general_driver_with_rk4() {
         None,
     );
 }
+
+/// Lanes integrated side by side (packed four to a vector, a short chunk padded)
+/// give each lane exactly what it gives alone: the lanes share nothing but the
+/// participant and scenario. Six lanes make one full chunk and one padded one.
+#[test]
+fn lanes_side_by_side_equal_each_lane_alone() {
+    use dosewright::simulate::fast::{Lane, fast_runs};
+    let plan = parse_plan("fast.toml", PLAN).unwrap();
+    let minutes = parse_plan(
+        "fast.toml",
+        &PLAN.replace(
+            "kcal_per_kg_week = 16.0\nmass_basis = \"current\"",
+            "minutes_per_week = 150",
+        ),
+    )
+    .unwrap();
+    let (b, ph) = calibrated(&plan).unwrap();
+    let comp = &plan.scenarios[0].compensation;
+    let at = |probability, key| Some(Attendance { probability, key });
+    let lanes = [
+        Lane {
+            plan: &plan,
+            exercise: false,
+            attendance: None,
+            last_exercise_week: None,
+        },
+        Lane {
+            plan: &plan,
+            exercise: true,
+            attendance: None,
+            last_exercise_week: None,
+        },
+        Lane {
+            plan: &minutes,
+            exercise: true,
+            attendance: at(0.6, 3),
+            last_exercise_week: None,
+        },
+        Lane {
+            plan: &plan,
+            exercise: true,
+            attendance: at(0.8, 11),
+            last_exercise_week: Some(9),
+        },
+        Lane {
+            plan: &minutes,
+            exercise: true,
+            attendance: None,
+            last_exercise_week: Some(30),
+        },
+        Lane {
+            plan: &plan,
+            exercise: true,
+            attendance: at(0.95, 5),
+            last_exercise_week: None,
+        },
+    ];
+    for n in 1..=lanes.len() {
+        let together = fast_runs(&lanes[..n], &ph, &b, comp).unwrap();
+        assert_eq!(together.len(), n);
+        for (l, got) in lanes[..n].iter().zip(&together) {
+            let alone = fast_run(
+                l.plan,
+                &ph,
+                &b,
+                comp,
+                l.exercise,
+                l.attendance,
+                l.last_exercise_week,
+            )
+            .unwrap();
+            // Bit for bit: the same operations in the same order for every lane.
+            assert_eq!(&alone, got, "{n} lanes");
+        }
+    }
+    // The lanes differ, so a mix-up between them could not pass unseen.
+    let all = fast_runs(&lanes, &ph, &b, comp).unwrap();
+    assert!(all[1].mass_kg != all[3].mass_kg && all[2].minutes != all[4].minutes);
+}

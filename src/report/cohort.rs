@@ -182,9 +182,7 @@ pub fn participant_rows(
                 minutes_last_week: run.minutes_last_week,
                 over_max: run.over_max,
                 prescribed_net_kcal: round4(run.prescribed_net_kcal),
-                session_hours: round4(
-                    f64::from(run.session_minutes_by_week.iter().sum::<u32>()) / 60.0,
-                ),
+                session_hours: round4(f64::from(run.session_minutes_total) / 60.0),
             });
         }
     }

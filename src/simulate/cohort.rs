@@ -70,6 +70,8 @@ pub struct RunSummary {
     pub minutes_by_week: Vec<u32>,
     /// Whole-session minutes (warm-up, target, cool-down) of all sessions, per protocol week.
     pub session_minutes_by_week: Vec<u32>,
+    /// The sum of `session_minutes_by_week` (kept when the cohort drops the weeks).
+    pub session_minutes_total: u32,
     /// Sessions (or bouts) over the maximum before the policy acted, in any week.
     pub over_max: bool,
     /// Prescribed net exercise energy over the protocol, kcal.
@@ -143,6 +145,10 @@ fn summarise_run(
             .iter()
             .map(|x| x.sessions.iter().map(|s| s.session_minutes).sum())
             .collect(),
+        session_minutes_total: w[..weeks]
+            .iter()
+            .flat_map(|x| x.sessions.iter().map(|s| s.session_minutes))
+            .sum(),
         over_max: w[..weeks].iter().any(|x| x.over_max.is_some()),
         prescribed_net_kcal: end.prescribed_net_kcal,
         draw: 0,
@@ -271,25 +277,35 @@ fn fast_row(
     si: usize,
     req: &CohortRequest,
 ) -> Option<Vec<RunSummary>> {
-    use super::fast::fast_run;
+    use super::fast::{Lane, fast_runs};
     let comp = &sc.compensation;
-    let without = fast_run(&plans[0], physiology, baseline, comp, false, None, None)?;
+    // Lane 0 is the no-exercise run; then one lane per dosed arm, side by side.
+    let mut lanes = vec![Lane {
+        plan: &plans[0],
+        exercise: false,
+        attendance: None,
+        last_exercise_week: None,
+    }];
+    for (a, plan) in arms.iter().zip(plans) {
+        if !study.arms[*a].is_control() {
+            lanes.push(Lane {
+                plan,
+                exercise: true,
+                attendance: dr.attendance,
+                last_exercise_week: dr.last_exercise_week,
+            });
+        }
+    }
+    let mut results = fast_runs(&lanes, physiology, baseline, comp)?.into_iter();
+    let without = results.next().expect("lane 0 is the no-exercise run");
     let weeks = study.protocol.weeks as usize;
     let mut row = Vec::with_capacity(arms.len());
-    for (a, plan) in arms.iter().zip(plans) {
+    for a in arms {
         let control = study.arms[*a].is_control();
         let r = if control {
             without.clone()
         } else {
-            fast_run(
-                plan,
-                physiology,
-                baseline,
-                comp,
-                true,
-                dr.attendance,
-                dr.last_exercise_week,
-            )?
+            results.next().expect("one lane per dosed arm")
         };
         let at = |w: u32| w as usize - 1;
         let end = weeks - 1;
@@ -330,6 +346,7 @@ fn fast_row(
             minutes_week1: minutes[0],
             minutes_last_week: minutes[end],
             minutes_by_week: minutes,
+            session_minutes_total: session.iter().sum(),
             session_minutes_by_week: session,
             over_max: !control && r.over_max,
             prescribed_net_kcal: if control {
@@ -461,24 +478,129 @@ pub fn simulate_member(
     })
 }
 
-/// Simulate every member in parallel; `tick` is called once per member done. The
-/// first error in member order is returned.
+/// A cohort's runs: every member's scalars, in member order, and the week-by-week
+/// minutes counted as they were simulated (no run keeps its weeks).
+#[derive(Debug, Clone, PartialEq)]
+pub struct CohortRuns {
+    /// Every member's runs, in member order, with `minutes_by_week` and
+    /// `session_minutes_by_week` emptied once counted in `tally`.
+    pub members: Vec<MemberResult>,
+    /// The weekly minutes of every run.
+    pub tally: MinuteTally,
+}
+
+/// Week-by-week minutes of a cohort, counted run by run as the runs finish: per arm
+/// and scenario a count of each week's session minutes, and per arm the whole-session
+/// minutes of the first scenario (staff hours). All counts are whole numbers, so
+/// they add up the same in any order and on any number of threads.
+#[derive(Debug, Clone, PartialEq)]
+pub struct MinuteTally {
+    /// `[arm][scenario][week]`: how many runs had each minutes per session.
+    minutes: Vec<Vec<Vec<MinuteCounts>>>,
+    /// `[arm][week]`: whole-session minutes of every run of the first scenario.
+    staff: Vec<Vec<u64>>,
+    /// `[week]`: the same over the allocated runs only (every run when none is allocated).
+    staff_allocated: Vec<u64>,
+}
+
+impl MinuteTally {
+    fn new(study: &Study) -> MinuteTally {
+        let weeks = study.protocol.weeks as usize;
+        let arms = study.arms.len();
+        MinuteTally {
+            minutes: vec![vec![vec![MinuteCounts::default(); weeks]; study.scenarios.len()]; arms],
+            staff: vec![vec![0; weeks]; arms],
+            staff_allocated: vec![0; weeks],
+        }
+    }
+
+    /// Count the weeks of member `m`'s runs; `counts_all` when no member is allocated.
+    fn add(&mut self, m: &Member, r: &MemberResult, counts_all: bool) {
+        for run in &r.runs {
+            for (c, v) in self.minutes[run.arm][run.scenario]
+                .iter_mut()
+                .zip(&run.minutes_by_week)
+            {
+                c.add(*v);
+            }
+            if run.scenario == 0 {
+                let allocated = counts_all || m.arm == Some(run.arm);
+                for (w, v) in run.session_minutes_by_week.iter().enumerate() {
+                    self.staff[run.arm][w] += u64::from(*v);
+                    if allocated {
+                        self.staff_allocated[w] += u64::from(*v);
+                    }
+                }
+            }
+        }
+    }
+
+    fn merge(mut self, other: MinuteTally) -> MinuteTally {
+        for (a, b) in self.minutes.iter_mut().zip(other.minutes) {
+            for (x, y) in a.iter_mut().zip(b) {
+                for (c, d) in x.iter_mut().zip(y) {
+                    c.merge(&d);
+                }
+            }
+        }
+        for (a, b) in self.staff.iter_mut().zip(other.staff) {
+            for (x, y) in a.iter_mut().zip(b) {
+                *x += y;
+            }
+        }
+        for (x, y) in self.staff_allocated.iter_mut().zip(other.staff_allocated) {
+            *x += y;
+        }
+        self
+    }
+}
+
+/// Simulate every member in parallel; `tick` is called once per member done. Each
+/// member's weekly minutes go into the tally as soon as it is done and are then
+/// dropped, so memory grows with the runs' scalars only. The first error in member
+/// order is returned.
 pub fn run_cohort(
     study: &Study,
     members: &[Member],
     req: &CohortRequest,
     tick: &(dyn Fn() + Sync),
-) -> Result<Vec<MemberResult>, Error> {
-    let results: Vec<Result<MemberResult, Error>> = members
+) -> Result<CohortRuns, Error> {
+    let counts_all = !members.iter().all(|m| m.arm.is_some());
+    type Part = (Vec<(usize, Result<MemberResult, Error>)>, MinuteTally);
+    let (mut results, tally): Part = members
         .par_iter()
         .enumerate()
-        .map(|(i, m)| {
-            let r = simulate_member(study, m, i, req);
-            tick();
-            r
-        })
-        .collect();
-    results.into_iter().collect()
+        .fold(
+            || (Vec::new(), MinuteTally::new(study)),
+            |(mut done, mut tally), (i, m)| {
+                let r = simulate_member(study, m, i, req).map(|mut r| {
+                    tally.add(m, &r, counts_all);
+                    for run in &mut r.runs {
+                        run.minutes_by_week = Vec::new();
+                        run.session_minutes_by_week = Vec::new();
+                    }
+                    r
+                });
+                tick();
+                done.push((i, r));
+                (done, tally)
+            },
+        )
+        .reduce(
+            || (Vec::new(), MinuteTally::new(study)),
+            |(mut a, ta), (b, tb)| {
+                a.extend(b);
+                (a, ta.merge(tb))
+            },
+        );
+    results.sort_by_key(|(i, _)| *i);
+    Ok(CohortRuns {
+        members: results
+            .into_iter()
+            .map(|(_, r)| r)
+            .collect::<Result<_, _>>()?,
+        tally,
+    })
 }
 
 // ---------------------------------------------------------------------------
@@ -497,24 +619,35 @@ pub fn percentile(sorted: &[f64], q: f64) -> f64 {
 }
 
 /// Whole minutes counted by value: the percentiles of [`percentile`] without sorting.
+#[derive(Debug, Clone, Default, PartialEq)]
 struct MinuteCounts {
     counts: Vec<u64>,
     n: u64,
 }
 
 impl MinuteCounts {
-    fn of(values: impl Iterator<Item = u32>) -> MinuteCounts {
-        let mut counts: Vec<u64> = Vec::new();
-        let mut n = 0;
-        for v in values {
-            let i = v as usize;
-            if i >= counts.len() {
-                counts.resize(i + 1, 0);
-            }
-            counts[i] += 1;
-            n += 1;
+    fn add(&mut self, v: u32) {
+        let i = v as usize;
+        if i >= self.counts.len() {
+            self.counts.resize(i + 1, 0);
         }
-        MinuteCounts { counts, n }
+        self.counts[i] += 1;
+        self.n += 1;
+    }
+
+    fn merge(&mut self, other: &MinuteCounts) {
+        if other.counts.len() > self.counts.len() {
+            self.counts.resize(other.counts.len(), 0);
+        }
+        for (a, b) in self.counts.iter_mut().zip(&other.counts) {
+            *a += b;
+        }
+        self.n += other.n;
+    }
+
+    /// The largest value counted (0 when none).
+    fn max(&self) -> u32 {
+        self.counts.iter().rposition(|c| *c > 0).unwrap_or(0) as u32
     }
 
     /// The `k`-th smallest value (0-based).
@@ -591,13 +724,18 @@ pub struct MinutesSpread {
 }
 
 impl MinutesSpread {
-    fn of(values: &[u32]) -> MinutesSpread {
-        let mut s: Vec<f64> = values.iter().map(|v| f64::from(*v)).collect();
-        s.sort_by(f64::total_cmp);
+    fn of(counts: Option<&MinuteCounts>) -> MinutesSpread {
+        let Some(c) = counts else {
+            return MinutesSpread {
+                median: 0.0,
+                p95: 0.0,
+                max: 0,
+            };
+        };
         MinutesSpread {
-            median: percentile(&s, 0.5),
-            p95: percentile(&s, 0.95),
-            max: values.iter().copied().max().unwrap_or(0),
+            median: c.percentile(0.5),
+            p95: c.percentile(0.95),
+            max: c.max(),
         }
     }
 }
@@ -717,20 +855,15 @@ pub struct CohortSummary {
     pub staff_hours: StaffHours,
 }
 
-/// Summarise member results per arm and scenario.
-pub fn summarise(
-    study: &Study,
-    members: &[Member],
-    results: &[MemberResult],
-    req: &CohortRequest,
-) -> CohortSummary {
-    let weeks = study.protocol.weeks as usize;
+/// Summarise member results per arm and scenario. Arms are summarised in parallel;
+/// each summary is computed in member order, so the result does not depend on threads.
+pub fn summarise(study: &Study, runs: &CohortRuns, req: &CohortRequest) -> CohortSummary {
+    let results = &runs.members;
+    let tally = &runs.tally;
     let ns = study.scenarios.len();
-    let allocated = members.iter().all(|m| m.arm.is_some());
-    let mut staff_total = vec![0u64; weeks];
     let arms = study
         .arms
-        .iter()
+        .par_iter()
         .enumerate()
         .map(|(ai, arm)| {
             let runs: Vec<(usize, &RunSummary)> = results
@@ -743,22 +876,13 @@ pub fn summarise(
                         .map(move |x| (mi, x))
                 })
                 .collect();
-            let mut staff = vec![0u64; weeks];
-            for (mi, r) in runs.iter().filter(|(_, r)| r.scenario == 0) {
-                let counts = !allocated || members[*mi].arm == Some(ai);
-                for (w, m) in r.session_minutes_by_week.iter().enumerate() {
-                    staff[w] += u64::from(*m);
-                    if counts {
-                        staff_total[w] += u64::from(*m);
-                    }
-                }
-            }
             let first = runs.iter().filter(|(_, r)| r.scenario == 0);
             let participants = first.clone().filter(|(_, r)| r.draw == 0).count();
             let completed = first.filter(|(_, r)| r.completed).count();
             let draws = f64::from(req.draws.max(1));
             let scenarios = (0..ns)
                 .map(|si| {
+                    let counts = &tally.minutes[ai][si];
                     let rs: Vec<&RunSummary> = runs
                         .iter()
                         .filter(|(_, r)| r.scenario == si)
@@ -766,8 +890,6 @@ pub fn summarise(
                         .collect();
                     let f =
                         |g: fn(&RunSummary) -> f64| rs.iter().map(|r| g(r)).collect::<Vec<f64>>();
-                    let u =
-                        |g: fn(&RunSummary) -> u32| rs.iter().map(|r| g(r)).collect::<Vec<u32>>();
                     let mass = f(|r| r.protocol_end_mass_change_kg);
                     let completers: Vec<f64> = rs
                         .iter()
@@ -797,17 +919,16 @@ pub fn summarise(
                                 ),
                             })
                             .collect(),
-                        minutes_week1: MinutesSpread::of(&u(|r| r.minutes_week1)),
-                        minutes_last_week: MinutesSpread::of(&u(|r| r.minutes_last_week)),
-                        minutes_by_week: (0..weeks)
-                            .map(|w| {
-                                let h = MinuteCounts::of(rs.iter().map(|r| r.minutes_by_week[w]));
-                                WeekMinutes {
-                                    week: w as u32 + 1,
-                                    median: h.percentile(0.5),
-                                    p5: h.percentile(0.05),
-                                    p95: h.percentile(0.95),
-                                }
+                        minutes_week1: MinutesSpread::of(counts.first()),
+                        minutes_last_week: MinutesSpread::of(counts.last()),
+                        minutes_by_week: counts
+                            .iter()
+                            .enumerate()
+                            .map(|(w, h)| WeekMinutes {
+                                week: w as u32 + 1,
+                                median: h.percentile(0.5),
+                                p5: h.percentile(0.05),
+                                p95: h.percentile(0.95),
                             })
                             .collect(),
                         over_max_share: rs.iter().filter(|r| r.over_max).count() as f64 / n,
@@ -831,12 +952,12 @@ pub fn summarise(
                 participants,
                 completing: completed as f64 / draws,
                 scenarios,
-                staff_hours: StaffHours::of(&staff, draws),
+                staff_hours: StaffHours::of(&tally.staff[ai], draws),
             }
         })
         .collect();
     CohortSummary {
         arms,
-        staff_hours: StaffHours::of(&staff_total, f64::from(req.draws.max(1))),
+        staff_hours: StaffHours::of(&tally.staff_allocated, f64::from(req.draws.max(1))),
     }
 }
