@@ -6,7 +6,8 @@
 //! Reference: Altman DG 1991, Practical Statistics for Medical Research (Chapman &
 //! Hall), section 15.3 (formula); Kirkwood BR, Sterne JAC 2003, Essential Medical
 //! Statistics, 2nd ed. (Blackwell), chapter 35 (the same formula with the
-//! standard-normal quantiles used here).
+//! standard-normal quantiles used here). Worked example checked in the tests:
+//! Gelman A, Hill J, Vehtari A 2020, Regression and Other Stories, section 16.3.
 
 use crate::study::dist::normal_cdf;
 
@@ -53,9 +54,26 @@ mod tests {
             recruit(n_per_arm(1.0, 3.0, Z_POWER_90).unwrap(), 1.0),
             190.0
         );
-        // A standardised difference of 0.5 at power 0.8 needs 63 per group by the
-        // normal approximation (Altman 1991, section 15.3; from memory): 62.8 -> 63.
-        assert_eq!(recruit(n_per_arm(0.5, 1.0, Z_POWER_80).unwrap(), 1.0), 63.0);
+        // Textbook worked example: Gelman A, Hill J, Vehtari A 2020, Regression and
+        // Other Stories (Cambridge University Press), section 16.3: an effect of 0.5
+        // SD with 80% power at 95% confidence needs the effect to be 2.8 standard
+        // errors, se = 2 sigma / sqrt(N) over both groups, so N = (2.8 * 4)^2 = 125.4
+        // in all. Their 2.8 is z_0.975 + z_0.80 = 2.8016 rounded: with 2.8 in place
+        // of the quantiles the formula gives their number exactly, and with the
+        // quantiles 125.6 in all, 63 per group.
+        let total = |z: f64| 2.0 * 2.0 * z * z * 1.0 / (0.5 * 0.5);
+        assert!((total(2.8) - 125.44).abs() < 1e-9);
+        let n = n_per_arm(0.5, 1.0, Z_POWER_80).unwrap();
+        assert!((2.0 * n - total(Z_ALPHA + Z_POWER_80)).abs() < 1e-9);
+        assert!((2.0 * n - 125.4).abs() < 0.3, "{}", 2.0 * n);
+        assert_eq!(recruit(n, 1.0), 63.0);
+        // Lehr's rule of thumb, n = 16 / (delta / sigma)^2 per group for 80% power at
+        // two-sided 0.05 (Lehr R 1992, Statistics in Medicine 11:1099): the exact
+        // constant is 2 (1.96 + 0.84)^2 = 15.7, so the formula is 2% under the rule.
+        for d in [0.2, 0.5, 0.8, 1.0] {
+            let ratio = n_per_arm(d, 1.0, Z_POWER_80).unwrap() / (16.0 / (d * d));
+            assert!((ratio - 15.7 / 16.0).abs() < 0.002, "{d}: {ratio}");
+        }
         // At the computed n the power is the one asked for.
         let n = n_per_arm(1.0, 3.0, Z_POWER_80).unwrap();
         assert!((power(n, 1.0, 3.0) - 0.8).abs() < 1e-6);
