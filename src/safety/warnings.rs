@@ -418,6 +418,31 @@ pub fn cohort_warnings(
     if n > 0 {
         out.push(w("older-adult-met", format!("{n} participant(s) are 60 or older: standard METs assume 3.5 ml/kg/min at rest and tend to overstate their cost of activity (Willis et al. 2024, J Sport Health Sci 13:13), so their minutes may be too few for the energy target")));
     }
+    // Measured intake and PAL that disagree: the participant drifts before any
+    // exercise, in every arm (as `schedule` warns for one plan).
+    let drifting: Vec<String> = members
+        .iter()
+        .filter(|m| {
+            let s = &m.participant.subject;
+            s.intake_kcal_per_day.is_some() && s.pal.is_some()
+        })
+        .filter_map(|m| {
+            let (b, _) =
+                crate::model::energy::calibrate(&m.participant.subject, &study.constants).ok()?;
+            (b.drift_kcal_per_day.abs() >= 1.0)
+                .then(|| format!("{} {:+.0} kcal/day", m.participant.id, b.drift_kcal_per_day))
+        })
+        .collect();
+    if !drifting.is_empty() {
+        let n = drifting.len();
+        let shown = drifting.iter().take(8).cloned().collect::<Vec<_>>().join(", ");
+        let more = if n > 8 {
+            format!(" and {} more", n - 8)
+        } else {
+            String::new()
+        };
+        out.push(w("intake-pal-drift", format!("{n} participant(s) have a measured intake that differs from the expenditure their PAL implies ({shown}{more}; intake minus expenditure): they are out of balance before any exercise, and the model keeps that drift in every arm, the control included; check the intake record and the PAL")));
+    }
     for a in summary.arms.iter().filter(|a| a.participants == 0) {
         out.push(w("arm-empty", format!("arm \"{}\" has no participants: its summaries are empty (shown as zeros) and its comparisons mean nothing; recruit or allocate more participants", a.name)));
     }
