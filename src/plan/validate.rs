@@ -153,6 +153,14 @@ fn tidy(msg: &str) -> String {
             "data did not match any variant of untagged enum RawCode",
             "expected a compendium code in quotes, such as \"17200\"",
         )
+        .replace(
+            "data did not match any variant of untagged enum RawValue",
+            "expected a number or a distribution table such as { dist = \"normal\", mean = 0.3, sd = 0.1, min = 0.0, max = 1.0 } (dist \"normal\", \"uniform\" or \"beta\"; keys dist, mean, sd, min, max, alpha, beta)",
+        )
+        .replace(
+            "data did not match any variant of untagged enum RawRmrError",
+            "expected \"published\" or a relative SD such as 0.1",
+        )
 }
 
 /// The validation context: the file's name and text, for messages with positions.

@@ -290,6 +290,12 @@ pub fn table(r: &CohortReport, u: Units) -> String {
     ]);
     align_numbers(&mut t, 2);
     for a in &r.arms {
+        if a.scenarios.is_empty() {
+            let mut row = vec![a.name.clone(), "-".to_string(), "0".to_string()];
+            row.push("no participants".to_string());
+            row.extend(std::iter::repeat_n("-".to_string(), 5));
+            t.add_row(row);
+        }
         for s in &a.scenarios {
             t.add_row(vec![
                 if a.control && !a.name.contains("control") {

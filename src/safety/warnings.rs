@@ -435,7 +435,12 @@ pub fn cohort_warnings(
         .collect();
     if !drifting.is_empty() {
         let n = drifting.len();
-        let shown = drifting.iter().take(8).cloned().collect::<Vec<_>>().join(", ");
+        let shown = drifting
+            .iter()
+            .take(8)
+            .cloned()
+            .collect::<Vec<_>>()
+            .join(", ");
         let more = if n > 8 {
             format!(" and {} more", n - 8)
         } else {
@@ -444,7 +449,7 @@ pub fn cohort_warnings(
         out.push(w("intake-pal-drift", format!("{n} participant(s) have a measured intake that differs from the expenditure their PAL implies ({shown}{more}; intake minus expenditure): they are out of balance before any exercise, and the model keeps that drift in every arm, the control included; check the intake record and the PAL")));
     }
     for a in summary.arms.iter().filter(|a| a.participants == 0) {
-        out.push(w("arm-empty", format!("arm \"{}\" has no participants: its summaries are empty (shown as zeros) and its comparisons mean nothing; recruit or allocate more participants", a.name)));
+        out.push(w("arm-empty", format!("arm \"{}\" has no participants: it has no summaries and no comparisons; recruit or allocate more participants", a.name)));
     }
     if let Some(control) = summary.arms.iter().find(|a| a.control)
         && control.scenarios.iter().any(|s| s.mass_change_kg.sd < 0.5)

@@ -839,7 +839,7 @@ pub struct ArmSpread {
     pub participants: usize,
     /// Participants expected to complete (not dropping out), over draws.
     pub completing: f64,
-    /// Every scenario.
+    /// Every scenario; empty when nobody is in the arm (there is nothing to summarise).
     pub scenarios: Vec<ScenarioSpread>,
     /// Supervised session-hours of this arm (first scenario's minutes).
     pub staff_hours: StaffHours,
@@ -880,6 +880,8 @@ pub fn summarise(study: &Study, runs: &CohortRuns, req: &CohortRequest) -> Cohor
             let participants = first.clone().filter(|(_, r)| r.draw == 0).count();
             let completed = first.filter(|(_, r)| r.completed).count();
             let draws = f64::from(req.draws.max(1));
+            // An arm nobody is in has nothing to summarise: no scenario rows (not zeros).
+            let ns = if participants == 0 { 0 } else { ns };
             let scenarios = (0..ns)
                 .map(|si| {
                     let counts = &tally.minutes[ai][si];
