@@ -1050,6 +1050,14 @@ fn assert_cohort_json_contract(j: &Value) {
         ] {
             assert!(c.get(k).is_some(), "comparisons: {k}");
         }
+        // At least two completers per arm, more with drop-out (src/study/sample_size.rs).
+        for k in ["n_per_arm_power80", "n_per_arm_power90"] {
+            assert!(
+                c[k].is_null() || c[k].as_f64().is_some_and(|n| n >= 2.0),
+                "{k}: {}",
+                c[k]
+            );
+        }
     }
     for a in array(j, "arms") {
         text(a, "name");

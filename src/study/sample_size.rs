@@ -33,9 +33,15 @@ pub fn power(n: f64, delta: f64, sigma: f64) -> f64 {
     normal_cdf(delta.abs() / sigma * (n / 2.0).sqrt() - Z_ALPHA)
 }
 
-/// Participants per arm to recruit: `n` divided by the completion rate, rounded up.
+/// The fewest completers per arm reported: a two-sample comparison needs two per
+/// arm to estimate the SD at all (common practice; the normal approximation gives
+/// less than 1 when the simulated SD is tiny).
+pub const MIN_COMPLETERS_PER_ARM: f64 = 2.0;
+
+/// Participants per arm to recruit: `n` (at least [`MIN_COMPLETERS_PER_ARM`])
+/// divided by the completion rate, rounded up.
 pub fn recruit(n: f64, completion_rate: f64) -> f64 {
-    (n / completion_rate.clamp(1e-9, 1.0) - 1e-9).ceil()
+    (n.max(MIN_COMPLETERS_PER_ARM) / completion_rate.clamp(1e-9, 1.0) - 1e-9).ceil()
 }
 
 #[cfg(test)]
@@ -79,5 +85,12 @@ mod tests {
         assert!((power(n, 1.0, 3.0) - 0.8).abs() < 1e-6);
         // 20% drop-out: divide by 0.8.
         assert_eq!(recruit(141.3, 0.8), 177.0);
+        // A difference of 2 kg with an SD of 0.1 kg needs 0.04 per arm by the
+        // formula; two completers per arm are the least reported, more with drop-out.
+        let tiny = n_per_arm(2.0, 0.1, Z_POWER_80).unwrap();
+        assert!(tiny < 0.1, "{tiny}");
+        assert_eq!(recruit(tiny, 1.0), 2.0);
+        assert_eq!(recruit(tiny, 0.8), 3.0);
+        assert_eq!(recruit(2.5, 1.0), 3.0);
     }
 }
