@@ -1777,11 +1777,17 @@ fn bad_plans_with_unclear_messages_still_fail_cleanly() {
     assert!(failures.is_empty(), "{}", failures.join("\n"));
 }
 
-#[test]
-#[ignore = "src bug: these messages are still unclear or name the wrong key or place (see each case's `why` in unclear_messages)"]
-fn bad_plans_with_unclear_messages_say_what_is_wrong() {
+/// Cases of `unclear_messages` whose messages have been fixed: their wants are
+/// checked by a test that runs, the others by the ignored one.
+const FIXED: &[&str] = &[
+    "duplicate_table",
+    "single_bracket_scenario_after_a_double_bracket_one",
+];
+
+/// What the cases chosen by `pick` get wrong against their wants.
+fn unclear_failures(pick: impl Fn(&str) -> bool) -> Vec<String> {
     let mut failures = Vec::new();
-    for c in unclear_messages() {
+    for c in unclear_messages().into_iter().filter(|c| pick(c.name)) {
         let dir = Scratch::new("unclear");
         dir.write("bad.toml", &c.plan);
         let r = run(dir.cmd().args(["check", "bad.toml"]));
@@ -1805,6 +1811,21 @@ fn bad_plans_with_unclear_messages_say_what_is_wrong() {
             }
         }
     }
+    failures
+}
+
+#[test]
+fn fixed_messages_say_what_is_wrong() {
+    let names: Vec<&str> = unclear_messages().iter().map(|c| c.name).collect();
+    assert!(FIXED.iter().all(|f| names.contains(f)), "{FIXED:?}");
+    let failures = unclear_failures(|n| FIXED.contains(&n));
+    assert!(failures.is_empty(), "{}", failures.join("\n"));
+}
+
+#[test]
+#[ignore = "src bug: these messages are still unclear or name the wrong key or place (see each case's `why` in unclear_messages)"]
+fn bad_plans_with_unclear_messages_say_what_is_wrong() {
+    let failures = unclear_failures(|n| !FIXED.contains(&n));
     assert!(failures.is_empty(), "{}", failures.join("\n"));
 }
 

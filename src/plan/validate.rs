@@ -73,6 +73,37 @@ pub(crate) fn deserialize<T: serde::de::DeserializeOwned>(
     })
 }
 
+/// A `[table]` header that repeats an earlier header of the same name (`header` is
+/// the line, `start` its offset): which table, where it was first, and for a table
+/// given before as `[[table]]`, the double brackets each entry needs.
+fn duplicate_header(text: &str, start: usize, header: &str) -> Option<String> {
+    let name = header.strip_prefix('[')?.strip_suffix(']')?.trim();
+    if name.starts_with('[') || name.is_empty() {
+        return None;
+    }
+    let earlier = &text[..start];
+    let first = earlier.lines().enumerate().find_map(|(i, l)| {
+        let l = l.split('#').next().unwrap_or("").trim();
+        let inner = l.strip_prefix('[')?.strip_suffix(']')?;
+        let (double, inner) = match inner.strip_prefix('[').and_then(|x| x.strip_suffix(']')) {
+            Some(x) => (true, x),
+            None => (false, inner),
+        };
+        (inner.trim() == name).then_some((i + 1, double))
+    });
+    Some(match first {
+        Some((line, true)) => format!(
+            "[{name}] after [[{name}]] (line {line}): write [[{name}]] (double brackets) for every entry, one header each"
+        ),
+        Some((line, false)) => format!(
+            "the table [{name}] is given twice (first on line {line}); put its keys under one [{name}] header"
+        ),
+        None => format!(
+            "the table [{name}] is given twice (once by a dotted key or an inline table); put its keys under one [{name}] header"
+        ),
+    })
+}
+
 /// A TOML syntax error in the user's terms: the key where the line assigns one, and a
 /// plain hint for the commonest slips (an unquoted word, a missing value).
 fn syntax_message(text: &str, offset: usize, message: &str) -> (String, String) {
@@ -80,6 +111,11 @@ fn syntax_message(text: &str, offset: usize, message: &str) -> (String, String) 
     let start = text[..offset].rfind('\n').map_or(0, |i| i + 1);
     let end = text[offset..].find('\n').map_or(text.len(), |i| offset + i);
     let line = text[start..end].split('#').next().unwrap_or("");
+    if message.contains("duplicate key")
+        && let Some(msg) = duplicate_header(text, start, line.trim())
+    {
+        return (String::new(), msg);
+    }
     let Some((k, v)) = line.split_once('=') else {
         return (
             String::new(),
