@@ -83,6 +83,18 @@ fn check(plan: &Plan, attendance: Option<Attendance>, last: Option<u32>) {
     }
 }
 
+/// The plan with a minutes dose (150 min a week) in place of the energy dose.
+fn minutes_plan() -> Plan {
+    parse_plan(
+        "fast.toml",
+        &PLAN.replace(
+            "kcal_per_kg_week = 16.0\nmass_basis = \"current\"",
+            "minutes_per_week = 150",
+        ),
+    )
+    .unwrap()
+}
+
 #[test]
 fn the_fast_path_equals_the_general_driver_with_rk4() {
     let plan = parse_plan("fast.toml", PLAN).unwrap();
@@ -109,14 +121,7 @@ fn the_fast_path_equals_the_general_driver_with_rk4() {
     )
     .unwrap();
     check(&net, None, Some(3));
-    let minutes = parse_plan(
-        "fast.toml",
-        &PLAN.replace(
-            "kcal_per_kg_week = 16.0\nmass_basis = \"current\"",
-            "minutes_per_week = 150",
-        ),
-    )
-    .unwrap();
+    let minutes = minutes_plan();
     check(
         &minutes,
         Some(Attendance {
@@ -134,14 +139,7 @@ fn the_fast_path_equals_the_general_driver_with_rk4() {
 fn lanes_side_by_side_equal_each_lane_alone() {
     use dosewright::simulate::fast::{Lane, fast_runs};
     let plan = parse_plan("fast.toml", PLAN).unwrap();
-    let minutes = parse_plan(
-        "fast.toml",
-        &PLAN.replace(
-            "kcal_per_kg_week = 16.0\nmass_basis = \"current\"",
-            "minutes_per_week = 150",
-        ),
-    )
-    .unwrap();
+    let minutes = minutes_plan();
     let (b, ph) = calibrated(&plan).unwrap();
     let comp = &plan.scenarios[0].compensation;
     let at = |probability, key| Some(Attendance { probability, key });
