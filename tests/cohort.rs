@@ -2051,3 +2051,86 @@ fn streamed_minute_summaries_equal_the_summaries_of_every_run_kept() {
         assert!(summary.arms[2].scenarios[0].minutes_week1.max > 0);
     }
 }
+
+/// The risky-plan warnings of `schedule` (README "Warnings") are counted by the
+/// cohort too. For one participant in one arm the cohort must name exactly the codes
+/// that `schedule` names for the same plan, with both integrators (RK4 takes the
+/// fast loop, Dopri5 the general driver), and say that 100% of participants have
+/// them. The pilot study is made risky here: a dose of 36 kcal/kg/week and a
+/// scenario with a diet change of -1100 kcal/day (invented for the check).
+#[test]
+fn the_cohort_names_the_risky_plan_warnings_schedule_names() {
+    const RISKS: [&str; 5] = [
+        "loss-rate-over-1-percent",
+        "weekly-minutes-over-300",
+        "intake-below-rmr",
+        "intake-below-floor",
+        "bmi-below-18.5",
+    ];
+    let study_text = repo_file(PILOT)
+        .replace(
+            "kcal_per_kg_week = 12.0, basis",
+            "kcal_per_kg_week = 36.0, basis",
+        )
+        .replace(
+            "name = \"eats back 30%\"\nintake_fraction = 0.3",
+            "name = \"eats back 30%\"\ndiet_change_kcal_per_day = -1100\nintake_fraction = 0.3",
+        );
+    assert!(study_text.contains("-1100") && study_text.contains("36.0"));
+    let dir = Scratch::new("cohort-risks");
+    dir.write("study.toml", &study_text);
+    dir.write("one.csv", ONE_ROW);
+    dir.write("plan.toml", one_plan_text(&study_text));
+    let sched = run(dir
+        .cmd()
+        .args(["schedule", "plan.toml", "--format", "json"]));
+    assert_eq!(sched.code, Some(0), "{}", sched.stderr);
+    let s: Value = serde_json::from_str(&sched.stdout).unwrap();
+    let mut want: Vec<String> = warning_codes(&s)
+        .into_iter()
+        .filter(|c| RISKS.contains(&c.as_str()))
+        .collect();
+    want.sort();
+    want.dedup();
+    assert!(
+        want.len() >= 3,
+        "the plan is risky enough to test: {want:?}"
+    );
+    for integrator in ["rk4", "dopri5"] {
+        let c = run(dir.cmd().args([
+            "cohort",
+            "study.toml",
+            "--roster",
+            "one.csv",
+            "--integrator",
+            integrator,
+            "--quiet",
+            "--format",
+            "json",
+        ]));
+        assert_eq!(c.code, Some(0), "{}", c.stderr);
+        let j: Value = serde_json::from_str(&c.stdout).unwrap();
+        let mut got: Vec<String> = warning_codes(&j)
+            .into_iter()
+            .filter(|c| RISKS.contains(&c.as_str()))
+            .collect();
+        got.sort();
+        got.dedup();
+        assert_eq!(got, want, "{integrator}");
+        for w in array(&j, "warnings") {
+            if RISKS.contains(&w["code"].as_str().unwrap()) {
+                let m = w["message"].as_str().unwrap();
+                assert!(m.contains("100% of participants"), "{m}");
+            }
+        }
+        // The study's own plan, without the changes, earns none of them.
+        let plain = cohort_json(&[PILOT, "--roster", PILOT_ALLOCATED]);
+        assert!(
+            warning_codes(&plain)
+                .iter()
+                .all(|c| !RISKS.contains(&c.as_str())),
+            "{:?}",
+            warning_codes(&plain)
+        );
+    }
+}

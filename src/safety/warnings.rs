@@ -360,6 +360,15 @@ fn intake_warnings(plan: &Plan, sc: &ScenarioRun, out: &mut Vec<Warning>) {
     }
 }
 
+/// A share as a percentage for a warning: never "0%" for a share above zero.
+fn percent_of(share: f64) -> String {
+    if share > 0.0 && share < 0.005 {
+        "under 1%".to_string()
+    } else {
+        format!("{:.0}%", share * 100.0)
+    }
+}
+
 /// Whether any of a study's activities is vigorous (6 MET or more; a study has no
 /// VO2peak, so the absolute class). Leg cycling is judged at 70 kg.
 pub fn study_is_vigorous(study: &crate::study::Study) -> bool {
@@ -455,6 +464,35 @@ pub fn cohort_warnings(
         && control.scenarios.iter().any(|s| s.mass_change_kg.sd < 0.5)
     {
         out.push(w("sample-size-optimistic", format!("in the control arm \"{}\" the simulated SD of mass change is under 0.5 kg: the model holds only the stated uncertainties, while real trials also vary with diet, life events and measurement (often SDs of 3 kg or more over a year); the participants per arm are then far too few: give diet_change_kcal_per_day a distribution in [[scenario]] or take the SD from earlier trials", control.name)));
+    }
+    // The risky-plan signs of `schedule`, counted over each arm's runs.
+    for a in &summary.arms {
+        for s in &a.scenarios {
+            let r = &s.risk_shares;
+            let who = |share: f64| {
+                format!(
+                    "arm \"{}\", scenario \"{}\": {} of participants",
+                    a.name,
+                    s.name,
+                    percent_of(share)
+                )
+            };
+            if r.loss_rate_over_1_percent > 0.0 {
+                out.push(w("loss-rate-over-1-percent", format!("{} lose more than 1% of body mass in some week; faster loss needs clinical supervision", who(r.loss_rate_over_1_percent))));
+            }
+            if r.weekly_minutes_over_300 > 0.0 {
+                out.push(w("weekly-minutes-over-300", format!("{} have more than 300 minutes of exercise in some week (above the upper end of the usual guideline range; check feasibility and recovery)", who(r.weekly_minutes_over_300))));
+            }
+            if r.intake_below_rmr > 0.0 {
+                out.push(w("intake-below-rmr", format!("{} have, with the diet change, an intake below their RMR in some week; never plan intake below RMR without clinical supervision", who(r.intake_below_rmr))));
+            }
+            if r.intake_below_floor > 0.0 {
+                out.push(w("intake-below-floor", format!("{} have, with the diet change, an intake below the usual floor without supervision (1200 kcal/day for women, 1500 for men) in some week", who(r.intake_below_floor))));
+            }
+            if r.bmi_below_18_5 > 0.0 {
+                out.push(w("bmi-below-18.5", format!("{} fall below a BMI of 18.5 kg/m^2 (underweight) in some week; stop or reduce the dose", who(r.bmi_below_18_5))));
+            }
+        }
     }
     if let Some(max) = study.protocol.max_session_minutes {
         for a in &summary.arms {

@@ -74,12 +74,93 @@ pub struct RunSummary {
     pub session_minutes_total: u32,
     /// Sessions (or bouts) over the maximum before the policy acted, in any week.
     pub over_max: bool,
+    /// The risky-plan signs of this run.
+    pub risks: RunRisks,
     /// Prescribed net exercise energy over the protocol, kcal.
     pub prescribed_net_kcal: f64,
     /// The draw (0-based).
     pub draw: u32,
     /// Still exercising at the end of the protocol (did not drop out).
     pub completed: bool,
+}
+
+/// The risky-plan signs of one run, as `schedule` warns of them for one plan
+/// (README "Warnings"; the thresholds are `safety::warnings`'): the cohort counts the
+/// runs that have each.
+#[derive(Debug, Clone, Copy, Default, PartialEq, Eq, Serialize)]
+pub struct RunRisks {
+    /// Projected loss above 1% of body mass in some week (`loss-rate-over-1-percent`).
+    pub loss_rate_over_1_percent: bool,
+    /// More than 300 minutes at target in some week (`weekly-minutes-over-300`).
+    pub weekly_minutes_over_300: bool,
+    /// With a negative diet change, intake below RMR at the end of some week.
+    pub intake_below_rmr: bool,
+    /// With a negative diet change, intake below the unsupervised floor in some week.
+    pub intake_below_floor: bool,
+    /// BMI below 18.5 kg/m^2 at the end of some week.
+    pub bmi_below_18_5: bool,
+}
+
+impl RunRisks {
+    /// The signs of a run from its week-end masses, intakes and RMRs, and the minutes
+    /// at target of each protocol week; `baseline_mass` is the participant's.
+    #[allow(clippy::too_many_arguments)]
+    fn of(
+        baseline_mass: f64,
+        height_cm: f64,
+        sex: crate::model::Sex,
+        diet_change: f64,
+        mass: impl Iterator<Item = f64>,
+        intake_rmr: impl Iterator<Item = (f64, f64)>,
+        weekly_minutes: impl Iterator<Item = u32>,
+    ) -> RunRisks {
+        use crate::safety::warnings::intake_floor_kcal_per_day;
+        let mut r = RunRisks::default();
+        let mut prev = baseline_mass;
+        for m in mass {
+            r.loss_rate_over_1_percent |= prev - m > 0.01 * prev;
+            r.bmi_below_18_5 |= crate::model::composition::bmi(m, height_cm) < 18.5;
+            prev = m;
+        }
+        if diet_change < 0.0 {
+            let floor = intake_floor_kcal_per_day(sex);
+            for (intake, rmr) in intake_rmr {
+                r.intake_below_rmr |= intake < rmr;
+                r.intake_below_floor |= intake < floor;
+            }
+        }
+        r.weekly_minutes_over_300 = weekly_minutes.into_iter().any(|m| m > 300);
+        r
+    }
+}
+
+/// The share of an arm's runs (participants x draws) with each sign of [`RunRisks`].
+#[derive(Debug, Clone, Copy, Default, PartialEq, Serialize)]
+pub struct RiskShares {
+    /// Loss above 1% of body mass in some week.
+    pub loss_rate_over_1_percent: f64,
+    /// More than 300 minutes at target in some week.
+    pub weekly_minutes_over_300: f64,
+    /// Intake below RMR in some week (negative diet change only).
+    pub intake_below_rmr: f64,
+    /// Intake below the unsupervised floor in some week (negative diet change only).
+    pub intake_below_floor: f64,
+    /// BMI below 18.5 kg/m^2 in some week.
+    pub bmi_below_18_5: f64,
+}
+
+impl RiskShares {
+    fn of(rs: &[&RunSummary]) -> RiskShares {
+        let n = rs.len().max(1) as f64;
+        let share = |f: fn(&RunRisks) -> bool| rs.iter().filter(|r| f(&r.risks)).count() as f64 / n;
+        RiskShares {
+            loss_rate_over_1_percent: share(|r| r.loss_rate_over_1_percent),
+            weekly_minutes_over_300: share(|r| r.weekly_minutes_over_300),
+            intake_below_rmr: share(|r| r.intake_below_rmr),
+            intake_below_floor: share(|r| r.intake_below_floor),
+            bmi_below_18_5: share(|r| r.bmi_below_18_5),
+        }
+    }
 }
 
 /// One participant's runs.
@@ -113,6 +194,7 @@ fn summarise_run(
     out: &super::RunOutput,
     baseline: &crate::model::Baseline,
     checkpoints: &[u32],
+    comp: &crate::model::Compensation,
 ) -> RunSummary {
     let Slot {
         arm,
@@ -150,6 +232,18 @@ fn summarise_run(
             .flat_map(|x| x.sessions.iter().map(|s| s.session_minutes))
             .sum(),
         over_max: w[..weeks].iter().any(|x| x.over_max.is_some()),
+        risks: RunRisks::of(
+            baseline_mass,
+            plan.participant.subject.height_cm,
+            plan.participant.subject.sex,
+            comp.diet_change_kcal_per_day,
+            w.iter().map(|x| x.end.mass_kg),
+            w.iter()
+                .map(|x| (x.end.intake_kcal_per_day, x.end.rmr_kcal_per_day)),
+            w[..weeks]
+                .iter()
+                .map(|x| x.sessions.iter().map(|s| s.minutes).sum()),
+        ),
         prescribed_net_kcal: end.prescribed_net_kcal,
         draw: 0,
         completed: true,
@@ -299,6 +393,7 @@ fn fast_row(
     let mut results = fast_runs(&lanes, physiology, baseline, comp)?.into_iter();
     let without = results.next().expect("lane 0 is the no-exercise run");
     let weeks = study.protocol.weeks as usize;
+    let plan_sessions = study.protocol.session_days.len() as u32;
     let mut row = Vec::with_capacity(arms.len());
     for a in arms {
         let control = study.arms[*a].is_control();
@@ -327,6 +422,18 @@ fn fast_row(
         } else {
             r.session_minutes.clone()
         };
+        let risks = RunRisks::of(
+            baseline.mass_kg,
+            physiology.height_cm,
+            dr.participant.subject.sex,
+            comp.diet_change_kcal_per_day,
+            r.mass_kg.iter().copied(),
+            r.intake_kcal_per_day
+                .iter()
+                .copied()
+                .zip(r.rmr_kcal_per_day.iter().copied()),
+            minutes.iter().map(|m| m * plan_sessions),
+        );
         row.push(RunSummary {
             arm: *a,
             scenario: si,
@@ -349,6 +456,7 @@ fn fast_row(
             session_minutes_total: session.iter().sum(),
             session_minutes_by_week: session,
             over_max: !control && r.over_max,
+            risks,
             prescribed_net_kcal: if control {
                 0.0
             } else {
@@ -448,7 +556,14 @@ pub fn simulate_member(
                     control,
                 };
                 let mut summary = if control {
-                    summarise_run(plan, slot, &without, &baseline, &req.checkpoints)
+                    summarise_run(
+                        plan,
+                        slot,
+                        &without,
+                        &baseline,
+                        &req.checkpoints,
+                        &sc.compensation,
+                    )
                 } else {
                     let out = run(
                         plan,
@@ -458,7 +573,14 @@ pub fn simulate_member(
                         mode(plan, true),
                         Some(&deficits),
                     )?;
-                    summarise_run(plan, slot, &out, &baseline, &req.checkpoints)
+                    summarise_run(
+                        plan,
+                        slot,
+                        &out,
+                        &baseline,
+                        &req.checkpoints,
+                        &sc.compensation,
+                    )
                 };
                 summary.draw = d;
                 summary.completed = dr.last_exercise_week.is_none();
@@ -819,6 +941,8 @@ pub struct ScenarioSpread {
     pub minutes_by_week: Vec<WeekMinutes>,
     /// Share of participants whose sessions exceed the maximum in some week.
     pub over_max_share: f64,
+    /// Shares of participants (over draws) with each risky-plan sign.
+    pub risk_shares: RiskShares,
     /// Mean share of the dose in the stores at the end of the protocol (null for a control).
     pub dose_share_mean: Option<f64>,
     /// Mean prescribed net exercise energy over the protocol, kcal.
@@ -934,6 +1058,7 @@ pub fn summarise(study: &Study, runs: &CohortRuns, req: &CohortRequest) -> Cohor
                             })
                             .collect(),
                         over_max_share: rs.iter().filter(|r| r.over_max).count() as f64 / n,
+                        risk_shares: RiskShares::of(&rs),
                         dose_share_mean: (!arm.is_control()).then(|| {
                             rs.iter()
                                 .map(|r| r.dose_share.unwrap_or(0.0))

@@ -41,6 +41,10 @@ pub struct FastRun {
     pub session_minutes: Vec<u32>,
     /// A session over the maximum before the policy acted.
     pub over_max: bool,
+    /// Intake at the end of every week, kcal/day.
+    pub intake_kcal_per_day: Vec<f64>,
+    /// RMR at the end of every week, kcal/day.
+    pub rmr_kcal_per_day: Vec<f64>,
 }
 
 /// One lane's state (F, L, Xbar, P).
@@ -358,6 +362,8 @@ fn chunk_run(chunk: &[Lane], rhs: &Rhs, baseline: &Baseline, total: u32) -> Opti
             minutes: Vec::with_capacity(weeks),
             session_minutes: Vec::with_capacity(weeks),
             over_max: false,
+            intake_kcal_per_day: Vec::with_capacity(total as usize),
+            rmr_kcal_per_day: Vec::with_capacity(total as usize),
         }
     });
     let mut y: S = [[f0; W], [l0; W], [0.0; W], [0.0; W]];
@@ -396,14 +402,19 @@ fn chunk_run(chunk: &[Lane], rhs: &Rhs, baseline: &Baseline, total: u32) -> Opti
             let (fat, lean) = (y[0][i], y[1][i]);
             let m = fat + lean;
             let bmi = crate::model::composition::bmi(m, ph.height_cm);
+            let rmr = ph.rmr(comp, fat, lean);
             if !(0..4).all(|j| y[j][i].is_finite())
                 || fat < MIN_FAT_KG
                 || m < MIN_MASS_KG
                 || bmi < MIN_BMI
-                || ph.rmr(comp, fat, lean) <= 0.0
+                || rmr <= 0.0
             {
                 return None;
             }
+            // The week's end: Xbar is the state (with a lag) or the week's X (without).
+            out.intake_kcal_per_day
+                .push(rhs.intake0 + comp.intake_fraction * y[2][i]);
+            out.rmr_kcal_per_day.push(rmr);
             out.mass_kg.push(m);
             out.fat_kg.push(fat);
             out.deficit_kcal
