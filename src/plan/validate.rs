@@ -104,6 +104,32 @@ fn duplicate_header(text: &str, start: usize, header: &str) -> Option<String> {
     })
 }
 
+/// The key and line number of a list opened before `start` (on a line of its own
+/// key) and never closed: the parser only notices at the next line it cannot read,
+/// which names neither the list nor its key. Looks back to the previous header.
+fn open_list_before(text: &str, start: usize) -> Option<(String, usize)> {
+    let mut depth = 0i32;
+    let mut at = start;
+    while at > 0 {
+        let line_start = text[..at - 1].rfind('\n').map_or(0, |i| i + 1);
+        let line = text[line_start..at].split('#').next().unwrap_or("");
+        let trimmed = line.trim_start();
+        if trimmed.starts_with('[') && !line.contains('=') {
+            return None;
+        }
+        depth += line.matches('[').count() as i32 - line.matches(']').count() as i32;
+        if let Some((k, _)) = line.split_once('=')
+            && depth > 0
+        {
+            let key_offset = line_start + k.len() - k.trim_start().len();
+            let n = text[..line_start].matches('\n').count() + 1;
+            return Some((super::locate::key_at(text, key_offset), n));
+        }
+        at = line_start;
+    }
+    None
+}
+
 /// A TOML syntax error in the user's terms: the key where the line assigns one, and a
 /// plain hint for the commonest slips (an unquoted word, a missing value).
 fn syntax_message(text: &str, offset: usize, message: &str) -> (String, String) {
@@ -115,6 +141,16 @@ fn syntax_message(text: &str, offset: usize, message: &str) -> (String, String) 
         && let Some(msg) = duplicate_header(text, start, line.trim())
     {
         return (String::new(), msg);
+    }
+    if message.contains("array")
+        && let Some((key, n)) = open_list_before(text, start)
+    {
+        return (
+            key,
+            format!(
+                "TOML syntax error: the list that starts on line {n} is not closed; end it with ] (and put a comma between its items)"
+            ),
+        );
     }
     let Some((k, v)) = line.split_once('=') else {
         return (
