@@ -345,18 +345,24 @@ fn one_participant_equals_the_single_plan_at_the_library_level() {
     }
 }
 
-#[test]
-fn one_participant_equals_the_single_plan_on_the_command_line() {
-    let dir = Scratch::new("cohort-one");
-    let study_text = repo_file(PILOT);
-    dir.write("study.toml", &study_text);
+/// A scratch folder with `study_text` as study.toml, the one participant as one.csv
+/// and the same participant's plan as plan.toml, and `schedule`'s JSON of the plan.
+fn one_participant_and_schedule(name: &str, study_text: &str) -> (Scratch, Value) {
+    let dir = Scratch::new(name);
+    dir.write("study.toml", study_text);
     dir.write("one.csv", ONE_ROW);
-    dir.write("plan.toml", one_plan_text(&study_text));
+    dir.write("plan.toml", one_plan_text(study_text));
     let sched = run(dir
         .cmd()
         .args(["schedule", "plan.toml", "--format", "json"]));
     assert_eq!(sched.code, Some(0), "{}", sched.stderr);
     let s: Value = serde_json::from_str(&sched.stdout).unwrap();
+    (dir, s)
+}
+
+#[test]
+fn one_participant_equals_the_single_plan_on_the_command_line() {
+    let (dir, s) = one_participant_and_schedule("cohort-one", &repo_file(PILOT));
     let base = [
         "cohort",
         "study.toml",
@@ -2077,15 +2083,7 @@ fn the_cohort_names_the_risky_plan_warnings_schedule_names() {
             "name = \"eats back 30%\"\ndiet_change_kcal_per_day = -1100\nintake_fraction = 0.3",
         );
     assert!(study_text.contains("-1100") && study_text.contains("36.0"));
-    let dir = Scratch::new("cohort-risks");
-    dir.write("study.toml", &study_text);
-    dir.write("one.csv", ONE_ROW);
-    dir.write("plan.toml", one_plan_text(&study_text));
-    let sched = run(dir
-        .cmd()
-        .args(["schedule", "plan.toml", "--format", "json"]));
-    assert_eq!(sched.code, Some(0), "{}", sched.stderr);
-    let s: Value = serde_json::from_str(&sched.stdout).unwrap();
+    let (dir, s) = one_participant_and_schedule("cohort-risks", &study_text);
     let mut want: Vec<String> = warning_codes(&s)
         .into_iter()
         .filter(|c| RISKS.contains(&c.as_str()))
@@ -2123,14 +2121,14 @@ fn the_cohort_names_the_risky_plan_warnings_schedule_names() {
                 assert!(m.contains("100% of participants"), "{m}");
             }
         }
-        // The study's own plan, without the changes, earns none of them.
-        let plain = cohort_json(&[PILOT, "--roster", PILOT_ALLOCATED]);
-        assert!(
-            warning_codes(&plain)
-                .iter()
-                .all(|c| !RISKS.contains(&c.as_str())),
-            "{:?}",
-            warning_codes(&plain)
-        );
     }
+    // The study's own plan, without the changes, earns none of them.
+    let plain = cohort_json(&[PILOT, "--roster", PILOT_ALLOCATED]);
+    assert!(
+        warning_codes(&plain)
+            .iter()
+            .all(|c| !RISKS.contains(&c.as_str())),
+        "{:?}",
+        warning_codes(&plain)
+    );
 }
