@@ -805,11 +805,9 @@ fn hours(v: &Value) -> (f64, u64, f64, Vec<f64>) {
     )
 }
 
-fn staff_run(study: &str, roster: &str, extra: &[&str]) -> Value {
-    let dir = Scratch::new("cohort-staff");
-    dir.write("study.toml", study);
-    dir.write("roster.csv", roster);
-    let r = run(dir
+/// `cohort study.toml --roster roster.csv --quiet --format FORMAT` and `extra` in `dir`.
+fn roster_cohort(dir: &Scratch, format: &str, extra: &[&str]) -> Run {
+    run(dir
         .cmd()
         .args([
             "cohort",
@@ -818,9 +816,16 @@ fn staff_run(study: &str, roster: &str, extra: &[&str]) -> Value {
             "roster.csv",
             "--quiet",
             "--format",
-            "json",
+            format,
         ])
-        .args(extra));
+        .args(extra))
+}
+
+fn staff_run(study: &str, roster: &str, extra: &[&str]) -> Value {
+    let dir = Scratch::new("cohort-staff");
+    dir.write("study.toml", study);
+    dir.write("roster.csv", roster);
+    let r = roster_cohort(&dir, "json", extra);
     assert_eq!(r.code, Some(0), "{}", r.stderr);
     serde_json::from_str(&r.stdout).unwrap()
 }
@@ -886,15 +891,7 @@ fn staff_hours_count_the_warm_up_and_the_cool_down() {
     let dir = Scratch::new("cohort-staff-csv");
     dir.write("study.toml", &study);
     dir.write("roster.csv", STAFF_ROSTER);
-    let r = run(dir.cmd().args([
-        "cohort",
-        "study.toml",
-        "--roster",
-        "roster.csv",
-        "--quiet",
-        "--format",
-        "csv",
-    ]));
+    let r = roster_cohort(&dir, "csv", &[]);
     assert_eq!(r.code, Some(0), "{}", r.stderr);
     for row in csv_rows(&r.stdout) {
         let want = if row["arm"] == "control" { 0.0 } else { 22.15 };
@@ -1818,15 +1815,7 @@ fn a_quoted_roster_cell_is_read_without_its_quotes() {
         "roster.csv",
         format!("{H},arm\n\"PIL-001\",\"female\",40,165,\"80.0\",\"control\"\n"),
     );
-    let r = run(dir.cmd().args([
-        "cohort",
-        "study.toml",
-        "--roster",
-        "roster.csv",
-        "--quiet",
-        "--format",
-        "csv",
-    ]));
+    let r = roster_cohort(&dir, "csv", &[]);
     assert_eq!(r.code, Some(0), "{}", r.stderr);
     let rows = csv_rows(&r.stdout);
     assert_eq!(rows[0]["id"], "PIL-001");
@@ -1849,18 +1838,7 @@ fn an_arm_without_participants_reports_no_numbers() {
         "roster.csv",
         format!("{H},arm\nEA-01,female,40,165,80,control\nEA-02,male,50,178,90,8 kcal/kg/week\n"),
     );
-    let args = |format: &'static str| {
-        [
-            "cohort",
-            "study.toml",
-            "--roster",
-            "roster.csv",
-            "--quiet",
-            "--format",
-            format,
-        ]
-    };
-    let r = run(dir.cmd().args(args("json")));
+    let r = roster_cohort(&dir, "json", &[]);
     assert_eq!(r.code, Some(0), "{}", r.stderr);
     let j: Value = serde_json::from_str(&r.stdout).unwrap();
     let empty = json_arm(&j, "12 kcal/kg/week");
@@ -1879,7 +1857,7 @@ fn an_arm_without_participants_reports_no_numbers() {
             "a comparison with an empty arm: {c}"
         );
     }
-    let t = run(dir.cmd().args(args("table")));
+    let t = roster_cohort(&dir, "table", &[]);
     assert_eq!(t.code, Some(0), "{}", t.stderr);
     let row = t
         .stdout
@@ -1930,15 +1908,7 @@ fn a_participant_out_of_balance_before_exercise_earns_the_drift_warning() {
         "roster.csv",
         "id,sex,age_years,height_cm,mass_kg,intake_kcal_per_day,pal,arm\nDR-01,female,41,170.5,93.6,2400,1.55,control\n",
     );
-    let r = run(dir.cmd().args([
-        "cohort",
-        "study.toml",
-        "--roster",
-        "roster.csv",
-        "--quiet",
-        "--format",
-        "json",
-    ]));
+    let r = roster_cohort(&dir, "json", &[]);
     assert_eq!(r.code, Some(0), "{}", r.stderr);
     let j: Value = serde_json::from_str(&r.stdout).unwrap();
     let control = &array(json_arm(&j, "control"), "scenarios")[0];

@@ -112,7 +112,7 @@ impl RunRisks {
         diet_change: f64,
         mass: impl Iterator<Item = f64>,
         intake_rmr: impl Iterator<Item = (f64, f64)>,
-        weekly_minutes: impl Iterator<Item = u32>,
+        mut weekly_minutes: impl Iterator<Item = u32>,
     ) -> RunRisks {
         use crate::safety::warnings::intake_floor_kcal_per_day;
         let mut r = RunRisks::default();
@@ -129,7 +129,7 @@ impl RunRisks {
                 r.intake_below_floor |= intake < floor;
             }
         }
-        r.weekly_minutes_over_300 = weekly_minutes.into_iter().any(|m| m > 300);
+        r.weekly_minutes_over_300 = weekly_minutes.any(|m| m > 300);
         r
     }
 }
