@@ -8,7 +8,7 @@ use dosewright::report::chart::{
 };
 use dosewright::report::units::{EnergyUnit, UnitSystem, Units};
 use dosewright::simulate::{ScenarioRun, simulate};
-use std::path::{Path, PathBuf};
+use std::path::Path;
 use std::process::Command;
 
 const DEMO: &str = concat!(env!("CARGO_MANIFEST_DIR"), "/plans/demo.toml");
@@ -584,16 +584,11 @@ fn snapshots_of_the_standard_charts() {
 // ---------------------------------------------------------------------------------
 // Files.
 
-fn scratch(name: &str) -> PathBuf {
-    let dir = Path::new(env!("CARGO_TARGET_TMPDIR")).join(name);
-    let _ = std::fs::remove_dir_all(&dir);
-    dir
-}
-
 #[test]
 fn write_charts_creates_the_folder_and_names_the_files() {
     let (_, charts) = demo_charts();
-    let dir = scratch("charts-write").join("nested");
+    let tmp = tempfile::tempdir().expect("a scratch folder");
+    let dir = tmp.path().join("nested");
     let paths = write_charts(&dir, "demo", &charts).unwrap();
     let names: Vec<String> = paths
         .iter()
@@ -618,8 +613,8 @@ fn write_charts_creates_the_folder_and_names_the_files() {
 #[test]
 fn write_charts_reports_an_output_error() {
     let (_, charts) = demo_charts();
-    let dir = scratch("charts-blocked");
-    std::fs::create_dir_all(&dir).unwrap();
+    let tmp = tempfile::tempdir().expect("a scratch folder");
+    let dir = tmp.path();
     let file = dir.join("not-a-folder");
     std::fs::write(&file, "x").unwrap();
     let err = write_charts(&file.join("sub"), "demo", &charts).unwrap_err();

@@ -13,8 +13,6 @@ use dosewright::plan::{Plan, parse_plan};
 use dosewright::simulate::goal::{GoalAnswer, GoalRequest, allowed_range, solve};
 use dosewright::simulate::{Phase, Simulation, simulate};
 use serde_json::Value;
-use std::path::PathBuf;
-use std::sync::atomic::{AtomicUsize, Ordering};
 
 // ---------------------------------------------------------------------------
 // Plans as TOML text
@@ -132,35 +130,25 @@ struct Out {
 }
 
 /// A scratch folder that removes itself.
-struct Scratch(PathBuf);
+struct Scratch(tempfile::TempDir);
 
 impl Scratch {
     fn new() -> Scratch {
-        static N: AtomicUsize = AtomicUsize::new(0);
-        let p = std::env::temp_dir().join(format!(
-            "dosewright-compare-goal-{}-{}",
-            std::process::id(),
-            N.fetch_add(1, Ordering::SeqCst)
-        ));
-        let _ = std::fs::remove_dir_all(&p);
-        std::fs::create_dir_all(&p).expect("create a scratch folder");
-        Scratch(p)
-    }
-}
-
-impl Drop for Scratch {
-    fn drop(&mut self) {
-        let _ = std::fs::remove_dir_all(&self.0);
+        let dir = tempfile::Builder::new()
+            .prefix("dosewright-compare-goal-")
+            .tempdir()
+            .expect("create a scratch folder");
+        Scratch(dir)
     }
 }
 
 /// `dosewright SUBCOMMAND plan.toml ARGS...` with `plan` written to a scratch folder.
 fn cli(plan: &str, subcommand: &str, args: &[&str]) -> Out {
     let dir = Scratch::new();
-    std::fs::write(dir.0.join("plan.toml"), plan).expect("write the plan");
+    std::fs::write(dir.0.path().join("plan.toml"), plan).expect("write the plan");
     let out = assert_cmd::Command::cargo_bin("dosewright")
         .expect("the dosewright binary is built")
-        .current_dir(&dir.0)
+        .current_dir(dir.0.path())
         .env("NO_COLOR", "1")
         .arg(subcommand)
         .arg("plan.toml")

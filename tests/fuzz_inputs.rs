@@ -225,26 +225,19 @@ fn check_plan_text(text: String) -> Result<(), TestCaseError> {
 
 // --- (a) arbitrary bytes and strings as a plan -----------------------------------------
 
-/// A scratch file with `bytes`, removed when dropped.
-struct TempFile(std::path::PathBuf);
+/// A scratch file with `bytes` (a [`tempfile::TempPath`]), removed when dropped.
+struct TempFile(tempfile::TempPath);
 
 impl TempFile {
     fn new(tag: &str, bytes: &[u8]) -> TempFile {
-        use std::sync::atomic::{AtomicUsize, Ordering};
-        static N: AtomicUsize = AtomicUsize::new(0);
-        let p = std::env::temp_dir().join(format!(
-            "dosewright-fuzz-{}-{tag}-{}",
-            std::process::id(),
-            N.fetch_add(1, Ordering::SeqCst)
-        ));
-        std::fs::write(&p, bytes).expect("write a scratch file");
-        TempFile(p)
-    }
-}
-
-impl Drop for TempFile {
-    fn drop(&mut self) {
-        let _ = std::fs::remove_file(&self.0);
+        use std::io::Write;
+        let mut f = tempfile::Builder::new()
+            .prefix(&format!("dosewright-fuzz-{tag}-"))
+            .tempfile()
+            .expect("create a scratch file");
+        f.write_all(bytes).expect("write a scratch file");
+        f.flush().expect("flush a scratch file");
+        TempFile(f.into_temp_path())
     }
 }
 

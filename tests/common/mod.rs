@@ -3,7 +3,9 @@
 #![allow(dead_code)] // not every test file uses every helper
 
 use std::path::{Path, PathBuf};
-use std::sync::atomic::{AtomicUsize, Ordering};
+
+#[cfg(unix)]
+pub mod tree;
 
 /// A small valid plan for an invented participant. It earns no warnings, so a test
 /// that adds one change and then sees a warning knows the change caused it.
@@ -89,35 +91,29 @@ pub fn manifest_dir() -> PathBuf {
     PathBuf::from(env!("CARGO_MANIFEST_DIR"))
 }
 
-/// A scratch folder, removed when dropped.
+/// A scratch folder (a [`tempfile::TempDir`]), removed when dropped.
 pub struct Scratch {
-    path: PathBuf,
+    dir: tempfile::TempDir,
 }
 
 impl Scratch {
     /// A new, empty, uniquely named folder under the system temp dir.
     pub fn new(tag: &str) -> Scratch {
-        static COUNTER: AtomicUsize = AtomicUsize::new(0);
-        let n = COUNTER.fetch_add(1, Ordering::SeqCst);
-        let path = std::env::temp_dir().join(format!(
-            "dosewright-cli-test-{}-{tag}-{n}",
-            std::process::id()
-        ));
-        if path.exists() {
-            std::fs::remove_dir_all(&path).expect("clear an old scratch folder");
-        }
-        std::fs::create_dir_all(&path).expect("create a scratch folder");
-        Scratch { path }
+        let dir = tempfile::Builder::new()
+            .prefix(&format!("dosewright-test-{tag}-"))
+            .tempdir()
+            .expect("create a scratch folder");
+        Scratch { dir }
     }
 
     /// The folder.
     pub fn path(&self) -> &Path {
-        &self.path
+        self.dir.path()
     }
 
     /// Write `bytes` to `name` in the folder and return the full path.
     pub fn write(&self, name: &str, bytes: impl AsRef<[u8]>) -> PathBuf {
-        let p = self.path.join(name);
+        let p = self.path().join(name);
         std::fs::write(&p, bytes).expect("write a scratch file");
         p
     }
@@ -125,13 +121,13 @@ impl Scratch {
     /// A command running in this folder (so that messages name files as given).
     pub fn cmd(&self) -> assert_cmd::Command {
         let mut c = dosewright();
-        c.current_dir(&self.path);
+        c.current_dir(self.path());
         c
     }
 
     /// The names of the files in the folder, sorted.
     pub fn listing(&self) -> Vec<String> {
-        let mut v: Vec<String> = std::fs::read_dir(&self.path)
+        let mut v: Vec<String> = std::fs::read_dir(self.path())
             .expect("list the scratch folder")
             .map(|e| {
                 e.expect("a folder entry")
@@ -142,12 +138,6 @@ impl Scratch {
             .collect();
         v.sort();
         v
-    }
-}
-
-impl Drop for Scratch {
-    fn drop(&mut self) {
-        let _ = std::fs::remove_dir_all(&self.path);
     }
 }
 
@@ -262,4 +252,33 @@ pub fn activity_rows(out: &str) -> Vec<(String, f64, String, String)> {
             }
         })
         .collect()
+}
+
+/// Every leaf command, from `--help` (e.g. "schedule", "log add").
+pub fn commands() -> Vec<String> {
+    fn listed(args: &[&str]) -> Vec<String> {
+        let r = run(dosewright().args(args));
+        assert_eq!(r.code, Some(0), "{args:?}: {}", r.stderr);
+        r.stdout
+            .lines()
+            .skip_while(|l| !l.starts_with("Commands:"))
+            .skip(1)
+            .take_while(|l| !l.trim().is_empty())
+            .filter_map(|l| l.split_whitespace().next().map(str::to_string))
+            .filter(|c| c != "help")
+            .collect()
+    }
+    let mut out = Vec::new();
+    for c in listed(&["--help"]) {
+        let help = run(dosewright().args([c.as_str(), "--help"])).stdout;
+        if help.contains("\nCommands:") {
+            for sub in listed(&[c.as_str(), "--help"]) {
+                out.push(format!("{c} {sub}"));
+            }
+        } else {
+            out.push(c);
+        }
+    }
+    assert!(out.len() >= 8, "commands found: {out:?}");
+    out
 }
