@@ -1703,12 +1703,87 @@ fn snapshot_demo_schedule_table() {
     insta::assert_snapshot!("demo_schedule_table", demo_output(&["schedule"]));
 }
 
+/// The demo's weeks the snapshots show in full: the first two and the last of
+/// follow-up. The others are checked by structure.
+const SHOWN_WEEKS: [u64; 3] = [1, 2, 36];
+
+/// The keys of an object, sorted.
+fn keys(v: &Value) -> BTreeSet<String> {
+    v.as_object()
+        .unwrap_or_else(|| panic!("not an object: {v}"))
+        .keys()
+        .cloned()
+        .collect()
+}
+
+/// `weeks` with only the [`SHOWN_WEEKS`], and how many were left out.
+fn shown_weeks(weeks: &[Value]) -> (Vec<Value>, usize) {
+    let kept: Vec<Value> = weeks
+        .iter()
+        .filter(|w| SHOWN_WEEKS.contains(&w["week"].as_u64().expect("a week number")))
+        .cloned()
+        .collect();
+    let left = weeks.len() - kept.len();
+    (kept, left)
+}
+
 #[test]
 fn snapshot_demo_schedule_csv() {
-    insta::assert_snapshot!(
-        "demo_schedule_csv",
-        demo_output(&["schedule", "--format", "csv"])
-    );
+    let out = demo_output(&["schedule", "--format", "csv"]);
+    let j: Value = serde_json::from_str(&demo_output(&["schedule", "--format", "json"])).unwrap();
+    let mut rd = csv::Reader::from_reader(out.as_bytes());
+    let header = rd.headers().unwrap().clone();
+    let rows: Vec<csv::StringRecord> = rd.records().map(|r| r.unwrap()).collect();
+    // Every row against the JSON of the same run: one row per session of each
+    // protocol week and one per follow-up week, in scenario and week order, with the
+    // session's date, minutes and energy and the week's masses.
+    let mut expected_rows = 0;
+    let mut it = rows.iter();
+    for s in array(&j, "scenarios") {
+        for w in array(s, "weeks") {
+            let sessions = array(w, "sessions");
+            let n = sessions.len().max(1);
+            expected_rows += n;
+            for k in 0..n {
+                let row = it
+                    .next()
+                    .expect("a CSV row for every session and follow-up week");
+                assert_eq!(row.len(), header.len(), "{row:?}");
+                assert_eq!(&row[0], text(s, "name"));
+                assert_eq!(row[1].parse::<u64>().unwrap(), w["week"].as_u64().unwrap());
+                assert_eq!(&row[2], text(w, "phase"));
+                assert_eq!(&row[3], text(w, "start"));
+                let close = |cell: &str, x: f64, tol: f64| {
+                    let c: f64 = cell.parse().expect("a number");
+                    assert!((c - x).abs() <= tol, "{cell} against {x} in {row:?}");
+                };
+                close(&row[4], num(w, "reference_mass_kg"), 6e-4);
+                close(&row[13], num(&w["end"], "mass_kg"), 6e-4);
+                if let Some(sess) = sessions.get(k) {
+                    assert_eq!(&row[6], text(sess, "date"));
+                    assert_eq!(&row[7], text(sess, "weekday"));
+                    close(&row[8], num(sess, "minutes"), 0.0);
+                    close(&row[10], num(sess, "gross_kcal"), 0.06);
+                    close(&row[11], num(sess, "net_kcal"), 0.06);
+                } else {
+                    assert_eq!(&row[6], "");
+                    assert_eq!(&row[8], "0");
+                }
+            }
+        }
+    }
+    assert_eq!(rows.len(), expected_rows);
+    assert_eq!(rows.len(), 3 * (24 * 3 + 12));
+    // The snapshot: the header and the rows of the shown weeks.
+    let mut shown = csv::Writer::from_writer(Vec::new());
+    shown.write_record(&header).unwrap();
+    for row in &rows {
+        if SHOWN_WEEKS.contains(&row[1].parse().unwrap()) {
+            shown.write_record(row).unwrap();
+        }
+    }
+    let shown = String::from_utf8(shown.into_inner().unwrap()).unwrap();
+    insta::assert_snapshot!("demo_schedule_csv", shown);
 }
 
 #[test]
@@ -1718,7 +1793,72 @@ fn snapshot_demo_schedule_json() {
         "\"dosewright [version]\"",
     );
     assert!(out.contains("\"tool\": \"dosewright [version]\""));
-    insta::assert_snapshot!("demo_schedule_json", out);
+    let mut j: Value = serde_json::from_str(&out).expect("valid JSON");
+    // The whole output is the pretty form of its own value (so the trimmed snapshot
+    // below pins the layout of the rest too).
+    assert_eq!(out, serde_json::to_string_pretty(&j).unwrap() + "\n");
+    // Structure of the weeks the snapshot leaves out.
+    let total = 24 + 12;
+    for s in array(&j, "scenarios") {
+        let weeks = array(s, "weeks");
+        assert_eq!(weeks.len(), total, "{}", text(s, "name"));
+        let protocol_keys = keys(&weeks[0]);
+        let end_keys = keys(&weeks[0]["end"]);
+        let session_keys = keys(&array(&weeks[0], "sessions")[0]);
+        let start = date(text(&weeks[0], "start"));
+        for (i, w) in weeks.iter().enumerate() {
+            assert_eq!(w["week"].as_u64(), Some(i as u64 + 1));
+            assert_eq!(keys(w), protocol_keys, "week {}", i + 1);
+            assert_eq!(keys(&w["end"]), end_keys, "week {}", i + 1);
+            assert_eq!(
+                date(text(w, "start")),
+                start + chrono::Days::new(7 * i as u64)
+            );
+            let sessions = array(w, "sessions");
+            assert_eq!(sessions.len() as f64, num(w, "sessions_per_week"));
+            for sess in sessions {
+                assert_eq!(keys(sess), session_keys, "week {}", i + 1);
+            }
+            let phase = if i < 24 { "protocol" } else { "follow-up" };
+            assert_eq!(text(w, "phase"), phase, "week {}", i + 1);
+            assert_eq!(sessions.is_empty(), phase == "follow-up", "week {}", i + 1);
+        }
+        // The outcome is the last week's end, and the protocol end week 24's.
+        let (o, last, w24) = (&s["outcome"], &weeks[total - 1]["end"], &weeks[23]["end"]);
+        for k in [
+            "mass_kg",
+            "fat_mass_kg",
+            "fat_free_mass_kg",
+            "achieved_deficit_kcal",
+        ] {
+            assert_eq!(num(o, k), num(last, k), "{k}");
+        }
+        assert_eq!(num(o, "protocol_end_mass_kg"), num(w24, "mass_kg"));
+    }
+    for b in array(&j["projection_band"], "scenarios") {
+        let weeks = array(b, "weeks");
+        assert_eq!(weeks.len(), total);
+        for (i, w) in weeks.iter().enumerate() {
+            assert_eq!(w["week"].as_u64(), Some(i as u64 + 1));
+            assert!(num(w, "mass_low_kg") <= num(w, "mass_high_kg"), "{w}");
+        }
+    }
+    // The snapshot: every top-level key and summary, and the shown weeks.
+    for path in [&["scenarios"][..], &["projection_band", "scenarios"][..]] {
+        let mut v = &mut j;
+        for p in path {
+            v = &mut v[*p];
+        }
+        for s in v.as_array_mut().unwrap() {
+            let (kept, left) = shown_weeks(s["weeks"].as_array().unwrap());
+            s["weeks"] = Value::Array(kept);
+            s["weeks_not_shown"] = Value::from(left);
+        }
+    }
+    insta::assert_snapshot!(
+        "demo_schedule_json",
+        serde_json::to_string_pretty(&j).unwrap()
+    );
 }
 
 #[test]
