@@ -103,6 +103,9 @@ fn a_plan_with_a_utf8_byte_order_mark_is_accepted() {
         .cmd()
         .args(["schedule", "plan.toml", "--format", "json"]));
     let (_d, plain) = run_plan(BASE, &["schedule", "--format", "json"]);
+    assert_eq!(with_bom.code, Some(0), "{}", with_bom.stderr);
+    assert_eq!(plain.code, Some(0), "{}", plain.stderr);
+    assert!(plain.stdout.starts_with('{'), "{}", plain.stdout);
     assert_eq!(with_bom.stdout, plain.stdout);
     // Positions in errors do not count the mark.
     let mut bad_bytes = "\u{feff}".as_bytes().to_vec();
@@ -122,6 +125,7 @@ fn a_plan_with_windows_line_endings_is_accepted() {
     let (_dir, r) = run_plan(&crlf, &["schedule", "--format", "json"]);
     assert_eq!(r.code, Some(0), "{}", r.stderr);
     let (_d, plain) = run_plan(BASE, &["schedule", "--format", "json"]);
+    assert_eq!(plain.code, Some(0), "{}", plain.stderr);
     assert_eq!(r.stdout, plain.stdout);
     // Lines and columns stay right, and no carriage return leaks into a key.
     let bad = base_with(&[("mass_kg = 80.0", "mas_kg = 80.0")], "").replace('\n', "\r\n");
@@ -937,6 +941,12 @@ fn every_warning_code_appears_for_a_plan_built_to_earn_it() {
         }
         // CSV keeps stdout clean and gives the warnings on stderr.
         let (_d, r) = run_plan(&plan, &["schedule", "--format", "csv"]);
+        assert_eq!(r.code, Some(0), "{code}: {}", r.stderr);
+        assert!(
+            r.stdout.starts_with("scenario,week,"),
+            "{code}: {}",
+            r.stdout
+        );
         assert!(
             r.stderr.contains(&format!("[{code}]")),
             "{code} not on csv stderr"
@@ -1275,6 +1285,7 @@ fn demo_table_shows_baseline_schedule_outcome_and_cautions() {
     assert!(rows >= 3, "{rows} outcome rows with a band");
     // Same as asking for the table by name.
     let named = run(dosewright().args(["schedule", "--format", "table"]));
+    assert_eq!(named.code, Some(0), "{}", named.stderr);
     assert_eq!(named.stdout, r.stdout);
 }
 
@@ -1287,6 +1298,12 @@ fn scenario_picks_whose_schedule_the_table_shows() {
     ));
     assert!(!r.stdout.contains("Schedule for scenario \"as prescribed\""));
     let first = run(dosewright().arg("schedule"));
+    assert_eq!(first.code, Some(0), "{}", first.stderr);
+    assert!(
+        first
+            .stdout
+            .contains("Schedule for scenario \"as prescribed\"")
+    );
     assert_ne!(first.stdout, r.stdout);
 }
 
@@ -1383,6 +1400,9 @@ fn a_plan_without_screening_says_screening_not_recorded_everywhere() {
     let (_d, table) = run_plan(&plan, &["schedule"]);
     let (_d, check) = run_plan(&plan, &["check"]);
     let (_d, csv) = run_plan(&plan, &["schedule", "--format", "csv"]);
+    for r in [&table, &check, &csv] {
+        assert_eq!(r.code, Some(0), "{}", r.stderr);
+    }
     for (what, out) in [
         ("table", &table.stdout),
         ("check", &check.stdout),
@@ -1404,6 +1424,12 @@ fn a_plan_without_screening_says_screening_not_recorded_everywhere() {
     assert_eq!(warning_codes(&j), ["screening-not-recorded"]);
     // With the screening block, none of that.
     let (_d, with) = run_plan(BASE, &["schedule"]);
+    assert_eq!(with.code, Some(0), "{}", with.stderr);
+    assert!(
+        with.stdout.contains("Screening result: "),
+        "{}",
+        with.stdout
+    );
     assert!(!with.stdout.contains("screening not recorded"));
 }
 
@@ -1940,6 +1966,7 @@ fn csv_carries_every_scenario_whatever_scenario_is_picked() {
     );
     // The table, by contrast, shows the chosen scenario's sessions only.
     let table = run(dosewright().args(["schedule", "--scenario", "eats back 40%"]));
+    assert_eq!(table.code, Some(0), "{}", table.stderr);
     assert!(
         table
             .stdout
@@ -2107,6 +2134,7 @@ fn activities_with_no_match_or_one_match_reads_well() {
         r.stdout
     );
     let r = run(dosewright().args(["activities", "--met-min", "0", "--met-max", "1.5"]));
+    assert_eq!(r.code, Some(0), "{}", r.stderr);
     assert!(
         r.stdout
             .starts_with("No activity between 0 and 1.5 MET.\n\n"),

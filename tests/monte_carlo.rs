@@ -200,5 +200,7 @@ fn the_same_seed_gives_the_same_bytes_on_one_and_two_threads() {
         "--format",
         "json",
     ]));
+    assert_eq!(other.code, Some(0), "{}", other.stderr);
+    assert!(other.stdout.starts_with('{'), "{}", other.stdout);
     assert_ne!(other.stdout, out("2", "json"));
 }

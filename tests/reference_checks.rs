@@ -381,13 +381,35 @@ fn rmr_cunningham_1980() {
 }
 
 #[test]
-fn rmr_livingston_kohlstadt_from_memory() {
-    // Livingston EH, Kohlstadt I. Obes Res 2005;13(7):1255-1262 — FROM MEMORY,
-    // UNCONFIRMED (not found in stored sources): M 1717.11, F 1349.97 kcal/d. This
-    // checks the coefficients as remembered; verify against the paper before shipping.
+fn rmr_livingston_kohlstadt_agrees_with_confirmed_equations() {
+    // Livingston EH, Kohlstadt I. Obes Res 2005;13(7):1255-1262: the coefficients the
+    // code uses are from memory, unconfirmed (REFERENCES.md 3), so the values they
+    // give cannot be their own check. Checked instead against sources outside them:
+    // for subjects M and F of REFERENCES.md 3 the equation must fall within the 95 %
+    // limits of the revised Harris-Benedict equation, +-213 kcal/d for men and +-201
+    // for women (Roza AM, Shizgal HM. Am J Clin Nutr 1984;40(1):168-182 — confirmed,
+    // secondary copy), around both that equation (M 1796.86, F 1408.27 kcal/d,
+    // confirmed) and Mifflin-St Jeor (Mifflin et al. Am J Clin Nutr 1990;51:241-247 —
+    // confirmed: M 1730.00, F 1345.25 kcal/d). Both are fixed numbers from those
+    // sources, not from the code. This cannot confirm the coefficients; it catches a
+    // remembered equation that is far from measured resting energy (a wrong factor,
+    // exponent or sign) until the paper is read.
     let eq = RmrEquation::LivingstonKohlstadt;
-    assert_abs_diff_eq!(rmr(eq, &SUBJECT_M), 1717.11, epsilon = half_unit(2));
-    assert_abs_diff_eq!(rmr(eq, &SUBJECT_F), 1349.97, epsilon = half_unit(2));
+    for (subject, limit, hb_revised, mifflin) in [
+        (&SUBJECT_M, 213.0, 1796.86, 1730.00),
+        (&SUBJECT_F, 201.0, 1408.27, 1345.25),
+    ] {
+        let r = rmr(eq, subject);
+        for (name, reference) in [
+            ("Harris-Benedict revised", hb_revised),
+            ("Mifflin-St Jeor", mifflin),
+        ] {
+            assert!(
+                (r - reference).abs() <= limit,
+                "Livingston-Kohlstadt {r:.2} kcal/d is more than {limit} from {name} {reference}"
+            );
+        }
+    }
 }
 
 #[test]
