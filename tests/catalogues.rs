@@ -311,9 +311,14 @@ fn bless(path: &Path, stderr: &str) -> Result<(), Failed> {
 fn toml_string(s: &str) -> String {
     let multi = s.contains('\n');
     let mut out = String::from(if multi { "\"\"\"\n" } else { "\"" });
-    for c in s.chars() {
+    let mut chars = s.chars().peekable();
+    while let Some(c) = chars.next() {
+        // In a multi-line string a quote needs its backslash only before another
+        // quote or at the very end (where it would run into the closing `"""`).
+        let bare_quote_ok = multi && !matches!(chars.peek(), Some('"') | None);
         match c {
             '\\' => out.push_str("\\\\"),
+            '"' if bare_quote_ok => out.push('"'),
             '"' => out.push_str("\\\""),
             '\n' if multi => out.push('\n'),
             '\n' => out.push_str("\\n"),
@@ -453,6 +458,22 @@ fn meta_the_checker_catches_a_written_file_and_stray_output() -> Result<(), Fail
     Ok(())
 }
 
+fn meta_bless_writes_strings_that_read_back() -> Result<(), Failed> {
+    for s in [
+        "one line with \"quotes\" and \\ backslash",
+        "two\nlines ending in a quote\"",
+        "\nstarts with a line break and has \"\"\" inside\n",
+        "tab\tand \u{7f} and \r",
+    ] {
+        let doc = format!("stderr = {}\n", toml_string(s));
+        let back: toml::Table = toml::from_str(&doc).map_err(|e| format!("{doc}: {e}"))?;
+        if back["stderr"].as_str() != Some(s) {
+            return Err(format!("{s:?} came back as {:?}", back["stderr"]).into());
+        }
+    }
+    Ok(())
+}
+
 fn main() {
     let args = Arguments::from_args();
     let mut trials = Vec::new();
@@ -474,6 +495,10 @@ fn main() {
     trials.push(Trial::test(
         "meta::the_checker_catches_a_written_file_and_stray_output",
         meta_the_checker_catches_a_written_file_and_stray_output,
+    ));
+    trials.push(Trial::test(
+        "meta::bless_writes_strings_that_read_back",
+        meta_bless_writes_strings_that_read_back,
     ));
     libtest_mimic::run(&args, trials).exit();
 }
