@@ -11,8 +11,8 @@
 #![warn(missing_docs)]
 
 pub mod activity;
-pub mod app;
 pub mod cli;
+pub mod commands;
 pub mod error;
 pub mod files;
 pub mod log;

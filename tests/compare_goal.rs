@@ -6,7 +6,7 @@
 //! Numbers come from library calls; command-line behaviour from the real binary.
 //! Every participant here is invented and goes by a pseudonymous code.
 
-use dosewright::app::{compare_report, with_added_scenarios};
+use dosewright::commands::compare::{compare_report, with_added_scenarios};
 use dosewright::model::energy::calibrate;
 use dosewright::model::{BodyState, Bout, Compensation};
 use dosewright::plan::{Plan, parse_plan};
