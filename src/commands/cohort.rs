@@ -28,7 +28,8 @@ pub fn cohort_members(
     args: &CohortArgs,
 ) -> Result<(Vec<crate::simulate::cohort::Member>, String, String), Error> {
     use crate::simulate::cohort::Member;
-    use crate::study::{randomise, roster, synthetic};
+    use crate::study::allocation::{Allocation, allocate};
+    use crate::study::{roster, synthetic};
     let (mut members, source) = match (&args.roster, args.synthetic) {
         (Some(path), None) => {
             let rows = roster::load_roster(path, study)?;
@@ -61,37 +62,33 @@ pub fn cohort_members(
         }
         _ => unreachable!("clap requires exactly one of --roster and --synthetic"),
     };
-    let given = members.iter().all(|m| m.arm.is_some());
-    if given && args.randomise {
-        return Err(Error::Usage(
-            "--randomise: the roster already gives every participant an arm; leave out --randomise, or empty the roster's arm column".to_string(),
-        ));
-    }
-    let allocation = if given {
-        "arms as the roster gives them".to_string()
-    } else if args.randomise || args.synthetic.is_some() {
-        let sexes: Vec<crate::model::Sex> =
-            members.iter().map(|m| m.participant.subject.sex).collect();
-        let arms = randomise::permuted_blocks(
-            &sexes,
-            study.arms.len(),
-            study.block_size as usize,
-            args.seed,
-        );
-        for (m, a) in members.iter_mut().zip(arms) {
-            m.arm = Some(a);
+    let who: Vec<(Option<usize>, crate::model::Sex)> = members
+        .iter()
+        .map(|m| (m.arm, m.participant.subject.sex))
+        .collect();
+    let randomise = args.randomise || args.synthetic.is_some();
+    let allocation = match allocate(study, &who, randomise, args.seed)
+        .map_err(|_| super::already_allocated())?
+    {
+        Allocation::Given(_) => "arms as the roster gives them".to_string(),
+        Allocation::PermutedBlocks(arms) => {
+            for (m, a) in members.iter_mut().zip(arms) {
+                m.arm = Some(a);
+            }
+            format!(
+                "arms by permuted blocks of {} stratified by sex (seed {})",
+                study.block_size, args.seed
+            )
         }
-        format!(
-            "arms by permuted blocks of {} stratified by sex (seed {})",
-            study.block_size, args.seed
-        )
-    } else if args.all_arms {
-        "no allocation (every participant in every arm)".to_string()
-    } else {
-        return Err(Error::Usage(format!(
-            "the roster gives no arm; add an arm column (one of {}), or use --randomise or --all-arms",
-            study.arm_names()
-        )));
+        Allocation::Unallocated if args.all_arms => {
+            "no allocation (every participant in every arm)".to_string()
+        }
+        Allocation::Unallocated => {
+            return Err(Error::Usage(format!(
+                "the roster gives no arm; add an arm column (one of {}), or use --randomise or --all-arms",
+                study.arm_names()
+            )));
+        }
     };
     Ok((members, source, allocation))
 }

@@ -10,8 +10,8 @@ use crate::cli::{CompareArgs, CompareFormat};
 use crate::error::Error;
 use crate::plan::{self, Plan};
 use crate::report;
+use crate::simulate::dose_response::dose_response;
 use crate::simulate::goal::allowed_range;
-use crate::simulate::simulate_observed;
 
 /// The plan with ad-hoc scenarios from `--add-scenario` appended.
 pub fn with_added_scenarios(mut plan: Plan, specs: &[String]) -> Result<Plan, Error> {
@@ -67,40 +67,7 @@ pub fn compare_report_logged(
     let dose_response = if doses.is_empty() {
         None
     } else {
-        let mut rows = Vec::new();
-        for &d in doses {
-            let mut p = plan.clone();
-            p.protocol.dose.amount = amount.with_value(d);
-            let sim = simulate_observed(&p, log.observed.as_ref())?;
-            let m0 = sim.baseline.mass_kg;
-            let f0 = sim.baseline.fat_mass_kg;
-            rows.push(report::compare::DoseRow {
-                dose: d,
-                scenarios: sim
-                    .scenarios
-                    .iter()
-                    .map(|sc| report::compare::DoseScenario {
-                        name: sc.name.clone(),
-                        rows: weeks
-                            .iter()
-                            .map(|&n| {
-                                let w = &sc.weeks[n as usize - 1];
-                                report::compare::DosePoint {
-                                    week: n,
-                                    mass_change_kg: w.end.mass_kg - m0,
-                                    fat_mass_change_kg: w.end.fat_mass_kg - f0,
-                                    minutes_per_session: w.minutes_per_session,
-                                }
-                            })
-                            .collect(),
-                    })
-                    .collect(),
-            });
-        }
-        Some(report::compare::DoseResponse {
-            dose_unit: amount.key(),
-            doses: rows,
-        })
+        Some(dose_response(plan, log.observed.as_ref(), doses, &weeks)?)
     };
     let band = schedule.projection_band.clone().expect("computed above");
     Ok(report::compare::CompareReport::new(

@@ -187,6 +187,13 @@ pub(crate) fn side_notes_of(warnings: &[Warning], screening: &ScreeningOutcome) 
     s
 }
 
+/// Randomisation asked for a roster that already gives every participant an arm.
+pub(crate) fn already_allocated() -> Error {
+    Error::Usage(
+        "--randomise: the roster already gives every participant an arm; leave out --randomise, or empty the roster's arm column".to_string(),
+    )
+}
+
 /// One `warning [code]: message` line per warning.
 pub(crate) fn warning_lines(warnings: &[Warning]) -> String {
     warnings

@@ -100,30 +100,17 @@ fn study_sheet_inputs(
 ) -> Result<(Vec<report::sheets::SheetInput>, Vec<Warning>, String), Error> {
     let study = crate::study::load_study(study_path)?;
     let rows = crate::study::roster::load_roster(roster, &study)?;
-    let given = rows.iter().all(|r| r.arm.is_some());
-    let arms: Vec<usize> = match (given, randomise) {
-        (true, false) => rows.iter().map(|r| r.arm.expect("checked")).collect(),
-        (true, true) => {
-            return Err(Error::Usage(
-                "--randomise: the roster already gives every participant an arm; leave out --randomise, or empty the roster's arm column".to_string(),
-            ));
-        }
-        (false, true) => {
-            let sexes: Vec<crate::model::Sex> =
-                rows.iter().map(|r| r.participant.subject.sex).collect();
-            crate::study::randomise::permuted_blocks(
-                &sexes,
-                study.arms.len(),
-                study.block_size as usize,
-                seed,
-            )
-        }
-        (false, false) => {
-            return Err(Error::Usage(format!(
-                "{}: the roster gives no arm, so the sheets cannot know each participant's dose; add an arm column, or use --randomise (with --seed, as for cohort)",
-                roster.display()
-            )));
-        }
+    let who: Vec<(Option<usize>, crate::model::Sex)> = rows
+        .iter()
+        .map(|r| (r.arm, r.participant.subject.sex))
+        .collect();
+    let allocation = crate::study::allocation::allocate(&study, &who, randomise, seed)
+        .map_err(|_| super::already_allocated())?;
+    let Some(arms) = allocation.arms().map(<[usize]>::to_vec) else {
+        return Err(Error::Usage(format!(
+            "{}: the roster gives no arm, so the sheets cannot know each participant's dose; add an arm column, or use --randomise (with --seed, as for cohort)",
+            roster.display()
+        )));
     };
     let mut inputs = Vec::new();
     let mut warnings = Vec::new();

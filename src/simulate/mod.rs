@@ -7,6 +7,7 @@
 pub mod adherence;
 pub mod band;
 pub mod cohort;
+pub mod dose_response;
 pub mod fast;
 pub mod fit;
 pub mod goal;
