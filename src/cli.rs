@@ -1,7 +1,8 @@
 //! The command line: the clap definition and nothing else.
 
 use chrono::NaiveDate;
-use clap::{Args, Parser, Subcommand, ValueEnum};
+use clap::builder::RangedU64ValueParser;
+use clap::{Args, Parser, Subcommand, ValueEnum, value_parser};
 use std::path::PathBuf;
 
 /// Plan exercise as a dose of energy, re-prescribe session minutes as body mass
@@ -12,6 +13,38 @@ pub struct Cli {
     /// What to do.
     #[command(subcommand)]
     pub command: Command,
+}
+
+/// A number within `lo..=hi` (or, with `open`, strictly between them); `what` words
+/// the range for the message.
+fn float_within(s: &str, lo: f64, hi: f64, open: bool, what: &str) -> Result<f64, String> {
+    let x: f64 = s.trim().parse().map_err(|e| format!("{e}; {what}"))?;
+    let inside = if open {
+        x > lo && x < hi
+    } else {
+        (lo..=hi).contains(&x)
+    };
+    if x.is_finite() && inside {
+        Ok(x)
+    } else {
+        Err(what.to_string())
+    }
+}
+
+/// `--met-min` and `--met-max`: 0 to 25 MET.
+fn met_bound(s: &str) -> Result<f64, String> {
+    float_within(s, 0.0, 25.0, false, "allowed 0 to 25 MET")
+}
+
+/// `--lose-percent`: above 0 and below 100.
+fn loss_percent(s: &str) -> Result<f64, String> {
+    float_within(
+        s,
+        0.0,
+        100.0,
+        true,
+        "allowed above 0 and below 100 (percent of baseline mass)",
+    )
 }
 
 /// Output formats of `schedule`.
@@ -218,8 +251,8 @@ pub struct CohortArgs {
     /// The roster (CSV with columns id, sex, age_years, height_cm, mass_kg, optional ones and arm).
     #[arg(long, value_name = "FILE")]
     pub roster: Option<PathBuf>,
-    /// Draw N participants from the population of the study's synthetic table instead (seeded; arms by permuted blocks).
-    #[arg(long, value_name = "N")]
+    /// Draw N participants (1 to 100000) from the population of the study's synthetic table instead (seeded; arms by permuted blocks).
+    #[arg(long, value_name = "N", value_parser = RangedU64ValueParser::<usize>::new().range(1..=100_000))]
     pub synthetic: Option<usize>,
     /// Assign arms by permuted blocks stratified by sex (for a roster without an arm column).
     #[arg(long)]
@@ -230,11 +263,11 @@ pub struct CohortArgs {
     /// Simulate every participant in every arm (the counterfactual view of the dose effect).
     #[arg(long)]
     pub all_arms: bool,
-    /// Draws per participant.
-    #[arg(long, default_value_t = 1, value_name = "K")]
+    /// Draws per participant (1 to 10000).
+    #[arg(long, default_value_t = 1, value_name = "K", value_parser = value_parser!(u32).range(1..=10_000))]
     pub draws: u32,
-    /// Worker threads (default: RAYON_NUM_THREADS, else one per core).
-    #[arg(long, value_name = "N")]
+    /// Worker threads, 1 to 256 (default: RAYON_NUM_THREADS, else one per core).
+    #[arg(long, value_name = "N", value_parser = RangedU64ValueParser::<usize>::new().range(1..=256))]
     pub threads: Option<usize>,
     /// The integrator.
     #[arg(long, value_enum, default_value_t = IntegratorArg::Rk4)]
@@ -428,8 +461,8 @@ pub struct GoalArgs {
     /// Loss wanted, kg.
     #[arg(long, value_name = "KG", allow_negative_numbers = true)]
     pub lose_kg: Option<f64>,
-    /// Loss wanted, percent of baseline mass.
-    #[arg(long, value_name = "PERCENT", allow_negative_numbers = true)]
+    /// Loss wanted, percent of baseline mass (above 0 and below 100).
+    #[arg(long, value_name = "PERCENT", allow_negative_numbers = true, value_parser = loss_percent)]
     pub lose_percent: Option<f64>,
     /// By the end of this protocol week.
     #[arg(long, value_name = "N")]
@@ -504,11 +537,11 @@ pub struct InitArgs {
 pub struct ActivitiesArgs {
     /// A code (or its first digits) or words of the label, e.g. "cycling".
     pub text: Option<String>,
-    /// Lowest MET to list.
-    #[arg(long, value_name = "MET")]
+    /// Lowest MET to list (0 to 25).
+    #[arg(long, value_name = "MET", allow_negative_numbers = true, value_parser = met_bound)]
     pub met_min: Option<f64>,
-    /// Highest MET to list.
-    #[arg(long, value_name = "MET")]
+    /// Highest MET to list (0 to 25).
+    #[arg(long, value_name = "MET", allow_negative_numbers = true, value_parser = met_bound)]
     pub met_max: Option<f64>,
     /// Units of the equations' speed ranges.
     #[arg(long, value_enum, default_value_t = UnitsArg::Metric)]

@@ -1450,7 +1450,7 @@ fn bad_runs() -> Vec<Bad> {
                 "{H},arm\nR-1,female,40,165,80,control\nR-2,male,50,175,90,\nR-3,male,52,172,88,control\n"
             ),
             &[],
-            "roster.csv:3: arm: empty while other rows give an arm; give every participant an arm, or leave the column empty everywhere and use --randomise",
+            "roster.csv:3: arm: empty while other rows give an arm; give every participant an arm, or leave the column empty everywhere and have the arms randomised",
         ),
         bad_roster(
             "not_a_number",
@@ -1687,7 +1687,7 @@ fn bad_requests_exit_with_code_2() {
     for (args, msg) in [
         (
             &[PILOT, "--synthetic", "0"][..],
-            "error: --synthetic 0: allowed 1 to 100000 participants\n",
+            "error: invalid value '0' for '--synthetic <N>': 0 is not in 1..=100000\n\nFor more information, try '--help'.\n",
         ),
         (
             &[PILOT, "--roster", PILOT_ALLOCATED, "--at-week", "37"][..],
@@ -1695,11 +1695,11 @@ fn bad_requests_exit_with_code_2() {
         ),
         (
             &[PILOT, "--roster", PILOT_ALLOCATED, "--threads", "0"][..],
-            "error: --threads 0: allowed 1 to 256\n",
+            "error: invalid value '0' for '--threads <N>': 0 is not in 1..=256\n\nFor more information, try '--help'.\n",
         ),
         (
             &[PILOT, "--roster", PILOT_ALLOCATED, "--draws", "0"][..],
-            "error: --draws 0: allowed 1 to 10000 draws per participant\n",
+            "error: invalid value '0' for '--draws <K>': 0 is not in 1..=10000\n\nFor more information, try '--help'.\n",
         ),
         (
             &[

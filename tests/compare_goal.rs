@@ -840,11 +840,17 @@ fn goal_invalid_requests_exit_2_with_a_clear_message() {
     );
     g(
         &["--lose-percent", "150", "--by-week", "8"],
-        &["--lose-percent 150", "below 100"],
+        &[
+            "invalid value '150' for '--lose-percent <PERCENT>'",
+            "below 100",
+        ],
     );
     g(
         &["--lose-percent", "0", "--by-week", "8"],
-        &["--lose-percent 0", "above 0"],
+        &[
+            "invalid value '0' for '--lose-percent <PERCENT>'",
+            "above 0",
+        ],
     );
     // Both, and neither: clap refuses them (exit 2, usage on stderr).
     g(

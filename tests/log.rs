@@ -384,7 +384,7 @@ fn rows_after_as_of_are_an_error() {
     let e = parse_log("log.csv", &text, &plan(), Some(date("2027-01-10"))).unwrap_err();
     assert_eq!(
         e.to_string(),
-        "log.csv:3:1: date: date 2027-01-20 is after the as-of date 2027-01-10; the log may hold no rows after it: give a later --as-of, or none to read the whole log"
+        "log.csv:3:1: date: date 2027-01-20 is after the as-of date 2027-01-10; the log may hold no rows after it: give a later as-of date, or none to read the whole log"
     );
     assert_eq!(e.exit_code(), 2);
     // The last date itself, or any later date, is fine.

@@ -12,13 +12,6 @@ pub fn run(args: &ActivitiesArgs) -> Result<Printed, Error> {
     let (met_min, met_max) = (args.met_min, args.met_max);
     let lo = met_min.unwrap_or(0.0);
     let hi = met_max.unwrap_or(f64::INFINITY);
-    for (v, name) in [(met_min, "--met-min"), (met_max, "--met-max")] {
-        if let Some(x) = v
-            && (!x.is_finite() || !(0.0..=25.0).contains(&x))
-        {
-            return Err(Error::Usage(format!("{name} {x}: allowed 0 to 25 MET")));
-        }
-    }
     if lo > hi {
         return Err(Error::Usage(format!(
             "--met-min {lo} is above --met-max {hi}"

@@ -10,7 +10,7 @@ use crate::report::units::Units;
 use crate::report::{self, ScheduleReport};
 use crate::safety::Warning;
 use crate::simulate::simulate_observed;
-use chrono::{DateTime, NaiveDate, Utc};
+use chrono::{DateTime, NaiveDate, NaiveDateTime, Utc};
 use std::path::Path;
 
 /// What `calendar` asks for besides the plan and the log.
@@ -62,7 +62,7 @@ pub fn calendar_file(
     let sim = simulate_observed(plan, log.observed.as_ref())?;
     let mut r = ScheduleReport::new(plan, sim);
     r.warnings.extend(log.warnings.iter().cloned());
-    let index = r.scenario_index(request.scenario.as_deref())?;
+    let index = super::scenario_index(&r, request.scenario.as_deref())?;
     let all = report::sessions::session_plan(plan, &r.scenarios[index]);
     let chosen = report::calendar::within(&all, request.from, request.to);
     let dates: Vec<NaiveDate> = chosen
@@ -116,11 +116,7 @@ pub fn calendar_file(
 
 /// Run `calendar`.
 pub fn run(args: &CalendarArgs) -> Result<Printed, Error> {
-    let stamp = args
-        .stamp
-        .as_deref()
-        .map(report::calendar::parse_stamp)
-        .transpose()?;
+    let stamp = args.stamp.as_deref().map(parse_stamp).transpose()?;
     check_span(args.from, args.to)?;
     let inputs: Vec<&Path> = args
         .plan
@@ -152,4 +148,48 @@ pub fn run(args: &CalendarArgs) -> Result<Printed, Error> {
         stdout: String::new(),
         stderr,
     })
+}
+
+/// Parse `--stamp`: an RFC 3339 date-time (`2027-03-01T08:00:00Z`, or with an
+/// offset, which is turned into UTC) or the iCalendar UTC form
+/// (`20270301T080000Z`). Whole seconds only: DTSTAMP has no fraction (3.8.7.2).
+pub fn parse_stamp(text: &str) -> Result<DateTime<Utc>, Error> {
+    let t = text.trim();
+    let parsed = DateTime::parse_from_rfc3339(t)
+        .map(|d| d.with_timezone(&Utc))
+        .or_else(|_| NaiveDateTime::parse_from_str(t, "%Y%m%dT%H%M%SZ").map(|d| d.and_utc()));
+    match parsed {
+        Ok(d) if d.timestamp_subsec_nanos() != 0 => Err(Error::Usage(format!(
+            "--stamp {text}: a fraction of a second is not allowed; give whole seconds such as 2027-03-01T08:00:00Z"
+        ))),
+        Ok(d) => Ok(d),
+        Err(_) => Err(Error::Usage(format!(
+            "--stamp {text}: not a date-time; give an RFC 3339 date-time such as 2027-03-01T08:00:00Z (or with an offset, 2027-03-01T09:00:00+01:00)"
+        ))),
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn stamps_in_both_forms_and_bad_ones() {
+        let want = NaiveDate::from_ymd_opt(2027, 3, 1)
+            .unwrap()
+            .and_hms_opt(8, 0, 0)
+            .unwrap()
+            .and_utc();
+        assert_eq!(parse_stamp("2027-03-01T08:00:00Z").unwrap(), want);
+        assert_eq!(parse_stamp("2027-03-01T09:00:00+01:00").unwrap(), want);
+        assert_eq!(parse_stamp("20270301T080000Z").unwrap(), want);
+        for bad in [
+            "2027-03-01",
+            "tomorrow",
+            "2027-02-30T08:00:00Z",
+            "2027-03-01T08:00:00.5Z",
+        ] {
+            assert!(parse_stamp(bad).is_err(), "{bad}");
+        }
+    }
 }

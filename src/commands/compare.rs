@@ -16,7 +16,10 @@ use crate::simulate::goal::allowed_range;
 /// The plan with ad-hoc scenarios from `--add-scenario` appended.
 pub fn with_added_scenarios(mut plan: Plan, specs: &[String]) -> Result<Plan, Error> {
     for spec in specs {
-        let sc = plan::parse_scenario_spec(spec)?;
+        let sc = plan::parse_scenario_spec(spec).map_err(|e| match e {
+            Error::Usage(m) => Error::Usage(format!("--add-scenario {m}")),
+            other => other,
+        })?;
         if plan.scenarios.iter().any(|s| s.name == sc.name) {
             return Err(Error::Usage(format!(
                 "--add-scenario \"{spec}\": the plan already has a scenario named \"{}\"; choose another name",

@@ -20,7 +20,7 @@ pub fn run(args: &FitArgs) -> Result<Printed, Error> {
     let plan = load(Some(&args.plan))?;
     let input = read_log(&plan, Some(&args.log), args.as_of)?;
     let schedule = schedule_report(&plan)?;
-    let index = schedule.scenario_index(args.scenario.as_deref())?;
+    let index = super::scenario_index(&schedule, args.scenario.as_deref())?;
     let param = match args.parameter {
         FitParameterArg::IntakeFraction => FitParameter::IntakeFraction,
         FitParameterArg::ActivityFraction => FitParameter::ActivityFraction,

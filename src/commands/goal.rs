@@ -6,7 +6,9 @@ use super::{Printed, check_outputs, deliver, display_units, load, read_log, refu
 use crate::cli::{GoalArgs, GoalFormat};
 use crate::error::Error;
 use crate::report;
-use crate::simulate::goal::{GoalRequest, solve_observed};
+use crate::simulate::goal::{
+    GoalRequest, RequestProblem, check_request, request_problem, solve_observed,
+};
 
 /// Run `goal`.
 pub fn run(args: &GoalArgs) -> Result<Printed, Error> {
@@ -22,21 +24,22 @@ pub fn run(args: &GoalArgs) -> Result<Printed, Error> {
     let m0 = plan.participant.subject.mass_kg;
     let lose = match (args.lose_kg, args.lose_percent) {
         (Some(kg), _) => kg,
-        (None, Some(p)) => {
-            if !p.is_finite() || p <= 0.0 || p >= 100.0 {
-                return Err(Error::Usage(format!(
-                    "--lose-percent {p}: allowed above 0 and below 100 (percent of baseline mass)"
-                )));
-            }
-            m0 * p / 100.0
-        }
+        (None, Some(p)) => m0 * p / 100.0,
         (None, None) => unreachable!("clap requires one of the two"),
     };
     let request = GoalRequest {
         lose_kg: lose,
         by_week: args.by_week,
     };
-    crate::simulate::goal::check_request(&plan, &request)?;
+    match request_problem(&plan, &request) {
+        Some(RequestProblem::Week { week, weeks }) => {
+            return Err(Error::Usage(format!(
+                "--by-week {week}: outside the protocol; allowed 1 to {weeks} (the plan's weeks)"
+            )));
+        }
+        Some(RequestProblem::Loss(_)) => check_request(&plan, &request)?,
+        None => {}
+    }
     let mut schedule = schedule_report(&plan)?;
     schedule.warnings.extend(log.warnings.iter().cloned());
     let answers = solve_observed(&plan, &request, log.observed.as_ref())?;

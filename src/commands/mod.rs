@@ -84,6 +84,7 @@ pub fn read_log(
     let Some(path) = log else {
         return Ok(LogInput::default());
     };
+    check_as_of(plan, as_of)?;
     let (log, warnings) = crate::log::load_log(path, plan, as_of)?;
     let observed = Observed::from_log(plan, &log, as_of);
     let summary = report::LogSummary {
@@ -192,6 +193,30 @@ pub(crate) fn already_allocated() -> Error {
     Error::Usage(
         "--randomise: the roster already gives every participant an arm; leave out --randomise, or empty the roster's arm column".to_string(),
     )
+}
+
+/// A usage error of the library worded with the option it came from: `FLAG: message`.
+pub(crate) fn with_flag(flag: &str) -> impl Fn(Error) -> Error + '_ {
+    move |e| match e {
+        Error::Usage(m) => Error::Usage(format!("{flag}: {m}")),
+        other => other,
+    }
+}
+
+/// The index of the scenario `--scenario` names (the first when None).
+pub(crate) fn scenario_index(r: &ScheduleReport, name: Option<&str>) -> Result<usize, Error> {
+    r.scenario_index(name).map_err(with_flag("--scenario"))
+}
+
+/// Refuse an `--as-of` date outside the plan's protocol and follow-up.
+pub(crate) fn check_as_of(plan: &Plan, as_of: Option<NaiveDate>) -> Result<(), Error> {
+    let (start, end) = (plan.protocol.start, plan.protocol.end_date());
+    match as_of {
+        Some(d) if d < start || d > end => Err(Error::Usage(format!(
+            "--as-of {d} is outside the protocol; give a date from the start {start} through the end of follow-up {end}"
+        ))),
+        _ => Ok(()),
+    }
 }
 
 /// One `warning [code]: message` line per warning.

@@ -58,7 +58,7 @@ pub fn run(args: &ScheduleArgs) -> Result<Printed, Error> {
     let plan = load(args.plan.as_deref())?;
     let log = read_log(&plan, args.logged.log.as_deref(), args.logged.as_of)?;
     let r = schedule_report_logged(&plan, &log)?;
-    let index = r.scenario_index(args.scenario.as_deref())?;
+    let index = super::scenario_index(&r, args.scenario.as_deref())?;
     let mut printed = Printed::default();
     let text = match args.format {
         FormatArg::Table => report::table::render(&r, index, units),

@@ -77,7 +77,7 @@ pub fn sheet_input(
     let sim = simulate_observed(plan, log.observed.as_ref())?;
     let mut r = ScheduleReport::new(plan, sim);
     r.warnings.extend(log.warnings.iter().cloned());
-    let index = r.scenario_index(scenario)?;
+    let index = super::scenario_index(&r, scenario)?;
     let input = report::sheets::SheetInput {
         sessions: report::sessions::session_plan(plan, &r.scenarios[index]),
         weeks,
