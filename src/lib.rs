@@ -21,6 +21,7 @@ pub mod plan;
 pub mod report;
 pub mod safety;
 pub mod simulate;
+pub mod stats;
 pub mod study;
 
 pub use error::Error;

@@ -14,10 +14,11 @@ mod common;
 use common::*;
 use dosewright::model::Sex;
 use dosewright::simulate::cohort::{
-    CohortRequest, Member, Spread, percentile, run_cohort, simulate_member, summarise,
+    CohortRequest, Member, Spread, run_cohort, simulate_member, summarise,
 };
 use dosewright::simulate::integrate::Integrator;
 use dosewright::simulate::{RunMode, calibrated, run as sim_run, simulate};
+use dosewright::stats::percentile;
 use dosewright::study::randomise::permuted_blocks;
 use dosewright::study::roster::parse_roster;
 use dosewright::study::{Study, parse_study, synthetic};
@@ -1053,7 +1054,7 @@ fn assert_cohort_json_contract(j: &Value) {
         ] {
             assert!(c.get(k).is_some(), "comparisons: {k}");
         }
-        // At least two completers per arm, more with drop-out (src/study/sample_size.rs).
+        // At least two completers per arm, more with drop-out (src/stats.rs).
         for k in ["n_per_arm_power80", "n_per_arm_power90"] {
             assert!(
                 c[k].is_null() || c[k].as_f64().is_some_and(|n| n >= 2.0),

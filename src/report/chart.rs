@@ -1192,7 +1192,7 @@ pub fn cohort_minutes_chart(r: &super::cohort::CohortReport) -> LineChart {
 /// arm (first scenario), by the two-sample normal approximation with the simulated
 /// difference and SD (Altman 1991), recruitment divided by the completion rate.
 pub fn cohort_power_chart(r: &super::cohort::CohortReport) -> LineChart {
-    use crate::study::sample_size::power;
+    use crate::stats::power;
     let first = r.arms.first().map(|a| a.name.clone()).unwrap_or_default();
     let scenario = r
         .arms

@@ -194,7 +194,7 @@ pub fn participant_rows(
 /// two arms, and the participants per arm to recruit for power 0.8 and 0.9 (two-sided
 /// alpha 0.05), divided by the lower completion rate of the two.
 pub fn comparisons(arms: &[ArmSpread]) -> Vec<Comparison> {
-    use crate::study::sample_size::{Z_POWER_80, Z_POWER_90, n_per_arm, recruit};
+    use crate::stats::{n_per_arm, recruit};
     let mut out = Vec::new();
     for (i, a) in arms.iter().enumerate() {
         for b in &arms[i + 1..] {
@@ -211,8 +211,8 @@ pub fn comparisons(arms: &[ArmSpread]) -> Vec<Comparison> {
                     mean_difference_kg: delta,
                     sd_kg: sd,
                     completion_rate: completion,
-                    n_per_arm_power80: n(Z_POWER_80),
-                    n_per_arm_power90: n(Z_POWER_90),
+                    n_per_arm_power80: n(0.8),
+                    n_per_arm_power90: n(0.9),
                 });
             }
         }

@@ -13,6 +13,7 @@ use super::{RunMode, run};
 use crate::error::Error;
 use crate::plan::SCENARIO_KEYS;
 use crate::plan::{Participant, Plan};
+use crate::stats::{percentile, percentile_of};
 use crate::study::RmrError;
 use crate::study::Study;
 use rand::rngs::ChaCha8Rng;
@@ -729,17 +730,6 @@ pub fn run_cohort(
 // Summaries
 // ---------------------------------------------------------------------------
 
-/// Percentile `q` (0..=1) of sorted values, linear between order statistics.
-pub fn percentile(sorted: &[f64], q: f64) -> f64 {
-    if sorted.is_empty() {
-        return 0.0;
-    }
-    let h = (sorted.len() - 1) as f64 * q;
-    let lo = h.floor() as usize;
-    let hi = h.ceil() as usize;
-    sorted[lo] + (h - lo as f64) * (sorted[hi] - sorted[lo])
-}
-
 /// Whole minutes counted by value: the percentiles of [`percentile`] without sorting.
 #[derive(Debug, Clone, Default, PartialEq)]
 struct MinuteCounts {
@@ -786,13 +776,7 @@ impl MinuteCounts {
 
     /// As [`percentile`] on the sorted values.
     fn percentile(&self, q: f64) -> f64 {
-        if self.n == 0 {
-            return 0.0;
-        }
-        let h = (self.n - 1) as f64 * q;
-        let (lo, hi) = (h.floor() as u64, h.ceil() as u64);
-        let (a, b) = (self.nth(lo), self.nth(hi));
-        a + (h - lo as f64) * (b - a)
+        percentile_of(self.n as usize, q, |k| self.nth(k as u64))
     }
 }
 

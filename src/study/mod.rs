@@ -12,7 +12,6 @@ pub mod dist;
 pub mod randomise;
 pub mod raw;
 pub mod roster;
-pub mod sample_size;
 pub mod synthetic;
 mod validate;
 
