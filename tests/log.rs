@@ -403,7 +403,7 @@ fn an_as_of_date_outside_the_protocol_is_a_usage_error() {
         assert_eq!(
             e.to_string(),
             format!(
-                "--as-of {as_of} is outside the protocol; give a date from the start 2027-01-04 through the end of follow-up 2027-03-15"
+                "the as-of date {as_of} is outside the protocol; give a date from the start 2027-01-04 through the end of follow-up 2027-03-15"
             )
         );
     }

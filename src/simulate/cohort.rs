@@ -961,6 +961,8 @@ pub struct CohortSummary {
     /// Supervised session-hours of the allocated runs (or every run with `--all-arms`
     /// and no allocation), first scenario.
     pub staff_hours: StaffHours,
+    /// Every pair of arms compared, with the participants per arm to recruit.
+    pub comparisons: Vec<super::arm_comparison::Comparison>,
 }
 
 /// Summarise member results per arm and scenario. Arms are summarised in parallel;
@@ -969,7 +971,7 @@ pub fn summarise(study: &Study, runs: &CohortRuns, req: &CohortRequest) -> Cohor
     let results = &runs.members;
     let tally = &runs.tally;
     let ns = study.scenarios.len();
-    let arms = study
+    let arms: Vec<ArmSpread> = study
         .arms
         .par_iter()
         .enumerate()
@@ -1068,6 +1070,7 @@ pub fn summarise(study: &Study, runs: &CohortRuns, req: &CohortRequest) -> Cohor
         })
         .collect();
     CohortSummary {
+        comparisons: super::arm_comparison::comparisons(&arms),
         arms,
         staff_hours: StaffHours::of(&tally.staff_allocated, f64::from(req.draws.max(1))),
     }
