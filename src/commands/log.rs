@@ -13,9 +13,9 @@ pub fn run(args: &LogAddArgs) -> Result<Printed, Error> {
             args.log.display()
         )));
     }
-    // clap lets `requires = "session"` be met by any member of the group
-    // (clap issue 4707), so a weigh-in's misplaced session options are
-    // refused here instead of being dropped silently.
+    // clap lets `requires = "session"` be met by any member of the required
+    // group, so a weigh-in's misplaced session options are refused here
+    // instead of being dropped silently.
     let session_only = [
         ("--code", args.code.is_some()),
         ("--met", args.met.is_some()),
