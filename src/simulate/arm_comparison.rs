@@ -3,7 +3,7 @@
 //! ([`crate::stats`]). Computed from the cohort's summaries, before any rendering.
 
 use crate::simulate::cohort::ArmSpread;
-use crate::stats::{n_per_arm, recruit};
+use crate::stats::{n_per_arm, power, recruit};
 use serde::Serialize;
 
 /// A pair of arms compared (filled in when uncertainty is simulated).
@@ -23,6 +23,19 @@ pub struct Comparison {
     pub n_per_arm_power80: Option<f64>,
     /// Participants per arm for power 0.9.
     pub n_per_arm_power90: Option<f64>,
+}
+
+impl Comparison {
+    /// Power, percent, with `n` participants recruited per arm, of whom the share
+    /// [`Comparison::completion_rate`] complete (two-sided test of [`crate::stats`]).
+    pub fn power_percent(&self, n: f64) -> f64 {
+        100.0
+            * power(
+                n * self.completion_rate,
+                self.mean_difference_kg,
+                self.sd_kg,
+            )
+    }
 }
 
 /// Every pair of arms in every scenario: the difference in mean mass change at the end

@@ -103,7 +103,6 @@ pub fn cohort_minutes_chart(r: &crate::report::cohort::CohortReport) -> LineChar
 /// arm (first scenario), by the two-sample normal approximation with the simulated
 /// difference and SD (Altman 1991), recruitment divided by the completion rate.
 pub fn cohort_power_chart(r: &crate::report::cohort::CohortReport) -> LineChart {
-    use crate::stats::power;
     let first = r.arms.first().map(|a| a.name.clone()).unwrap_or_default();
     let scenario = r
         .arms
@@ -130,10 +129,7 @@ pub fn cohort_power_chart(r: &crate::report::cohort::CohortReport) -> LineChart 
             points: (0..=100)
                 .map(|i| {
                     let n = top * f64::from(i) / 100.0;
-                    (
-                        n,
-                        100.0 * power(n * c.completion_rate, c.mean_difference_kg, c.sd_kg),
-                    )
+                    (n, c.power_percent(n))
                 })
                 .collect(),
             dashed: false,
