@@ -51,7 +51,7 @@ fn main() {
         "schedule report + JSON render (library)",
         5.0,
         time(100, || {
-            let r = dosewright::app::schedule_report(&plan).expect("simulates");
+            let r = dosewright::commands::schedule::schedule_report(&plan).expect("simulates");
             std::hint::black_box(dosewright::report::json::render(&r));
         }),
     );

@@ -1,7 +1,8 @@
 //! The command line: the clap definition and nothing else.
 
 use chrono::NaiveDate;
-use clap::{Args, Parser, Subcommand, ValueEnum};
+use clap::builder::RangedU64ValueParser;
+use clap::{Args, Parser, Subcommand, ValueEnum, value_parser};
 use std::path::PathBuf;
 
 /// Plan exercise as a dose of energy, re-prescribe session minutes as body mass
@@ -12,6 +13,38 @@ pub struct Cli {
     /// What to do.
     #[command(subcommand)]
     pub command: Command,
+}
+
+/// A number within `lo..=hi` (or, with `open`, strictly between them); `what` words
+/// the range for the message.
+fn float_within(s: &str, lo: f64, hi: f64, open: bool, what: &str) -> Result<f64, String> {
+    let x: f64 = s.trim().parse().map_err(|e| format!("{e}; {what}"))?;
+    let inside = if open {
+        x > lo && x < hi
+    } else {
+        (lo..=hi).contains(&x)
+    };
+    if x.is_finite() && inside {
+        Ok(x)
+    } else {
+        Err(what.to_string())
+    }
+}
+
+/// `--met-min` and `--met-max`: 0 to 25 MET.
+fn met_bound(s: &str) -> Result<f64, String> {
+    float_within(s, 0.0, 25.0, false, "allowed 0 to 25 MET")
+}
+
+/// `--lose-percent`: above 0 and below 100.
+fn loss_percent(s: &str) -> Result<f64, String> {
+    float_within(
+        s,
+        0.0,
+        100.0,
+        true,
+        "allowed above 0 and below 100 (percent of baseline mass)",
+    )
 }
 
 /// Output formats of `schedule`.
@@ -80,66 +113,70 @@ pub enum FitParameterArg {
 #[derive(Debug, Subcommand)]
 pub enum LogAction {
     /// Append one validated row (a weigh-in or a delivered session) to the log.
-    #[command(group = clap::ArgGroup::new("kind").required(true).args(["weigh_in", "session"]))]
-    Add {
-        /// The plan the log belongs to.
-        plan: PathBuf,
-        /// The log file (created with its header if missing).
-        #[arg(long, value_name = "FILE")]
-        log: PathBuf,
-        /// The row's date (YYYY-MM-DD).
-        #[arg(long, value_name = "DATE")]
-        date: NaiveDate,
-        /// A weigh-in: the measured mass, kg.
-        #[arg(long = "weigh-in", value_name = "KG", allow_negative_numbers = true)]
-        weigh_in: Option<f64>,
-        /// With --weigh-in: measured body fat, percent.
-        #[arg(
-            long = "body-fat",
-            value_name = "PERCENT",
-            requires = "weigh_in",
-            allow_negative_numbers = true
-        )]
-        body_fat: Option<f64>,
-        /// A delivered session: its minutes (0 for a missed session).
-        #[arg(long, value_name = "MINUTES", allow_negative_numbers = true)]
-        session: Option<f64>,
-        /// With --session: the activity's compendium code (default: the plan's activity).
-        #[arg(
-            long,
-            value_name = "CODE",
-            requires = "session",
-            conflicts_with = "met"
-        )]
-        code: Option<String>,
-        /// With --session: the activity's MET (default: the plan's activity).
-        #[arg(
-            long,
-            value_name = "MET",
-            requires = "session",
-            allow_negative_numbers = true
-        )]
-        met: Option<f64>,
-        /// With --session: average heart rate, beats/min.
-        #[arg(
-            long,
-            value_name = "BPM",
-            requires = "session",
-            allow_negative_numbers = true
-        )]
-        hr: Option<f64>,
-        /// With --session: Borg RPE, 6-20.
-        #[arg(
-            long,
-            value_name = "RPE",
-            requires = "session",
-            allow_negative_numbers = true
-        )]
-        rpe: Option<f64>,
-        /// A note (one line).
-        #[arg(long, value_name = "TEXT")]
-        note: Option<String>,
-    },
+    Add(LogAddArgs),
+}
+
+/// Append one validated row (a weigh-in or a delivered session) to the log.
+#[derive(Debug, Clone, Args)]
+#[command(group = clap::ArgGroup::new("kind").required(true).args(["weigh_in", "session"]))]
+pub struct LogAddArgs {
+    /// The plan the log belongs to.
+    pub plan: PathBuf,
+    /// The log file (created with its header if missing).
+    #[arg(long, value_name = "FILE")]
+    pub log: PathBuf,
+    /// The row's date (YYYY-MM-DD).
+    #[arg(long, value_name = "DATE")]
+    pub date: NaiveDate,
+    /// A weigh-in: the measured mass, kg.
+    #[arg(long = "weigh-in", value_name = "KG", allow_negative_numbers = true)]
+    pub weigh_in: Option<f64>,
+    /// With --weigh-in: measured body fat, percent.
+    #[arg(
+        long = "body-fat",
+        value_name = "PERCENT",
+        requires = "weigh_in",
+        allow_negative_numbers = true
+    )]
+    pub body_fat: Option<f64>,
+    /// A delivered session: its minutes (0 for a missed session).
+    #[arg(long, value_name = "MINUTES", allow_negative_numbers = true)]
+    pub session: Option<f64>,
+    /// With --session: the activity's compendium code (default: the plan's activity).
+    #[arg(
+        long,
+        value_name = "CODE",
+        requires = "session",
+        conflicts_with = "met"
+    )]
+    pub code: Option<String>,
+    /// With --session: the activity's MET (default: the plan's activity).
+    #[arg(
+        long,
+        value_name = "MET",
+        requires = "session",
+        allow_negative_numbers = true
+    )]
+    pub met: Option<f64>,
+    /// With --session: average heart rate, beats/min.
+    #[arg(
+        long,
+        value_name = "BPM",
+        requires = "session",
+        allow_negative_numbers = true
+    )]
+    pub hr: Option<f64>,
+    /// With --session: Borg RPE, 6-20.
+    #[arg(
+        long,
+        value_name = "RPE",
+        requires = "session",
+        allow_negative_numbers = true
+    )]
+    pub rpe: Option<f64>,
+    /// A note (one line).
+    #[arg(long, value_name = "TEXT")]
+    pub note: Option<String>,
 }
 
 /// The optional participant log of `schedule`, `calendar`, `compare` and `goal`.
@@ -214,8 +251,8 @@ pub struct CohortArgs {
     /// The roster (CSV with columns id, sex, age_years, height_cm, mass_kg, optional ones and arm).
     #[arg(long, value_name = "FILE")]
     pub roster: Option<PathBuf>,
-    /// Draw N participants from the population of the study's synthetic table instead (seeded; arms by permuted blocks).
-    #[arg(long, value_name = "N")]
+    /// Draw N participants (1 to 100000) from the population of the study's synthetic table instead (seeded; arms by permuted blocks).
+    #[arg(long, value_name = "N", value_parser = RangedU64ValueParser::<usize>::new().range(1..=100_000))]
     pub synthetic: Option<usize>,
     /// Assign arms by permuted blocks stratified by sex (for a roster without an arm column).
     #[arg(long)]
@@ -226,11 +263,11 @@ pub struct CohortArgs {
     /// Simulate every participant in every arm (the counterfactual view of the dose effect).
     #[arg(long)]
     pub all_arms: bool,
-    /// Draws per participant.
-    #[arg(long, default_value_t = 1, value_name = "K")]
+    /// Draws per participant (1 to 10000).
+    #[arg(long, default_value_t = 1, value_name = "K", value_parser = value_parser!(u32).range(1..=10_000))]
     pub draws: u32,
-    /// Worker threads (default: RAYON_NUM_THREADS, else one per core).
-    #[arg(long, value_name = "N")]
+    /// Worker threads, 1 to 256 (default: RAYON_NUM_THREADS, else one per core).
+    #[arg(long, value_name = "N", value_parser = RangedU64ValueParser::<usize>::new().range(1..=256))]
     pub threads: Option<usize>,
     /// The integrator.
     #[arg(long, value_enum, default_value_t = IntegratorArg::Rk4)]
@@ -259,184 +296,17 @@ pub struct CohortArgs {
 #[derive(Debug, Subcommand)]
 pub enum Command {
     /// Print the dated, week-by-week re-prescribed session schedule and the projected outcome.
-    Schedule {
-        /// The plan file (TOML). Without one, a built-in demo plan runs.
-        plan: Option<PathBuf>,
-        /// Whose schedule the table shows (default: the first scenario; CSV and JSON carry every scenario).
-        #[arg(long)]
-        scenario: Option<String>,
-        /// Output format.
-        #[arg(long, value_enum, default_value_t = FormatArg::Table)]
-        format: FormatArg,
-        /// Write the output to this file (atomically) instead of standard output.
-        #[arg(long, value_name = "FILE")]
-        out: Option<PathBuf>,
-        /// Also write SVG charts into this folder.
-        #[arg(long, value_name = "DIR")]
-        chart: Option<PathBuf>,
-        /// The participant log to re-plan from.
-        #[command(flatten)]
-        logged: LogArgs,
-        /// Display units.
-        #[command(flatten)]
-        display: DisplayArgs,
-    },
+    Schedule(ScheduleArgs),
     /// Write the planned sessions as an iCalendar file (.ics), one event per session or bout.
-    Calendar {
-        /// The plan file (TOML). Without one, a built-in demo plan runs.
-        plan: Option<PathBuf>,
-        /// Whose sessions the calendar holds (default: the first scenario).
-        #[arg(long)]
-        scenario: Option<String>,
-        /// The calendar file to write (atomically), e.g. sessions.ics.
-        #[arg(long, value_name = "FILE")]
-        out: PathBuf,
-        /// DTSTAMP of every event, RFC 3339 in UTC or with an offset (default: the protocol start, 00:00 UTC).
-        #[arg(long, value_name = "DATETIME")]
-        stamp: Option<String>,
-        /// Only sessions on or after this date (YYYY-MM-DD).
-        #[arg(long, value_name = "DATE")]
-        from: Option<NaiveDate>,
-        /// Only sessions on or before this date (YYYY-MM-DD).
-        #[arg(long, value_name = "DATE")]
-        to: Option<NaiveDate>,
-        /// The participant log to re-plan from.
-        #[command(flatten)]
-        logged: LogArgs,
-        /// Display units of the event descriptions.
-        #[command(flatten)]
-        display: DisplayArgs,
-    },
+    Calendar(CalendarArgs),
     /// Print weekly session sheets for the supervising trainer: one page per week.
-    #[command(group = clap::ArgGroup::new("weeks").required(true).args(["week", "from"]))]
-    Sheets {
-        /// The plan file (TOML). Without one, the built-in demo plan runs.
-        plan: Option<PathBuf>,
-        /// The protocol week to print.
-        #[arg(long, value_name = "N")]
-        week: Option<u32>,
-        /// Print every protocol week that overlaps --from to --to (YYYY-MM-DD).
-        #[arg(long, value_name = "DATE", requires = "to")]
-        from: Option<NaiveDate>,
-        /// The last date of the range (YYYY-MM-DD), with --from.
-        #[arg(long, value_name = "DATE", requires = "from")]
-        to: Option<NaiveDate>,
-        /// Whose minutes the sheets show (default: the first scenario).
-        #[arg(long)]
-        scenario: Option<String>,
-        /// Output format.
-        #[arg(long, value_enum, default_value_t = SheetsFormat::Html)]
-        format: SheetsFormat,
-        /// Write the sheets to this file (atomically); required with --format html.
-        #[arg(long, value_name = "FILE")]
-        out: Option<PathBuf>,
-        /// The paper the HTML asks the browser for (the layout fits both).
-        #[arg(long, value_enum, default_value_t = PaperArg::A4)]
-        paper: PaperArg,
-        /// The participant log to re-plan from.
-        #[command(flatten)]
-        logged: LogArgs,
-        /// PLAN is a study file: print every participant of this roster in its arm, in roster order.
-        #[arg(long, value_name = "FILE", requires = "plan", conflicts_with = "log")]
-        roster: Option<PathBuf>,
-        /// With --roster: assign arms by permuted blocks stratified by sex (as `cohort --randomise`).
-        #[arg(long, requires = "roster")]
-        randomise: bool,
-        /// With --roster --randomise: the random seed.
-        #[arg(long, requires = "randomise", default_value_t = DEFAULT_SEED)]
-        seed: u64,
-        /// Display units.
-        #[command(flatten)]
-        display: DisplayArgs,
-    },
+    Sheets(SheetsArgs),
     /// Compare every scenario side by side at checkpoint weeks, optionally for several doses.
-    Compare {
-        /// The plan file (TOML).
-        plan: PathBuf,
-        /// Add a checkpoint week (repeatable); weeks 4, 12, 26 and the ends are always shown.
-        #[arg(long = "at-week", value_name = "N")]
-        at_week: Vec<u32>,
-        /// Add a scenario without editing the plan: "NAME:key=value,key=value" (repeatable).
-        #[arg(long = "add-scenario", value_name = "SPEC")]
-        add_scenario: Vec<String>,
-        /// A dose-response table for these doses, in the plan's dose unit: e.g. 4,8,12,16.
-        #[arg(long, value_name = "LIST", value_delimiter = ',')]
-        doses: Vec<f64>,
-        /// Output format.
-        #[arg(long, value_enum, default_value_t = CompareFormat::Table)]
-        format: CompareFormat,
-        /// Write the output to this file (atomically) instead of standard output.
-        #[arg(long, value_name = "FILE")]
-        out: Option<PathBuf>,
-        /// Also write SVG charts into this folder.
-        #[arg(long, value_name = "DIR")]
-        chart: Option<PathBuf>,
-        /// The participant log to re-plan from.
-        #[command(flatten)]
-        logged: LogArgs,
-        /// Display units.
-        #[command(flatten)]
-        display: DisplayArgs,
-    },
+    Compare(CompareArgs),
     /// Find, per scenario, the smallest dose of the plan's kind that reaches a loss by a week.
-    #[command(group = clap::ArgGroup::new("loss").required(true).args(["lose_kg", "lose_percent"]))]
-    Goal {
-        /// The plan file (TOML).
-        plan: PathBuf,
-        /// Loss wanted, kg.
-        #[arg(long, value_name = "KG", allow_negative_numbers = true)]
-        lose_kg: Option<f64>,
-        /// Loss wanted, percent of baseline mass.
-        #[arg(long, value_name = "PERCENT", allow_negative_numbers = true)]
-        lose_percent: Option<f64>,
-        /// By the end of this protocol week.
-        #[arg(long, value_name = "N")]
-        by_week: u32,
-        /// Add a scenario without editing the plan: "NAME:key=value,key=value" (repeatable).
-        #[arg(long = "add-scenario", value_name = "SPEC")]
-        add_scenario: Vec<String>,
-        /// Output format.
-        #[arg(long, value_enum, default_value_t = GoalFormat::Table)]
-        format: GoalFormat,
-        /// Write the output to this file (atomically) instead of standard output.
-        #[arg(long, value_name = "FILE")]
-        out: Option<PathBuf>,
-        /// The participant log to re-plan from.
-        #[command(flatten)]
-        logged: LogArgs,
-        /// Display units.
-        #[command(flatten)]
-        display: DisplayArgs,
-    },
+    Goal(GoalArgs),
     /// Estimate from the log's weigh-ins how much of the dose is not reaching the stores.
-    Fit {
-        /// The plan file (TOML).
-        plan: PathBuf,
-        /// The participant log (CSV).
-        #[arg(long, value_name = "FILE")]
-        log: PathBuf,
-        /// Use the log up to this date (YYYY-MM-DD; default: the log's last date).
-        #[arg(long = "as-of", value_name = "DATE")]
-        as_of: Option<NaiveDate>,
-        /// Which scenario parameter to estimate.
-        #[arg(long, value_enum, default_value_t = FitParameterArg::IntakeFraction)]
-        parameter: FitParameterArg,
-        /// Whose other assumptions are held (default: the first scenario).
-        #[arg(long)]
-        scenario: Option<String>,
-        /// Output format.
-        #[arg(long, value_enum, default_value_t = GoalFormat::Table)]
-        format: GoalFormat,
-        /// Write the output to this file (atomically) instead of standard output.
-        #[arg(long, value_name = "FILE")]
-        out: Option<PathBuf>,
-        /// Also write the measured-against-modelled chart (SVG) into this folder.
-        #[arg(long, value_name = "DIR")]
-        chart: Option<PathBuf>,
-        /// Display units.
-        #[command(flatten)]
-        display: DisplayArgs,
-    },
+    Fit(FitArgs),
     /// Keep the participant log: weigh-ins and delivered sessions.
     Log {
         /// What to do with the log.
@@ -444,33 +314,236 @@ pub enum Command {
         action: LogAction,
     },
     /// Validate a plan and print its resolved assumptions.
-    Check {
-        /// The plan file (TOML).
-        plan: PathBuf,
-        /// Display units.
-        #[command(flatten)]
-        display: DisplayArgs,
-    },
+    Check(CheckArgs),
     /// Write a commented starter plan (to FILE, or to standard output).
-    Init {
-        /// Where to write it; an existing file is never overwritten.
-        file: Option<PathBuf>,
-    },
+    Init(InitArgs),
     /// Simulate a study's cohort: every participant in its arm (or every arm), summarised per arm.
     #[command(group = clap::ArgGroup::new("who").required(true).args(["roster", "synthetic"]))]
     Cohort(CohortArgs),
     /// List or search the built-in activity table and show the ACSM equations.
-    Activities {
-        /// A code (or its first digits) or words of the label, e.g. "cycling".
-        text: Option<String>,
-        /// Lowest MET to list.
-        #[arg(long, value_name = "MET")]
-        met_min: Option<f64>,
-        /// Highest MET to list.
-        #[arg(long, value_name = "MET")]
-        met_max: Option<f64>,
-        /// Units of the equations' speed ranges.
-        #[arg(long, value_enum, default_value_t = UnitsArg::Metric)]
-        units: UnitsArg,
-    },
+    Activities(ActivitiesArgs),
+}
+
+/// Print the dated, week-by-week re-prescribed session schedule and the projected outcome.
+#[derive(Debug, Clone, Args)]
+pub struct ScheduleArgs {
+    /// The plan file (TOML). Without one, a built-in demo plan runs.
+    pub plan: Option<PathBuf>,
+    /// Whose schedule the table shows (default: the first scenario; CSV and JSON carry every scenario).
+    #[arg(long)]
+    pub scenario: Option<String>,
+    /// Output format.
+    #[arg(long, value_enum, default_value_t = FormatArg::Table)]
+    pub format: FormatArg,
+    /// Write the output to this file (atomically) instead of standard output.
+    #[arg(long, value_name = "FILE")]
+    pub out: Option<PathBuf>,
+    /// Also write SVG charts into this folder.
+    #[arg(long, value_name = "DIR")]
+    pub chart: Option<PathBuf>,
+    /// The participant log to re-plan from.
+    #[command(flatten)]
+    pub logged: LogArgs,
+    /// Display units.
+    #[command(flatten)]
+    pub display: DisplayArgs,
+}
+
+/// Write the planned sessions as an iCalendar file (.ics), one event per session or bout.
+#[derive(Debug, Clone, Args)]
+pub struct CalendarArgs {
+    /// The plan file (TOML). Without one, a built-in demo plan runs.
+    pub plan: Option<PathBuf>,
+    /// Whose sessions the calendar holds (default: the first scenario).
+    #[arg(long)]
+    pub scenario: Option<String>,
+    /// The calendar file to write (atomically), e.g. sessions.ics.
+    #[arg(long, value_name = "FILE")]
+    pub out: PathBuf,
+    /// DTSTAMP of every event, RFC 3339 in UTC or with an offset (default: the protocol start, 00:00 UTC).
+    #[arg(long, value_name = "DATETIME")]
+    pub stamp: Option<String>,
+    /// Only sessions on or after this date (YYYY-MM-DD).
+    #[arg(long, value_name = "DATE")]
+    pub from: Option<NaiveDate>,
+    /// Only sessions on or before this date (YYYY-MM-DD).
+    #[arg(long, value_name = "DATE")]
+    pub to: Option<NaiveDate>,
+    /// The participant log to re-plan from.
+    #[command(flatten)]
+    pub logged: LogArgs,
+    /// Display units of the event descriptions.
+    #[command(flatten)]
+    pub display: DisplayArgs,
+}
+
+/// Print weekly session sheets for the supervising trainer: one page per week.
+#[derive(Debug, Clone, Args)]
+#[command(group = clap::ArgGroup::new("weeks").required(true).args(["week", "from"]))]
+pub struct SheetsArgs {
+    /// The plan file (TOML). Without one, the built-in demo plan runs.
+    pub plan: Option<PathBuf>,
+    /// The protocol week to print.
+    #[arg(long, value_name = "N")]
+    pub week: Option<u32>,
+    /// Print every protocol week that overlaps --from to --to (YYYY-MM-DD).
+    #[arg(long, value_name = "DATE", requires = "to")]
+    pub from: Option<NaiveDate>,
+    /// The last date of the range (YYYY-MM-DD), with --from.
+    #[arg(long, value_name = "DATE", requires = "from")]
+    pub to: Option<NaiveDate>,
+    /// Whose minutes the sheets show (default: the first scenario).
+    #[arg(long)]
+    pub scenario: Option<String>,
+    /// Output format.
+    #[arg(long, value_enum, default_value_t = SheetsFormat::Html)]
+    pub format: SheetsFormat,
+    /// Write the sheets to this file (atomically); required with --format html.
+    #[arg(long, value_name = "FILE")]
+    pub out: Option<PathBuf>,
+    /// The paper the HTML asks the browser for (the layout fits both).
+    #[arg(long, value_enum, default_value_t = PaperArg::A4)]
+    pub paper: PaperArg,
+    /// The participant log to re-plan from.
+    #[command(flatten)]
+    pub logged: LogArgs,
+    /// PLAN is a study file: print every participant of this roster in its arm, in roster order.
+    #[arg(long, value_name = "FILE", requires = "plan", conflicts_with = "log")]
+    pub roster: Option<PathBuf>,
+    /// With --roster: assign arms by permuted blocks stratified by sex (as `cohort --randomise`).
+    #[arg(long, requires = "roster")]
+    pub randomise: bool,
+    /// With --roster --randomise: the random seed.
+    #[arg(long, requires = "randomise", default_value_t = DEFAULT_SEED)]
+    pub seed: u64,
+    /// Display units.
+    #[command(flatten)]
+    pub display: DisplayArgs,
+}
+
+/// Compare every scenario side by side at checkpoint weeks, optionally for several doses.
+#[derive(Debug, Clone, Args)]
+pub struct CompareArgs {
+    /// The plan file (TOML).
+    pub plan: PathBuf,
+    /// Add a checkpoint week (repeatable); weeks 4, 12, 26 and the ends are always shown.
+    #[arg(long = "at-week", value_name = "N")]
+    pub at_week: Vec<u32>,
+    /// Add a scenario without editing the plan: "NAME:key=value,key=value" (repeatable).
+    #[arg(long = "add-scenario", value_name = "SPEC")]
+    pub add_scenario: Vec<String>,
+    /// A dose-response table for these doses, in the plan's dose unit: e.g. 4,8,12,16.
+    #[arg(long, value_name = "LIST", value_delimiter = ',')]
+    pub doses: Vec<f64>,
+    /// Output format.
+    #[arg(long, value_enum, default_value_t = CompareFormat::Table)]
+    pub format: CompareFormat,
+    /// Write the output to this file (atomically) instead of standard output.
+    #[arg(long, value_name = "FILE")]
+    pub out: Option<PathBuf>,
+    /// Also write SVG charts into this folder.
+    #[arg(long, value_name = "DIR")]
+    pub chart: Option<PathBuf>,
+    /// The participant log to re-plan from.
+    #[command(flatten)]
+    pub logged: LogArgs,
+    /// Display units.
+    #[command(flatten)]
+    pub display: DisplayArgs,
+}
+
+/// Find, per scenario, the smallest dose of the plan's kind that reaches a loss by a week.
+#[derive(Debug, Clone, Args)]
+#[command(group = clap::ArgGroup::new("loss").required(true).args(["lose_kg", "lose_percent"]))]
+pub struct GoalArgs {
+    /// The plan file (TOML).
+    pub plan: PathBuf,
+    /// Loss wanted, kg.
+    #[arg(long, value_name = "KG", allow_negative_numbers = true)]
+    pub lose_kg: Option<f64>,
+    /// Loss wanted, percent of baseline mass (above 0 and below 100).
+    #[arg(long, value_name = "PERCENT", allow_negative_numbers = true, value_parser = loss_percent)]
+    pub lose_percent: Option<f64>,
+    /// By the end of this protocol week.
+    #[arg(long, value_name = "N")]
+    pub by_week: u32,
+    /// Add a scenario without editing the plan: "NAME:key=value,key=value" (repeatable).
+    #[arg(long = "add-scenario", value_name = "SPEC")]
+    pub add_scenario: Vec<String>,
+    /// Output format.
+    #[arg(long, value_enum, default_value_t = GoalFormat::Table)]
+    pub format: GoalFormat,
+    /// Write the output to this file (atomically) instead of standard output.
+    #[arg(long, value_name = "FILE")]
+    pub out: Option<PathBuf>,
+    /// The participant log to re-plan from.
+    #[command(flatten)]
+    pub logged: LogArgs,
+    /// Display units.
+    #[command(flatten)]
+    pub display: DisplayArgs,
+}
+
+/// Estimate from the log's weigh-ins how much of the dose is not reaching the stores.
+#[derive(Debug, Clone, Args)]
+pub struct FitArgs {
+    /// The plan file (TOML).
+    pub plan: PathBuf,
+    /// The participant log (CSV).
+    #[arg(long, value_name = "FILE")]
+    pub log: PathBuf,
+    /// Use the log up to this date (YYYY-MM-DD; default: the log's last date).
+    #[arg(long = "as-of", value_name = "DATE")]
+    pub as_of: Option<NaiveDate>,
+    /// Which scenario parameter to estimate.
+    #[arg(long, value_enum, default_value_t = FitParameterArg::IntakeFraction)]
+    pub parameter: FitParameterArg,
+    /// Whose other assumptions are held (default: the first scenario).
+    #[arg(long)]
+    pub scenario: Option<String>,
+    /// Output format.
+    #[arg(long, value_enum, default_value_t = GoalFormat::Table)]
+    pub format: GoalFormat,
+    /// Write the output to this file (atomically) instead of standard output.
+    #[arg(long, value_name = "FILE")]
+    pub out: Option<PathBuf>,
+    /// Also write the measured-against-modelled chart (SVG) into this folder.
+    #[arg(long, value_name = "DIR")]
+    pub chart: Option<PathBuf>,
+    /// Display units.
+    #[command(flatten)]
+    pub display: DisplayArgs,
+}
+
+/// Validate a plan and print its resolved assumptions.
+#[derive(Debug, Clone, Args)]
+pub struct CheckArgs {
+    /// The plan file (TOML).
+    pub plan: PathBuf,
+    /// Display units.
+    #[command(flatten)]
+    pub display: DisplayArgs,
+}
+
+/// Write a commented starter plan (to FILE, or to standard output).
+#[derive(Debug, Clone, Args)]
+pub struct InitArgs {
+    /// Where to write it; an existing file is never overwritten.
+    pub file: Option<PathBuf>,
+}
+
+/// List or search the built-in activity table and show the ACSM equations.
+#[derive(Debug, Clone, Args)]
+pub struct ActivitiesArgs {
+    /// A code (or its first digits) or words of the label, e.g. "cycling".
+    pub text: Option<String>,
+    /// Lowest MET to list (0 to 25).
+    #[arg(long, value_name = "MET", allow_negative_numbers = true, value_parser = met_bound)]
+    pub met_min: Option<f64>,
+    /// Highest MET to list (0 to 25).
+    #[arg(long, value_name = "MET", allow_negative_numbers = true, value_parser = met_bound)]
+    pub met_max: Option<f64>,
+    /// Units of the equations' speed ranges.
+    #[arg(long, value_enum, default_value_t = UnitsArg::Metric)]
+    pub units: UnitsArg,
 }

@@ -11,8 +11,8 @@
 #![warn(missing_docs)]
 
 pub mod activity;
-pub mod app;
 pub mod cli;
+pub mod commands;
 pub mod error;
 pub mod files;
 pub mod log;
@@ -21,6 +21,7 @@ pub mod plan;
 pub mod report;
 pub mod safety;
 pub mod simulate;
+pub mod stats;
 pub mod study;
 
 pub use error::Error;

@@ -6,7 +6,7 @@ use std::process::ExitCode;
 
 fn main() -> ExitCode {
     let cli = dosewright::cli::Cli::parse();
-    match dosewright::app::run(&cli.command) {
+    match dosewright::commands::run(&cli.command) {
         Ok(printed) => {
             let mut out = std::io::stdout().lock();
             // A closed pipe (e.g. `| head`) is not an error worth a panic.

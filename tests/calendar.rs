@@ -485,7 +485,7 @@ fn the_demo_plan_gives_all_day_events_with_the_minutes_in_the_title() {
 fn the_calendar_carries_the_target_and_the_cautions() {
     let dir = with_plan(EX206, "ex-206.toml");
     let cal = parse(std::str::from_utf8(&calendar(&dir, &["ex-206.toml"])).unwrap());
-    let report = dosewright::app::schedule_report(
+    let report = dosewright::commands::schedule::schedule_report(
         &dosewright::plan::load_plan(&manifest_dir().join(EX206)).unwrap(),
     )
     .unwrap();

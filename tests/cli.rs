@@ -1700,11 +1700,11 @@ fn activities_refuses_an_impossible_met_range() {
         ),
         (
             &["activities", "--met-min", "30"][..],
-            "error: --met-min 30: allowed 0 to 25 MET\n",
+            "error: invalid value '30' for '--met-min <MET>': allowed 0 to 25 MET\n\nFor more information, try '--help'.\n",
         ),
         (
             &["activities", "--met-max", "nan"][..],
-            "error: --met-max NaN: allowed 0 to 25 MET\n",
+            "error: invalid value 'nan' for '--met-max <MET>': allowed 0 to 25 MET\n\nFor more information, try '--help'.\n",
         ),
     ] {
         let r = run(dosewright().args(args));

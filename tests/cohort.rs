@@ -14,10 +14,11 @@ mod common;
 use common::*;
 use dosewright::model::Sex;
 use dosewright::simulate::cohort::{
-    CohortRequest, Member, Spread, percentile, run_cohort, simulate_member, summarise,
+    CohortRequest, Member, Spread, run_cohort, simulate_member, summarise,
 };
 use dosewright::simulate::integrate::Integrator;
 use dosewright::simulate::{RunMode, calibrated, run as sim_run, simulate};
+use dosewright::stats::percentile;
 use dosewright::study::randomise::permuted_blocks;
 use dosewright::study::roster::parse_roster;
 use dosewright::study::{Study, parse_study, synthetic};
@@ -1053,7 +1054,7 @@ fn assert_cohort_json_contract(j: &Value) {
         ] {
             assert!(c.get(k).is_some(), "comparisons: {k}");
         }
-        // At least two completers per arm, more with drop-out (src/study/sample_size.rs).
+        // At least two completers per arm, more with drop-out (src/stats.rs).
         for k in ["n_per_arm_power80", "n_per_arm_power90"] {
             assert!(
                 c[k].is_null() || c[k].as_f64().is_some_and(|n| n >= 2.0),
@@ -1450,7 +1451,7 @@ fn bad_runs() -> Vec<Bad> {
                 "{H},arm\nR-1,female,40,165,80,control\nR-2,male,50,175,90,\nR-3,male,52,172,88,control\n"
             ),
             &[],
-            "roster.csv:3: arm: empty while other rows give an arm; give every participant an arm, or leave the column empty everywhere and use --randomise",
+            "roster.csv:3: arm: empty while other rows give an arm; give every participant an arm, or leave the column empty everywhere and have the arms randomised",
         ),
         bad_roster(
             "not_a_number",
@@ -1687,7 +1688,7 @@ fn bad_requests_exit_with_code_2() {
     for (args, msg) in [
         (
             &[PILOT, "--synthetic", "0"][..],
-            "error: --synthetic 0: allowed 1 to 100000 participants\n",
+            "error: invalid value '0' for '--synthetic <N>': 0 is not in 1..=100000\n\nFor more information, try '--help'.\n",
         ),
         (
             &[PILOT, "--roster", PILOT_ALLOCATED, "--at-week", "37"][..],
@@ -1695,11 +1696,11 @@ fn bad_requests_exit_with_code_2() {
         ),
         (
             &[PILOT, "--roster", PILOT_ALLOCATED, "--threads", "0"][..],
-            "error: --threads 0: allowed 1 to 256\n",
+            "error: invalid value '0' for '--threads <N>': 0 is not in 1..=256\n\nFor more information, try '--help'.\n",
         ),
         (
             &[PILOT, "--roster", PILOT_ALLOCATED, "--draws", "0"][..],
-            "error: --draws 0: allowed 1 to 10000 draws per participant\n",
+            "error: invalid value '0' for '--draws <K>': 0 is not in 1..=10000\n\nFor more information, try '--help'.\n",
         ),
         (
             &[

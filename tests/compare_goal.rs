@@ -6,7 +6,7 @@
 //! Numbers come from library calls; command-line behaviour from the real binary.
 //! Every participant here is invented and goes by a pseudonymous code.
 
-use dosewright::app::{compare_report, with_added_scenarios};
+use dosewright::commands::compare::{compare_report, with_added_scenarios};
 use dosewright::model::energy::calibrate;
 use dosewright::model::{BodyState, Bout, Compensation};
 use dosewright::plan::{Plan, parse_plan};
@@ -828,11 +828,17 @@ fn goal_invalid_requests_exit_2_with_a_clear_message() {
     );
     g(
         &["--lose-percent", "150", "--by-week", "8"],
-        &["--lose-percent 150", "below 100"],
+        &[
+            "invalid value '150' for '--lose-percent <PERCENT>'",
+            "below 100",
+        ],
     );
     g(
         &["--lose-percent", "0", "--by-week", "8"],
-        &["--lose-percent 0", "above 0"],
+        &[
+            "invalid value '0' for '--lose-percent <PERCENT>'",
+            "above 0",
+        ],
     );
     // Both, and neither: clap refuses them (exit 2, usage on stderr).
     g(

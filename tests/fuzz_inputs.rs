@@ -10,7 +10,8 @@
 //! failure prints). Participants are invented (pseudonymous codes FZ-xx).
 
 use dosewright::Error;
-use dosewright::app::{LogInput, schedule_report_logged, schedule_report_with_band};
+use dosewright::commands::LogInput;
+use dosewright::commands::schedule::{schedule_report_logged, schedule_report_with_band};
 use dosewright::log::{load_log, parse_log};
 use dosewright::plan::{Plan, load_plan, parse_plan};
 use dosewright::report::ScheduleReport;

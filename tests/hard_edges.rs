@@ -2358,7 +2358,7 @@ fn unscreened_plan() -> String {
 /// The screening recommendation the library gives for `plan`.
 fn recommendation(plan: &str) -> String {
     let p = dosewright::plan::parse_plan("plan.toml", plan).expect("a valid plan");
-    dosewright::app::schedule_report(&p)
+    dosewright::commands::schedule::schedule_report(&p)
         .expect("the plan simulates")
         .screening
         .recommendation

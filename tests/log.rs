@@ -384,7 +384,7 @@ fn rows_after_as_of_are_an_error() {
     let e = parse_log("log.csv", &text, &plan(), Some(date("2027-01-10"))).unwrap_err();
     assert_eq!(
         e.to_string(),
-        "log.csv:3:1: date: date 2027-01-20 is after the as-of date 2027-01-10; the log may hold no rows after it: give a later --as-of, or none to read the whole log"
+        "log.csv:3:1: date: date 2027-01-20 is after the as-of date 2027-01-10; the log may hold no rows after it: give a later as-of date, or none to read the whole log"
     );
     assert_eq!(e.exit_code(), 2);
     // The last date itself, or any later date, is fine.
@@ -403,7 +403,7 @@ fn an_as_of_date_outside_the_protocol_is_a_usage_error() {
         assert_eq!(
             e.to_string(),
             format!(
-                "--as-of {as_of} is outside the protocol; give a date from the start 2027-01-04 through the end of follow-up 2027-03-15"
+                "the as-of date {as_of} is outside the protocol; give a date from the start 2027-01-04 through the end of follow-up 2027-03-15"
             )
         );
     }

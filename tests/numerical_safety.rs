@@ -8,7 +8,7 @@
 
 use chrono::NaiveDate;
 use dosewright::Error;
-use dosewright::app::schedule_report_with_band;
+use dosewright::commands::schedule::schedule_report_with_band;
 use dosewright::error::RangeError;
 use dosewright::model::energy::{MINUTES_PER_DAY, calibrate};
 use dosewright::plan::{Plan, parse_plan};

@@ -9,7 +9,8 @@ mod common;
 
 use chrono::{Datelike, NaiveDate, Weekday};
 use common::*;
-use dosewright::app::{LogInput, WeekSelection, sheet_input, sheet_weeks};
+use dosewright::commands::LogInput;
+use dosewright::commands::sheets::{WeekSelection, sheet_input, sheet_weeks};
 use dosewright::plan::parse_plan;
 use dosewright::report::sheets::{self, Paper, SheetInput};
 use dosewright::safety::CAUTIONS;
@@ -530,7 +531,7 @@ fn week_selection() {
         "--from 2027-05-24 --to 2027-06-30: no exercise week overlaps these dates; the exercise weeks of ex-206-rotation-heart-rate.toml run from Mon 2027-03-01 (week 1) to Sun 2027-05-23 (week 12)"
     );
     // The demo's follow-up weeks are named as such.
-    let demo = dosewright::app::load(None).unwrap();
+    let demo = dosewright::commands::load(None).unwrap();
     assert_eq!(
         sheet_weeks(&demo, WeekSelection::Week(30))
             .unwrap_err()
@@ -542,7 +543,7 @@ fn week_selection() {
 #[test]
 fn several_participants_print_into_one_file_in_roster_order() {
     let example = parse_plan(EXAMPLE_NAME, example_text()).unwrap();
-    let demo = dosewright::app::load(None).unwrap();
+    let demo = dosewright::commands::load(None).unwrap();
     let input = |plan, weeks| -> SheetInput {
         sheet_input(plan, &LogInput::default(), None, weeks)
             .unwrap()

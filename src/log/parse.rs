@@ -248,7 +248,7 @@ pub(super) fn parse(
         && (d < start || d > end)
     {
         return Err(Error::Usage(format!(
-            "--as-of {d} is outside the protocol; give a date from the start {start} through the end of follow-up {end}"
+            "the as-of date {d} is outside the protocol; give a date from the start {start} through the end of follow-up {end}"
         )));
     }
     let mut cx = Cx {
@@ -591,7 +591,7 @@ impl Cx<'_> {
                 line,
                 DATE,
                 format!(
-                    "date {date} is after the as-of date {as_of}; the log may hold no rows after it: give a later --as-of, or none to read the whole log"
+                    "date {date} is after the as-of date {as_of}; the log may hold no rows after it: give a later as-of date, or none to read the whole log"
                 ),
             ));
         }

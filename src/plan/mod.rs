@@ -497,7 +497,7 @@ impl Compensation {
 pub fn parse_scenario_spec(spec: &str) -> Result<Scenario, crate::Error> {
     let usage = |msg: String| {
         crate::Error::Usage(format!(
-            "--add-scenario \"{spec}\": {msg}; write NAME:key=value,key=value with keys {}",
+            "\"{spec}\": {msg}; write NAME:key=value,key=value with keys {}",
             SCENARIO_KEYS
                 .iter()
                 .map(|k| k.0)

@@ -81,25 +81,6 @@ pub fn uid(participant_id: &str, plan_file: &str, date: NaiveDate, index: u32) -
     )
 }
 
-/// Parse `--stamp`: an RFC 3339 date-time (`2027-03-01T08:00:00Z`, or with an
-/// offset, which is turned into UTC) or the iCalendar UTC form
-/// (`20270301T080000Z`). Whole seconds only: DTSTAMP has no fraction (3.8.7.2).
-pub fn parse_stamp(text: &str) -> Result<DateTime<Utc>, Error> {
-    let t = text.trim();
-    let parsed = DateTime::parse_from_rfc3339(t)
-        .map(|d| d.with_timezone(&Utc))
-        .or_else(|_| NaiveDateTime::parse_from_str(t, "%Y%m%dT%H%M%SZ").map(|d| d.and_utc()));
-    match parsed {
-        Ok(d) if d.timestamp_subsec_nanos() != 0 => Err(Error::Usage(format!(
-            "--stamp {text}: a fraction of a second is not allowed; give whole seconds such as 2027-03-01T08:00:00Z"
-        ))),
-        Ok(d) => Ok(d),
-        Err(_) => Err(Error::Usage(format!(
-            "--stamp {text}: not a date-time; give an RFC 3339 date-time such as 2027-03-01T08:00:00Z (or with an offset, 2027-03-01T09:00:00+01:00)"
-        ))),
-    }
-}
-
 /// The sessions of `plan` dated from `from` through `to` (either open), weeks left
 /// without a session dropped.
 pub fn within(plan: &SessionPlan, from: Option<NaiveDate>, to: Option<NaiveDate>) -> SessionPlan {
@@ -548,26 +529,6 @@ mod tests {
             refold(text),
             "BEGIN:VCALENDAR\r\nSUMMARY:abcd\r\nEND:VCALENDAR\r\n"
         );
-    }
-
-    #[test]
-    fn stamps_in_both_forms_and_bad_ones() {
-        let want = NaiveDate::from_ymd_opt(2027, 3, 1)
-            .unwrap()
-            .and_hms_opt(8, 0, 0)
-            .unwrap()
-            .and_utc();
-        assert_eq!(parse_stamp("2027-03-01T08:00:00Z").unwrap(), want);
-        assert_eq!(parse_stamp("2027-03-01T09:00:00+01:00").unwrap(), want);
-        assert_eq!(parse_stamp("20270301T080000Z").unwrap(), want);
-        for bad in [
-            "2027-03-01",
-            "tomorrow",
-            "2027-02-30T08:00:00Z",
-            "2027-03-01T08:00:00.5Z",
-        ] {
-            assert!(parse_stamp(bad).is_err(), "{bad}");
-        }
     }
 
     #[test]

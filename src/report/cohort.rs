@@ -11,24 +11,7 @@ use crate::simulate::cohort::{ArmSpread, CohortSummary, MemberResult, Spread, St
 use crate::study::Study;
 use serde::Serialize;
 
-/// A pair of arms compared (filled in when uncertainty is simulated).
-#[derive(Debug, Clone, PartialEq, Serialize)]
-pub struct Comparison {
-    /// The two arms.
-    pub arms: [String; 2],
-    /// Scenario.
-    pub scenario: String,
-    /// Mean difference in mass change, kg (second minus first).
-    pub mean_difference_kg: f64,
-    /// Pooled SD of mass change of the two arms, kg.
-    pub sd_kg: f64,
-    /// The lower expected completion rate of the two arms.
-    pub completion_rate: f64,
-    /// Participants per arm for power 0.8.
-    pub n_per_arm_power80: Option<f64>,
-    /// Participants per arm for power 0.9.
-    pub n_per_arm_power90: Option<f64>,
-}
+pub use crate::simulate::arm_comparison::Comparison;
 
 /// Everything `cohort` reports.
 #[derive(Debug, Clone, PartialEq, Serialize)]
@@ -189,41 +172,10 @@ pub fn participant_rows(
     rows
 }
 
-/// Every pair of arms in every scenario: the difference in mean mass change at the end
-/// of the protocol (intention to treat, second arm minus first), the pooled SD of the
-/// two arms, and the participants per arm to recruit for power 0.8 and 0.9 (two-sided
-/// alpha 0.05), divided by the lower completion rate of the two.
-pub fn comparisons(arms: &[ArmSpread]) -> Vec<Comparison> {
-    use crate::study::sample_size::{Z_POWER_80, Z_POWER_90, n_per_arm, recruit};
-    let mut out = Vec::new();
-    for (i, a) in arms.iter().enumerate() {
-        for b in &arms[i + 1..] {
-            for (sa, sb) in a.scenarios.iter().zip(&b.scenarios) {
-                let delta = sb.mass_change_kg.mean - sa.mass_change_kg.mean;
-                let sd =
-                    ((sa.mass_change_kg.sd.powi(2) + sb.mass_change_kg.sd.powi(2)) / 2.0).sqrt();
-                let rate = |x: &ArmSpread| x.completing / (x.participants.max(1) as f64);
-                let completion = rate(a).min(rate(b));
-                let n = |z| n_per_arm(delta, sd, z).map(|n| recruit(n, completion));
-                out.push(Comparison {
-                    arms: [a.name.clone(), b.name.clone()],
-                    scenario: sa.name.clone(),
-                    mean_difference_kg: delta,
-                    sd_kg: sd,
-                    completion_rate: completion,
-                    n_per_arm_power80: n(Z_POWER_80),
-                    n_per_arm_power90: n(Z_POWER_90),
-                });
-            }
-        }
-    }
-    out
-}
-
 impl CohortReport {
-    /// Attach the summaries to the report header.
+    /// Attach the summaries (and the comparisons of their arms) to the report header.
     pub fn with_summary(mut self, s: CohortSummary) -> CohortReport {
-        self.comparisons = comparisons(&s.arms);
+        self.comparisons = s.comparisons;
         self.arms = s.arms;
         self.staff_hours = s.staff_hours;
         self
@@ -248,7 +200,6 @@ fn spread_cells(s: &Spread, u: Units) -> String {
 
 /// The table: one row per arm and scenario, then staffing and the cautions.
 pub fn table(r: &CohortReport, u: Units) -> String {
-    let ml = u.mass_label();
     let mut out = format!(
         "dosewright cohort: {} ({})\n{} participants from {}; {}{}\nseed {}, {} draw(s) per participant, integrator {}\nProtocol: {} weeks{}{}\n\n",
         r.name,
@@ -274,6 +225,25 @@ pub fn table(r: &CohortReport, u: Units) -> String {
             ", maximum {m:.0} min per session"
         )),
     );
+    table_outcome(r, u, &mut out);
+    table_checkpoints(r, u, &mut out);
+    table_completers(r, u, &mut out);
+    table_comparisons(r, u, &mut out);
+    table_staffing(r, &mut out);
+    if !r.warnings.is_empty() {
+        out.push_str("Warnings\n");
+        for w in &r.warnings {
+            out.push_str(&format!("  - [{}] {}\n", w.code, w.message));
+        }
+        out.push('\n');
+    }
+    out.push_str(&side_notes(r));
+    out
+}
+
+/// The outcome at the end of the protocol, one row per arm and scenario.
+fn table_outcome(r: &CohortReport, u: Units, out: &mut String) {
+    let ml = u.mass_label();
     let h_mass = format!("mass change [{ml}] mean (SD) [5th to 95th]");
     let h_fat = format!("fat change [{ml}] mean");
     let h_last = format!("min/session week {} median (95th, max)", r.weeks);
@@ -325,6 +295,11 @@ pub fn table(r: &CohortReport, u: Units) -> String {
         "Outcome at the end of the protocol (week {}), over participants\n{t}\n\n",
         r.weeks
     ));
+}
+
+/// Mass change at the checkpoints, when there are more than the end.
+fn table_checkpoints(r: &CohortReport, u: Units, out: &mut String) {
+    let ml = u.mass_label();
     if r.checkpoints.len() > 1 || r.checkpoints.first() != Some(&r.weeks) {
         let mut header = vec!["arm".to_string(), "scenario".to_string()];
         header.extend(r.checkpoints.iter().map(|w| format!("week {w} [{ml}]")));
@@ -348,6 +323,11 @@ pub fn table(r: &CohortReport, u: Units) -> String {
             "Mass change at the checkpoints, mean (SD)\n{c}\n\n"
         ));
     }
+}
+
+/// The completers, when any participant is expected to drop out.
+fn table_completers(r: &CohortReport, u: Units, out: &mut String) {
+    let ml = u.mass_label();
     if r.arms.iter().any(|a| a.completing < a.participants as f64) {
         let mut c = new_table(&[
             "arm",
@@ -370,6 +350,11 @@ pub fn table(r: &CohortReport, u: Units) -> String {
         }
         out.push_str(&format!("Completers (the outcome table above is intention to treat: everyone, drop-outs included)\n{c}\n\n"));
     }
+}
+
+/// Participants per arm to detect each difference between arms.
+fn table_comparisons(r: &CohortReport, u: Units, out: &mut String) {
+    let ml = u.mass_label();
     if !r.comparisons.is_empty() {
         let mut c = new_table(&[
             "arms",
@@ -395,6 +380,10 @@ pub fn table(r: &CohortReport, u: Units) -> String {
         }
         out.push_str(&format!("Participants per arm to detect the difference in mass change at week {} (two-sided alpha 0.05; n = 2 (z_0.975 + z_power)^2 SD^2 / difference^2, Altman 1991; divided by the completion rate)\n{c}\n\n", r.weeks));
     }
+}
+
+/// Supervised session-hours per arm and for the trial as allocated.
+fn table_staffing(r: &CohortReport, out: &mut String) {
     let mut st = new_table(&[
         "arm",
         "participants",
@@ -417,15 +406,6 @@ pub fn table(r: &CohortReport, u: Units) -> String {
         "Supervised session-hours (warm-up, time at target and cool-down; one participant per session; first scenario)\n{st}\nTrial as allocated: peak {:.1} h/week (week {}), {:.1} h in all\n\n",
         r.staff_hours.peak_per_week, r.staff_hours.peak_week, r.staff_hours.total
     ));
-    if !r.warnings.is_empty() {
-        out.push_str("Warnings\n");
-        for w in &r.warnings {
-            out.push_str(&format!("  - [{}] {}\n", w.code, w.message));
-        }
-        out.push('\n');
-    }
-    out.push_str(&side_notes(r));
-    out
 }
 
 /// The screening results and the cautions (the end of the table; standard error

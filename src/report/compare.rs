@@ -59,45 +59,7 @@ pub struct CompareScenario {
     pub rows: Vec<CompareRow>,
 }
 
-/// One dose of a dose-response table: change at the checkpoints per scenario.
-#[derive(Debug, Clone, PartialEq, Serialize)]
-pub struct DoseRow {
-    /// The dose, in the plan's unit.
-    pub dose: f64,
-    /// Per scenario.
-    pub scenarios: Vec<DoseScenario>,
-}
-
-/// One scenario at one dose.
-#[derive(Debug, Clone, PartialEq, Serialize)]
-pub struct DoseScenario {
-    /// Scenario name.
-    pub name: String,
-    /// Per checkpoint.
-    pub rows: Vec<DosePoint>,
-}
-
-/// Change at one checkpoint.
-#[derive(Debug, Clone, PartialEq, Serialize)]
-pub struct DosePoint {
-    /// Week.
-    pub week: u32,
-    /// Mass change from baseline, kg.
-    pub mass_change_kg: f64,
-    /// Fat-mass change, kg.
-    pub fat_mass_change_kg: f64,
-    /// Minutes per session that week.
-    pub minutes_per_session: u32,
-}
-
-/// The dose-response table.
-#[derive(Debug, Clone, PartialEq, Serialize)]
-pub struct DoseResponse {
-    /// The plan's dose key.
-    pub dose_unit: &'static str,
-    /// One entry per dose, in the order asked.
-    pub doses: Vec<DoseRow>,
-}
+pub use crate::simulate::dose_response::{DosePoint, DoseResponse, DoseRow, DoseScenario};
 
 /// Everything `compare` reports.
 #[derive(Debug, Clone, PartialEq, Serialize)]

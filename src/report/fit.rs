@@ -1,7 +1,6 @@
 //! `fit`: compensation read from the weigh-ins, in numbers and in words, with a
 //! chart of measured against modelled mass.
 
-use crate::app::LogInput;
 use crate::report::chart::{LineChart, Series};
 use crate::report::table::{align_numbers, new_table, warnings_text};
 use crate::report::units::Units;
@@ -36,8 +35,13 @@ pub struct FitReport {
 
 impl FitReport {
     /// Assemble.
-    pub fn new(schedule: &ScheduleReport, log: &LogInput, fit: FitResult) -> FitReport {
-        let mut warnings = log.warnings.clone();
+    pub fn new(
+        schedule: &ScheduleReport,
+        log: Option<LogSummary>,
+        log_warnings: &[Warning],
+        fit: FitResult,
+    ) -> FitReport {
+        let mut warnings = log_warnings.to_vec();
         if fit.at_bound && fit.estimate > 0.5 {
             warnings.push(Warning {
                 code: "fit-at-bound",
@@ -53,7 +57,7 @@ impl FitReport {
             tool: schedule.tool.clone(),
             plan: schedule.plan.clone(),
             participant_id: schedule.participant_id.clone(),
-            log: log.summary.clone(),
+            log,
             fit,
             meaning,
             screening: schedule.screening.clone(),

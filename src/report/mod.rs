@@ -186,7 +186,7 @@ impl ScheduleReport {
                         .map(|s| format!("\"{}\"", s.name))
                         .collect();
                     Error::Usage(format!(
-                        "--scenario: no scenario named \"{n}\" in {}; the plan has {}",
+                        "no scenario named \"{n}\" in {}; the plan has {}",
                         self.plan,
                         names.join(", ")
                     ))

@@ -39,7 +39,7 @@ use std::fmt::Write;
 pub struct SheetInput {
     /// The planned sessions (every protocol week).
     pub sessions: SessionPlan,
-    /// The weeks to print, one page each, in this order (`app::sheet_weeks` checks
+    /// The weeks to print, one page each, in this order (`commands::sheets::sheet_weeks` checks
     /// them against the plan; a week the plan does not have prints no page).
     pub weeks: Vec<u32>,
     /// The participant's screening outcome.

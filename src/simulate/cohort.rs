@@ -13,6 +13,7 @@ use super::{RunMode, run};
 use crate::error::Error;
 use crate::plan::SCENARIO_KEYS;
 use crate::plan::{Participant, Plan};
+use crate::stats::{percentile, percentile_of};
 use crate::study::RmrError;
 use crate::study::Study;
 use rand::rngs::ChaCha8Rng;
@@ -729,17 +730,6 @@ pub fn run_cohort(
 // Summaries
 // ---------------------------------------------------------------------------
 
-/// Percentile `q` (0..=1) of sorted values, linear between order statistics.
-pub fn percentile(sorted: &[f64], q: f64) -> f64 {
-    if sorted.is_empty() {
-        return 0.0;
-    }
-    let h = (sorted.len() - 1) as f64 * q;
-    let lo = h.floor() as usize;
-    let hi = h.ceil() as usize;
-    sorted[lo] + (h - lo as f64) * (sorted[hi] - sorted[lo])
-}
-
 /// Whole minutes counted by value: the percentiles of [`percentile`] without sorting.
 #[derive(Debug, Clone, Default, PartialEq)]
 struct MinuteCounts {
@@ -786,13 +776,7 @@ impl MinuteCounts {
 
     /// As [`percentile`] on the sorted values.
     fn percentile(&self, q: f64) -> f64 {
-        if self.n == 0 {
-            return 0.0;
-        }
-        let h = (self.n - 1) as f64 * q;
-        let (lo, hi) = (h.floor() as u64, h.ceil() as u64);
-        let (a, b) = (self.nth(lo), self.nth(hi));
-        a + (h - lo as f64) * (b - a)
+        percentile_of(self.n as usize, q, |k| self.nth(k as u64))
     }
 }
 
@@ -977,6 +961,8 @@ pub struct CohortSummary {
     /// Supervised session-hours of the allocated runs (or every run with `--all-arms`
     /// and no allocation), first scenario.
     pub staff_hours: StaffHours,
+    /// Every pair of arms compared, with the participants per arm to recruit.
+    pub comparisons: Vec<super::arm_comparison::Comparison>,
 }
 
 /// Summarise member results per arm and scenario. Arms are summarised in parallel;
@@ -985,7 +971,7 @@ pub fn summarise(study: &Study, runs: &CohortRuns, req: &CohortRequest) -> Cohor
     let results = &runs.members;
     let tally = &runs.tally;
     let ns = study.scenarios.len();
-    let arms = study
+    let arms: Vec<ArmSpread> = study
         .arms
         .par_iter()
         .enumerate()
@@ -1084,6 +1070,7 @@ pub fn summarise(study: &Study, runs: &CohortRuns, req: &CohortRequest) -> Cohor
         })
         .collect();
     CohortSummary {
+        comparisons: super::arm_comparison::comparisons(&arms),
         arms,
         staff_hours: StaffHours::of(&tally.staff_allocated, f64::from(req.draws.max(1))),
     }

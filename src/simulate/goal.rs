@@ -111,21 +111,46 @@ fn loss_without(plan: &Plan, scenario: &Scenario, by_week: u32) -> Result<f64, E
     Ok(baseline.mass_kg - masses[0][by_week as usize - 1])
 }
 
-/// Validate the request against the plan (exit 2 for an invalid request).
-pub fn check_request(plan: &Plan, req: &GoalRequest) -> Result<(), Error> {
+/// What is wrong with a goal request, for the caller to word (the command line
+/// names its options).
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub enum RequestProblem {
+    /// The loss is not a positive number of kg.
+    Loss(f64),
+    /// The goal week is outside the protocol's weeks `1..=weeks`.
+    Week {
+        /// The week asked for.
+        week: u32,
+        /// The protocol's weeks.
+        weeks: u32,
+    },
+}
+
+/// The first problem of the request against the plan, if any.
+pub fn request_problem(plan: &Plan, req: &GoalRequest) -> Option<RequestProblem> {
     if !req.lose_kg.is_finite() || req.lose_kg <= 0.0 {
-        return Err(Error::Usage(format!(
-            "the loss wanted must be a positive number of kg; got {}",
-            req.lose_kg
-        )));
+        return Some(RequestProblem::Loss(req.lose_kg));
     }
     if req.by_week < 1 || req.by_week > plan.protocol.weeks {
-        return Err(Error::Usage(format!(
-            "--by-week {}: outside the protocol; allowed 1 to {} (the plan's weeks)",
-            req.by_week, plan.protocol.weeks
-        )));
+        return Some(RequestProblem::Week {
+            week: req.by_week,
+            weeks: plan.protocol.weeks,
+        });
     }
-    Ok(())
+    None
+}
+
+/// Validate the request against the plan (exit 2 for an invalid request).
+pub fn check_request(plan: &Plan, req: &GoalRequest) -> Result<(), Error> {
+    match request_problem(plan, req) {
+        None => Ok(()),
+        Some(RequestProblem::Loss(kg)) => Err(Error::Usage(format!(
+            "the loss wanted must be a positive number of kg; got {kg}"
+        ))),
+        Some(RequestProblem::Week { week, weeks }) => Err(Error::Usage(format!(
+            "the goal week {week} is outside the protocol; allowed 1 to {weeks} (the plan's weeks)"
+        ))),
+    }
 }
 
 /// Solve the goal for every scenario of the plan.

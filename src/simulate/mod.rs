@@ -5,8 +5,10 @@
 //! Reference: MODEL.md sections 4-6.
 
 pub mod adherence;
+pub mod arm_comparison;
 pub mod band;
 pub mod cohort;
+pub mod dose_response;
 pub mod fast;
 pub mod fit;
 pub mod goal;

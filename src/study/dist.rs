@@ -2,10 +2,10 @@
 //! uniform, or beta scaled to bounds.
 //!
 //! A truncated normal is drawn by rejection (exact), which the study refuses when
-//! the bounds keep less than [`MIN_NORMAL_MASS`] of the normal. The normal CDF uses
-//! the error function of Abramowitz and Stegun 1964, Handbook of Mathematical
-//! Functions, 7.1.26 (absolute error below 1.5e-7), enough to judge that share.
+//! the bounds keep less than [`MIN_NORMAL_MASS`] of the normal ([`normal_cdf`] judges
+//! that share).
 
+use crate::stats::normal_cdf;
 use rand::Rng;
 use rand::RngExt;
 use rand_distr::{Beta, Distribution, Normal};
@@ -52,24 +52,6 @@ pub enum Dist {
         /// Upper bound.
         max: f64,
     },
-}
-
-/// `erf(x)` by Abramowitz and Stegun 7.1.26.
-pub fn erf(x: f64) -> f64 {
-    let s = x.signum();
-    let x = x.abs();
-    let t = 1.0 / (1.0 + 0.327_591_1 * x);
-    let y = 1.0
-        - (((((1.061_405_429 * t - 1.453_152_027) * t) + 1.421_413_741) * t - 0.284_496_736) * t
-            + 0.254_829_592)
-            * t
-            * (-x * x).exp();
-    s * y
-}
-
-/// The standard normal CDF.
-pub fn normal_cdf(z: f64) -> f64 {
-    0.5 * (1.0 + erf(z / std::f64::consts::SQRT_2))
 }
 
 impl Dist {
@@ -144,26 +126,5 @@ impl Dist {
                 min + (max - min) * b.sample(rng)
             }
         }
-    }
-}
-
-#[cfg(test)]
-mod tests {
-    use super::*;
-
-    #[test]
-    fn erf_matches_tabulated_values() {
-        // Abramowitz and Stegun 1964, Table 7.1: erf(0.5) = 0.5204998778,
-        // erf(1) = 0.8427007929, erf(2) = 0.9953222650.
-        for (x, v) in [
-            (0.5, 0.520_499_877_8),
-            (1.0, 0.842_700_792_9),
-            (2.0, 0.995_322_265),
-        ] {
-            assert!((erf(x) - v).abs() < 1.5e-7, "erf({x})");
-            assert!((erf(-x) + v).abs() < 1.5e-7);
-        }
-        // Standard normal: P(|Z| < 1.96) = 0.95 (any statistics table).
-        assert!((normal_cdf(1.96) - normal_cdf(-1.96) - 0.95).abs() < 1e-4);
     }
 }

@@ -7,11 +7,11 @@
 //! `[synthetic]` population. Each participant in each arm is simulated as a plan of
 //! its own ([`Study::plan_for`]).
 
+pub mod allocation;
 pub mod dist;
 pub mod randomise;
 pub mod raw;
 pub mod roster;
-pub mod sample_size;
 pub mod synthetic;
 mod validate;
 

@@ -323,7 +323,7 @@ pub fn parse_roster(file: &str, text: &str, study: &Study) -> Result<Vec<RosterE
             .iter()
             .find(|e| e.arm.is_none())
             .expect("some row has no arm");
-        return Err(cx.err(Some(e.line), Some("arm"), "empty while other rows give an arm; give every participant an arm, or leave the column empty everywhere and use --randomise".to_string()));
+        return Err(cx.err(Some(e.line), Some("arm"), "empty while other rows give an arm; give every participant an arm, or leave the column empty everywhere and have the arms randomised".to_string()));
     }
     Ok(out)
 }

@@ -27,7 +27,7 @@ pub fn synthetic_id(index: usize) -> String {
 pub fn draw(study: &Study, n: usize, seed: u64) -> Result<Vec<Participant>, Error> {
     let Some(pop) = &study.population else {
         return Err(Error::Usage(format!(
-            "--synthetic: {} has no [synthetic] table describing the population to draw from; add one, or give --roster FILE",
+            "{} has no [synthetic] table describing the population to draw from; add one",
             study.source_name
         )));
     };
@@ -37,7 +37,7 @@ pub fn draw(study: &Study, n: usize, seed: u64) -> Result<Vec<Participant>, Erro
             let id = synthetic_id(i);
             super::roster::check_calibrates(&subject, study).map_err(|(col, msg)| {
                 Error::Usage(format!(
-                    "--synthetic: drawn participant {id} (seed {seed}) cannot be simulated: {msg} (drawn {col}); narrow the [synthetic] distributions"
+                    "drawn participant {id} (seed {seed}) cannot be simulated: {msg} (drawn {col}); narrow the [synthetic] distributions"
                 ))
             })?;
             Ok(Participant {

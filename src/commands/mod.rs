@@ -1,0 +1,228 @@
+//! The commands: one file per subcommand, each `run(args) -> Result<Printed, Error>`,
+//! and the few helpers they share (display units, side notes, output delivery).
+//!
+//! Every output target of a command is checked by one call, [`check_outputs`], at the
+//! start of the command, before any work; every file a command writes goes through
+//! [`write_output`]. Those two are the only places that reach the file writer.
+
+use crate::cli::{Command, DisplayArgs, EnergyArg, LogAction, UnitsArg};
+use crate::error::Error;
+use crate::plan::{self, Plan};
+use crate::report::units::{EnergyUnit, UnitSystem, Units};
+use crate::report::{self, ScheduleReport};
+use crate::safety::{ScreeningOutcome, Warning};
+use crate::simulate::observed::Observed;
+use chrono::NaiveDate;
+use std::path::Path;
+
+pub mod activities;
+pub mod calendar;
+pub mod charts;
+pub mod check;
+pub mod cohort;
+pub mod compare;
+pub mod fit;
+pub mod goal;
+pub mod init;
+pub mod log;
+pub mod schedule;
+pub mod sheets;
+
+/// What a successful command prints.
+#[derive(Debug, Default, Clone, PartialEq, Eq)]
+pub struct Printed {
+    /// Standard output.
+    pub stdout: String,
+    /// Standard error (notes and warnings beside machine-readable output).
+    pub stderr: String,
+}
+
+/// Run one command.
+pub fn run(command: &Command) -> Result<Printed, Error> {
+    match command {
+        Command::Schedule(args) => schedule::run(args),
+        Command::Calendar(args) => calendar::run(args),
+        Command::Sheets(args) => sheets::run(args),
+        Command::Compare(args) => compare::run(args),
+        Command::Goal(args) => goal::run(args),
+        Command::Fit(args) => fit::run(args),
+        Command::Log {
+            action: LogAction::Add(args),
+        } => log::run(args),
+        Command::Cohort(args) => cohort::run(args),
+        Command::Check(args) => check::run(args),
+        Command::Init(args) => init::run(args),
+        Command::Activities(args) => activities::run(args),
+    }
+}
+
+/// Load a plan file, or the built-in demo when none is named.
+pub fn load(path: Option<&Path>) -> Result<Plan, Error> {
+    match path {
+        Some(p) => plan::load_plan(p),
+        None => plan::parse_plan(plan::starter::DEMO_NAME, plan::starter::DEMO_PLAN),
+    }
+}
+
+/// What a log contributes: the measured data, its warnings and a summary for reports.
+#[derive(Debug, Clone, Default)]
+pub struct LogInput {
+    /// Measured data for the simulation.
+    pub observed: Option<Observed>,
+    /// The log's own warnings (e.g. implausible jumps).
+    pub warnings: Vec<Warning>,
+    /// Summary for reports.
+    pub summary: Option<report::LogSummary>,
+}
+
+/// Read the log named on the command line, if any, up to `as_of`.
+pub fn read_log(
+    plan: &Plan,
+    log: Option<&Path>,
+    as_of: Option<NaiveDate>,
+) -> Result<LogInput, Error> {
+    let Some(path) = log else {
+        return Ok(LogInput::default());
+    };
+    check_as_of(plan, as_of)?;
+    let (log, warnings) = crate::log::load_log(path, plan, as_of)?;
+    let observed = Observed::from_log(plan, &log, as_of);
+    let summary = report::LogSummary {
+        path: log.path.clone(),
+        as_of: observed.as_of,
+        weigh_ins: observed.weigh_ins.len(),
+        sessions: observed.sessions.len(),
+    };
+    Ok(LogInput {
+        observed: Some(observed),
+        warnings,
+        summary: Some(summary),
+    })
+}
+
+/// Refuse, before any work, an output path that names one of the command's inputs
+/// or that cannot be written. The one place the commands check their targets.
+pub(crate) fn check_outputs(out: Option<&Path>, inputs: &[&Path]) -> Result<(), Error> {
+    if let Some(o) = out {
+        crate::files::refuse_overwriting_inputs(o, inputs)?;
+        crate::files::check_target(o, false)?;
+    }
+    Ok(())
+}
+
+/// Whether `a` and `b` name the same existing file.
+pub(crate) fn same_file(a: &Path, b: &Path) -> bool {
+    a == b || crate::files::refuse_overwriting_inputs(a, &[b]).is_err()
+}
+
+/// Write one output file atomically; with `create_new`, refuse an existing file. The
+/// one place the commands write a file.
+pub(crate) fn write_output(path: &Path, bytes: &[u8], create_new: bool) -> Result<(), Error> {
+    crate::files::write_atomic(path, bytes, create_new)
+}
+
+/// The unit system of `--units`.
+pub(crate) fn unit_system(units: UnitsArg) -> UnitSystem {
+    match units {
+        UnitsArg::Metric => UnitSystem::Metric,
+        UnitsArg::Us => UnitSystem::Us,
+    }
+}
+
+/// The display units of `--units` and `--energy`.
+pub(crate) fn display_units(d: &DisplayArgs) -> Units {
+    Units {
+        system: unit_system(d.units),
+        energy: match d.energy {
+            EnergyArg::Kcal => EnergyUnit::Kcal,
+            EnergyArg::Kj => EnergyUnit::Kj,
+        },
+    }
+}
+
+/// Refuse display units other than metric and kcal with a machine-readable format:
+/// JSON and CSV are the machine contract, in the units of plan files and logs, and
+/// converting them silently, or ignoring the option silently, would both mislead.
+pub(crate) fn refuse_display_units(units: Units, format: &str) -> Result<(), Error> {
+    if units.is_model_units() {
+        return Ok(());
+    }
+    let mut given = Vec::new();
+    if units.system == UnitSystem::Us {
+        given.push("--units us");
+    }
+    if units.energy == EnergyUnit::Kj {
+        given.push("--energy kj");
+    }
+    Err(Error::Usage(format!(
+        "{} with --format {format}: JSON and CSV are always metric and kcal (kg, km/h, kcal, as in plan files and logs); leave out --units and --energy, or choose a human-readable format such as --format table",
+        given.join(" ")
+    )))
+}
+
+/// Print to standard output, or write the file atomically and say so on standard error.
+pub(crate) fn deliver(
+    mut printed: Printed,
+    text: String,
+    out: Option<&Path>,
+) -> Result<Printed, Error> {
+    match out {
+        Some(o) => {
+            write_output(o, text.as_bytes(), false)?;
+            printed.stderr.push_str(&format!("wrote {}\n", o.display()));
+        }
+        None => printed.stdout = text,
+    }
+    Ok(printed)
+}
+
+/// Warnings and cautions for standard error beside machine-readable output.
+pub(crate) fn side_notes(r: &ScheduleReport) -> String {
+    side_notes_of(&r.warnings, &r.screening)
+}
+
+/// Warnings and cautions for standard error, from their parts.
+pub(crate) fn side_notes_of(warnings: &[Warning], screening: &ScreeningOutcome) -> String {
+    let mut s = report::table::warnings_text(warnings);
+    s.push_str(&report::cautions_text(screening));
+    s
+}
+
+/// Randomisation asked for a roster that already gives every participant an arm.
+pub(crate) fn already_allocated() -> Error {
+    Error::Usage(
+        "--randomise: the roster already gives every participant an arm; leave out --randomise, or empty the roster's arm column".to_string(),
+    )
+}
+
+/// A usage error of the library worded with the option it came from: `FLAG: message`.
+pub(crate) fn with_flag(flag: &str) -> impl Fn(Error) -> Error + '_ {
+    move |e| match e {
+        Error::Usage(m) => Error::Usage(format!("{flag}: {m}")),
+        other => other,
+    }
+}
+
+/// The index of the scenario `--scenario` names (the first when None).
+pub(crate) fn scenario_index(r: &ScheduleReport, name: Option<&str>) -> Result<usize, Error> {
+    r.scenario_index(name).map_err(with_flag("--scenario"))
+}
+
+/// Refuse an `--as-of` date outside the plan's protocol and follow-up.
+pub(crate) fn check_as_of(plan: &Plan, as_of: Option<NaiveDate>) -> Result<(), Error> {
+    let (start, end) = (plan.protocol.start, plan.protocol.end_date());
+    match as_of {
+        Some(d) if d < start || d > end => Err(Error::Usage(format!(
+            "--as-of {d} is outside the protocol; give a date from the start {start} through the end of follow-up {end}"
+        ))),
+        _ => Ok(()),
+    }
+}
+
+/// One `warning [code]: message` line per warning.
+pub(crate) fn warning_lines(warnings: &[Warning]) -> String {
+    warnings
+        .iter()
+        .map(|w| format!("warning [{}]: {}\n", w.code, w.message))
+        .collect()
+}

@@ -1,0 +1,156 @@
+//! The statistics the study tools use, in one place: the standard normal CDF and
+//! quantile (from the `statrs` crate), the participants per arm to detect a
+//! difference in mean change and the power of that test, and percentiles.
+//!
+//! Sample size: the two-sample normal approximation
+//! `n = 2 (z_{1-alpha/2} + z_{1-beta})^2 sigma^2 / delta^2` per arm, two-sided
+//! alpha 0.05, then divided by the expected completion rate. Reference: Altman DG
+//! 1991, Practical Statistics for Medical Research (Chapman & Hall), section 15.3
+//! (formula); Kirkwood BR, Sterne JAC 2003, Essential Medical Statistics, 2nd ed.
+//! (Blackwell), chapter 35. Worked example checked in the tests: Gelman A, Hill J,
+//! Vehtari A 2020, Regression and Other Stories, section 16.3.
+//!
+//! Percentiles: linear interpolation between order statistics, Hyndman RJ, Fan Y
+//! 1996, Am Stat 50:361, definition 7.
+
+use statrs::distribution::{ContinuousCDF, Normal};
+
+/// The standard normal distribution.
+fn standard_normal() -> Normal {
+    Normal::standard()
+}
+
+/// The standard normal CDF, `P(Z <= z)`.
+pub fn normal_cdf(z: f64) -> f64 {
+    standard_normal().cdf(z)
+}
+
+/// The standard normal quantile: the `z` with `P(Z <= z) = p`, for `p` in (0, 1)
+/// (the callers pass fixed probabilities; outside [0, 1] it panics).
+pub fn normal_quantile(p: f64) -> f64 {
+    standard_normal().inverse_cdf(p)
+}
+
+/// Two-sided significance level of the sample-size and power calculations.
+pub const ALPHA: f64 = 0.05;
+
+/// `z_{1-alpha/2}` for [`ALPHA`].
+pub fn z_alpha() -> f64 {
+    normal_quantile(1.0 - ALPHA / 2.0)
+}
+
+/// Participants per arm (before drop-out) for power `power` (e.g. 0.8), not yet
+/// rounded up; None when `delta` is 0 or a number is not finite.
+pub fn n_per_arm(delta: f64, sigma: f64, power: f64) -> Option<f64> {
+    (delta != 0.0 && delta.is_finite() && sigma.is_finite()).then(|| {
+        let z = z_alpha() + normal_quantile(power);
+        2.0 * z * z * sigma * sigma / (delta * delta)
+    })
+}
+
+/// Power of the two-sided test with `n` participants per arm (the far tail ignored,
+/// as in the formula of [`n_per_arm`]).
+pub fn power(n: f64, delta: f64, sigma: f64) -> f64 {
+    if sigma <= 0.0 {
+        return if delta != 0.0 { 1.0 } else { 0.0 };
+    }
+    normal_cdf(delta.abs() / sigma * (n / 2.0).sqrt() - z_alpha())
+}
+
+/// The fewest completers per arm reported: a two-sample comparison needs two per
+/// arm to estimate the SD at all (common practice; the normal approximation gives
+/// less than 1 when the simulated SD is tiny).
+pub const MIN_COMPLETERS_PER_ARM: f64 = 2.0;
+
+/// Participants per arm to recruit: `n` (at least [`MIN_COMPLETERS_PER_ARM`])
+/// divided by the completion rate, rounded up.
+pub fn recruit(n: f64, completion_rate: f64) -> f64 {
+    (n.max(MIN_COMPLETERS_PER_ARM) / completion_rate.clamp(1e-9, 1.0) - 1e-9).ceil()
+}
+
+/// Percentile `q` (0..=1) of `n` sorted values whose `k`-th smallest (0-based) is
+/// `nth(k)`: Hyndman and Fan definition 7, linear between order statistics; 0 when
+/// there are none.
+pub fn percentile_of(n: usize, q: f64, nth: impl Fn(usize) -> f64) -> f64 {
+    if n == 0 {
+        return 0.0;
+    }
+    let h = (n - 1) as f64 * q;
+    let (lo, hi) = (h.floor() as usize, h.ceil() as usize);
+    let (a, b) = (nth(lo), nth(hi));
+    a + (h - lo as f64) * (b - a)
+}
+
+/// Percentile `q` (0..=1) of sorted values ([`percentile_of`]).
+pub fn percentile(sorted: &[f64], q: f64) -> f64 {
+    percentile_of(sorted.len(), q, |k| sorted[k])
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn normal_cdf_and_quantile_match_tables() {
+        // Abramowitz M, Stegun IA 1964, Handbook of Mathematical Functions, Table
+        // 7.1: erf(0.5) = 0.5204998778, erf(1) = 0.8427007929, erf(2) =
+        // 0.9953222650; Phi(x) = (1 + erf(x / sqrt 2)) / 2.
+        for (x, erf) in [
+            (0.5, 0.520_499_877_8),
+            (1.0, 0.842_700_792_9),
+            (2.0, 0.995_322_265),
+        ] {
+            let phi = normal_cdf(x * std::f64::consts::SQRT_2);
+            assert!((2.0 * phi - 1.0 - erf).abs() < 1e-9, "erf({x})");
+            assert!((normal_cdf(-x) + normal_cdf(x) - 1.0).abs() < 1e-15);
+        }
+        // Standard normal table (e.g. Kirkwood and Sterne 2003, Table A2):
+        // z_0.975 = 1.959964, z_0.80 = 0.841621, z_0.90 = 1.281552.
+        for (p, z) in [(0.975, 1.959_964), (0.8, 0.841_621), (0.9, 1.281_552)] {
+            assert!((normal_quantile(p) - z).abs() < 1e-6, "z_{p}");
+            assert!((normal_cdf(normal_quantile(p)) - p).abs() < 1e-9);
+        }
+        assert!((normal_cdf(1.96) - normal_cdf(-1.96) - 0.95).abs() < 1e-4);
+    }
+
+    #[test]
+    fn sample_size_check_values_and_a_textbook_example() {
+        // Check value of the study design: delta 1 kg, sigma 3 kg -> 142 per arm at
+        // power 0.8 and 190 at 0.9 before drop-out (2 (1.96 + 0.84)^2 9 = 141.3,
+        // 2 (1.96 + 1.28)^2 9 = 189.1, by hand).
+        assert_eq!(recruit(n_per_arm(1.0, 3.0, 0.8).unwrap(), 1.0), 142.0);
+        assert_eq!(recruit(n_per_arm(1.0, 3.0, 0.9).unwrap(), 1.0), 190.0);
+        // Textbook worked example: Gelman A, Hill J, Vehtari A 2020, Regression and
+        // Other Stories (Cambridge University Press), section 16.3: an effect of 0.5
+        // SD with 80% power at 95% confidence needs the effect to be 2.8 standard
+        // errors, se = 2 sigma / sqrt(N) over both groups, so N = (2.8 * 4)^2 = 125.4
+        // in all. Their 2.8 is z_0.975 + z_0.80 = 2.8016 rounded: with 2.8 in place
+        // of the quantiles the formula gives their number exactly, and with the
+        // quantiles 125.6 in all, 63 per group.
+        let total = |z: f64| 2.0 * 2.0 * z * z * 1.0 / (0.5 * 0.5);
+        assert!((total(2.8) - 125.44).abs() < 1e-9);
+        let n = n_per_arm(0.5, 1.0, 0.8).unwrap();
+        assert!((2.0 * n - total(z_alpha() + normal_quantile(0.8))).abs() < 1e-9);
+        assert!((2.0 * n - 125.4).abs() < 0.3, "{}", 2.0 * n);
+        assert_eq!(recruit(n, 1.0), 63.0);
+        // Lehr's rule of thumb, n = 16 / (delta / sigma)^2 per group for 80% power at
+        // two-sided 0.05 (Lehr R 1992, Statistics in Medicine 11:1099): the exact
+        // constant is 2 (1.96 + 0.84)^2 = 15.7, so the formula is 2% under the rule.
+        for d in [0.2, 0.5, 0.8, 1.0] {
+            let ratio = n_per_arm(d, 1.0, 0.8).unwrap() / (16.0 / (d * d));
+            assert!((ratio - 15.7 / 16.0).abs() < 0.002, "{d}: {ratio}");
+        }
+        // At the computed n the power is the one asked for.
+        let n = n_per_arm(1.0, 3.0, 0.8).unwrap();
+        assert!((power(n, 1.0, 3.0) - 0.8).abs() < 1e-9);
+        // 20% drop-out: divide by 0.8.
+        assert_eq!(recruit(141.3, 0.8), 177.0);
+        // A difference of 2 kg with an SD of 0.1 kg needs 0.04 per arm by the
+        // formula; two completers per arm are the least reported, more with drop-out.
+        let tiny = n_per_arm(2.0, 0.1, 0.8).unwrap();
+        assert!(tiny < 0.1, "{tiny}");
+        assert_eq!(recruit(tiny, 1.0), 2.0);
+        assert_eq!(recruit(tiny, 0.8), 3.0);
+        assert_eq!(recruit(2.5, 1.0), 3.0);
+    }
+}
