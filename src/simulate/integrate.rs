@@ -4,6 +4,7 @@
 //! above rest (the prescribed net energy). Reference: Dormand JR, Prince PJ 1980,
 //! J Comput Appl Math 6:19, as implemented by `ode_solvers::Dopri5`.
 
+use crate::model::balance;
 use crate::model::{BodyState, Bout, Compensation, Physiology};
 use ode_solvers::continuous_output_model::ContinuousOutputModel;
 use ode_solvers::{Dopri5, System, Vector4};
@@ -35,17 +36,24 @@ pub fn body_of(y: &State) -> BodyState {
     }
 }
 
+/// The model's right-hand side ([`crate::model::balance`]) with the week's bouts.
 struct Rhs<'a> {
-    physiology: &'a Physiology,
-    compensation: &'a Compensation,
+    rhs: balance::Rhs<'a>,
     bouts: &'a [Bout],
+}
+
+impl<'a> Rhs<'a> {
+    fn new(physiology: &'a Physiology, compensation: &'a Compensation, bouts: &'a [Bout]) -> Self {
+        Rhs {
+            rhs: balance::Rhs::new(physiology, compensation),
+            bouts,
+        }
+    }
 }
 
 impl System<f64, State> for Rhs<'_> {
     fn system(&self, _t: f64, y: &State, dy: &mut State) {
-        let f = self
-            .physiology
-            .fluxes(self.compensation, self.bouts, &body_of(y));
+        let f = self.rhs.fluxes(self.bouts, &body_of(y));
         dy[0] = f.dfat;
         dy[1] = f.dlean;
         dy[2] = f.dlagged;
@@ -133,11 +141,7 @@ pub fn integrate_rk4(
     step: f64,
 ) -> Result<Samples, (f64, String)> {
     let n = output_steps(days, step)?;
-    let rhs = Rhs {
-        physiology,
-        compensation,
-        bouts,
-    };
+    let rhs = Rhs::new(physiology, compensation, bouts);
     let sub = step.ceil().max(1.0) as usize;
     let h = step / sub as f64;
     let mut times = Vec::with_capacity(n + 1);
@@ -185,11 +189,7 @@ pub fn integrate(
     step: f64,
 ) -> Result<Samples, (f64, String)> {
     let n = output_steps(days, step)?;
-    let rhs = Rhs {
-        physiology,
-        compensation,
-        bouts,
-    };
+    let rhs = Rhs::new(physiology, compensation, bouts);
     // Samples come from the solver's continuous output, evaluated inside the step
     // that covers each time. (The crate's plain dense output writes the end point by
     // extrapolating from the step before the last when the last output time equals

@@ -124,6 +124,69 @@ pub fn round_up(minutes: f64, step: u32) -> u32 {
     ((minutes / s - 1e-9).ceil().max(0.0) * s) as u32
 }
 
+/// The longest whole number of `step`-minute steps within `max` minutes (at least one
+/// step): a capped session's length.
+pub fn cap_minutes(max: f64, step: u32) -> u32 {
+    let s = f64::from(step);
+    (((max / s) + 1e-9).floor() * s).max(s) as u32
+}
+
+/// The dose rule of one planned session in a protocol week: what every path that
+/// prescribes minutes (the general driver and the cohort's lane loop) calls.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct SessionDose {
+    /// `r_w`.
+    pub ramp: f64,
+    /// `E_w`, kcal per planned session on the plan's basis (None for a minutes dose).
+    pub target: Option<f64>,
+    /// The session's share of the week: `E_w`, or for a minutes dose its minutes at
+    /// target.
+    pub share: f64,
+}
+
+/// The dose of one of the planned sessions of protocol week `week` (1-based), with
+/// the plan's mass basis read from `baseline_mass_kg` or the week's `mass_kg`.
+#[inline(always)]
+pub fn session_dose(plan: &Plan, week: u32, baseline_mass_kg: f64, mass_kg: f64) -> SessionDose {
+    let p = &plan.protocol;
+    let n = p.session_days.len() as f64;
+    let ramp = p.ramp_fraction(week);
+    let mass_basis = match p.dose.mass_basis {
+        MassBasis::Baseline => baseline_mass_kg,
+        MassBasis::Current => mass_kg,
+    };
+    let target = match p.dose.amount {
+        DoseAmount::KcalPerSession(v) => Some(v * ramp),
+        DoseAmount::KcalPerWeek(v) => Some(v / n * ramp),
+        DoseAmount::KcalPerKgWeek(v) => Some(v * mass_basis / n * ramp),
+        DoseAmount::MinutesPerWeek(_) => None,
+    };
+    let share = match (target, p.dose.amount) {
+        (Some(t), _) => t,
+        (None, DoseAmount::MinutesPerWeek(v)) => ramp * v / n,
+        (None, _) => unreachable!("only a minutes dose has no energy target"),
+    };
+    SessionDose {
+        ramp,
+        target,
+        share,
+    }
+}
+
+impl SessionDose {
+    /// Minutes at target of a session whose share of the week is `share` kcal (or, for
+    /// a minutes dose, minutes) at `e` kcal/min, with `easy_parts` warm-up/cool-down
+    /// pairs of `easy` kcal each: `d = (E_w - E_easy) / e`.
+    #[inline(always)]
+    pub fn minutes_at_target(&self, share: f64, e: f64, easy: f64, easy_parts: f64) -> f64 {
+        match self.target {
+            Some(_) if easy == 0.0 => share / e,
+            Some(_) => (share - easy_parts * easy).max(0.0) / e,
+            None => share,
+        }
+    }
+}
+
 /// The per-minute energy on the plan's basis of `intensity` at the reference state.
 pub fn basis_kcal_per_min(
     plan: &Plan,
@@ -196,18 +259,9 @@ pub fn prescribe(
 ) -> Prescription {
     let p = &plan.protocol;
     let n = p.session_days.len() as f64;
-    let ramp = p.ramp_fraction(week);
+    let dose = session_dose(plan, week, baseline_mass_kg, r.mass_kg);
+    let (ramp, target, share) = (dose.ramp, dose.target, dose.share);
     let e_main = kcal_per_min(plan, physiology, r);
-    let mass_basis = match p.dose.mass_basis {
-        MassBasis::Baseline => baseline_mass_kg,
-        MassBasis::Current => r.mass_kg,
-    };
-    let target = match p.dose.amount {
-        DoseAmount::KcalPerSession(v) => Some(v * ramp),
-        DoseAmount::KcalPerWeek(v) => Some(v / n * ramp),
-        DoseAmount::KcalPerKgWeek(v) => Some(v * mass_basis / n * ramp),
-        DoseAmount::MinutesPerWeek(_) => None,
-    };
     let split = p.over_max == OverMax::Split;
     let easy = if target.is_some() {
         easy_kcal(plan, physiology, r)
@@ -221,18 +275,8 @@ pub fn prescribe(
             basis_kcal_per_min(plan, physiology, &plan.activity_at(activity).intensity, r)
         }
     };
-    // Minutes at target of a session whose share of the week is `energy` kcal (or,
-    // for a minutes dose, `minutes`), with `easy_parts` warm-up/cool-down pairs.
-    let minutes_for = |share: f64, e: f64, easy_parts: f64| match target {
-        Some(_) if easy == 0.0 => share / e,
-        Some(_) => (share - easy_parts * easy).max(0.0) / e,
-        None => share,
-    };
-    let share = match (target, p.dose.amount) {
-        (Some(t), _) => t,
-        (None, DoseAmount::MinutesPerWeek(v)) => ramp * v / n,
-        (None, _) => unreachable!("only a minutes dose has no energy target"),
-    };
+    let minutes_for =
+        |share: f64, e: f64, easy_parts: f64| dose.minutes_at_target(share, e, easy, easy_parts);
     let bouts_per_session = if split { 2 } else { 1 };
     let draft = |date: NaiveDate, share: f64| {
         let activity = plan.activity_index_on(date.weekday());
@@ -272,8 +316,7 @@ pub fn prescribe(
             match p.over_max {
                 OverMax::Flag => note.still_over = true,
                 OverMax::Cap => {
-                    let s = f64::from(step);
-                    let capped = (((max / s) + 1e-9).floor() * s).max(s) as u32;
+                    let capped = cap_minutes(max, step);
                     note.shortfall_kcal = sessions
                         .iter()
                         .map(|d| (d.minutes - f64::from(capped)).max(0.0) * d.e)
@@ -333,10 +376,7 @@ pub fn prescribe(
         let mut made_up = 0.0;
         if p.make_up == MakeUp::Spread && !open.is_empty() {
             let each = lost / open.len() as f64;
-            let limit = p.max_session_minutes.map(|max| {
-                let s = f64::from(step);
-                (((max / s) + 1e-9).floor() * s).max(s) as u32
-            });
+            let limit = p.max_session_minutes.map(|max| cap_minutes(max, step));
             for (d, m) in &mut minutes {
                 let extra_minutes = if energy_dose { each / d.e } else { each };
                 let want = round_up(
