@@ -2,6 +2,7 @@
 //! cautions every human-facing output carries.
 
 pub mod cautions;
+pub mod risk;
 pub mod screening;
 pub mod warnings;
 

@@ -13,6 +13,8 @@ use super::{RunMode, run};
 use crate::error::Error;
 use crate::plan::SCENARIO_KEYS;
 use crate::plan::{Participant, Plan};
+use crate::safety::risk::RiskSubject;
+pub use crate::safety::risk::RunRisks;
 use crate::study::RmrError;
 use crate::study::Study;
 use rand::rngs::ChaCha8Rng;
@@ -82,56 +84,6 @@ pub struct RunSummary {
     pub draw: u32,
     /// Still exercising at the end of the protocol (did not drop out).
     pub completed: bool,
-}
-
-/// The risky-plan signs of one run, as `schedule` warns of them for one plan
-/// (README "Warnings"; the thresholds are `safety::warnings`'): the cohort counts the
-/// runs that have each.
-#[derive(Debug, Clone, Copy, Default, PartialEq, Eq, Serialize)]
-pub struct RunRisks {
-    /// Projected loss above 1% of body mass in some week (`loss-rate-over-1-percent`).
-    pub loss_rate_over_1_percent: bool,
-    /// More than 300 minutes at target in some week (`weekly-minutes-over-300`).
-    pub weekly_minutes_over_300: bool,
-    /// With a negative diet change, intake below RMR at the end of some week.
-    pub intake_below_rmr: bool,
-    /// With a negative diet change, intake below the unsupervised floor in some week.
-    pub intake_below_floor: bool,
-    /// BMI below 18.5 kg/m^2 at the end of some week.
-    pub bmi_below_18_5: bool,
-}
-
-impl RunRisks {
-    /// The signs of a run from its week-end masses, intakes and RMRs, and the minutes
-    /// at target of each protocol week; `baseline_mass` is the participant's.
-    #[allow(clippy::too_many_arguments)]
-    fn of(
-        baseline_mass: f64,
-        height_cm: f64,
-        sex: crate::model::Sex,
-        diet_change: f64,
-        mass: impl Iterator<Item = f64>,
-        intake_rmr: impl Iterator<Item = (f64, f64)>,
-        mut weekly_minutes: impl Iterator<Item = u32>,
-    ) -> RunRisks {
-        use crate::safety::warnings::intake_floor_kcal_per_day;
-        let mut r = RunRisks::default();
-        let mut prev = baseline_mass;
-        for m in mass {
-            r.loss_rate_over_1_percent |= prev - m > 0.01 * prev;
-            r.bmi_below_18_5 |= crate::model::composition::bmi(m, height_cm) < 18.5;
-            prev = m;
-        }
-        if diet_change < 0.0 {
-            let floor = intake_floor_kcal_per_day(sex);
-            for (intake, rmr) in intake_rmr {
-                r.intake_below_rmr |= intake < rmr;
-                r.intake_below_floor |= intake < floor;
-            }
-        }
-        r.weekly_minutes_over_300 = weekly_minutes.any(|m| m > 300);
-        r
-    }
 }
 
 /// The share of an arm's runs (participants x draws) with each sign of [`RunRisks`].
@@ -233,10 +185,12 @@ fn summarise_run(
             .sum(),
         over_max: w[..weeks].iter().any(|x| x.over_max.is_some()),
         risks: RunRisks::of(
-            baseline_mass,
-            plan.participant.subject.height_cm,
-            plan.participant.subject.sex,
-            comp.diet_change_kcal_per_day,
+            &RiskSubject {
+                baseline_mass_kg: baseline_mass,
+                height_cm: plan.participant.subject.height_cm,
+                sex: plan.participant.subject.sex,
+                diet_change_kcal_per_day: comp.diet_change_kcal_per_day,
+            },
             w.iter().map(|x| x.end.mass_kg),
             w.iter()
                 .map(|x| (x.end.intake_kcal_per_day, x.end.rmr_kcal_per_day)),
@@ -423,10 +377,12 @@ fn fast_row(
             r.session_minutes.clone()
         };
         let risks = RunRisks::of(
-            baseline.mass_kg,
-            physiology.height_cm,
-            dr.participant.subject.sex,
-            comp.diet_change_kcal_per_day,
+            &RiskSubject {
+                baseline_mass_kg: baseline.mass_kg,
+                height_cm: physiology.height_cm,
+                sex: dr.participant.subject.sex,
+                diet_change_kcal_per_day: comp.diet_change_kcal_per_day,
+            },
             r.mass_kg.iter().copied(),
             r.intake_kcal_per_day
                 .iter()
