@@ -2,6 +2,7 @@
 //! whose types cannot hold a value outside PLAN.md's allowed ranges.
 
 mod locate;
+pub mod participant;
 pub mod raw;
 pub mod starter;
 pub(crate) mod validate;
@@ -219,6 +220,37 @@ impl DoseAmount {
             DoseAmount::KcalPerWeek(_) => DoseAmount::KcalPerWeek(v),
             DoseAmount::KcalPerKgWeek(_) => DoseAmount::KcalPerKgWeek(v),
             DoseAmount::MinutesPerWeek(_) => DoseAmount::MinutesPerWeek(v),
+        }
+    }
+
+    /// The amount of kind `key` (a plan key, see [`DoseAmount::key`]).
+    pub fn of_key(key: &str, v: f64) -> Option<DoseAmount> {
+        match key {
+            "kcal_per_session" => Some(DoseAmount::KcalPerSession(v)),
+            "kcal_per_week" => Some(DoseAmount::KcalPerWeek(v)),
+            "kcal_per_kg_week" => Some(DoseAmount::KcalPerKgWeek(v)),
+            "minutes_per_week" => Some(DoseAmount::MinutesPerWeek(v)),
+            _ => None,
+        }
+    }
+
+    /// The allowed range of this kind, both ends included (PLAN.md): what a plan may
+    /// give and what the goal solver searches.
+    pub fn range(&self) -> (f64, f64) {
+        match self {
+            DoseAmount::KcalPerSession(_) => (10.0, 3000.0),
+            DoseAmount::KcalPerWeek(_) => (10.0, 15000.0),
+            DoseAmount::KcalPerKgWeek(_) => (0.5, 150.0),
+            DoseAmount::MinutesPerWeek(_) => (5.0, 2100.0),
+        }
+    }
+
+    /// The unit of [`DoseAmount::range`] in messages (" kcal", " minutes", ...).
+    pub fn range_unit(&self) -> &'static str {
+        match self {
+            DoseAmount::KcalPerSession(_) | DoseAmount::KcalPerWeek(_) => " kcal",
+            DoseAmount::KcalPerKgWeek(_) => " kcal/kg/week",
+            DoseAmount::MinutesPerWeek(_) => " minutes",
         }
     }
 

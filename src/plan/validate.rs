@@ -1,12 +1,13 @@
 //! Raw plan -> validated [`Plan`]: every range of PLAN.md, every one-of group, every
 //! error with file, line, column, key, value and what is allowed.
 
+use super::participant::{self, Field, fmt_num};
 use super::raw::*;
 use super::*;
 use crate::activity::{Activity, Intensity, compendium};
 use crate::error::Error;
 use crate::model::energy::{CalibrationError, calibrate};
-use crate::model::{Compensation, Constants, RestForNet, RmrEquation, Sex, Subject};
+use crate::model::{Compensation, Constants, RestForNet, RmrEquation, Subject};
 use std::ops::Range;
 
 /// Read and validate a plan file. A missing, unreadable or non-UTF-8 file is bad input.
@@ -245,16 +246,6 @@ pub(crate) struct Cx<'a> {
 /// (common practice, no source).
 pub const DEFAULT_EASY_MET: f64 = 2.5;
 
-fn fmt_num(v: f64) -> String {
-    if v.is_finite() && v == v.trunc() && v.abs() < 1e15 {
-        format!("{v:.0}")
-    } else if v.is_finite() && (v.abs() >= 1e15 || (v != 0.0 && v.abs() < 1e-6)) {
-        format!("{v:e}")
-    } else {
-        format!("{v}")
-    }
-}
-
 impl Cx<'_> {
     pub(crate) fn err(&self, span: &Range<usize>, key: &str, msg: impl Into<String>) -> Error {
         Error::at(self.file, self.src, span.start, key, msg)
@@ -284,6 +275,12 @@ impl Cx<'_> {
                 format!("missing required key; {hint}"),
             )
         })
+    }
+
+    /// A participant field, checked by the participant rules.
+    pub(crate) fn field(&self, v: &Num, f: Field) -> Result<f64, Error> {
+        f.check(*v.get_ref())
+            .map_err(|msg| self.err(&v.span(), &format!("participant.{}", f.key()), msg))
     }
 
     /// A finite number within `lo..=hi`.
@@ -669,57 +666,29 @@ impl Cx<'_> {
             "give a pseudonymous code such as \"R-104\" (never a name)",
         )?;
         if id.get_ref().trim().is_empty() {
-            return Err(self.err(
-                &id.span(),
-                "participant.id",
-                "empty; give a pseudonymous code such as \"R-104\"",
-            ));
+            return Err(self.err(&id.span(), "participant.id", participant::EMPTY_ID));
         }
         let sex = self.choice(
-            self.required(&p.sex, &t, tn, "sex", "allowed female, male")?,
+            self.required(&p.sex, &t, tn, "sex", &participant::sex_words())?,
             "participant.sex",
-            &[("female", Sex::Female), ("male", Sex::Male)],
+            &participant::SEXES,
         )?;
-        let age = self.number(
-            self.required(&p.age_years, &t, tn, "age_years", "allowed 18 to 100 years")?,
-            "participant.age_years",
-            18.0,
-            100.0,
-            " years",
-        )?;
-        let hv = self.required(&p.height_cm, &t, tn, "height_cm", "allowed 120 to 230 cm")?;
-        let hx = *hv.get_ref();
-        if hx.is_finite() && (1.2..=2.3).contains(&hx) {
-            return Err(self.err(&hv.span(), "participant.height_cm", format!("value {hx} looks like metres; give the height in centimetres (e.g. {:.0}); allowed 120 to 230 cm", hx * 100.0)));
-        }
-        let height = self.number(hv, "participant.height_cm", 120.0, 230.0, " cm")?;
-        let mv = self.required(&p.mass_kg, &t, tn, "mass_kg", "allowed 30 to 350 kg")?;
-        let mass = self.number(mv, "participant.mass_kg", 30.0, 350.0, " kg")?;
-        let b = crate::model::composition::bmi(mass, height);
-        if !(13.0..=80.0).contains(&b) {
-            return Err(self.err(&mv.span(), "participant.mass_kg", format!("value {} with height {} cm gives BMI {b:.1}, outside the allowed 13 to 80 kg/m^2; check the units (kg, cm; a mass in pounds must be converted)", fmt_num(mass), fmt_num(height))));
-        }
-        let bf = match &p.body_fat_percent {
-            Some(v) if v.get_ref().is_finite() && *v.get_ref() > 0.0 && *v.get_ref() < 1.0 => {
-                return Err(self.err(&v.span(), "participant.body_fat_percent", format!("value {} looks like a fraction; give a percent (e.g. {:.0}); allowed 3 to 70", v.get_ref(), v.get_ref() * 100.0)));
-            }
-            v => self.opt_number(v, "participant.body_fat_percent", 3.0, 70.0, " %")?,
+        let need = |v: &Option<Num>, f: Field| -> Result<f64, Error> {
+            let v = self.required(v, &t, tn, f.key(), &f.allowed())?;
+            self.field(v, f)
         };
-        let rmr = self.opt_number(
-            &p.rmr_kcal_per_day,
-            "participant.rmr_kcal_per_day",
-            600.0,
-            5000.0,
-            " kcal/day",
-        )?;
-        let intake = self.opt_number(
-            &p.intake_kcal_per_day,
-            "participant.intake_kcal_per_day",
-            500.0,
-            10000.0,
-            " kcal/day",
-        )?;
-        let pal = self.opt_number(&p.pal, "participant.pal", 1.1, 2.5, "")?;
+        let age = need(&p.age_years, Field::Age)?;
+        let height = need(&p.height_cm, Field::Height)?;
+        let mass = need(&p.mass_kg, Field::Mass)?;
+        if let Err(msg) = participant::check_bmi(mass, height) {
+            let mv = p.mass_kg.as_ref().expect("the mass was given");
+            return Err(self.err(&mv.span(), "participant.mass_kg", msg));
+        }
+        let opt = |v: &Option<Num>, f: Field| v.as_ref().map(|v| self.field(v, f)).transpose();
+        let bf = opt(&p.body_fat_percent, Field::BodyFat)?;
+        let rmr = opt(&p.rmr_kcal_per_day, Field::Rmr)?;
+        let intake = opt(&p.intake_kcal_per_day, Field::Intake)?;
+        let pal = opt(&p.pal, Field::Pal)?;
         let screening = p
             .screening
             .as_ref()
@@ -1179,18 +1148,9 @@ impl Cx<'_> {
             }
         };
         let key = format!("{tn}.{k}");
-        let amount = match k {
-            "kcal_per_session" => {
-                DoseAmount::KcalPerSession(self.number(v, &key, 10.0, 3000.0, " kcal")?)
-            }
-            "kcal_per_week" => {
-                DoseAmount::KcalPerWeek(self.number(v, &key, 10.0, 15000.0, " kcal")?)
-            }
-            "kcal_per_kg_week" => {
-                DoseAmount::KcalPerKgWeek(self.number(v, &key, 0.5, 150.0, " kcal/kg/week")?)
-            }
-            _ => DoseAmount::MinutesPerWeek(self.number(v, &key, 5.0, 2100.0, " minutes")?),
-        };
+        let kind = DoseAmount::of_key(k, 0.0).expect("one of the four dose keys");
+        let (lo, hi) = kind.range();
+        let amount = kind.with_value(self.number(v, &key, lo, hi, kind.range_unit())?);
         let basis = match &d.basis {
             Some(b) => self.choice(
                 b,

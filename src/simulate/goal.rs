@@ -59,14 +59,10 @@ pub fn resolution(amount: &DoseAmount) -> f64 {
     }
 }
 
-/// The allowed range of each dose kind (PLAN.md).
+/// The allowed range of each dose kind: [`DoseAmount::range`] (kept for callers
+/// outside the library core).
 pub fn allowed_range(amount: &DoseAmount) -> (f64, f64) {
-    match amount {
-        DoseAmount::KcalPerSession(_) => (10.0, 3000.0),
-        DoseAmount::KcalPerWeek(_) => (10.0, 15000.0),
-        DoseAmount::KcalPerKgWeek(_) => (0.5, 150.0),
-        DoseAmount::MinutesPerWeek(_) => (5.0, 2100.0),
-    }
+    amount.range()
 }
 
 /// The plan cut to `by_week` protocol weeks, with one scenario and the given dose.
@@ -155,7 +151,7 @@ fn solve_one(
     let amount = plan.protocol.dose.amount;
     let res = resolution(&amount);
     let per = (1.0 / res).round();
-    let (lo, hi) = allowed_range(&amount);
+    let (lo, hi) = amount.range();
     let dose_at = |k: i64| k as f64 / per;
     let k_lo = (lo * per - 1e-9).ceil() as i64;
     let mut k_hi = (hi * per + 1e-9).floor() as i64;
