@@ -157,6 +157,14 @@ impl<'a> Rhs<'a> {
     }
 }
 
+impl Physiology {
+    /// Every flux at `state` for a week whose bouts are `bouts` (X is their net energy
+    /// at the current mass and RMR, averaged over 7 days): [`Rhs::fluxes`].
+    pub fn fluxes(&self, comp: &Compensation, bouts: &[Bout], state: &BodyState) -> Fluxes {
+        Rhs::new(self, comp).fluxes(bouts, state)
+    }
+}
+
 impl Rhs<'_> {
     /// Every flux at `state` for a week whose bouts are `bouts` (X is their net energy
     /// at the current mass and RMR, averaged over 7 days).

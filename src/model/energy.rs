@@ -1,5 +1,5 @@
 //! Energy balance: calibration, expenditure and the fluxes of the ODE right-hand side
-//! (itself in [`crate::model::balance`]).
+//! (itself, with `Physiology::fluxes`, in the `balance` module).
 //!
 //! `rho_F dF/dt + rho_L dL/dt = EI - EE`, `EE = RMR + TEF + AE + X`, partitioned along
 //! the Forbes curve: `dF/dt = (EI - EE) / (rho_F + rho_L c_F / F)`, `dL/dt = (c_F / F) dF/dt`.
@@ -10,7 +10,6 @@
 
 use crate::activity::Intensity;
 use crate::activity::acsm::{ML_O2_PER_MET, gross_kcal_per_min};
-use crate::model::balance::Rhs;
 use crate::model::composition::{bmi, deurenberg_percent_fat};
 use crate::model::rmr::{RmrEquation, Sex};
 use serde::Serialize;
@@ -323,12 +322,6 @@ impl Physiology {
     /// participant's own resting rate (MODEL.md 4).
     pub fn relative_intensity(&self, met: f64, mass_kg: f64, rmr_kcal_per_day: f64) -> f64 {
         gross_kcal_per_min(met, mass_kg) / (rmr_kcal_per_day / MINUTES_PER_DAY)
-    }
-
-    /// Every flux at `state` for a week whose bouts are `bouts` (X is their net energy
-    /// at the current mass and RMR, averaged over 7 days): [`Rhs::fluxes`].
-    pub fn fluxes(&self, comp: &Compensation, bouts: &[Bout], state: &BodyState) -> Fluxes {
-        Rhs::new(self, comp).fluxes(bouts, state)
     }
 
     /// Energy stored relative to a reference state, kcal: `rho_F dF + rho_L dL`.

@@ -8,6 +8,7 @@ pub mod starter;
 pub(crate) mod validate;
 
 use crate::activity::Activity;
+pub use crate::activity::targets::{Fitness, HrMaxSource};
 use crate::model::{Compensation, Constants, Subject};
 use chrono::{NaiveDate, Weekday};
 use serde::Serialize;
@@ -103,40 +104,6 @@ pub struct Participant {
     pub screening: Option<Screening>,
     /// Measured fitness (`[participant.fitness]`), if recorded.
     pub fitness: Option<Fitness>,
-}
-
-/// How the maximum heart rate is known.
-#[derive(Debug, Clone, Copy, PartialEq, Serialize)]
-#[serde(rename_all = "kebab-case", tag = "kind", content = "bpm")]
-pub enum HrMaxSource {
-    /// Measured in a maximal test, beats/min.
-    Measured(f64),
-    /// 208 - 0.7 x age (Tanaka, Monahan and Seals 2001, J Am Coll Cardiol 37:153).
-    Tanaka,
-    /// 220 - age (the traditional estimate).
-    TwoTwentyMinusAge,
-}
-
-impl HrMaxSource {
-    /// The plan-file word.
-    pub fn name(self) -> &'static str {
-        match self {
-            HrMaxSource::Measured(_) => "measured",
-            HrMaxSource::Tanaka => "tanaka",
-            HrMaxSource::TwoTwentyMinusAge => "220-age",
-        }
-    }
-}
-
-/// Measured fitness: peak oxygen uptake and heart rates.
-#[derive(Debug, Clone, Copy, PartialEq, Serialize)]
-pub struct Fitness {
-    /// Peak oxygen uptake, l/min (held as mass changes).
-    pub vo2peak_l_min: Option<f64>,
-    /// Resting heart rate, beats/min.
-    pub hr_rest_bpm: Option<f64>,
-    /// Where the maximum heart rate comes from.
-    pub hr_max: HrMaxSource,
 }
 
 /// Answers for the ACSM 2015 pre-participation screening algorithm.

@@ -13,11 +13,13 @@ pub mod goal;
 pub mod integrate;
 pub mod observed;
 pub mod prescription;
+pub mod warnings;
 
 use crate::error::{Error, RangeError};
 use crate::model::energy::calibrate;
 use crate::model::{Baseline, BodyState, Bout, Compensation, Physiology};
 use crate::plan::{Plan, Scenario, weekday_name};
+pub use crate::study::randomise::splitmix64;
 use chrono::{Datelike, NaiveDate};
 use integrate::{State, body_of, integrate, state_of};
 use observed::Observed;
@@ -384,15 +386,6 @@ pub struct Attendance {
     pub probability: f64,
     /// The draw's key.
     pub key: u64,
-}
-
-/// SplitMix64 (Steele, Lea and Flood 2014, OOPSLA "Fast splittable pseudorandom number
-/// generators"): a well-mixed 64-bit hash of `x`.
-pub fn splitmix64(x: u64) -> u64 {
-    let mut z = x.wrapping_add(0x9E37_79B9_7F4A_7C15);
-    z = (z ^ (z >> 30)).wrapping_mul(0xBF58_476D_1CE4_E5B9);
-    z = (z ^ (z >> 27)).wrapping_mul(0x94D0_49BB_1331_11EB);
-    z ^ (z >> 31)
 }
 
 impl Attendance {

@@ -1,4 +1,5 @@
-//! The warnings a plan earns, each with a stable code (they go into the JSON too).
+//! The warnings a simulated plan or cohort earns, each with a stable code (they go
+//! into the JSON too). The thresholds are `safety::risk`'s.
 //!
 //! Thresholds: 300 min/week (US Physical Activity Guidelines 2018 upper range);
 //! loss above 1% of body mass a week (NHLBI 1998 target rate of 0.45-0.9 kg/week,
@@ -7,20 +8,11 @@
 use crate::activity::Intensity;
 use crate::activity::targets::{IntensityClass, relative_targets};
 use crate::plan::{OverMax, Plan};
+use crate::safety::Warning;
 use crate::safety::risk;
 pub use crate::safety::risk::intake_floor_kcal_per_day;
 use crate::safety::screening::{ScreeningOutcome, VIGOROUS_MET};
 use crate::simulate::{ScenarioRun, Simulation};
-use serde::Serialize;
-
-/// One warning.
-#[derive(Debug, Clone, PartialEq, Eq, Serialize)]
-pub struct Warning {
-    /// Stable machine-readable code.
-    pub code: &'static str,
-    /// Plain words.
-    pub message: String,
-}
 
 fn w(code: &'static str, message: String) -> Warning {
     Warning { code, message }
