@@ -49,7 +49,11 @@ pub(super) struct Rhs<'a> {
 }
 
 impl<'a> Rhs<'a> {
-    pub(super) fn new(physiology: &'a Physiology, compensation: &'a Compensation, bouts: &'a [Bout]) -> Self {
+    pub(super) fn new(
+        physiology: &'a Physiology,
+        compensation: &'a Compensation,
+        bouts: &'a [Bout],
+    ) -> Self {
         Rhs {
             rhs: balance::Rhs::new(physiology, compensation),
             bouts,
