@@ -1,9 +1,13 @@
 //! Plan files: raw TOML structs that mirror the file, and the validated [`Plan`]
 //! whose types cannot hold a value outside PLAN.md's allowed ranges.
 
+mod fields;
 mod locate;
+mod model_keys;
 pub mod participant;
+mod people;
 pub mod raw;
+mod schedule;
 pub mod starter;
 pub(crate) mod validate;
 
