@@ -299,34 +299,7 @@ impl Cx<'_> {
             (Some(d), None) => d,
             (None, _) => self.dose(self.required(&p.dose, &t, tn, "dose", "add a [protocol.dose] table with exactly one of kcal_per_session, kcal_per_week, kcal_per_kg_week, minutes_per_week")?, "protocol.dose")?,
         };
-        let ramp = match &p.ramp {
-            Some(r) => {
-                let rr = r.get_ref();
-                let rw = self.whole(
-                    self.required(
-                        &rr.weeks,
-                        &r.span(),
-                        "protocol.ramp",
-                        "weeks",
-                        &format!("allowed whole numbers 1 to {weeks}"),
-                    )?,
-                    "protocol.ramp.weeks",
-                    1,
-                    weeks,
-                )?;
-                let sf = match &rr.start_fraction {
-                    Some(v) => {
-                        self.number_above(v, "protocol.ramp.start_fraction", 0.0, 1.0, "")?
-                    }
-                    None => 0.5,
-                };
-                Some(Ramp {
-                    weeks: rw,
-                    start_fraction: sf,
-                })
-            }
-            None => None,
-        };
+        let ramp = p.ramp.as_ref().map(|r| self.ramp(r, weeks)).transpose()?;
         let warm_up = p
             .warm_up
             .as_ref()
@@ -337,25 +310,7 @@ impl Cx<'_> {
             .as_ref()
             .map(|e| self.easy(e, "protocol.cool_down"))
             .transpose()?;
-        let end = start + chrono::Days::new(7 * u64::from(weeks));
-        let mut closures: Vec<NaiveDate> = Vec::new();
-        if let Some(list) = &p.closures {
-            for v in list.get_ref() {
-                let d = self.date(v, "protocol.closures")?;
-                if d < start || d >= end {
-                    return Err(self.err(&v.span(), "protocol.closures", format!("{d} is outside the exercise weeks ({start} to {}); allowed dates within them", end.pred_opt().unwrap_or(end))));
-                }
-                if closures.contains(&d) {
-                    return Err(self.err(
-                        &v.span(),
-                        "protocol.closures",
-                        format!("{d} is listed twice; closure dates must be distinct"),
-                    ));
-                }
-                closures.push(d);
-            }
-        }
-        closures.sort();
+        let closures = self.closures(p.closures.as_ref(), start, weeks)?;
         let make_up = match &p.make_up {
             Some(v) => self.choice(
                 v,
@@ -380,6 +335,62 @@ impl Cx<'_> {
             closures,
             make_up,
         })
+    }
+
+    /// `[protocol.ramp]` within the protocol's `weeks`.
+    fn ramp(&self, r: &S<RawRamp>, weeks: u32) -> Result<Ramp, Error> {
+        let rr = r.get_ref();
+        let rw = self.whole(
+            self.required(
+                &rr.weeks,
+                &r.span(),
+                "protocol.ramp",
+                "weeks",
+                &format!("allowed whole numbers 1 to {weeks}"),
+            )?,
+            "protocol.ramp.weeks",
+            1,
+            weeks,
+        )?;
+        let sf = match &rr.start_fraction {
+            Some(v) => {
+                self.number_above(v, "protocol.ramp.start_fraction", 0.0, 1.0, "")?
+            }
+            None => 0.5,
+        };
+        Ok(Ramp {
+            weeks: rw,
+            start_fraction: sf,
+        })
+    }
+
+    /// `protocol.closures`: distinct dates within the exercise weeks, sorted.
+    fn closures(
+        &self,
+        list: Option<&S<Vec<S<RawDate>>>>,
+        start: NaiveDate,
+        weeks: u32,
+    ) -> Result<Vec<NaiveDate>, Error> {
+        let end = start + chrono::Days::new(7 * u64::from(weeks));
+        let mut closures: Vec<NaiveDate> = Vec::new();
+        if let Some(list) = list {
+            for v in list.get_ref() {
+                let d = self.date(v, "protocol.closures")?;
+                if d < start || d >= end {
+                    return Err(self.err(&v.span(), "protocol.closures", format!("{d} is outside the exercise weeks ({start} to {}); allowed dates within them", end.pred_opt().unwrap_or(end))));
+                }
+                if closures.contains(&d) {
+                    return Err(self.err(
+                        &v.span(),
+                        "protocol.closures",
+                        format!("{d} is listed twice; closure dates must be distinct"),
+                    ));
+                }
+                closures.push(d);
+            }
+        }
+        closures.sort();
+        Ok(closures)
     }
 
     /// A warm-up or cool-down table.
