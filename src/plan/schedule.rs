@@ -353,9 +353,7 @@ impl Cx<'_> {
             weeks,
         )?;
         let sf = match &rr.start_fraction {
-            Some(v) => {
-                self.number_above(v, "protocol.ramp.start_fraction", 0.0, 1.0, "")?
-            }
+            Some(v) => self.number_above(v, "protocol.ramp.start_fraction", 0.0, 1.0, "")?,
             None => 0.5,
         };
         Ok(Ramp {
