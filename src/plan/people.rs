@@ -27,7 +27,13 @@ impl Cx<'_> {
             return Err(self.err(&id.span(), "participant.id", participant::EMPTY_ID));
         }
         let sex = self.choice(
-            self.required(&p.sex, &t, tn, "sex", &participant::sex_words())?,
+            self.required(
+                &p.sex,
+                &t,
+                tn,
+                "sex",
+                &format!("allowed {}", participant::sex_words()),
+            )?,
             "participant.sex",
             &participant::SEXES,
         )?;

@@ -142,6 +142,47 @@ pub fn solve_observed(
         .collect()
 }
 
+/// Why the goal is out of reach when even the largest dose the model accepts
+/// (`largest`, with its unit; its run `top`) does not lose enough by week `n`.
+fn out_of_reach(plan: &Plan, sc: &Scenario, n: u32, top: &Run, largest: &str) -> String {
+    let c = &sc.compensation;
+    let beta = plan.constants.tef_fraction;
+    let eaten = c.intake_fraction * (1.0 - beta) + c.activity_fraction;
+    if eaten >= 1.0 {
+        format!(
+            "compensation eats the dose: {:.0}% of exercise energy is offset (intake {:.0}% less its TEF, activity {:.0}%), so more exercise does not bring more loss",
+            eaten * 100.0,
+            c.intake_fraction * 100.0,
+            c.activity_fraction * 100.0
+        )
+    } else {
+        let capped = top.weeks.iter().any(|w| w.over_max.is_some());
+        let minutes = top
+            .weeks
+            .iter()
+            .map(|w| w.minutes_per_session)
+            .max()
+            .unwrap_or(0);
+        let cap_note = match (
+            capped,
+            plan.protocol.over_max,
+            plan.protocol.max_session_minutes,
+        ) {
+            (true, crate::plan::OverMax::Cap, Some(max)) => format!(
+                "; the plan caps sessions at {max:.0} min, which limits the energy any dose can deliver"
+            ),
+            (true, _, _) => {
+                format!("; sessions reach {minutes} min, beyond the plan's maximum")
+            }
+            _ => String::new(),
+        };
+        format!(
+            "out of reach by week {n}: the largest dose the model accepts ({largest}) loses only {:.2} kg{cap_note}",
+            top.loss_kg
+        )
+    }
+}
+
 fn solve_one(
     plan: &Plan,
     sc: &Scenario,
@@ -210,45 +251,9 @@ fn solve_one(
             valid(good)?.expect("checked valid")
         }
     };
-    let c = &sc.compensation;
-    let beta = plan.constants.tef_fraction;
-    let eaten = c.intake_fraction * (1.0 - beta) + c.activity_fraction;
     if top.loss_kg < req.lose_kg {
-        answer.reason = Some(if eaten >= 1.0 {
-            format!(
-                "compensation eats the dose: {:.0}% of exercise energy is offset (intake {:.0}% less its TEF, activity {:.0}%), so more exercise does not bring more loss",
-                eaten * 100.0,
-                c.intake_fraction * 100.0,
-                c.activity_fraction * 100.0
-            )
-        } else {
-            let capped = top.weeks.iter().any(|w| w.over_max.is_some());
-            let minutes = top
-                .weeks
-                .iter()
-                .map(|w| w.minutes_per_session)
-                .max()
-                .unwrap_or(0);
-            let cap_note = match (
-                capped,
-                plan.protocol.over_max,
-                plan.protocol.max_session_minutes,
-            ) {
-                (true, crate::plan::OverMax::Cap, Some(max)) => format!(
-                    "; the plan caps sessions at {max:.0} min, which limits the energy any dose can deliver"
-                ),
-                (true, _, _) => {
-                    format!("; sessions reach {minutes} min, beyond the plan's maximum")
-                }
-                _ => String::new(),
-            };
-            format!(
-                "out of reach by week {n}: the largest dose the model accepts ({} {}) loses only {:.2} kg{cap_note}",
-                dose_at(k_hi),
-                amount.unit(),
-                top.loss_kg
-            )
-        });
+        let largest = format!("{} {}", dose_at(k_hi), amount.unit());
+        answer.reason = Some(out_of_reach(plan, sc, n, &top, &largest));
         return Ok(answer);
     }
     // Smallest k with loss >= X: invariant loss(k_low) < X <= loss(k_high).

@@ -295,60 +295,20 @@ pub fn prescribe(
     let step = p.round_minutes_to;
     let longest = |s: &[Draft]| s.iter().map(|d| d.minutes).fold(0.0, f64::max);
     let minutes_unrounded = longest(&sessions);
-    let mut over_max = None;
     // Rounded minutes at target of each bout of a session.
     let bout_minutes = |d: &Draft| round_up(d.minutes / f64::from(bouts_per_session), step);
-    let mut cap_to: Option<u32> = None;
-    if let Some(max) = p.max_session_minutes {
-        let before = sessions
-            .iter()
-            .map(|d| round_up(d.minutes, step))
-            .max()
-            .unwrap_or(0);
-        if f64::from(before) > max {
-            let mut note = OverMaxNote {
-                policy: p.over_max,
-                minutes_before: before,
-                shortfall_kcal: 0.0,
-                added_sessions: 0,
-                still_over: false,
-            };
-            match p.over_max {
-                OverMax::Flag => note.still_over = true,
-                OverMax::Cap => {
-                    let capped = cap_minutes(max, step);
-                    note.shortfall_kcal = sessions
-                        .iter()
-                        .map(|d| (d.minutes - f64::from(capped)).max(0.0) * d.e)
-                        .fold(0.0, |a, b| a + b);
-                    cap_to = Some(capped);
-                }
-                OverMax::AddSession => {
-                    let extras = extra_days(plan);
-                    let how = (n, share, easy == 0.0 || target.is_none());
-                    let mut chosen = extras.len();
-                    for k in 1..=extras.len() {
-                        let fits = trial(&sessions, &extras[..k], week_start, how, &draft)
-                            .iter()
-                            .all(|d| f64::from(round_up(d.minutes, step)) <= max);
-                        if fits {
-                            chosen = k;
-                            break;
-                        }
-                    }
-                    sessions = trial(&sessions, &extras[..chosen], week_start, how, &draft);
-                    note.added_sessions = chosen as u32;
-                    note.still_over = sessions
-                        .iter()
-                        .any(|d| f64::from(round_up(d.minutes, step)) > max);
-                }
-                OverMax::Split => {
-                    note.still_over = sessions.iter().any(|d| f64::from(bout_minutes(d)) > max);
-                }
-            }
-            over_max = Some(note);
-        }
-    }
+    let how = (n, share, easy == 0.0 || target.is_none());
+    let (over_max, cap_to) = match p.max_session_minutes {
+        Some(max) => over_max_policy(
+            plan,
+            max,
+            &mut sessions,
+            (week_start, how),
+            &draft,
+            bouts_per_session,
+        ),
+        None => (None, None),
+    };
     let rounded = |d: &Draft| match cap_to {
         Some(c) => round_up(d.minutes, step).min(c),
         None => bout_minutes(d),
@@ -375,24 +335,9 @@ pub fn prescribe(
             .fold(0.0, |a, b| a + b);
         let mut made_up = 0.0;
         if p.make_up == MakeUp::Spread && !open.is_empty() {
-            let each = lost / open.len() as f64;
             let limit = p.max_session_minutes.map(|max| cap_minutes(max, step));
-            for (d, m) in &mut minutes {
-                let extra_minutes = if energy_dose { each / d.e } else { each };
-                let want = round_up(
-                    (f64::from(*m * bouts_per_session) + extra_minutes)
-                        / f64::from(bouts_per_session),
-                    step,
-                );
-                let new = match limit {
-                    Some(l) => want.min(l.max(*m)),
-                    None => want,
-                };
-                let gained = f64::from((new - *m) * bouts_per_session);
-                made_up += if energy_dose { gained * d.e } else { gained };
-                d.minutes += gained;
-                *m = new;
-            }
+            let how = (energy_dose, bouts_per_session, step, limit);
+            made_up = spread(&mut minutes, lost / open.len() as f64, how);
         }
         make_up = Some(MakeUpNote {
             rule: p.make_up,
@@ -438,6 +383,99 @@ pub fn prescribe(
         closed: closed.iter().map(|d| d.date).collect(),
         make_up,
     }
+}
+
+/// What the over-maximum policy does to a week's `sessions` when one would be longer
+/// than `max` minutes: the note, and the capped length with `cap`. `add-session`
+/// replaces the sessions with the week shared over added days (see [`trial`]).
+fn over_max_policy(
+    plan: &Plan,
+    max: f64,
+    sessions: &mut Vec<Draft>,
+    (week_start, how): (NaiveDate, (f64, f64, bool)),
+    draft: &impl Fn(NaiveDate, f64) -> Draft,
+    bouts_per_session: u32,
+) -> (Option<OverMaxNote>, Option<u32>) {
+    let p = &plan.protocol;
+    let step = p.round_minutes_to;
+    let bout_minutes = |d: &Draft| round_up(d.minutes / f64::from(bouts_per_session), step);
+    let mut cap_to = None;
+    let before = sessions
+        .iter()
+        .map(|d| round_up(d.minutes, step))
+        .max()
+        .unwrap_or(0);
+    if f64::from(before) > max {
+        let mut note = OverMaxNote {
+            policy: p.over_max,
+            minutes_before: before,
+            shortfall_kcal: 0.0,
+            added_sessions: 0,
+            still_over: false,
+        };
+        match p.over_max {
+            OverMax::Flag => note.still_over = true,
+            OverMax::Cap => {
+                let capped = cap_minutes(max, step);
+                note.shortfall_kcal = sessions
+                    .iter()
+                    .map(|d| (d.minutes - f64::from(capped)).max(0.0) * d.e)
+                    .fold(0.0, |a, b| a + b);
+                cap_to = Some(capped);
+            }
+            OverMax::AddSession => {
+                let extras = extra_days(plan);
+                let mut chosen = extras.len();
+                for k in 1..=extras.len() {
+                    let fits = trial(sessions, &extras[..k], week_start, how, draft)
+                        .iter()
+                        .all(|d| f64::from(round_up(d.minutes, step)) <= max);
+                    if fits {
+                        chosen = k;
+                        break;
+                    }
+                }
+                *sessions = trial(sessions, &extras[..chosen], week_start, how, draft);
+                note.added_sessions = chosen as u32;
+                note.still_over = sessions
+                    .iter()
+                    .any(|d| f64::from(round_up(d.minutes, step)) > max);
+            }
+            OverMax::Split => {
+                note.still_over = sessions.iter().any(|d| f64::from(bout_minutes(d)) > max);
+            }
+        }
+        return (Some(note), cap_to);
+    }
+    (None, None)
+}
+
+/// `spread`: the open sessions (with their rounded minutes) each take `each` of the
+/// dose lost to closures (kcal with an energy dose, else minutes), no longer than the
+/// limit (or their own planned length, when that is already longer); the dose given
+/// back.
+fn spread(
+    minutes: &mut [(Draft, u32)],
+    each: f64,
+    (energy_dose, bouts_per_session, step, limit): (bool, u32, u32, Option<u32>),
+) -> f64 {
+    let mut made_up = 0.0;
+    for (d, m) in minutes {
+        let extra_minutes = if energy_dose { each / d.e } else { each };
+        let want = round_up(
+            (f64::from(*m * bouts_per_session) + extra_minutes) / f64::from(bouts_per_session),
+            step,
+        );
+        let new = match limit {
+            Some(l) => want.min(l.max(*m)),
+            None => want,
+        };
+        let gained = f64::from((new - *m) * bouts_per_session);
+        made_up += if energy_dose { gained * d.e } else { gained };
+        d.minutes += gained;
+        *m = new;
+    }
+    made_up
 }
 
 /// The sessions with `add-session` and the extra weekdays `extras`: the week's dose

@@ -365,12 +365,11 @@ pub fn study_is_vigorous(study: &crate::study::Study) -> bool {
         .any(|a| a.intensity.met_at(70.0) >= VIGOROUS_MET)
 }
 
-/// Warnings of a cohort: sessions over the maximum per arm, and the screening,
-/// estimated body fat and age notes counted over participants.
-pub fn cohort_warnings(
+/// The warnings about the roster's participants themselves: screening, clearance,
+/// vigorous start, estimated fat mass, older adults.
+fn member_warnings(
     study: &crate::study::Study,
     members: &[crate::simulate::cohort::Member],
-    summary: &crate::simulate::cohort::CohortSummary,
 ) -> Vec<Warning> {
     let mut out = Vec::new();
     let ids = |f: &dyn Fn(&crate::simulate::cohort::Member) -> bool| -> (usize, String) {
@@ -415,6 +414,17 @@ pub fn cohort_warnings(
     if n > 0 {
         out.push(w("older-adult-met", format!("{n} participant(s) are 60 or older: standard METs assume 3.5 ml/kg/min at rest and tend to overstate their cost of activity (Willis et al. 2024, J Sport Health Sci 13:13), so their minutes may be too few for the energy target")));
     }
+    out
+}
+
+/// Warnings of a cohort: sessions over the maximum per arm, and the screening,
+/// estimated body fat and age notes counted over participants.
+pub fn cohort_warnings(
+    study: &crate::study::Study,
+    members: &[crate::simulate::cohort::Member],
+    summary: &crate::simulate::cohort::CohortSummary,
+) -> Vec<Warning> {
+    let mut out = member_warnings(study, members);
     // Measured intake and PAL that disagree: the participant drifts before any
     // exercise, in every arm (as `schedule` warns for one plan).
     let drifting: Vec<String> = members

@@ -231,9 +231,10 @@ pub fn simulate_member(
         }
         let mut per_scenario: Vec<Vec<RunSummary>> = Vec::new();
         for (si, sc) in dr.scenarios.iter().enumerate() {
-            if req.integrator == Integrator::Rk4
-                && plans.iter().all(crate::simulate::fast::eligible)
-                && let Some(row) = fast_row(
+            let fast = (req.integrator == Integrator::Rk4
+                && plans.iter().all(crate::simulate::fast::eligible))
+            .then(|| {
+                fast_row(
                     study,
                     &arms,
                     plans,
@@ -244,78 +245,30 @@ pub fn simulate_member(
                     si,
                     req,
                 )
-            {
-                per_scenario.push(
-                    row.into_iter()
-                        .map(|mut s| {
-                            s.draw = d;
-                            s.completed = dr.last_exercise_week.is_none();
-                            s
-                        })
-                        .collect(),
-                );
-                continue;
-            }
-            let mode = |plan: &Plan, exercise: bool| RunMode {
-                exercise,
-                integrator: req.integrator,
-                attendance: dr.attendance,
-                last_exercise_week: dr.last_exercise_week,
-                ..RunMode::projection(plan)
+            })
+            .flatten();
+            let row = match fast {
+                Some(row) => row,
+                None => full_row(
+                    study,
+                    &arms,
+                    plans,
+                    (&physiology, &baseline),
+                    sc,
+                    &dr,
+                    si,
+                    req,
+                )?,
             };
-            let without = run(
-                &plans[0],
-                &physiology,
-                &baseline,
-                sc,
-                mode(&plans[0], false),
-                None,
-            )?;
-            let deficits: Vec<f64> = without
-                .weeks
-                .iter()
-                .map(|w| w.end.achieved_deficit_kcal)
-                .collect();
-            let mut row = Vec::with_capacity(arms.len());
-            for (a, plan) in arms.iter().zip(plans) {
-                let control = study.arms[*a].is_control();
-                let slot = Slot {
-                    arm: *a,
-                    scenario: si,
-                    control,
-                };
-                let mut summary = if control {
-                    summarise_run(
-                        plan,
-                        slot,
-                        &without,
-                        &baseline,
-                        &req.checkpoints,
-                        &sc.compensation,
-                    )
-                } else {
-                    let out = run(
-                        plan,
-                        &physiology,
-                        &baseline,
-                        sc,
-                        mode(plan, true),
-                        Some(&deficits),
-                    )?;
-                    summarise_run(
-                        plan,
-                        slot,
-                        &out,
-                        &baseline,
-                        &req.checkpoints,
-                        &sc.compensation,
-                    )
-                };
-                summary.draw = d;
-                summary.completed = dr.last_exercise_week.is_none();
-                row.push(summary);
-            }
-            per_scenario.push(row);
+            per_scenario.push(
+                row.into_iter()
+                    .map(|mut s| {
+                        s.draw = d;
+                        s.completed = dr.last_exercise_week.is_none();
+                        s
+                    })
+                    .collect(),
+            );
         }
         for ai in 0..arms.len() {
             for row in &per_scenario {
@@ -327,4 +280,77 @@ pub fn simulate_member(
         baseline_mass_kg,
         runs,
     })
+}
+
+/// One scenario of one draw in every arm by the general driver (with the draw's
+/// integrator): the no-exercise run once, as the control arm and the counterfactual.
+#[allow(clippy::too_many_arguments)]
+fn full_row(
+    study: &Study,
+    arms: &[usize],
+    plans: &[Plan],
+    (physiology, baseline): (&crate::model::Physiology, &crate::model::Baseline),
+    sc: &crate::plan::Scenario,
+    dr: &Draw,
+    si: usize,
+    req: &CohortRequest,
+) -> Result<Vec<RunSummary>, Error> {
+    let mode = |plan: &Plan, exercise: bool| RunMode {
+        exercise,
+        integrator: req.integrator,
+        attendance: dr.attendance,
+        last_exercise_week: dr.last_exercise_week,
+        ..RunMode::projection(plan)
+    };
+    let without = run(
+        &plans[0],
+        physiology,
+        baseline,
+        sc,
+        mode(&plans[0], false),
+        None,
+    )?;
+    let deficits: Vec<f64> = without
+        .weeks
+        .iter()
+        .map(|w| w.end.achieved_deficit_kcal)
+        .collect();
+    let mut row = Vec::with_capacity(arms.len());
+    for (a, plan) in arms.iter().zip(plans) {
+        let control = study.arms[*a].is_control();
+        let slot = Slot {
+            arm: *a,
+            scenario: si,
+            control,
+        };
+        let summary = if control {
+            summarise_run(
+                plan,
+                slot,
+                &without,
+                baseline,
+                &req.checkpoints,
+                &sc.compensation,
+            )
+        } else {
+            let out = run(
+                plan,
+                physiology,
+                baseline,
+                sc,
+                mode(plan, true),
+                Some(&deficits),
+            )?;
+            summarise_run(
+                plan,
+                slot,
+                &out,
+                baseline,
+                &req.checkpoints,
+                &sc.compensation,
+            )
+        };
+        row.push(summary);
+    }
+    Ok(row)
 }
