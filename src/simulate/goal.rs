@@ -51,6 +51,24 @@ pub struct GoalAnswer {
     pub reason: Option<String>,
 }
 
+impl GoalAnswer {
+    /// The answer for scenario `sc` before a search: not reached, nothing found.
+    fn unreached(sc: &Scenario, amount: &DoseAmount) -> GoalAnswer {
+        GoalAnswer {
+            name: sc.name.clone(),
+            reachable: false,
+            dose: None,
+            dose_unit: amount.key(),
+            resolution: resolution(amount),
+            minutes_week1: None,
+            minutes_goal_week: None,
+            loss_kg: None,
+            loss_one_step_lower_kg: None,
+            reason: None,
+        }
+    }
+}
+
 /// The resolution of the reported dose: 0.1 for kcal/kg/week, 1 for kcal and minutes.
 pub fn resolution(amount: &DoseAmount) -> f64 {
     match amount {
@@ -197,18 +215,7 @@ fn solve_one(
     let k_lo = (lo * per - 1e-9).ceil() as i64;
     let mut k_hi = (hi * per + 1e-9).floor() as i64;
     let n = req.by_week;
-    let mut answer = GoalAnswer {
-        name: sc.name.clone(),
-        reachable: false,
-        dose: None,
-        dose_unit: amount.key(),
-        resolution: res,
-        minutes_week1: None,
-        minutes_goal_week: None,
-        loss_kg: None,
-        loss_one_step_lower_kg: None,
-        reason: None,
-    };
+    let mut answer = GoalAnswer::unreached(sc, &amount);
     let without = loss_without(plan, sc, n)?;
     if without >= req.lose_kg {
         answer.reachable = true;

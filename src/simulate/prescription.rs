@@ -268,24 +268,18 @@ pub fn prescribe(
     } else {
         0.0
     };
-    let e_of = |activity: usize| {
-        if activity == 0 {
-            e_main
-        } else {
-            basis_kcal_per_min(plan, physiology, &plan.activity_at(activity).intensity, r)
-        }
-    };
-    let minutes_for =
-        |share: f64, e: f64, easy_parts: f64| dose.minutes_at_target(share, e, easy, easy_parts);
     let bouts_per_session = if split { 2 } else { 1 };
     let draft = |date: NaiveDate, share: f64| {
         let activity = plan.activity_index_on(date.weekday());
-        let e = e_of(activity);
+        let e = match activity {
+            0 => e_main,
+            a => basis_kcal_per_min(plan, physiology, &plan.activity_at(a).intensity, r),
+        };
         Draft {
             date,
             activity,
             e,
-            minutes: minutes_for(share, e, f64::from(bouts_per_session)),
+            minutes: dose.minutes_at_target(share, e, easy, f64::from(bouts_per_session)),
         }
     };
     let mut sessions: Vec<Draft> = dates_in_week(week_start, &p.session_days)
@@ -293,8 +287,7 @@ pub fn prescribe(
         .map(|d| draft(d, share))
         .collect();
     let step = p.round_minutes_to;
-    let longest = |s: &[Draft]| s.iter().map(|d| d.minutes).fold(0.0, f64::max);
-    let minutes_unrounded = longest(&sessions);
+    let minutes_unrounded = sessions.iter().map(|d| d.minutes).fold(0.0, f64::max);
     // Rounded minutes at target of each bout of a session.
     let bout_minutes = |d: &Draft| round_up(d.minutes / f64::from(bouts_per_session), step);
     let how = (n, share, easy == 0.0 || target.is_none());
@@ -347,18 +340,7 @@ pub fn prescribe(
             unit: if energy_dose { "kcal" } else { "min" },
         });
     }
-    let bouts: Vec<PlannedBout> = minutes
-        .iter()
-        .flat_map(|(d, m)| {
-            (1..=bouts_per_session).map(move |b| PlannedBout {
-                date: d.date,
-                activity: d.activity,
-                minutes: *m,
-                bout: split.then_some(b),
-                unrounded: d.minutes / f64::from(bouts_per_session),
-            })
-        })
-        .collect();
+    let bouts = planned_bouts(&minutes, bouts_per_session, split);
     // Saturating: a near-zero energy per minute gives u32::MAX-minute bouts, which
     // the driver then reports as longer than a day (never wraps to 0).
     let minutes_per_session = minutes
@@ -383,6 +365,26 @@ pub fn prescribe(
         closed: closed.iter().map(|d| d.date).collect(),
         make_up,
     }
+}
+
+/// The dated bouts of the open sessions: one per session, or two with `split`.
+fn planned_bouts(
+    minutes: &[(Draft, u32)],
+    bouts_per_session: u32,
+    split: bool,
+) -> Vec<PlannedBout> {
+    minutes
+        .iter()
+        .flat_map(|(d, m)| {
+            (1..=bouts_per_session).map(move |b| PlannedBout {
+                date: d.date,
+                activity: d.activity,
+                minutes: *m,
+                bout: split.then_some(b),
+                unrounded: d.minutes / f64::from(bouts_per_session),
+            })
+        })
+        .collect()
 }
 
 /// What the over-maximum policy does to a week's `sessions` when one would be longer
