@@ -245,6 +245,61 @@ impl Cx<'_> {
             }
             None => Vec::new(),
         };
+        let (max_session_minutes, over_max, round_minutes_to) =
+            self.session_limits(rp, &session_days, &spare_days)?;
+        let dose = match (arm_dose, &p.dose) {
+            (Some(_), Some(d)) => return Err(self.err(&d.span(), "protocol.dose", "a study gives the dose in each [[arm]], not in [protocol]; move it to an arm's dose = { ... }")),
+            (Some(d), None) => d,
+            (None, _) => self.dose(self.required(&p.dose, &t, tn, "dose", "add a [protocol.dose] table with exactly one of kcal_per_session, kcal_per_week, kcal_per_kg_week, minutes_per_week")?, "protocol.dose")?,
+        };
+        let ramp = p.ramp.as_ref().map(|r| self.ramp(r, weeks)).transpose()?;
+        let warm_up = p
+            .warm_up
+            .as_ref()
+            .map(|e| self.easy(e, "protocol.warm_up"))
+            .transpose()?;
+        let cool_down = p
+            .cool_down
+            .as_ref()
+            .map(|e| self.easy(e, "protocol.cool_down"))
+            .transpose()?;
+        let closures = self.closures(p.closures.as_ref(), start, weeks)?;
+        let make_up = match &p.make_up {
+            Some(v) => self.choice(
+                v,
+                "protocol.make_up",
+                &[("none", MakeUp::None), ("spread", MakeUp::Spread)],
+            )?,
+            None => MakeUp::None,
+        };
+        Ok(Protocol {
+            start,
+            weeks,
+            follow_up_weeks,
+            session_days,
+            spare_days,
+            max_session_minutes,
+            over_max,
+            round_minutes_to,
+            dose,
+            ramp,
+            warm_up,
+            cool_down,
+            closures,
+            make_up,
+        })
+    }
+
+    /// `max_session_minutes`, `over_max` and `round_minutes_to`, checked together
+    /// with the session and spare days.
+    fn session_limits(
+        &self,
+        rp: &S<RawProtocol>,
+        session_days: &[Weekday],
+        spare_days: &[Weekday],
+    ) -> Result<(Option<f64>, OverMax, u32), Error> {
+        let t = rp.span();
+        let p = rp.get_ref();
         let max_session_minutes = self.opt_number(
             &p.max_session_minutes,
             "protocol.max_session_minutes",
@@ -294,47 +349,7 @@ impl Cx<'_> {
             let span = p.over_max.as_ref().map_or(t.clone(), |v| v.span());
             return Err(self.err(&span, "protocol.over_max", "\"add-session\" needs a free weekday, but all seven are session days; use \"split\" or \"cap\""));
         }
-        let dose = match (arm_dose, &p.dose) {
-            (Some(_), Some(d)) => return Err(self.err(&d.span(), "protocol.dose", "a study gives the dose in each [[arm]], not in [protocol]; move it to an arm's dose = { ... }")),
-            (Some(d), None) => d,
-            (None, _) => self.dose(self.required(&p.dose, &t, tn, "dose", "add a [protocol.dose] table with exactly one of kcal_per_session, kcal_per_week, kcal_per_kg_week, minutes_per_week")?, "protocol.dose")?,
-        };
-        let ramp = p.ramp.as_ref().map(|r| self.ramp(r, weeks)).transpose()?;
-        let warm_up = p
-            .warm_up
-            .as_ref()
-            .map(|e| self.easy(e, "protocol.warm_up"))
-            .transpose()?;
-        let cool_down = p
-            .cool_down
-            .as_ref()
-            .map(|e| self.easy(e, "protocol.cool_down"))
-            .transpose()?;
-        let closures = self.closures(p.closures.as_ref(), start, weeks)?;
-        let make_up = match &p.make_up {
-            Some(v) => self.choice(
-                v,
-                "protocol.make_up",
-                &[("none", MakeUp::None), ("spread", MakeUp::Spread)],
-            )?,
-            None => MakeUp::None,
-        };
-        Ok(Protocol {
-            start,
-            weeks,
-            follow_up_weeks,
-            session_days,
-            spare_days,
-            max_session_minutes,
-            over_max,
-            round_minutes_to,
-            dose,
-            ramp,
-            warm_up,
-            cool_down,
-            closures,
-            make_up,
-        })
+        Ok((max_session_minutes, over_max, round_minutes_to))
     }
 
     /// `[protocol.ramp]` within the protocol's `weeks`.
