@@ -160,3 +160,40 @@ pub fn sex(word: &str) -> Result<Sex, String> {
 pub fn sex_words() -> String {
     SEXES.iter().map(|s| s.0).collect::<Vec<_>>().join(", ")
 }
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn each_field_checks_its_range_and_its_wrong_units() {
+        assert_eq!(Field::Age.check(18.0), Ok(18.0));
+        assert_eq!(
+            Field::Age.check(17.5),
+            Err("value 17.5 is out of range; allowed 18 to 100 years".to_string())
+        );
+        assert!(
+            Field::Height
+                .check(1.75)
+                .unwrap_err()
+                .contains("looks like metres")
+        );
+        assert!(
+            Field::BodyFat
+                .check(0.25)
+                .unwrap_err()
+                .contains("looks like a fraction")
+        );
+        assert!(
+            Field::Pal
+                .check(f64::NAN)
+                .unwrap_err()
+                .contains("not a finite number")
+        );
+        // BMI 13 to 80: 60 kg at 170 cm is 20.8 kg/m^2; 20 kg at 170 cm is 6.9.
+        assert!(check_bmi(60.0, 170.0).is_ok());
+        assert!(check_bmi(20.0, 170.0).unwrap_err().contains("BMI 6.9"));
+        assert_eq!(sex("male"), Ok(Sex::Male));
+        assert!(sex("m").is_err());
+    }
+}

@@ -117,3 +117,39 @@ impl RunRisks {
         r
     }
 }
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn thresholds_at_their_edges() {
+        // BMI 18.5 at 170 cm is 18.5 x 1.7^2 = 53.465 kg (WHO cut-off, computed here).
+        assert!(underweight(53.4, 170.0));
+        assert!(!underweight(53.5, 170.0));
+        // 1% of 100 kg is 1 kg a week.
+        assert!(loss_too_fast(100.0, 98.9));
+        assert!(!loss_too_fast(100.0, 99.1));
+        assert!(weekly_minutes_over(301));
+        assert!(!weekly_minutes_over(300));
+        assert!(intake_below_floor(1199.0, Sex::Female));
+        assert!(!intake_below_floor(1200.0, Sex::Female));
+        assert!(intake_below_floor(1499.0, Sex::Male));
+    }
+
+    #[test]
+    fn intake_signs_need_a_planned_cut() {
+        let who = |diet: f64| RiskSubject {
+            baseline_mass_kg: 80.0,
+            height_cm: 175.0,
+            sex: Sex::Female,
+            diet_change_kcal_per_day: diet,
+        };
+        let low = || [(1000.0, 1400.0)].into_iter();
+        let without = RunRisks::of(&who(0.0), [80.0].into_iter(), low(), [0].into_iter());
+        assert!(!without.intake_below_rmr && !without.intake_below_floor);
+        let cut = RunRisks::of(&who(-300.0), [80.0].into_iter(), low(), [0].into_iter());
+        assert!(cut.intake_below_rmr && cut.intake_below_floor);
+        assert!(!cut.loss_rate_over_1_percent && !cut.bmi_below_18_5);
+    }
+}
