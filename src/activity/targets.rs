@@ -9,8 +9,41 @@
 //! Med Sci Sports Exerc 14:377 (the 6-20 scale).
 
 use super::acsm::ML_O2_PER_MET;
-use crate::plan::{Fitness, HrMaxSource};
 use serde::Serialize;
+
+/// How the maximum heart rate is known.
+#[derive(Debug, Clone, Copy, PartialEq, Serialize)]
+#[serde(rename_all = "kebab-case", tag = "kind", content = "bpm")]
+pub enum HrMaxSource {
+    /// Measured in a maximal test, beats/min.
+    Measured(f64),
+    /// 208 - 0.7 x age (Tanaka, Monahan and Seals 2001, J Am Coll Cardiol 37:153).
+    Tanaka,
+    /// 220 - age (the traditional estimate).
+    TwoTwentyMinusAge,
+}
+
+impl HrMaxSource {
+    /// The plan-file word.
+    pub fn name(self) -> &'static str {
+        match self {
+            HrMaxSource::Measured(_) => "measured",
+            HrMaxSource::Tanaka => "tanaka",
+            HrMaxSource::TwoTwentyMinusAge => "220-age",
+        }
+    }
+}
+
+/// Measured fitness: peak oxygen uptake and heart rates.
+#[derive(Debug, Clone, Copy, PartialEq, Serialize)]
+pub struct Fitness {
+    /// Peak oxygen uptake, l/min (held as mass changes).
+    pub vo2peak_l_min: Option<f64>,
+    /// Resting heart rate, beats/min.
+    pub hr_rest_bpm: Option<f64>,
+    /// Where the maximum heart rate comes from.
+    pub hr_max: HrMaxSource,
+}
 
 /// Oxygen uptake at a fraction of the VO2 reserve, ml/kg/min:
 /// `VO2 = f (VO2peak - 3.5) + 3.5` (ACSM GETP 10th ed.).

@@ -164,9 +164,9 @@ pub fn run(args: &CohortArgs) -> Result<Printed, Error> {
         comparisons: Vec::new(),
         screening: report::cohort::screening_counts(
             &members,
-            crate::safety::warnings::study_is_vigorous(&study),
+            crate::simulate::warnings::study_is_vigorous(&study),
         ),
-        warnings: crate::safety::warnings::cohort_warnings(&study, &members, &summary),
+        warnings: crate::simulate::warnings::cohort_warnings(&study, &members, &summary),
         cautions: crate::safety::CAUTIONS.to_vec(),
         // One row per run, for the CSV only.
         rows: if args.format == CohortFormat::Csv {

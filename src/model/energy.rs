@@ -1,4 +1,5 @@
-//! Energy balance: expenditure, intake with compensation, and the ODE right-hand side.
+//! Energy balance: calibration, expenditure and the fluxes of the ODE right-hand side
+//! (itself, with `Physiology::fluxes`, in the `balance` module).
 //!
 //! `rho_F dF/dt + rho_L dL/dt = EI - EE`, `EE = RMR + TEF + AE + X`, partitioned along
 //! the Forbes curve: `dF/dt = (EI - EE) / (rho_F + rho_L c_F / F)`, `dL/dt = (c_F / F) dF/dt`.
@@ -321,58 +322,6 @@ impl Physiology {
     /// participant's own resting rate (MODEL.md 4).
     pub fn relative_intensity(&self, met: f64, mass_kg: f64, rmr_kcal_per_day: f64) -> f64 {
         gross_kcal_per_min(met, mass_kg) / (rmr_kcal_per_day / MINUTES_PER_DAY)
-    }
-
-    /// Every flux at `state` for a week whose bouts are `bouts` (X is their net energy
-    /// at the current mass and RMR, averaged over 7 days).
-    pub fn fluxes(&self, comp: &Compensation, bouts: &[Bout], state: &BodyState) -> Fluxes {
-        let c = &self.constants;
-        let fat = state.fat_kg;
-        let lean = state.lean_kg;
-        let m = fat + lean;
-        let rmr = self.rmr(comp, fat, lean);
-        let mut weekly = 0.0;
-        let mut min_net = f64::INFINITY;
-        for b in bouts {
-            let net = self.net_kcal_per_min(b.intensity.met_at(m), m, rmr);
-            min_net = min_net.min(net);
-            weekly += b.minutes * net;
-        }
-        let x = weekly / 7.0;
-        let lagged = if comp.intake_lag_days > 0.0 {
-            state.lagged_exercise_kcal_per_day
-        } else {
-            x
-        };
-        let dlagged = if comp.intake_lag_days > 0.0 {
-            (x - lagged) / comp.intake_lag_days
-        } else {
-            0.0
-        };
-        let intake = self.intake_kcal_per_day
-            + comp.diet_change_kcal_per_day
-            + comp.intake_fraction * lagged;
-        let tef = c.tef_fraction * intake;
-        let activity = self.activity_kcal_per_kg_day * m - comp.activity_fraction * x;
-        let expenditure = rmr + tef + activity + x;
-        // Guard the partition against a non-positive fat mass; the driver reports the
-        // state as out of range long before it gets there (F < 2 kg).
-        let f = fat.max(1e-6);
-        let dfat = (intake - expenditure)
-            / (c.fat_kcal_per_kg + c.lean_kcal_per_kg * c.forbes_constant_kg / f);
-        let dlean = c.forbes_constant_kg / f * dfat;
-        Fluxes {
-            rmr,
-            tef,
-            activity,
-            exercise: x,
-            intake,
-            expenditure,
-            min_net_kcal_per_min: min_net,
-            dfat,
-            dlean,
-            dlagged,
-        }
     }
 
     /// Energy stored relative to a reference state, kcal: `rho_F dF + rho_L dL`.

@@ -3,6 +3,7 @@
 //! Reference: MODEL.md (the project's model specification) and the papers cited in
 //! each submodule.
 
+pub mod balance;
 pub mod composition;
 pub mod energy;
 pub mod rmr;

@@ -1,12 +1,18 @@
 //! Plan files: raw TOML structs that mirror the file, and the validated [`Plan`]
 //! whose types cannot hold a value outside PLAN.md's allowed ranges.
 
+mod fields;
 mod locate;
+mod model_keys;
+pub mod participant;
+mod people;
 pub mod raw;
+mod schedule;
 pub mod starter;
 pub(crate) mod validate;
 
 use crate::activity::Activity;
+pub use crate::activity::targets::{Fitness, HrMaxSource};
 use crate::model::{Compensation, Constants, Subject};
 use chrono::{NaiveDate, Weekday};
 use serde::Serialize;
@@ -104,40 +110,6 @@ pub struct Participant {
     pub fitness: Option<Fitness>,
 }
 
-/// How the maximum heart rate is known.
-#[derive(Debug, Clone, Copy, PartialEq, Serialize)]
-#[serde(rename_all = "kebab-case", tag = "kind", content = "bpm")]
-pub enum HrMaxSource {
-    /// Measured in a maximal test, beats/min.
-    Measured(f64),
-    /// 208 - 0.7 x age (Tanaka, Monahan and Seals 2001, J Am Coll Cardiol 37:153).
-    Tanaka,
-    /// 220 - age (the traditional estimate).
-    TwoTwentyMinusAge,
-}
-
-impl HrMaxSource {
-    /// The plan-file word.
-    pub fn name(self) -> &'static str {
-        match self {
-            HrMaxSource::Measured(_) => "measured",
-            HrMaxSource::Tanaka => "tanaka",
-            HrMaxSource::TwoTwentyMinusAge => "220-age",
-        }
-    }
-}
-
-/// Measured fitness: peak oxygen uptake and heart rates.
-#[derive(Debug, Clone, Copy, PartialEq, Serialize)]
-pub struct Fitness {
-    /// Peak oxygen uptake, l/min (held as mass changes).
-    pub vo2peak_l_min: Option<f64>,
-    /// Resting heart rate, beats/min.
-    pub hr_rest_bpm: Option<f64>,
-    /// Where the maximum heart rate comes from.
-    pub hr_max: HrMaxSource,
-}
-
 /// Answers for the ACSM 2015 pre-participation screening algorithm.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
 pub struct Screening {
@@ -219,6 +191,37 @@ impl DoseAmount {
             DoseAmount::KcalPerWeek(_) => DoseAmount::KcalPerWeek(v),
             DoseAmount::KcalPerKgWeek(_) => DoseAmount::KcalPerKgWeek(v),
             DoseAmount::MinutesPerWeek(_) => DoseAmount::MinutesPerWeek(v),
+        }
+    }
+
+    /// The amount of kind `key` (a plan key, see [`DoseAmount::key`]).
+    pub fn of_key(key: &str, v: f64) -> Option<DoseAmount> {
+        match key {
+            "kcal_per_session" => Some(DoseAmount::KcalPerSession(v)),
+            "kcal_per_week" => Some(DoseAmount::KcalPerWeek(v)),
+            "kcal_per_kg_week" => Some(DoseAmount::KcalPerKgWeek(v)),
+            "minutes_per_week" => Some(DoseAmount::MinutesPerWeek(v)),
+            _ => None,
+        }
+    }
+
+    /// The allowed range of this kind, both ends included (PLAN.md): what a plan may
+    /// give and what the goal solver searches.
+    pub fn range(&self) -> (f64, f64) {
+        match self {
+            DoseAmount::KcalPerSession(_) => (10.0, 3000.0),
+            DoseAmount::KcalPerWeek(_) => (10.0, 15000.0),
+            DoseAmount::KcalPerKgWeek(_) => (0.5, 150.0),
+            DoseAmount::MinutesPerWeek(_) => (5.0, 2100.0),
+        }
+    }
+
+    /// The unit of [`DoseAmount::range`] in messages (" kcal", " minutes", ...).
+    pub fn range_unit(&self) -> &'static str {
+        match self {
+            DoseAmount::KcalPerSession(_) | DoseAmount::KcalPerWeek(_) => " kcal",
+            DoseAmount::KcalPerKgWeek(_) => " kcal/kg/week",
+            DoseAmount::MinutesPerWeek(_) => " minutes",
         }
     }
 

@@ -124,9 +124,9 @@ impl ScheduleReport {
     pub fn new(plan: &Plan, sim: Simulation) -> ScheduleReport {
         let screening = safety::screen(
             plan.participant.screening.as_ref(),
-            safety::warnings::reaches_vigorous(plan, &sim),
+            crate::simulate::warnings::reaches_vigorous(plan, &sim),
         );
-        let warnings = safety::warnings(plan, &sim, &screening);
+        let warnings = crate::simulate::warnings::warnings(plan, &sim, &screening);
         let b = &sim.baseline;
         let met0 = plan.activity.intensity.met_at(b.mass_kg);
         let p = &plan.protocol;

@@ -1,5 +1,6 @@
 //! The cohort's allocation-free hot loop: the same model and weekly re-prescription
-//! as [`super::run`], with classic RK4 in one-day steps (MODEL.md 6), for the common
+//! as [`super::run`] (the same right-hand side, [`crate::model::balance`], and the same
+//! dose rule, [`session_dose`]), with classic RK4 in one-day steps (MODEL.md 6), for the common
 //! plans (one activity whose MET does not depend on mass, no closures, over-maximum
 //! policy `flag` or `cap`). Each week's exercise is summed once into MET-minutes and
 //! minutes, so the right-hand side costs the same whatever the number of sessions.
@@ -7,12 +8,14 @@
 //!
 //! A test holds it to `run` with RK4 (tests/cohort_speed.rs).
 
-use super::prescription::{Reference, basis_kcal_per_min, easy_kcal, round_up};
+use super::prescription::{
+    Reference, basis_kcal_per_min, cap_minutes, easy_kcal, round_up, session_dose,
+};
 use super::{Attendance, MIN_BMI, MIN_FAT_KG, MIN_MASS_KG};
-use crate::activity::acsm::ML_O2_PER_MET;
+use crate::model::balance::Rhs;
 use crate::model::energy::MINUTES_PER_DAY;
-use crate::model::{Baseline, Compensation, Physiology, RestForNet};
-use crate::plan::{DoseAmount, MassBasis, OverMax, Plan};
+use crate::model::{Baseline, Compensation, Physiology};
+use crate::plan::{OverMax, Plan};
 use chrono::Datelike;
 
 /// Whether `plan` can take the fast path.
@@ -57,103 +60,23 @@ type V = [f64; W];
 /// The state of every lane, quantity by quantity.
 type S = [V; 4];
 
-/// The right-hand side's constants, worked out once per run.
-struct Rhs<'a> {
-    ph: &'a Physiology,
-    comp: &'a Compensation,
-    /// RMR as `k (cm M + cl L + c0)` where the equation is linear in mass and FFM.
-    linear_rmr: Option<(f64, f64, f64)>,
-    one_met: bool,
-    intake0: f64,
-    inv_lag: f64,
-    /// `rho_L C` of the Forbes partition.
-    lean_forbes: f64,
-}
-
-impl<'a> Rhs<'a> {
-    fn new(ph: &'a Physiology, comp: &'a Compensation) -> Rhs<'a> {
-        let c = &ph.constants;
-        Rhs {
-            ph,
-            comp,
-            linear_rmr: linear_rmr(ph),
-            one_met: c.rest_for_net == RestForNet::OneMet,
-            intake0: ph.intake_kcal_per_day + comp.diet_change_kcal_per_day,
-            inv_lag: if comp.intake_lag_days > 0.0 {
-                1.0 / comp.intake_lag_days
-            } else {
-                0.0
-            },
-            lean_forbes: c.lean_kcal_per_kg * c.forbes_constant_kg,
-        }
+/// The derivative of (F, L, Xbar, P) of [`W`] lanes with each lane's week's
+/// MET-minutes `a` and minutes `b`: the model's one right-hand side
+/// ([`Rhs::rmr_lanes`], [`Rhs::point`]) lane by lane. Every line works lane by lane,
+/// so the compiler packs the lanes into vector instructions; the arithmetic of each
+/// lane is that of one scalar run.
+#[inline(always)]
+fn eval(rhs: &Rhs, a: &V, b: &V, y: &S) -> S {
+    let rmr = rhs.rmr_lanes(&y[0], &y[1]);
+    let mut d: S = [[0.0; W]; 4];
+    for i in 0..W {
+        let p = rhs.point(y[0][i], y[1][i], y[2][i], rmr[i], a[i], b[i]);
+        d[0][i] = p.dfat;
+        d[1][i] = p.dlean;
+        d[2][i] = p.dlagged;
+        d[3][i] = p.exercise;
     }
-
-    /// The derivative of (F, L, Xbar, P) of [`W`] lanes with each lane's week's
-    /// MET-minutes `a` and minutes `b`. Every line works lane by lane, so the
-    /// compiler packs the lanes into vector instructions; the arithmetic of each
-    /// lane is that of one scalar run.
-    #[inline(always)]
-    fn eval(&self, a: &V, b: &V, y: &S) -> S {
-        let c = &self.ph.constants;
-        let comp = self.comp;
-        let mut m = [0.0; W];
-        for i in 0..W {
-            m[i] = y[0][i] + y[1][i];
-        }
-        let mut rmr = [0.0; W];
-        match self.linear_rmr {
-            Some((cm, cl, c0)) => {
-                let (k, ad, m0) = (
-                    self.ph.rmr_factor,
-                    comp.rmr_adaptation_kcal_per_kg,
-                    self.ph.mass0_kg,
-                );
-                for i in 0..W {
-                    rmr[i] = k * (cm * m[i] + cl * y[1][i] + c0) - ad * (m0 - m[i]).max(0.0);
-                }
-            }
-            None => {
-                for i in 0..W {
-                    rmr[i] = self.ph.rmr(comp, y[0][i], y[1][i]);
-                }
-            }
-        }
-        let mut d: S = [[0.0; W]; 4];
-        let (lag, inv_lag) = (comp.intake_lag_days > 0.0, self.inv_lag);
-        let (cf, ca) = (comp.intake_fraction, comp.activity_fraction);
-        let (tef, delta) = (c.tef_fraction, self.ph.activity_kcal_per_kg_day);
-        let (rho_f, forbes) = (c.fat_kcal_per_kg, c.forbes_constant_kg);
-        for i in 0..W {
-            // Multiplications by reciprocals: divisions are the slow part of this loop.
-            let per_met_minute = ML_O2_PER_MET * m[i] * (1.0 / 200.0);
-            let rest = if self.one_met {
-                per_met_minute
-            } else {
-                rmr[i] * (1.0 / MINUTES_PER_DAY)
-            };
-            let x = (a[i] * per_met_minute - b[i] * rest) * (1.0 / 7.0);
-            let (lagged, dlagged) = if lag {
-                (y[2][i], (x - y[2][i]) * inv_lag)
-            } else {
-                (x, 0.0)
-            };
-            let intake = self.intake0 + cf * lagged;
-            let activity = delta * m[i] - ca * x;
-            let expenditure = rmr[i] + tef * intake + activity + x;
-            // The Forbes partition with one division: with share s = C / F,
-            // dF = E / (rho_F + rho_L s) = E F / (rho_F F + rho_L C) and dL = s dF =
-            // E C / (rho_F F + rho_L C). The reciprocal depends on F alone, so it is
-            // under way while the energy balance is summed.
-            let f = y[0][i].max(1e-6);
-            let r = 1.0 / (rho_f * f + self.lean_forbes);
-            let balance = (intake - expenditure) * r;
-            d[0][i] = balance * f;
-            d[1][i] = balance * forbes;
-            d[2][i] = dlagged;
-            d[3][i] = x;
-        }
-        d
-    }
+    d
 }
 
 #[inline(always)]
@@ -183,7 +106,6 @@ pub struct Lane<'a> {
 
 /// A lane's constants, worked out once per run.
 struct Setup {
-    n: f64,
     met: f64,
     easy_empty: bool,
     easy_minutes: f64,
@@ -200,7 +122,6 @@ impl Setup {
             .map(|e| (f64::from(e.minutes), e.met))
             .collect();
         Setup {
-            n: p.session_days.len() as f64,
             met: plan.activity.intensity.met_at(baseline.mass_kg),
             easy_empty: easy.is_empty(),
             easy_minutes: easy.iter().map(|e| e.0).sum(),
@@ -242,25 +163,14 @@ fn week_exercise(
             mass_kg: m_w,
             rmr_kcal_per_day: ph.rmr(comp, y[0], y[1]),
         };
-        let ramp = p.ramp_fraction(w);
+        let dose = session_dose(plan, w, baseline.mass_kg, m_w);
         let e = basis_kcal_per_min(plan, ph, &plan.activity.intensity, &r);
-        let mass_basis = match p.dose.mass_basis {
-            MassBasis::Baseline => baseline.mass_kg,
-            MassBasis::Current => m_w,
+        let easy = if set.easy_empty || dose.target.is_none() {
+            0.0
+        } else {
+            easy_kcal(plan, ph, &r)
         };
-        let n = set.n;
-        let target = match p.dose.amount {
-            DoseAmount::KcalPerSession(v) => Some(v * ramp),
-            DoseAmount::KcalPerWeek(v) => Some(v / n * ramp),
-            DoseAmount::KcalPerKgWeek(v) => Some(v * mass_basis / n * ramp),
-            DoseAmount::MinutesPerWeek(_) => None,
-        };
-        let unrounded = match (target, p.dose.amount) {
-            (Some(t), _) if set.easy_empty => t / e,
-            (Some(t), _) => (t - easy_kcal(plan, ph, &r)).max(0.0) / e,
-            (None, DoseAmount::MinutesPerWeek(v)) => ramp * v / n,
-            (None, _) => unreachable!("only a minutes dose has no energy target"),
-        };
+        let unrounded = dose.minutes_at_target(dose.share, e, easy, 1.0);
         let step = p.round_minutes_to;
         let mut mins = round_up(unrounded, step);
         if let Some(max) = p.max_session_minutes
@@ -268,8 +178,7 @@ fn week_exercise(
         {
             out.over_max = true;
             if p.over_max == OverMax::Cap {
-                let s = f64::from(step);
-                mins = mins.min((((max / s) + 1e-9).floor() * s).max(s) as u32);
+                mins = mins.min(cap_minutes(max, step));
             }
         }
         if f64::from(mins) >= MINUTES_PER_DAY {
@@ -384,10 +293,10 @@ fn chunk_run(chunk: &[Lane], rhs: &Rhs, baseline: &Baseline, total: u32) -> Opti
             )?;
         }
         for _ in 0..7 {
-            let k1 = rhs.eval(&a, &b, &y);
-            let k2 = rhs.eval(&a, &b, &axpy(&y, 0.5, &k1));
-            let k3 = rhs.eval(&a, &b, &axpy(&y, 0.5, &k2));
-            let k4 = rhs.eval(&a, &b, &axpy(&y, 1.0, &k3));
+            let k1 = eval(rhs, &a, &b, &y);
+            let k2 = eval(rhs, &a, &b, &axpy(&y, 0.5, &k1));
+            let k3 = eval(rhs, &a, &b, &axpy(&y, 0.5, &k2));
+            let k4 = eval(rhs, &a, &b, &axpy(&y, 1.0, &k3));
             for j in 0..4 {
                 for i in 0..W {
                     y[j][i] +=
@@ -396,7 +305,7 @@ fn chunk_run(chunk: &[Lane], rhs: &Rhs, baseline: &Baseline, total: u32) -> Opti
             }
         }
         if comp.intake_lag_days == 0.0 {
-            y[2] = rhs.eval(&a, &b, &y)[3];
+            y[2] = eval(rhs, &a, &b, &y)[3];
         }
         for (i, out) in outs.iter_mut().enumerate().take(chunk.len()) {
             let (fat, lean) = (y[0][i], y[1][i]);
@@ -423,17 +332,4 @@ fn chunk_run(chunk: &[Lane], rhs: &Rhs, baseline: &Baseline, total: u32) -> Opti
         }
     }
     Some(outs.into_iter().take(chunk.len()).collect())
-}
-
-/// The RMR equation as `(cm, cl, c0)` with `RMR_eq = cm M + cl L + c0` at the
-/// participant's height, age and sex, where it is linear (all but
-/// Livingston-Kohlstadt). The coefficients are read off the equation itself.
-fn linear_rmr(ph: &Physiology) -> Option<(f64, f64, f64)> {
-    let eq = ph.constants.rmr_equation;
-    if eq == crate::model::RmrEquation::LivingstonKohlstadt {
-        return None;
-    }
-    let at = |m: f64, l: f64| eq.kcal_per_day(ph.sex, m, l, ph.height_cm, ph.age_years);
-    let c0 = at(0.0, 0.0);
-    Some((at(1.0, 0.0) - c0, at(0.0, 1.0) - c0, c0))
 }

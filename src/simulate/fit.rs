@@ -12,7 +12,7 @@
 
 use crate::error::Error;
 use crate::plan::Plan;
-use crate::simulate::observed::Observed;
+use crate::simulate::observed::{Observed, WeighIn};
 use crate::simulate::{RunMode, run};
 use chrono::NaiveDate;
 use serde::Serialize;
@@ -158,6 +158,46 @@ fn curve(
     })
 }
 
+/// The minimum of `f` in `(a, b)` to 1e-7 by golden-section search (Kiefer J 1953,
+/// Proc Am Math Soc 4:502).
+fn golden_section(
+    f: &dyn Fn(f64) -> Result<f64, Error>,
+    (mut a, mut b): (f64, f64),
+) -> Result<f64, Error> {
+    let g = (5f64.sqrt() - 1.0) / 2.0;
+    let mut c = b - g * (b - a);
+    let mut d = a + g * (b - a);
+    let (mut fc, mut fd) = (f(c)?, f(d)?);
+    while b - a > 1e-7 {
+        if fc < fd {
+            b = d;
+            d = c;
+            fd = fc;
+            c = b - g * (b - a);
+            fc = f(c)?;
+        } else {
+            a = c;
+            c = d;
+            fc = fd;
+            d = a + g * (b - a);
+            fd = f(d)?;
+        }
+    }
+    Ok((a + b) / 2.0)
+}
+
+/// A weigh-in against the fitted curve.
+fn residual(w: &WeighIn, fitted: &Curve) -> Residual {
+    let m = fitted.daily_mass[w.day as usize];
+    Residual {
+        date: w.date,
+        day: w.day,
+        measured_kg: w.mass_kg,
+        model_kg: m,
+        residual: w.mass_kg - m,
+    }
+}
+
 /// Fit `param` for scenario `scenario` (index into the plan's scenarios).
 pub fn fit(
     plan: &Plan,
@@ -215,27 +255,8 @@ pub fn fit(
         )));
     }
     // Golden-section search in the cell around the best grid point.
-    let (mut a, mut b) = (grid[best.saturating_sub(1)], grid[(best + 1).min(GRID)]);
-    let g = (5f64.sqrt() - 1.0) / 2.0;
-    let mut c = b - g * (b - a);
-    let mut d = a + g * (b - a);
-    let (mut fc, mut fd) = (sse(c)?, sse(d)?);
-    while b - a > 1e-7 {
-        if fc < fd {
-            b = d;
-            d = c;
-            fd = fc;
-            c = b - g * (b - a);
-            fc = sse(c)?;
-        } else {
-            a = c;
-            c = d;
-            fc = fd;
-            d = a + g * (b - a);
-            fd = sse(d)?;
-        }
-    }
-    let mut estimate = (a + b) / 2.0;
+    let cell = (grid[best.saturating_sub(1)], grid[(best + 1).min(GRID)]);
+    let mut estimate = golden_section(&sse, cell)?;
     let mut sse_min = sse(estimate)?;
     if values[best] < sse_min {
         estimate = grid[best];
@@ -257,19 +278,7 @@ pub fn fit(
     let interval = [edge(estimate, lo)?, edge(estimate, hi)?];
     let fitted = curve(plan, obs, scenario, param, estimate)?;
     let without = curve(plan, obs, scenario, param, 0.0)?;
-    let residuals_kg = points
-        .iter()
-        .map(|w| {
-            let m = fitted.daily_mass[w.day as usize];
-            Residual {
-                date: w.date,
-                day: w.day,
-                measured_kg: w.mass_kg,
-                model_kg: m,
-                residual: w.mass_kg - m,
-            }
-        })
-        .collect();
+    let residuals_kg = points.iter().map(|w| residual(w, &fitted)).collect();
     let last = obs.as_of_day as usize;
     let daily = |c: &Curve| {
         c.daily_mass

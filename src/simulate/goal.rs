@@ -51,6 +51,24 @@ pub struct GoalAnswer {
     pub reason: Option<String>,
 }
 
+impl GoalAnswer {
+    /// The answer for scenario `sc` before a search: not reached, nothing found.
+    fn unreached(sc: &Scenario, amount: &DoseAmount) -> GoalAnswer {
+        GoalAnswer {
+            name: sc.name.clone(),
+            reachable: false,
+            dose: None,
+            dose_unit: amount.key(),
+            resolution: resolution(amount),
+            minutes_week1: None,
+            minutes_goal_week: None,
+            loss_kg: None,
+            loss_one_step_lower_kg: None,
+            reason: None,
+        }
+    }
+}
+
 /// The resolution of the reported dose: 0.1 for kcal/kg/week, 1 for kcal and minutes.
 pub fn resolution(amount: &DoseAmount) -> f64 {
     match amount {
@@ -59,14 +77,10 @@ pub fn resolution(amount: &DoseAmount) -> f64 {
     }
 }
 
-/// The allowed range of each dose kind (PLAN.md).
+/// The allowed range of each dose kind: [`DoseAmount::range`] (kept for callers
+/// outside the library core).
 pub fn allowed_range(amount: &DoseAmount) -> (f64, f64) {
-    match amount {
-        DoseAmount::KcalPerSession(_) => (10.0, 3000.0),
-        DoseAmount::KcalPerWeek(_) => (10.0, 15000.0),
-        DoseAmount::KcalPerKgWeek(_) => (0.5, 150.0),
-        DoseAmount::MinutesPerWeek(_) => (5.0, 2100.0),
-    }
+    amount.range()
 }
 
 /// The plan cut to `by_week` protocol weeks, with one scenario and the given dose.
@@ -171,6 +185,47 @@ pub fn solve_observed(
         .collect()
 }
 
+/// Why the goal is out of reach when even the largest dose the model accepts
+/// (`largest`, with its unit; its run `top`) does not lose enough by week `n`.
+fn out_of_reach(plan: &Plan, sc: &Scenario, n: u32, top: &Run, largest: &str) -> String {
+    let c = &sc.compensation;
+    let beta = plan.constants.tef_fraction;
+    let eaten = c.intake_fraction * (1.0 - beta) + c.activity_fraction;
+    if eaten >= 1.0 {
+        format!(
+            "compensation eats the dose: {:.0}% of exercise energy is offset (intake {:.0}% less its TEF, activity {:.0}%), so more exercise does not bring more loss",
+            eaten * 100.0,
+            c.intake_fraction * 100.0,
+            c.activity_fraction * 100.0
+        )
+    } else {
+        let capped = top.weeks.iter().any(|w| w.over_max.is_some());
+        let minutes = top
+            .weeks
+            .iter()
+            .map(|w| w.minutes_per_session)
+            .max()
+            .unwrap_or(0);
+        let cap_note = match (
+            capped,
+            plan.protocol.over_max,
+            plan.protocol.max_session_minutes,
+        ) {
+            (true, crate::plan::OverMax::Cap, Some(max)) => format!(
+                "; the plan caps sessions at {max:.0} min, which limits the energy any dose can deliver"
+            ),
+            (true, _, _) => {
+                format!("; sessions reach {minutes} min, beyond the plan's maximum")
+            }
+            _ => String::new(),
+        };
+        format!(
+            "out of reach by week {n}: the largest dose the model accepts ({largest}) loses only {:.2} kg{cap_note}",
+            top.loss_kg
+        )
+    }
+}
+
 fn solve_one(
     plan: &Plan,
     sc: &Scenario,
@@ -180,23 +235,12 @@ fn solve_one(
     let amount = plan.protocol.dose.amount;
     let res = resolution(&amount);
     let per = (1.0 / res).round();
-    let (lo, hi) = allowed_range(&amount);
+    let (lo, hi) = amount.range();
     let dose_at = |k: i64| k as f64 / per;
     let k_lo = (lo * per - 1e-9).ceil() as i64;
     let mut k_hi = (hi * per + 1e-9).floor() as i64;
     let n = req.by_week;
-    let mut answer = GoalAnswer {
-        name: sc.name.clone(),
-        reachable: false,
-        dose: None,
-        dose_unit: amount.key(),
-        resolution: res,
-        minutes_week1: None,
-        minutes_goal_week: None,
-        loss_kg: None,
-        loss_one_step_lower_kg: None,
-        reason: None,
-    };
+    let mut answer = GoalAnswer::unreached(sc, &amount);
     let without = loss_without(plan, sc, n)?;
     if without >= req.lose_kg {
         answer.reachable = true;
@@ -239,45 +283,9 @@ fn solve_one(
             valid(good)?.expect("checked valid")
         }
     };
-    let c = &sc.compensation;
-    let beta = plan.constants.tef_fraction;
-    let eaten = c.intake_fraction * (1.0 - beta) + c.activity_fraction;
     if top.loss_kg < req.lose_kg {
-        answer.reason = Some(if eaten >= 1.0 {
-            format!(
-                "compensation eats the dose: {:.0}% of exercise energy is offset (intake {:.0}% less its TEF, activity {:.0}%), so more exercise does not bring more loss",
-                eaten * 100.0,
-                c.intake_fraction * 100.0,
-                c.activity_fraction * 100.0
-            )
-        } else {
-            let capped = top.weeks.iter().any(|w| w.over_max.is_some());
-            let minutes = top
-                .weeks
-                .iter()
-                .map(|w| w.minutes_per_session)
-                .max()
-                .unwrap_or(0);
-            let cap_note = match (
-                capped,
-                plan.protocol.over_max,
-                plan.protocol.max_session_minutes,
-            ) {
-                (true, crate::plan::OverMax::Cap, Some(max)) => format!(
-                    "; the plan caps sessions at {max:.0} min, which limits the energy any dose can deliver"
-                ),
-                (true, _, _) => {
-                    format!("; sessions reach {minutes} min, beyond the plan's maximum")
-                }
-                _ => String::new(),
-            };
-            format!(
-                "out of reach by week {n}: the largest dose the model accepts ({} {}) loses only {:.2} kg{cap_note}",
-                dose_at(k_hi),
-                amount.unit(),
-                top.loss_kg
-            )
-        });
+        let largest = format!("{} {}", dose_at(k_hi), amount.unit());
+        answer.reason = Some(out_of_reach(plan, sc, n, &top, &largest));
         return Ok(answer);
     }
     // Smallest k with loss >= X: invariant loss(k_low) < X <= loss(k_high).

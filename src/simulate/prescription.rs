@@ -124,6 +124,69 @@ pub fn round_up(minutes: f64, step: u32) -> u32 {
     ((minutes / s - 1e-9).ceil().max(0.0) * s) as u32
 }
 
+/// The longest whole number of `step`-minute steps within `max` minutes (at least one
+/// step): a capped session's length.
+pub fn cap_minutes(max: f64, step: u32) -> u32 {
+    let s = f64::from(step);
+    (((max / s) + 1e-9).floor() * s).max(s) as u32
+}
+
+/// The dose rule of one planned session in a protocol week: what every path that
+/// prescribes minutes (the general driver and the cohort's lane loop) calls.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct SessionDose {
+    /// `r_w`.
+    pub ramp: f64,
+    /// `E_w`, kcal per planned session on the plan's basis (None for a minutes dose).
+    pub target: Option<f64>,
+    /// The session's share of the week: `E_w`, or for a minutes dose its minutes at
+    /// target.
+    pub share: f64,
+}
+
+/// The dose of one of the planned sessions of protocol week `week` (1-based), with
+/// the plan's mass basis read from `baseline_mass_kg` or the week's `mass_kg`.
+#[inline(always)]
+pub fn session_dose(plan: &Plan, week: u32, baseline_mass_kg: f64, mass_kg: f64) -> SessionDose {
+    let p = &plan.protocol;
+    let n = p.session_days.len() as f64;
+    let ramp = p.ramp_fraction(week);
+    let mass_basis = match p.dose.mass_basis {
+        MassBasis::Baseline => baseline_mass_kg,
+        MassBasis::Current => mass_kg,
+    };
+    let target = match p.dose.amount {
+        DoseAmount::KcalPerSession(v) => Some(v * ramp),
+        DoseAmount::KcalPerWeek(v) => Some(v / n * ramp),
+        DoseAmount::KcalPerKgWeek(v) => Some(v * mass_basis / n * ramp),
+        DoseAmount::MinutesPerWeek(_) => None,
+    };
+    let share = match (target, p.dose.amount) {
+        (Some(t), _) => t,
+        (None, DoseAmount::MinutesPerWeek(v)) => ramp * v / n,
+        (None, _) => unreachable!("only a minutes dose has no energy target"),
+    };
+    SessionDose {
+        ramp,
+        target,
+        share,
+    }
+}
+
+impl SessionDose {
+    /// Minutes at target of a session whose share of the week is `share` kcal (or, for
+    /// a minutes dose, minutes) at `e` kcal/min, with `easy_parts` warm-up/cool-down
+    /// pairs of `easy` kcal each: `d = (E_w - E_easy) / e`.
+    #[inline(always)]
+    pub fn minutes_at_target(&self, share: f64, e: f64, easy: f64, easy_parts: f64) -> f64 {
+        match self.target {
+            Some(_) if easy == 0.0 => share / e,
+            Some(_) => (share - easy_parts * easy).max(0.0) / e,
+            None => share,
+        }
+    }
+}
+
 /// The per-minute energy on the plan's basis of `intensity` at the reference state.
 pub fn basis_kcal_per_min(
     plan: &Plan,
@@ -196,52 +259,27 @@ pub fn prescribe(
 ) -> Prescription {
     let p = &plan.protocol;
     let n = p.session_days.len() as f64;
-    let ramp = p.ramp_fraction(week);
+    let dose = session_dose(plan, week, baseline_mass_kg, r.mass_kg);
+    let (ramp, target, share) = (dose.ramp, dose.target, dose.share);
     let e_main = kcal_per_min(plan, physiology, r);
-    let mass_basis = match p.dose.mass_basis {
-        MassBasis::Baseline => baseline_mass_kg,
-        MassBasis::Current => r.mass_kg,
-    };
-    let target = match p.dose.amount {
-        DoseAmount::KcalPerSession(v) => Some(v * ramp),
-        DoseAmount::KcalPerWeek(v) => Some(v / n * ramp),
-        DoseAmount::KcalPerKgWeek(v) => Some(v * mass_basis / n * ramp),
-        DoseAmount::MinutesPerWeek(_) => None,
-    };
     let split = p.over_max == OverMax::Split;
     let easy = if target.is_some() {
         easy_kcal(plan, physiology, r)
     } else {
         0.0
     };
-    let e_of = |activity: usize| {
-        if activity == 0 {
-            e_main
-        } else {
-            basis_kcal_per_min(plan, physiology, &plan.activity_at(activity).intensity, r)
-        }
-    };
-    // Minutes at target of a session whose share of the week is `energy` kcal (or,
-    // for a minutes dose, `minutes`), with `easy_parts` warm-up/cool-down pairs.
-    let minutes_for = |share: f64, e: f64, easy_parts: f64| match target {
-        Some(_) if easy == 0.0 => share / e,
-        Some(_) => (share - easy_parts * easy).max(0.0) / e,
-        None => share,
-    };
-    let share = match (target, p.dose.amount) {
-        (Some(t), _) => t,
-        (None, DoseAmount::MinutesPerWeek(v)) => ramp * v / n,
-        (None, _) => unreachable!("only a minutes dose has no energy target"),
-    };
     let bouts_per_session = if split { 2 } else { 1 };
     let draft = |date: NaiveDate, share: f64| {
         let activity = plan.activity_index_on(date.weekday());
-        let e = e_of(activity);
+        let e = match activity {
+            0 => e_main,
+            a => basis_kcal_per_min(plan, physiology, &plan.activity_at(a).intensity, r),
+        };
         Draft {
             date,
             activity,
             e,
-            minutes: minutes_for(share, e, f64::from(bouts_per_session)),
+            minutes: dose.minutes_at_target(share, e, easy, f64::from(bouts_per_session)),
         }
     };
     let mut sessions: Vec<Draft> = dates_in_week(week_start, &p.session_days)
@@ -249,63 +287,21 @@ pub fn prescribe(
         .map(|d| draft(d, share))
         .collect();
     let step = p.round_minutes_to;
-    let longest = |s: &[Draft]| s.iter().map(|d| d.minutes).fold(0.0, f64::max);
-    let minutes_unrounded = longest(&sessions);
-    let mut over_max = None;
+    let minutes_unrounded = sessions.iter().map(|d| d.minutes).fold(0.0, f64::max);
     // Rounded minutes at target of each bout of a session.
     let bout_minutes = |d: &Draft| round_up(d.minutes / f64::from(bouts_per_session), step);
-    let mut cap_to: Option<u32> = None;
-    if let Some(max) = p.max_session_minutes {
-        let before = sessions
-            .iter()
-            .map(|d| round_up(d.minutes, step))
-            .max()
-            .unwrap_or(0);
-        if f64::from(before) > max {
-            let mut note = OverMaxNote {
-                policy: p.over_max,
-                minutes_before: before,
-                shortfall_kcal: 0.0,
-                added_sessions: 0,
-                still_over: false,
-            };
-            match p.over_max {
-                OverMax::Flag => note.still_over = true,
-                OverMax::Cap => {
-                    let s = f64::from(step);
-                    let capped = (((max / s) + 1e-9).floor() * s).max(s) as u32;
-                    note.shortfall_kcal = sessions
-                        .iter()
-                        .map(|d| (d.minutes - f64::from(capped)).max(0.0) * d.e)
-                        .fold(0.0, |a, b| a + b);
-                    cap_to = Some(capped);
-                }
-                OverMax::AddSession => {
-                    let extras = extra_days(plan);
-                    let how = (n, share, easy == 0.0 || target.is_none());
-                    let mut chosen = extras.len();
-                    for k in 1..=extras.len() {
-                        let fits = trial(&sessions, &extras[..k], week_start, how, &draft)
-                            .iter()
-                            .all(|d| f64::from(round_up(d.minutes, step)) <= max);
-                        if fits {
-                            chosen = k;
-                            break;
-                        }
-                    }
-                    sessions = trial(&sessions, &extras[..chosen], week_start, how, &draft);
-                    note.added_sessions = chosen as u32;
-                    note.still_over = sessions
-                        .iter()
-                        .any(|d| f64::from(round_up(d.minutes, step)) > max);
-                }
-                OverMax::Split => {
-                    note.still_over = sessions.iter().any(|d| f64::from(bout_minutes(d)) > max);
-                }
-            }
-            over_max = Some(note);
-        }
-    }
+    let how = (n, share, easy == 0.0 || target.is_none());
+    let (over_max, cap_to) = match p.max_session_minutes {
+        Some(max) => over_max_policy(
+            plan,
+            max,
+            &mut sessions,
+            (week_start, how),
+            &draft,
+            bouts_per_session,
+        ),
+        None => (None, None),
+    };
     let rounded = |d: &Draft| match cap_to {
         Some(c) => round_up(d.minutes, step).min(c),
         None => bout_minutes(d),
@@ -332,27 +328,9 @@ pub fn prescribe(
             .fold(0.0, |a, b| a + b);
         let mut made_up = 0.0;
         if p.make_up == MakeUp::Spread && !open.is_empty() {
-            let each = lost / open.len() as f64;
-            let limit = p.max_session_minutes.map(|max| {
-                let s = f64::from(step);
-                (((max / s) + 1e-9).floor() * s).max(s) as u32
-            });
-            for (d, m) in &mut minutes {
-                let extra_minutes = if energy_dose { each / d.e } else { each };
-                let want = round_up(
-                    (f64::from(*m * bouts_per_session) + extra_minutes)
-                        / f64::from(bouts_per_session),
-                    step,
-                );
-                let new = match limit {
-                    Some(l) => want.min(l.max(*m)),
-                    None => want,
-                };
-                let gained = f64::from((new - *m) * bouts_per_session);
-                made_up += if energy_dose { gained * d.e } else { gained };
-                d.minutes += gained;
-                *m = new;
-            }
+            let limit = p.max_session_minutes.map(|max| cap_minutes(max, step));
+            let how = (energy_dose, bouts_per_session, step, limit);
+            made_up = spread(&mut minutes, lost / open.len() as f64, how);
         }
         make_up = Some(MakeUpNote {
             rule: p.make_up,
@@ -362,18 +340,7 @@ pub fn prescribe(
             unit: if energy_dose { "kcal" } else { "min" },
         });
     }
-    let bouts: Vec<PlannedBout> = minutes
-        .iter()
-        .flat_map(|(d, m)| {
-            (1..=bouts_per_session).map(move |b| PlannedBout {
-                date: d.date,
-                activity: d.activity,
-                minutes: *m,
-                bout: split.then_some(b),
-                unrounded: d.minutes / f64::from(bouts_per_session),
-            })
-        })
-        .collect();
+    let bouts = planned_bouts(&minutes, bouts_per_session, split);
     // Saturating: a near-zero energy per minute gives u32::MAX-minute bouts, which
     // the driver then reports as longer than a day (never wraps to 0).
     let minutes_per_session = minutes
@@ -398,6 +365,119 @@ pub fn prescribe(
         closed: closed.iter().map(|d| d.date).collect(),
         make_up,
     }
+}
+
+/// The dated bouts of the open sessions: one per session, or two with `split`.
+fn planned_bouts(
+    minutes: &[(Draft, u32)],
+    bouts_per_session: u32,
+    split: bool,
+) -> Vec<PlannedBout> {
+    minutes
+        .iter()
+        .flat_map(|(d, m)| {
+            (1..=bouts_per_session).map(move |b| PlannedBout {
+                date: d.date,
+                activity: d.activity,
+                minutes: *m,
+                bout: split.then_some(b),
+                unrounded: d.minutes / f64::from(bouts_per_session),
+            })
+        })
+        .collect()
+}
+
+/// What the over-maximum policy does to a week's `sessions` when one would be longer
+/// than `max` minutes: the note, and the capped length with `cap`. `add-session`
+/// replaces the sessions with the week shared over added days (see [`trial`]).
+fn over_max_policy(
+    plan: &Plan,
+    max: f64,
+    sessions: &mut Vec<Draft>,
+    (week_start, how): (NaiveDate, (f64, f64, bool)),
+    draft: &impl Fn(NaiveDate, f64) -> Draft,
+    bouts_per_session: u32,
+) -> (Option<OverMaxNote>, Option<u32>) {
+    let p = &plan.protocol;
+    let step = p.round_minutes_to;
+    let bout_minutes = |d: &Draft| round_up(d.minutes / f64::from(bouts_per_session), step);
+    let mut cap_to = None;
+    let before = sessions
+        .iter()
+        .map(|d| round_up(d.minutes, step))
+        .max()
+        .unwrap_or(0);
+    if f64::from(before) > max {
+        let mut note = OverMaxNote {
+            policy: p.over_max,
+            minutes_before: before,
+            shortfall_kcal: 0.0,
+            added_sessions: 0,
+            still_over: false,
+        };
+        match p.over_max {
+            OverMax::Flag => note.still_over = true,
+            OverMax::Cap => {
+                let capped = cap_minutes(max, step);
+                note.shortfall_kcal = sessions
+                    .iter()
+                    .map(|d| (d.minutes - f64::from(capped)).max(0.0) * d.e)
+                    .fold(0.0, |a, b| a + b);
+                cap_to = Some(capped);
+            }
+            OverMax::AddSession => {
+                let extras = extra_days(plan);
+                let mut chosen = extras.len();
+                for k in 1..=extras.len() {
+                    let fits = trial(sessions, &extras[..k], week_start, how, draft)
+                        .iter()
+                        .all(|d| f64::from(round_up(d.minutes, step)) <= max);
+                    if fits {
+                        chosen = k;
+                        break;
+                    }
+                }
+                *sessions = trial(sessions, &extras[..chosen], week_start, how, draft);
+                note.added_sessions = chosen as u32;
+                note.still_over = sessions
+                    .iter()
+                    .any(|d| f64::from(round_up(d.minutes, step)) > max);
+            }
+            OverMax::Split => {
+                note.still_over = sessions.iter().any(|d| f64::from(bout_minutes(d)) > max);
+            }
+        }
+        return (Some(note), cap_to);
+    }
+    (None, None)
+}
+
+/// `spread`: the open sessions (with their rounded minutes) each take `each` of the
+/// dose lost to closures (kcal with an energy dose, else minutes), no longer than the
+/// limit (or their own planned length, when that is already longer); the dose given
+/// back.
+fn spread(
+    minutes: &mut [(Draft, u32)],
+    each: f64,
+    (energy_dose, bouts_per_session, step, limit): (bool, u32, u32, Option<u32>),
+) -> f64 {
+    let mut made_up = 0.0;
+    for (d, m) in minutes {
+        let extra_minutes = if energy_dose { each / d.e } else { each };
+        let want = round_up(
+            (f64::from(*m * bouts_per_session) + extra_minutes) / f64::from(bouts_per_session),
+            step,
+        );
+        let new = match limit {
+            Some(l) => want.min(l.max(*m)),
+            None => want,
+        };
+        let gained = f64::from((new - *m) * bouts_per_session);
+        made_up += if energy_dose { gained * d.e } else { gained };
+        d.minutes += gained;
+        *m = new;
+    }
+    made_up
 }
 
 /// The sessions with `add-session` and the extra weekdays `extras`: the week's dose

@@ -24,8 +24,7 @@ pub fn permuted_blocks(sexes: &[Sex], arms: usize, block_size: usize, seed: u64)
     for (stream, stratum) in [Sex::Female, Sex::Male].into_iter().enumerate() {
         // Its own seed domain, so the allocation is independent of the streams that
         // draw synthetic participants from the same seed.
-        let mut rng =
-            ChaCha8Rng::seed_from_u64(crate::simulate::splitmix64(seed ^ ALLOCATION_DOMAIN));
+        let mut rng = ChaCha8Rng::seed_from_u64(splitmix64(seed ^ ALLOCATION_DOMAIN));
         rng.set_stream(stream as u64);
         let mut block: Vec<usize> = Vec::new();
         for (i, _) in sexes.iter().enumerate().filter(|(_, s)| **s == stratum) {
@@ -42,4 +41,13 @@ pub fn permuted_blocks(sexes: &[Sex], arms: usize, block_size: usize, seed: u64)
         }
     }
     out
+}
+
+/// SplitMix64 (Steele, Lea and Flood 2014, OOPSLA "Fast splittable pseudorandom number
+/// generators"): a well-mixed 64-bit hash of `x`.
+pub fn splitmix64(x: u64) -> u64 {
+    let mut z = x.wrapping_add(0x9E37_79B9_7F4A_7C15);
+    z = (z ^ (z >> 30)).wrapping_mul(0xBF58_476D_1CE4_E5B9);
+    z = (z ^ (z >> 27)).wrapping_mul(0x94D0_49BB_1331_11EB);
+    z ^ (z >> 31)
 }

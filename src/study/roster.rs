@@ -6,8 +6,9 @@
 
 use super::Study;
 use crate::error::{Error, InputError, Location};
+use crate::model::Subject;
 use crate::model::energy::{CalibrationError, calibrate};
-use crate::model::{Sex, Subject};
+use crate::plan::participant::{self, EMPTY_ID, Field};
 use crate::plan::{Participant, Screening};
 
 /// One roster row.
@@ -21,28 +22,18 @@ pub struct RosterEntry {
     pub arm: Option<usize>,
 }
 
-/// An allowed range with its unit.
-type Range = (f64, f64, &'static str);
-
-/// Columns: name, required, and the allowed range with its unit (None: text/bool).
-const COLUMNS: [(&str, bool, Option<Range>); 14] = [
+/// Columns: name, required, and the participant field checked by the participant
+/// rules ([`crate::plan::participant`]; None: text/bool).
+const COLUMNS: [(&str, bool, Option<Field>); 14] = [
     ("id", true, None),
     ("sex", true, None),
-    ("age_years", true, Some((18.0, 100.0, " years"))),
-    ("height_cm", true, Some((120.0, 230.0, " cm"))),
-    ("mass_kg", true, Some((30.0, 350.0, " kg"))),
-    ("body_fat_percent", false, Some((3.0, 70.0, " %"))),
-    (
-        "rmr_kcal_per_day",
-        false,
-        Some((600.0, 5000.0, " kcal/day")),
-    ),
-    (
-        "intake_kcal_per_day",
-        false,
-        Some((500.0, 10000.0, " kcal/day")),
-    ),
-    ("pal", false, Some((1.1, 2.5, ""))),
+    ("age_years", true, Some(Field::Age)),
+    ("height_cm", true, Some(Field::Height)),
+    ("mass_kg", true, Some(Field::Mass)),
+    ("body_fat_percent", false, Some(Field::BodyFat)),
+    ("rmr_kcal_per_day", false, Some(Field::Rmr)),
+    ("intake_kcal_per_day", false, Some(Field::Intake)),
+    ("pal", false, Some(Field::Pal)),
     ("exercises_regularly", false, None),
     ("known_disease", false, None),
     ("signs_or_symptoms", false, None),
@@ -163,152 +154,8 @@ pub fn parse_roster(file: &str, text: &str, study: &Study) -> Result<Vec<RosterE
             return Err(cx.err(Some(ln), None, format!("{} cells for {} columns; every row needs one cell per header column (no commas inside values)", cells.len(), header.len())));
         }
         let cell = |k: usize| index[k].map(|i| cells[i]).filter(|c| !c.is_empty());
-        let num = |k: usize| -> Result<Option<f64>, Error> {
-            let (n, _, range) = COLUMNS[k];
-            let Some(c) = cell(k) else { return Ok(None) };
-            let (lo, hi, unit) = range.expect("a numeric column");
-            let x: f64 = c.parse().map_err(|_| {
-                cx.err(
-                    Some(ln),
-                    Some(n),
-                    format!("value \"{c}\" is not a number; allowed {lo} to {hi}{unit}"),
-                )
-            })?;
-            if n == "height_cm" && (1.2..=2.3).contains(&x) {
-                return Err(cx.err(Some(ln), Some(n), format!("value {c} looks like metres; give the height in centimetres (e.g. {:.0}); allowed 120 to 230 cm", x * 100.0)));
-            }
-            if n == "body_fat_percent" && x > 0.0 && x < 1.0 {
-                return Err(cx.err(Some(ln), Some(n), format!("value {c} looks like a fraction; give a percent (e.g. {:.0}); allowed 3 to 70", x * 100.0)));
-            }
-            if !x.is_finite() || x < lo || x > hi {
-                return Err(cx.err(
-                    Some(ln),
-                    Some(n),
-                    format!("value {c} is out of range; allowed {lo} to {hi}{unit}"),
-                ));
-            }
-            Ok(Some(x))
-        };
-        let id = cell(0).ok_or_else(|| {
-            cx.err(
-                Some(ln),
-                Some("id"),
-                "empty; give a pseudonymous code such as \"R-104\"".to_string(),
-            )
-        })?;
-        if let Some(first) = out.iter().find(|e| e.participant.id == id) {
-            return Err(cx.err(
-                Some(ln),
-                Some("id"),
-                format!(
-                    "\"{id}\" is already used on line {}; codes must be unique",
-                    first.line
-                ),
-            ));
-        }
-        let sex = match cell(1) {
-            Some("female") => Sex::Female,
-            Some("male") => Sex::Male,
-            Some(other) => {
-                return Err(cx.err(
-                    Some(ln),
-                    Some("sex"),
-                    format!("unknown value \"{other}\"; allowed female, male"),
-                ));
-            }
-            None => {
-                return Err(cx.err(
-                    Some(ln),
-                    Some("sex"),
-                    "empty; allowed female, male".to_string(),
-                ));
-            }
-        };
-        let need = |k: usize| -> Result<f64, Error> {
-            num(k)?.ok_or_else(|| {
-                let (n, _, r) = COLUMNS[k];
-                let (lo, hi, unit) = r.expect("numeric");
-                cx.err(
-                    Some(ln),
-                    Some(n),
-                    format!("empty; allowed {lo} to {hi}{unit}"),
-                )
-            })
-        };
-        let (age, height, mass) = (need(2)?, need(3)?, need(4)?);
-        let bmi = crate::model::composition::bmi(mass, height);
-        if !(13.0..=80.0).contains(&bmi) {
-            return Err(cx.err(Some(ln), Some("mass_kg"), format!("value {mass} with height {height} cm gives BMI {bmi:.1}, outside the allowed 13 to 80 kg/m^2; check the units (kg, cm; a mass in pounds must be converted)")));
-        }
-        let flag = |k: usize| -> Result<Option<bool>, Error> {
-            match cell(k) {
-                None => Ok(None),
-                Some("true") => Ok(Some(true)),
-                Some("false") => Ok(Some(false)),
-                Some(other) => Err(cx.err(
-                    Some(ln),
-                    Some(COLUMNS[k].0),
-                    format!("unknown value \"{other}\"; allowed true, false"),
-                )),
-            }
-        };
-        let answers = [flag(9)?, flag(10)?, flag(11)?];
-        let screening = match answers {
-            [Some(a), Some(b), Some(c)] => Some(Screening {
-                exercises_regularly: a,
-                known_disease: b,
-                signs_or_symptoms: c,
-                medical_clearance: flag(12)?.unwrap_or(false),
-            }),
-            [None, None, None] => {
-                if flag(12)?.is_some() {
-                    return Err(cx.err(Some(ln), Some("medical_clearance"), "given without the screening answers; give exercises_regularly, known_disease and signs_or_symptoms too (true or false)".to_string()));
-                }
-                None
-            }
-            _ => {
-                let missing = (9..12)
-                    .find(|k| answers[k - 9].is_none())
-                    .expect("one is missing");
-                return Err(cx.err(Some(ln), Some(COLUMNS[missing].0), "empty while other screening answers are given; answer all three (true or false) or none".to_string()));
-            }
-        };
-        let arm = match cell(13) {
-            None => None,
-            Some(a) => Some(study.arm_index(a).ok_or_else(|| {
-                cx.err(
-                    Some(ln),
-                    Some("arm"),
-                    format!(
-                        "unknown arm \"{a}\"; the study's arms are {}",
-                        study.arm_names()
-                    ),
-                )
-            })?),
-        };
-        let subject = Subject {
-            sex,
-            age_years: age,
-            height_cm: height,
-            mass_kg: mass,
-            body_fat_percent: num(5)?,
-            rmr_kcal_per_day: num(6)?,
-            intake_kcal_per_day: num(7)?,
-            pal: num(8)?,
-        };
-        check_calibrates(&subject, study).map_err(|(col, msg)| {
-            cx.err(Some(ln), Some(col), format!("participant \"{id}\": {msg}"))
-        })?;
-        out.push(RosterEntry {
-            line: ln,
-            participant: Participant {
-                id: id.to_string(),
-                subject,
-                screening,
-                fitness: None,
-            },
-            arm,
-        });
+        let entry = check_row(&cx, study, ln, &cell, &out)?;
+        out.push(entry);
     }
     if out.is_empty() {
         return Err(cx.err(
@@ -326,6 +173,135 @@ pub fn parse_roster(file: &str, text: &str, study: &Study) -> Result<Vec<RosterE
         return Err(cx.err(Some(e.line), Some("arm"), "empty while other rows give an arm; give every participant an arm, or leave the column empty everywhere and have the arms randomised".to_string()));
     }
     Ok(out)
+}
+
+/// Check the cells of the row on line `ln` (`cell(k)`: the cell of column `k` of
+/// [`COLUMNS`], None when empty or absent) against the participant rules; `earlier`
+/// are the rows before it.
+fn check_row<'c>(
+    cx: &Cx,
+    study: &Study,
+    ln: usize,
+    cell: &dyn Fn(usize) -> Option<&'c str>,
+    earlier: &[RosterEntry],
+) -> Result<RosterEntry, Error> {
+    let num = |k: usize| -> Result<Option<f64>, Error> {
+        let (n, _, field) = COLUMNS[k];
+        let Some(c) = cell(k) else { return Ok(None) };
+        let field = field.expect("a numeric column");
+        let x: f64 = c.parse().map_err(|_| {
+            cx.err(
+                Some(ln),
+                Some(n),
+                format!("value \"{c}\" is not a number; {}", field.allowed()),
+            )
+        })?;
+        field
+            .check(x)
+            .map(Some)
+            .map_err(|msg| cx.err(Some(ln), Some(n), msg))
+    };
+    let id = cell(0).ok_or_else(|| cx.err(Some(ln), Some("id"), EMPTY_ID.to_string()))?;
+    if let Some(first) = earlier.iter().find(|e| e.participant.id == id) {
+        return Err(cx.err(
+            Some(ln),
+            Some("id"),
+            format!(
+                "\"{id}\" is already used on line {}; codes must be unique",
+                first.line
+            ),
+        ));
+    }
+    let sex = match cell(1) {
+        Some(word) => participant::sex(word).map_err(|msg| cx.err(Some(ln), Some("sex"), msg))?,
+        None => {
+            return Err(cx.err(
+                Some(ln),
+                Some("sex"),
+                format!("empty; allowed {}", participant::sex_words()),
+            ));
+        }
+    };
+    let need = |k: usize| -> Result<f64, Error> {
+        num(k)?.ok_or_else(|| {
+            let (n, _, field) = COLUMNS[k];
+            let allowed = field.expect("numeric").allowed();
+            cx.err(Some(ln), Some(n), format!("empty; {allowed}"))
+        })
+    };
+    let (age, height, mass) = (need(2)?, need(3)?, need(4)?);
+    participant::check_bmi(mass, height).map_err(|msg| cx.err(Some(ln), Some("mass_kg"), msg))?;
+    let flag = |k: usize| -> Result<Option<bool>, Error> {
+        match cell(k) {
+            None => Ok(None),
+            Some("true") => Ok(Some(true)),
+            Some("false") => Ok(Some(false)),
+            Some(other) => Err(cx.err(
+                Some(ln),
+                Some(COLUMNS[k].0),
+                format!("unknown value \"{other}\"; allowed true, false"),
+            )),
+        }
+    };
+    let answers = [flag(9)?, flag(10)?, flag(11)?];
+    let screening = match answers {
+        [Some(a), Some(b), Some(c)] => Some(Screening {
+            exercises_regularly: a,
+            known_disease: b,
+            signs_or_symptoms: c,
+            medical_clearance: flag(12)?.unwrap_or(false),
+        }),
+        [None, None, None] => {
+            if flag(12)?.is_some() {
+                return Err(cx.err(Some(ln), Some("medical_clearance"), "given without the screening answers; give exercises_regularly, known_disease and signs_or_symptoms too (true or false)".to_string()));
+            }
+            None
+        }
+        _ => {
+            let missing = (9..12)
+                .find(|k| answers[k - 9].is_none())
+                .expect("one is missing");
+            return Err(cx.err(Some(ln), Some(COLUMNS[missing].0), "empty while other screening answers are given; answer all three (true or false) or none".to_string()));
+        }
+    };
+    let arm = cell(13).map(|a| arm_of(cx, study, ln, a)).transpose()?;
+    let subject = Subject {
+        sex,
+        age_years: age,
+        height_cm: height,
+        mass_kg: mass,
+        body_fat_percent: num(5)?,
+        rmr_kcal_per_day: num(6)?,
+        intake_kcal_per_day: num(7)?,
+        pal: num(8)?,
+    };
+    check_calibrates(&subject, study).map_err(|(col, msg)| {
+        cx.err(Some(ln), Some(col), format!("participant \"{id}\": {msg}"))
+    })?;
+    Ok(RosterEntry {
+        line: ln,
+        participant: Participant {
+            id: id.to_string(),
+            subject,
+            screening,
+            fitness: None,
+        },
+        arm,
+    })
+}
+
+/// The arm named in the roster's `arm` column on line `ln`.
+fn arm_of(cx: &Cx, study: &Study, ln: usize, a: &str) -> Result<usize, Error> {
+    study.arm_index(a).ok_or_else(|| {
+        cx.err(
+            Some(ln),
+            Some("arm"),
+            format!(
+                "unknown arm \"{a}\"; the study's arms are {}",
+                study.arm_names()
+            ),
+        )
+    })
 }
 
 fn required_header() -> String {

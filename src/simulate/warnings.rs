@@ -1,4 +1,5 @@
-//! The warnings a plan earns, each with a stable code (they go into the JSON too).
+//! The warnings a simulated plan or cohort earns, each with a stable code (they go
+//! into the JSON too). The thresholds are `safety::risk`'s.
 //!
 //! Thresholds: 300 min/week (US Physical Activity Guidelines 2018 upper range);
 //! loss above 1% of body mass a week (NHLBI 1998 target rate of 0.45-0.9 kg/week,
@@ -6,20 +7,12 @@
 
 use crate::activity::Intensity;
 use crate::activity::targets::{IntensityClass, relative_targets};
-use crate::model::composition::bmi;
 use crate::plan::{OverMax, Plan};
+use crate::safety::Warning;
+use crate::safety::risk;
+pub use crate::safety::risk::intake_floor_kcal_per_day;
 use crate::safety::screening::{ScreeningOutcome, VIGOROUS_MET};
 use crate::simulate::{ScenarioRun, Simulation};
-use serde::Serialize;
-
-/// One warning.
-#[derive(Debug, Clone, PartialEq, Eq, Serialize)]
-pub struct Warning {
-    /// Stable machine-readable code.
-    pub code: &'static str,
-    /// Plain words.
-    pub message: String,
-}
 
 fn w(code: &'static str, message: String) -> Warning {
     Warning { code, message }
@@ -296,7 +289,7 @@ fn scenario_warnings(plan: &Plan, sc: &ScenarioRun, out: &mut Vec<Warning>) {
     let long: Vec<u32> = sc
         .weeks
         .iter()
-        .filter(|w| w.sessions.iter().map(|s| s.minutes).sum::<u32>() > 300)
+        .filter(|w| risk::weekly_minutes_over(w.sessions.iter().map(|s| s.minutes).sum()))
         .map(|w| w.week)
         .collect();
     if !long.is_empty() {
@@ -305,7 +298,7 @@ fn scenario_warnings(plan: &Plan, sc: &ScenarioRun, out: &mut Vec<Warning>) {
     let mut prev = plan.participant.subject.mass_kg;
     let mut fast = Vec::new();
     for wk in &sc.weeks {
-        if prev - wk.end.mass_kg > 0.01 * prev {
+        if risk::loss_too_fast(prev, wk.end.mass_kg) {
             fast.push(wk.week);
         }
         prev = wk.end.mass_kg;
@@ -313,32 +306,27 @@ fn scenario_warnings(plan: &Plan, sc: &ScenarioRun, out: &mut Vec<Warning>) {
     if !fast.is_empty() {
         out.push(w("loss-rate-over-1-percent", format!("scenario \"{name}\": projected loss exceeds 1% of body mass per week in {} {}; faster loss needs clinical supervision", plural(&fast), week_ranges(&fast))));
     }
-    if sc.compensation.diet_change_kcal_per_day < 0.0 {
+    if risk::intake_screened(sc.compensation.diet_change_kcal_per_day) {
         intake_warnings(plan, sc, out);
     }
     let h = plan.participant.subject.height_cm;
-    if let Some(wk) = sc.weeks.iter().find(|wk| bmi(wk.end.mass_kg, h) < 18.5) {
+    if let Some(wk) = sc
+        .weeks
+        .iter()
+        .find(|wk| risk::underweight(wk.end.mass_kg, h))
+    {
         out.push(w("bmi-below-18.5", format!("scenario \"{name}\": projected BMI falls below 18.5 kg/m^2 (underweight) by the end of week {} ({:.1} kg); stop or reduce the dose", wk.week, wk.end.mass_kg)));
-    }
-}
-
-/// Unsupervised intake floors, kcal/day: 1,200 (women) and 1,500 (men) (common
-/// practice; REFERENCES.md 6.4, with the 2013 AHA/ACC/TOS guideline's 1,200-1,500 and
-/// 1,500-1,800 kcal/day prescriptions, Jensen et al. 2014, Circulation 129:S102).
-pub fn intake_floor_kcal_per_day(sex: crate::model::Sex) -> f64 {
-    match sex {
-        crate::model::Sex::Female => 1200.0,
-        crate::model::Sex::Male => 1500.0,
     }
 }
 
 fn intake_warnings(plan: &Plan, sc: &ScenarioRun, out: &mut Vec<Warning>) {
     let name = &sc.name;
-    let floor = intake_floor_kcal_per_day(plan.participant.subject.sex);
+    let sex = plan.participant.subject.sex;
+    let floor = risk::intake_floor_kcal_per_day(sex);
     let below_rmr: Vec<u32> = sc
         .weeks
         .iter()
-        .filter(|w| w.end.intake_kcal_per_day < w.end.rmr_kcal_per_day)
+        .filter(|w| risk::intake_below_rmr(w.end.intake_kcal_per_day, w.end.rmr_kcal_per_day))
         .map(|w| w.week)
         .collect();
     let lowest = sc
@@ -352,7 +340,7 @@ fn intake_warnings(plan: &Plan, sc: &ScenarioRun, out: &mut Vec<Warning>) {
     let below_floor: Vec<u32> = sc
         .weeks
         .iter()
-        .filter(|w| w.end.intake_kcal_per_day < floor)
+        .filter(|w| risk::intake_below_floor(w.end.intake_kcal_per_day, sex))
         .map(|w| w.week)
         .collect();
     if !below_floor.is_empty() {
@@ -377,12 +365,11 @@ pub fn study_is_vigorous(study: &crate::study::Study) -> bool {
         .any(|a| a.intensity.met_at(70.0) >= VIGOROUS_MET)
 }
 
-/// Warnings of a cohort: sessions over the maximum per arm, and the screening,
-/// estimated body fat and age notes counted over participants.
-pub fn cohort_warnings(
+/// The warnings about the roster's participants themselves: screening, clearance,
+/// vigorous start, estimated fat mass, older adults.
+fn member_warnings(
     study: &crate::study::Study,
     members: &[crate::simulate::cohort::Member],
-    summary: &crate::simulate::cohort::CohortSummary,
 ) -> Vec<Warning> {
     let mut out = Vec::new();
     let ids = |f: &dyn Fn(&crate::simulate::cohort::Member) -> bool| -> (usize, String) {
@@ -427,6 +414,17 @@ pub fn cohort_warnings(
     if n > 0 {
         out.push(w("older-adult-met", format!("{n} participant(s) are 60 or older: standard METs assume 3.5 ml/kg/min at rest and tend to overstate their cost of activity (Willis et al. 2024, J Sport Health Sci 13:13), so their minutes may be too few for the energy target")));
     }
+    out
+}
+
+/// Warnings of a cohort: sessions over the maximum per arm, and the screening,
+/// estimated body fat and age notes counted over participants.
+pub fn cohort_warnings(
+    study: &crate::study::Study,
+    members: &[crate::simulate::cohort::Member],
+    summary: &crate::simulate::cohort::CohortSummary,
+) -> Vec<Warning> {
+    let mut out = member_warnings(study, members);
     // Measured intake and PAL that disagree: the participant drifts before any
     // exercise, in every arm (as `schedule` warns for one plan).
     let drifting: Vec<String> = members
@@ -487,7 +485,7 @@ pub fn cohort_warnings(
                 out.push(w("intake-below-rmr", format!("{} have, with the diet change, an intake below their RMR in some week; never plan intake below RMR without clinical supervision", who(r.intake_below_rmr))));
             }
             if r.intake_below_floor > 0.0 {
-                out.push(w("intake-below-floor", format!("{} have, with the diet change, an intake below the usual floor without supervision (1200 kcal/day for women, 1500 for men) in some week", who(r.intake_below_floor))));
+                out.push(w("intake-below-floor", format!("{} have, with the diet change, an intake below the usual floor without supervision ({:.0} kcal/day for women, {:.0} for men) in some week", who(r.intake_below_floor), risk::intake_floor_kcal_per_day(crate::model::Sex::Female), risk::intake_floor_kcal_per_day(crate::model::Sex::Male))));
             }
             if r.bmi_below_18_5 > 0.0 {
                 out.push(w("bmi-below-18.5", format!("{} fall below a BMI of 18.5 kg/m^2 (underweight) in some week; stop or reduce the dose", who(r.bmi_below_18_5))));
