@@ -6,7 +6,9 @@ use crate::cli::{
     LogAction, LogArgs, PaperArg, SheetsFormat, UnitsArg,
 };
 use crate::error::Error;
-use crate::files::{check_target, refuse_overwriting_inputs, write_atomic};
+use crate::output::{
+    check_chart_folder, check_target, is_stdout, refuse_overwriting_inputs, write_atomic,
+};
 use crate::plan::{self, Plan};
 use crate::report::units::{EnergyUnit, UnitSystem, Units};
 use crate::report::{self, ScheduleReport};
@@ -427,9 +429,10 @@ fn refuse_display_units(units: Units, format: &str) -> Result<(), Error> {
     )))
 }
 
-/// Print to standard output, or write the file atomically and say so on standard error.
+/// Print to standard output (no `--out`, or `--out -`), or write the file atomically
+/// and say so on standard error.
 fn deliver(mut printed: Printed, text: String, out: &Option<PathBuf>) -> Result<Printed, Error> {
-    match out {
+    match out.as_deref().filter(|o| !is_stdout(o)) {
         Some(o) => {
             write_atomic(o, text.as_bytes(), false)?;
             printed.stderr.push_str(&format!("wrote {}\n", o.display()));
@@ -465,6 +468,9 @@ pub fn run(command: &Command) -> Result<Printed, Error> {
             }
             if let Some(o) = out {
                 check_target(o, false)?;
+            }
+            if let Some(dir) = chart {
+                check_chart_folder(dir)?;
             }
             let plan = load(plan.as_deref())?;
             let log = read_log(&plan, log.as_deref(), *as_of)?;
@@ -518,10 +524,19 @@ pub fn run(command: &Command) -> Result<Printed, Error> {
                 units: display_units(display),
             };
             let cal = calendar_file(&plan, &log, &request)?;
-            write_atomic(out, cal.text.as_bytes(), false)?;
+            let stdout = if is_stdout(out) {
+                cal.text.clone()
+            } else {
+                write_atomic(out, cal.text.as_bytes(), false)?;
+                String::new()
+            };
             let mut stderr = format!(
                 "wrote {}: {} events from {} to {}\n",
-                out.display(),
+                if stdout.is_empty() {
+                    out.display().to_string()
+                } else {
+                    "standard output".to_string()
+                },
                 cal.events,
                 cal.span.0,
                 cal.span.1
@@ -529,10 +544,7 @@ pub fn run(command: &Command) -> Result<Printed, Error> {
             for w in &cal.warnings {
                 stderr.push_str(&format!("warning [{}]: {}\n", w.code, w.message));
             }
-            Ok(Printed {
-                stdout: String::new(),
-                stderr,
-            })
+            Ok(Printed { stdout, stderr })
         }
         Command::Sheets {
             plan,
@@ -628,6 +640,9 @@ pub fn run(command: &Command) -> Result<Printed, Error> {
                 CompareFormat::Json => refuse_display_units(units, "json")?,
             }
             refuse_inputs(out, plan, log)?;
+            if let Some(dir) = chart {
+                check_chart_folder(dir)?;
+            }
             let plan = with_added_scenarios(load(Some(plan))?, add_scenario)?;
             let log = read_log(&plan, log.as_deref(), *as_of)?;
             let r = compare_report_logged(&plan, &log, at_week, doses)?;
@@ -711,6 +726,9 @@ pub fn run(command: &Command) -> Result<Printed, Error> {
                 refuse_display_units(units, "json")?;
             }
             refuse_inputs(out, plan, &Some(log.clone()))?;
+            if let Some(dir) = chart {
+                check_chart_folder(dir)?;
+            }
             let plan = load(Some(plan))?;
             let input = read_log(&plan, Some(log), *as_of)?;
             let schedule = schedule_report(&plan)?;
@@ -737,7 +755,7 @@ pub fn run(command: &Command) -> Result<Printed, Error> {
                 chart
                     .caption
                     .push_str(&charts::screening_caption(&r.screening));
-                let paths = report::chart::write_charts(dir, &stem, &[("fit", chart)])?;
+                let paths = crate::output::write_charts(dir, &stem, &[("fit", chart.render())])?;
                 printed.stderr = paths
                     .iter()
                     .map(|p| format!("wrote {}\n", p.display()))
@@ -789,6 +807,7 @@ pub fn run(command: &Command) -> Result<Printed, Error> {
                         .to_string(),
                 ));
             }
+            crate::output::check_log(log)?;
             let plan = load(Some(plan))?;
             let entry = match (weigh_in, session) {
                 (Some(kg), _) => crate::log::NewEntry::WeighIn {
@@ -832,7 +851,7 @@ pub fn run(command: &Command) -> Result<Printed, Error> {
             let text = plan::starter::STARTER_PLAN;
             // The starter must itself be a valid plan (tested); check before writing.
             plan::parse_plan("starter plan", text)?;
-            match file {
+            match file.as_deref().filter(|f| !is_stdout(f)) {
                 Some(f) => {
                     write_atomic(f, text.as_bytes(), true)?;
                     Ok(Printed {
@@ -904,8 +923,9 @@ pub fn run(command: &Command) -> Result<Printed, Error> {
 mod charts {
     //! Writing the SVG charts of a report.
     use crate::error::Error;
+    use crate::output::write_charts;
     use crate::report::ScheduleReport;
-    use crate::report::chart::{Band, standard_charts, write_charts};
+    use crate::report::chart::{Band, LineChart, standard_charts};
     use crate::report::units::Units;
     use std::path::Path;
 
@@ -915,6 +935,11 @@ mod charts {
             " Screening: {}. Stop at once on chest pain, unusual breathlessness, dizziness or palpitations.",
             s.recommendation
         )
+    }
+
+    /// Each chart as SVG text, with its name.
+    fn rendered<'a>(charts: &[(&'a str, LineChart)]) -> Vec<(&'a str, String)> {
+        charts.iter().map(|(n, c)| (*n, c.render())).collect()
     }
 
     /// A file-name stem from a participant code.
@@ -948,7 +973,7 @@ mod charts {
                 " {screening} Stop at once on chest pain, unusual breathlessness, dizziness or palpitations."
             ));
         }
-        let paths = write_charts(dir, &stem(&r.name), &charts)?;
+        let paths = write_charts(dir, &stem(&r.name), &rendered(&charts))?;
         Ok(paths
             .iter()
             .map(|p| format!("wrote {}\n", p.display()))
@@ -982,7 +1007,7 @@ mod charts {
             c.caption.push_str(&screening_caption(&r.screening));
         }
         let stem = stem(&r.participant_id);
-        let paths = write_charts(dir, &stem, &charts)?;
+        let paths = write_charts(dir, &stem, &rendered(&charts))?;
         Ok(paths
             .iter()
             .map(|p| format!("wrote {}\n", p.display()))
@@ -1117,6 +1142,9 @@ fn cohort_command(args: &crate::cli::CohortArgs) -> Result<Printed, Error> {
         }
         refuse_overwriting_inputs(o, &inputs)?;
         check_target(o, false)?;
+    }
+    if let Some(dir) = &args.chart {
+        check_chart_folder(dir)?;
     }
     let study = crate::study::load_study(&args.study)?;
     let (members, source, allocation) = cohort_members(&study, args)?;

@@ -10,12 +10,9 @@
 //! colorblind people", 2008), and every series also differs by marker shape, and by
 //! dash where a chart pairs two quantities, so the charts read in grey print too.
 
-use crate::error::Error;
-use crate::files::write_atomic;
 use crate::report::units::Units;
 use crate::simulate::{ScenarioRun, WeekEnd};
 use std::fmt::Write as _;
-use std::path::{Path, PathBuf};
 
 /// Canvas width, px.
 const WIDTH: f64 = 900.0;
@@ -1057,7 +1054,7 @@ pub fn energy_chart(runs: &[ScenarioRun], protocol_weeks: u32, u: Units) -> Line
 }
 
 /// The four standard charts, named `mass`, `composition`, `minutes` and `energy`
-/// for [`write_charts`], in units `u` (the band in kg).
+/// for `crate::output::write_charts`, in units `u` (the band in kg).
 pub fn standard_charts(
     runs: &[ScenarioRun],
     protocol_weeks: u32,
@@ -1070,27 +1067,6 @@ pub fn standard_charts(
         ("minutes", minutes_chart(runs, protocol_weeks)),
         ("energy", energy_chart(runs, protocol_weeks, u)),
     ]
-}
-
-/// Write each chart to `dir/stem-NAME.svg` (creating `dir` if missing), each file
-/// atomically; returns the paths in chart order.
-pub fn write_charts(
-    dir: &Path,
-    stem: &str,
-    charts: &[(&str, LineChart)],
-) -> Result<Vec<PathBuf>, Error> {
-    std::fs::create_dir_all(dir).map_err(|e| Error::Output {
-        path: dir.display().to_string(),
-        reason: e.to_string(),
-    })?;
-    charts
-        .iter()
-        .map(|(name, chart)| {
-            let path = dir.join(format!("{stem}-{name}.svg"));
-            write_atomic(&path, chart.render().as_bytes(), false)?;
-            Ok(path)
-        })
-        .collect()
 }
 
 /// Cohort: the distribution of mass change at the end of the protocol per arm (first

@@ -70,27 +70,32 @@ impl Cx<'_> {
 
 /// Read and validate a roster for `study`.
 pub fn load_roster(path: &std::path::Path, study: &Study) -> Result<Vec<RosterEntry>, Error> {
-    let name = path.display().to_string();
-    let bytes = std::fs::read(path).map_err(|e| Error::Unreadable {
-        path: name.clone(),
-        reason: crate::plan::validate::io_reason(&e),
-    })?;
-    let text = String::from_utf8(bytes).map_err(|_| Error::Unreadable {
-        path: name.clone(),
-        reason: "not UTF-8 text; save the roster as UTF-8 CSV".to_string(),
-    })?;
-    parse_roster(&name, &text, study)
+    let f = crate::input::read(path)?;
+    parse_roster(&f.name, &f.raw, study)
+}
+
+/// A cell as written, trimmed, without the double quotes some tools leave around a
+/// cell after spaces (the `csv` crate removes those of a properly quoted cell).
+fn clean(cell: &str) -> &str {
+    let c = cell.trim();
+    c.strip_prefix('"')
+        .and_then(|x| x.strip_suffix('"'))
+        .map_or(c, str::trim)
 }
 
 /// Parse and validate roster text; `file` names it in errors.
 pub fn parse_roster(file: &str, text: &str, study: &Study) -> Result<Vec<RosterEntry>, Error> {
     let cx = Cx { file };
-    let text = text.strip_prefix('\u{feff}').unwrap_or(text);
-    let mut lines = text.lines().enumerate().filter(|(_, l)| {
-        let t = l.trim();
-        !t.is_empty() && !t.starts_with('#')
+    let text = crate::input::normalise(text);
+    let (records, fault) = crate::input::csv_records(&text, true);
+    let mut records = records.into_iter().filter(|r| {
+        let first = r.cells.first().map_or("", |c| c.trim());
+        !(r.cells.len() == 1 && first.is_empty()) && !first.starts_with('#')
     });
-    let Some((h_at, header)) = lines.next() else {
+    let Some(head) = records.next() else {
+        if let Some(f) = fault {
+            return Err(f.into_error(file, None));
+        }
         return Err(cx.err(
             None,
             None,
@@ -100,215 +105,21 @@ pub fn parse_roster(file: &str, text: &str, study: &Study) -> Result<Vec<RosterE
             ),
         ));
     };
-    let header: Vec<String> = header
-        .split(',')
-        .map(|c| c.trim().trim_matches('"').trim().to_string())
-        .collect();
-    let mut index = [None; COLUMNS.len()];
-    for (i, h) in header.iter().enumerate() {
-        let Some(k) = COLUMNS.iter().position(|(n, ..)| n == h) else {
-            let looks_like_data = h.parse::<f64>().is_ok();
-            let hint = if looks_like_data {
-                format!(
-                    "the first line holds data; insert the header {} as line 1",
-                    required_header()
-                )
-            } else {
-                format!(
-                    "allowed columns {}",
-                    COLUMNS.iter().map(|c| c.0).collect::<Vec<_>>().join(", ")
-                )
-            };
-            return Err(cx.err(
-                Some(h_at + 1),
-                Some(h),
-                format!("unknown column \"{h}\"; {hint}"),
-            ));
-        };
-        if index[k].is_some() {
-            return Err(cx.err(
-                Some(h_at + 1),
-                Some(h),
-                format!("column \"{h}\" appears twice in the header"),
-            ));
-        }
-        index[k] = Some(i);
-    }
-    for (k, (n, required, _)) in COLUMNS.iter().enumerate() {
-        if *required && index[k].is_none() {
-            return Err(cx.err(
-                Some(h_at + 1),
-                Some(n),
-                format!(
-                    "missing required column; the header needs {}",
-                    required_header()
-                ),
-            ));
-        }
-    }
+    let header: Vec<String> = head.cells.iter().map(|c| clean(c).to_string()).collect();
+    let index = header_index(&cx, head.line, &header)?;
     let mut out: Vec<RosterEntry> = Vec::new();
-    for (at, line) in lines {
-        let ln = at + 1;
-        // A cell in double quotes (as spreadsheets write text) is read without them.
-        let cells: Vec<&str> = line
-            .split(',')
-            .map(|c| {
-                let c = c.trim();
-                c.strip_prefix('"')
-                    .and_then(|x| x.strip_suffix('"'))
-                    .map_or(c, str::trim)
-            })
-            .collect();
+    for record in records {
+        let ln = record.line;
+        let cells: Vec<&str> = record.cells.iter().map(|c| clean(c)).collect();
         if cells.len() != header.len() {
-            return Err(cx.err(Some(ln), None, format!("{} cells for {} columns; every row needs one cell per header column (no commas inside values)", cells.len(), header.len())));
+            return Err(cx.err(Some(ln), None, format!("{} cells for {} columns; every row needs one cell per header column (put a value that holds a comma in double quotes)", cells.len(), header.len())));
         }
-        let cell = |k: usize| index[k].map(|i| cells[i]).filter(|c| !c.is_empty());
-        let num = |k: usize| -> Result<Option<f64>, Error> {
-            let (n, _, range) = COLUMNS[k];
-            let Some(c) = cell(k) else { return Ok(None) };
-            let (lo, hi, unit) = range.expect("a numeric column");
-            let x: f64 = c.parse().map_err(|_| {
-                cx.err(
-                    Some(ln),
-                    Some(n),
-                    format!("value \"{c}\" is not a number; allowed {lo} to {hi}{unit}"),
-                )
-            })?;
-            if n == "height_cm" && (1.2..=2.3).contains(&x) {
-                return Err(cx.err(Some(ln), Some(n), format!("value {c} looks like metres; give the height in centimetres (e.g. {:.0}); allowed 120 to 230 cm", x * 100.0)));
-            }
-            if n == "body_fat_percent" && x > 0.0 && x < 1.0 {
-                return Err(cx.err(Some(ln), Some(n), format!("value {c} looks like a fraction; give a percent (e.g. {:.0}); allowed 3 to 70", x * 100.0)));
-            }
-            if !x.is_finite() || x < lo || x > hi {
-                return Err(cx.err(
-                    Some(ln),
-                    Some(n),
-                    format!("value {c} is out of range; allowed {lo} to {hi}{unit}"),
-                ));
-            }
-            Ok(Some(x))
-        };
-        let id = cell(0).ok_or_else(|| {
-            cx.err(
-                Some(ln),
-                Some("id"),
-                "empty; give a pseudonymous code such as \"R-104\"".to_string(),
-            )
-        })?;
-        if let Some(first) = out.iter().find(|e| e.participant.id == id) {
-            return Err(cx.err(
-                Some(ln),
-                Some("id"),
-                format!(
-                    "\"{id}\" is already used on line {}; codes must be unique",
-                    first.line
-                ),
-            ));
-        }
-        let sex = match cell(1) {
-            Some("female") => Sex::Female,
-            Some("male") => Sex::Male,
-            Some(other) => {
-                return Err(cx.err(
-                    Some(ln),
-                    Some("sex"),
-                    format!("unknown value \"{other}\"; allowed female, male"),
-                ));
-            }
-            None => {
-                return Err(cx.err(
-                    Some(ln),
-                    Some("sex"),
-                    "empty; allowed female, male".to_string(),
-                ));
-            }
-        };
-        let need = |k: usize| -> Result<f64, Error> {
-            num(k)?.ok_or_else(|| {
-                let (n, _, r) = COLUMNS[k];
-                let (lo, hi, unit) = r.expect("numeric");
-                cx.err(
-                    Some(ln),
-                    Some(n),
-                    format!("empty; allowed {lo} to {hi}{unit}"),
-                )
-            })
-        };
-        let (age, height, mass) = (need(2)?, need(3)?, need(4)?);
-        let bmi = crate::model::composition::bmi(mass, height);
-        if !(13.0..=80.0).contains(&bmi) {
-            return Err(cx.err(Some(ln), Some("mass_kg"), format!("value {mass} with height {height} cm gives BMI {bmi:.1}, outside the allowed 13 to 80 kg/m^2; check the units (kg, cm; a mass in pounds must be converted)")));
-        }
-        let flag = |k: usize| -> Result<Option<bool>, Error> {
-            match cell(k) {
-                None => Ok(None),
-                Some("true") => Ok(Some(true)),
-                Some("false") => Ok(Some(false)),
-                Some(other) => Err(cx.err(
-                    Some(ln),
-                    Some(COLUMNS[k].0),
-                    format!("unknown value \"{other}\"; allowed true, false"),
-                )),
-            }
-        };
-        let answers = [flag(9)?, flag(10)?, flag(11)?];
-        let screening = match answers {
-            [Some(a), Some(b), Some(c)] => Some(Screening {
-                exercises_regularly: a,
-                known_disease: b,
-                signs_or_symptoms: c,
-                medical_clearance: flag(12)?.unwrap_or(false),
-            }),
-            [None, None, None] => {
-                if flag(12)?.is_some() {
-                    return Err(cx.err(Some(ln), Some("medical_clearance"), "given without the screening answers; give exercises_regularly, known_disease and signs_or_symptoms too (true or false)".to_string()));
-                }
-                None
-            }
-            _ => {
-                let missing = (9..12)
-                    .find(|k| answers[k - 9].is_none())
-                    .expect("one is missing");
-                return Err(cx.err(Some(ln), Some(COLUMNS[missing].0), "empty while other screening answers are given; answer all three (true or false) or none".to_string()));
-            }
-        };
-        let arm = match cell(13) {
-            None => None,
-            Some(a) => Some(study.arm_index(a).ok_or_else(|| {
-                cx.err(
-                    Some(ln),
-                    Some("arm"),
-                    format!(
-                        "unknown arm \"{a}\"; the study's arms are {}",
-                        study.arm_names()
-                    ),
-                )
-            })?),
-        };
-        let subject = Subject {
-            sex,
-            age_years: age,
-            height_cm: height,
-            mass_kg: mass,
-            body_fat_percent: num(5)?,
-            rmr_kcal_per_day: num(6)?,
-            intake_kcal_per_day: num(7)?,
-            pal: num(8)?,
-        };
-        check_calibrates(&subject, study).map_err(|(col, msg)| {
-            cx.err(Some(ln), Some(col), format!("participant \"{id}\": {msg}"))
-        })?;
-        out.push(RosterEntry {
-            line: ln,
-            participant: Participant {
-                id: id.to_string(),
-                subject,
-                screening,
-                fitness: None,
-            },
-            arm,
-        });
+        let entry = row(&cx, ln, &cells, &index, study, &out)?;
+        out.push(entry);
+    }
+    if let Some(f) = fault {
+        let key = f.cell.and_then(|c| header.get(c).cloned());
+        return Err(f.into_error(file, key));
     }
     if out.is_empty() {
         return Err(cx.err(
@@ -326,6 +137,222 @@ pub fn parse_roster(file: &str, text: &str, study: &Study) -> Result<Vec<RosterE
         return Err(cx.err(Some(e.line), Some("arm"), "empty while other rows give an arm; give every participant an arm, or leave the column empty everywhere and use --randomise".to_string()));
     }
     Ok(out)
+}
+
+/// The position in the header of each of [`COLUMNS`], checking the header names.
+fn header_index(
+    cx: &Cx,
+    line: usize,
+    header: &[String],
+) -> Result<[Option<usize>; COLUMNS.len()], Error> {
+    let mut index = [None; COLUMNS.len()];
+    for (i, h) in header.iter().enumerate() {
+        let Some(k) = COLUMNS.iter().position(|(n, ..)| n == h) else {
+            let looks_like_data = h.parse::<f64>().is_ok();
+            let hint = if looks_like_data {
+                format!(
+                    "the first line holds data; insert the header {} as line 1",
+                    required_header()
+                )
+            } else {
+                format!(
+                    "allowed columns {}",
+                    COLUMNS.iter().map(|c| c.0).collect::<Vec<_>>().join(", ")
+                )
+            };
+            return Err(cx.err(
+                Some(line),
+                Some(h),
+                format!("unknown column \"{h}\"; {hint}"),
+            ));
+        };
+        if index[k].is_some() {
+            return Err(cx.err(
+                Some(line),
+                Some(h),
+                format!("column \"{h}\" appears twice in the header"),
+            ));
+        }
+        index[k] = Some(i);
+    }
+    for (k, (n, required, _)) in COLUMNS.iter().enumerate() {
+        if *required && index[k].is_none() {
+            return Err(cx.err(
+                Some(line),
+                Some(n),
+                format!(
+                    "missing required column; the header needs {}",
+                    required_header()
+                ),
+            ));
+        }
+    }
+    Ok(index)
+}
+
+/// One participant row, `out` holding the rows before it.
+fn row(
+    cx: &Cx,
+    ln: usize,
+    cells: &[&str],
+    index: &[Option<usize>; COLUMNS.len()],
+    study: &Study,
+    out: &[RosterEntry],
+) -> Result<RosterEntry, Error> {
+    let cell = |k: usize| index[k].map(|i| cells[i]).filter(|c| !c.is_empty());
+    let num = |k: usize| -> Result<Option<f64>, Error> {
+        let (n, _, range) = COLUMNS[k];
+        let Some(c) = cell(k) else { return Ok(None) };
+        let (lo, hi, unit) = range.expect("a numeric column");
+        let x: f64 = c.parse().map_err(|_| {
+            cx.err(
+                Some(ln),
+                Some(n),
+                format!("value \"{c}\" is not a number; allowed {lo} to {hi}{unit}"),
+            )
+        })?;
+        if n == "height_cm" && (1.2..=2.3).contains(&x) {
+            return Err(cx.err(Some(ln), Some(n), format!("value {c} looks like metres; give the height in centimetres (e.g. {:.0}); allowed 120 to 230 cm", x * 100.0)));
+        }
+        if n == "body_fat_percent" && x > 0.0 && x < 1.0 {
+            return Err(cx.err(
+                Some(ln),
+                Some(n),
+                format!(
+                    "value {c} looks like a fraction; give a percent (e.g. {:.0}); allowed 3 to 70",
+                    x * 100.0
+                ),
+            ));
+        }
+        if !x.is_finite() || x < lo || x > hi {
+            return Err(cx.err(
+                Some(ln),
+                Some(n),
+                format!("value {c} is out of range; allowed {lo} to {hi}{unit}"),
+            ));
+        }
+        Ok(Some(x))
+    };
+    let id = cell(0).ok_or_else(|| {
+        cx.err(
+            Some(ln),
+            Some("id"),
+            "empty; give a pseudonymous code such as \"R-104\"".to_string(),
+        )
+    })?;
+    if let Some(first) = out.iter().find(|e| e.participant.id == id) {
+        return Err(cx.err(
+            Some(ln),
+            Some("id"),
+            format!(
+                "\"{id}\" is already used on line {}; codes must be unique",
+                first.line
+            ),
+        ));
+    }
+    let sex = match cell(1) {
+        Some("female") => Sex::Female,
+        Some("male") => Sex::Male,
+        Some(other) => {
+            return Err(cx.err(
+                Some(ln),
+                Some("sex"),
+                format!("unknown value \"{other}\"; allowed female, male"),
+            ));
+        }
+        None => {
+            return Err(cx.err(
+                Some(ln),
+                Some("sex"),
+                "empty; allowed female, male".to_string(),
+            ));
+        }
+    };
+    let need = |k: usize| -> Result<f64, Error> {
+        num(k)?.ok_or_else(|| {
+            let (n, _, r) = COLUMNS[k];
+            let (lo, hi, unit) = r.expect("numeric");
+            cx.err(
+                Some(ln),
+                Some(n),
+                format!("empty; allowed {lo} to {hi}{unit}"),
+            )
+        })
+    };
+    let (age, height, mass) = (need(2)?, need(3)?, need(4)?);
+    let bmi = crate::model::composition::bmi(mass, height);
+    if !(13.0..=80.0).contains(&bmi) {
+        return Err(cx.err(Some(ln), Some("mass_kg"), format!("value {mass} with height {height} cm gives BMI {bmi:.1}, outside the allowed 13 to 80 kg/m^2; check the units (kg, cm; a mass in pounds must be converted)")));
+    }
+    let flag = |k: usize| -> Result<Option<bool>, Error> {
+        match cell(k) {
+            None => Ok(None),
+            Some("true") => Ok(Some(true)),
+            Some("false") => Ok(Some(false)),
+            Some(other) => Err(cx.err(
+                Some(ln),
+                Some(COLUMNS[k].0),
+                format!("unknown value \"{other}\"; allowed true, false"),
+            )),
+        }
+    };
+    let answers = [flag(9)?, flag(10)?, flag(11)?];
+    let screening = match answers {
+        [Some(a), Some(b), Some(c)] => Some(Screening {
+            exercises_regularly: a,
+            known_disease: b,
+            signs_or_symptoms: c,
+            medical_clearance: flag(12)?.unwrap_or(false),
+        }),
+        [None, None, None] => {
+            if flag(12)?.is_some() {
+                return Err(cx.err(Some(ln), Some("medical_clearance"), "given without the screening answers; give exercises_regularly, known_disease and signs_or_symptoms too (true or false)".to_string()));
+            }
+            None
+        }
+        _ => {
+            let missing = (9..12)
+                .find(|k| answers[k - 9].is_none())
+                .expect("one is missing");
+            return Err(cx.err(Some(ln), Some(COLUMNS[missing].0), "empty while other screening answers are given; answer all three (true or false) or none".to_string()));
+        }
+    };
+    let arm = match cell(13) {
+        None => None,
+        Some(a) => Some(study.arm_index(a).ok_or_else(|| {
+            cx.err(
+                Some(ln),
+                Some("arm"),
+                format!(
+                    "unknown arm \"{a}\"; the study's arms are {}",
+                    study.arm_names()
+                ),
+            )
+        })?),
+    };
+    let subject = Subject {
+        sex,
+        age_years: age,
+        height_cm: height,
+        mass_kg: mass,
+        body_fat_percent: num(5)?,
+        rmr_kcal_per_day: num(6)?,
+        intake_kcal_per_day: num(7)?,
+        pal: num(8)?,
+    };
+    check_calibrates(&subject, study).map_err(|(col, msg)| {
+        cx.err(Some(ln), Some(col), format!("participant \"{id}\": {msg}"))
+    })?;
+    Ok(RosterEntry {
+        line: ln,
+        participant: Participant {
+            id: id.to_string(),
+            subject,
+            screening,
+            fitness: None,
+        },
+        arm,
+    })
 }
 
 fn required_header() -> String {
