@@ -208,19 +208,29 @@ pub fn csv_records(text: &str, comments: bool) -> (Vec<CsvRecord>, Option<CsvFau
         .comment(comments.then_some(b'#'))
         .from_reader(text.as_bytes());
     let mut out = Vec::new();
+    let (mut line, mut counted) = (1, 0);
     for record in reader.records() {
         let record = match record {
             Ok(r) => r,
             Err(e) => {
+                let at = e.position().map_or(counted, |p| p.byte() as usize);
                 let fault = CsvFault {
-                    line: e.position().map_or(1, |p| p.line() as usize),
+                    line: line + bytecount_newlines(&text.as_bytes()[counted..at.max(counted)]),
                     cell: None,
                     message: format!("cannot be read as CSV: {e}"),
                 };
                 return (out, Some(fault));
             }
         };
-        let line = record.position().map_or(1, |p| p.line() as usize);
+        // The crate's own line count and position leave out the blank (and comment)
+        // lines before a record; count the line ends before its first byte instead.
+        let start = skip_blank(
+            text,
+            record.position().map_or(0, |p| p.byte() as usize),
+            comments,
+        );
+        line += bytecount_newlines(&text.as_bytes()[counted..start.max(counted)]);
+        counted = counted.max(start);
         let cells: Vec<String> = record.iter().map(str::to_string).collect();
         if let Some(cell) = cells.iter().position(|c| c.contains('\n')) {
             let fault = CsvFault {
@@ -233,6 +243,27 @@ pub fn csv_records(text: &str, comments: bool) -> (Vec<CsvRecord>, Option<CsvFau
         out.push(CsvRecord { line, cells });
     }
     (out, None)
+}
+
+/// The first byte at or after `at` that is not on an empty (or, with `comments`, a
+/// comment) line.
+fn skip_blank(text: &str, mut at: usize, comments: bool) -> usize {
+    let bytes = text.as_bytes();
+    while at < bytes.len() {
+        match bytes[at] {
+            b'\n' => at += 1,
+            b'#' if comments => {
+                at = text[at..].find('\n').map_or(bytes.len(), |i| at + i + 1);
+            }
+            _ => break,
+        }
+    }
+    at
+}
+
+/// The number of `\n` in `bytes`.
+fn bytecount_newlines(bytes: &[u8]) -> usize {
+    bytes.iter().filter(|b| **b == b'\n').count()
 }
 
 #[cfg(test)]
@@ -251,6 +282,9 @@ mod tests {
         assert_eq!(r.len(), 2);
         assert_eq!(r[0].cells, ["a", "b, c", "d \"e\""]);
         assert_eq!((r[1].line, r[1].cells.len()), (4, 2));
+        let (r, _) = csv_records("a\n\n\n1\n#c\n\n2\n", true);
+        let lines: Vec<usize> = r.iter().map(|x| x.line).collect();
+        assert_eq!(lines, [1, 4, 7]);
         for text in ["a,b\n1,\"x\n2,3\n", "a,b\n1,\"x"] {
             let (r, fault) = csv_records(text, false);
             let fault = fault.expect("an open quote");
