@@ -206,13 +206,22 @@ fn new_file_permissions() -> Permissions {
         .expect("a temporary file")
 }
 
-/// A complete temporary file in the target's folder, not yet renamed over it.
-struct Staged {
-    file: NamedTempFile<()>,
+/// A complete temporary file in the target's folder, not yet renamed over it: on
+/// Linux first without a name ([`Staged::name`] links it into the folder), else named
+/// from the start.
+struct Staged<'a> {
+    /// The unnamed file, complete, until it is linked.
+    unnamed: Option<std::fs::File>,
+    /// The named temporary file.
+    file: Option<NamedTempFile<()>>,
+    /// The bytes (to write again under a name when linking is not possible).
+    bytes: &'a [u8],
+    /// The permissions the file gets before it is named.
+    permissions: Permissions,
     /// The real target (symlinks followed).
     target: PathBuf,
     /// The path as the user named it.
-    named: PathBuf,
+    shown: PathBuf,
 }
 
 /// Give the unnamed temporary file `f` the name `p` (Linux: through `/proc`).
@@ -239,60 +248,88 @@ fn prefix(target: &Path) -> String {
     format!(".{name}.")
 }
 
-/// Write `bytes` into a complete temporary file beside `named`'s real target, with
+/// Write `bytes`, the permissions and a sync into `f`.
+fn fill(f: &mut std::fs::File, bytes: &[u8], permissions: &Permissions) -> std::io::Result<()> {
+    f.write_all(bytes)?;
+    f.set_permissions(permissions.clone())?;
+    f.sync_all()
+}
+
+/// Write `bytes` into a complete temporary file beside `shown`'s real target, with
 /// the target's permissions (a new file's when there is none).
-fn stage(named: &Path, bytes: &[u8]) -> Result<Staged, Error> {
-    let target = resolve(named);
-    let dir = folder_of(&target);
+fn stage<'a>(shown: &Path, bytes: &'a [u8]) -> Result<Staged<'a>, Error> {
+    let target = resolve(shown);
     let permissions = std::fs::metadata(&target)
         .map(|m| m.permissions())
         .unwrap_or_else(|_| new_file_permissions());
-    let fill = |f: &mut std::fs::File| -> std::io::Result<()> {
-        f.write_all(bytes)?;
-        f.set_permissions(permissions.clone())?;
-        f.sync_all()
+    let mut staged = Staged {
+        unnamed: None,
+        file: None,
+        bytes,
+        permissions,
+        target,
+        shown: shown.to_path_buf(),
     };
-    let mut builder = tempfile::Builder::new();
-    let prefix = prefix(&target);
-    builder.prefix(&prefix).suffix(".tmp");
     #[cfg(target_os = "linux")]
     {
-        // Unnamed while written, so a killed run leaves nothing; named only when whole.
-        let unnamed = tempfile::tempfile_in(&dir).and_then(|mut f| {
-            fill(&mut f)?;
-            builder.make_in(&dir, |p| link_unnamed(&f, p))
-        });
-        if let Ok(file) = unnamed {
-            return Ok(Staged {
-                file,
-                target,
-                named: named.to_path_buf(),
-            });
+        // Unnamed while written and synced, so a killed run leaves nothing behind.
+        let dir = folder_of(&staged.target);
+        if let Ok(mut f) = tempfile::tempfile_in(&dir)
+            && fill(&mut f, bytes, &staged.permissions).is_ok()
+        {
+            staged.unnamed = Some(f);
+            return Ok(staged);
         }
     }
-    let result = builder.tempfile_in(&dir).and_then(|t| {
-        let (mut f, path) = t.into_parts();
-        fill(&mut f)?;
-        Ok(NamedTempFile::from_parts((), path))
-    });
-    match result {
-        Ok(file) => Ok(Staged {
-            file,
-            target,
-            named: named.to_path_buf(),
-        }),
-        Err(e) => Err(output_error(named, &e)),
-    }
+    staged.name()?;
+    Ok(staged)
 }
 
-impl Staged {
-    /// Rename the temporary file over the target.
-    fn commit(self) -> Result<(), Error> {
-        let named = self.named;
-        self.file
-            .persist(&self.target)
-            .map(|_| ())
-            .map_err(|e| output_error(&named, &e.error))
+impl Staged<'_> {
+    /// Give the complete file a temporary name in the target's folder (no work is
+    /// left between this and [`Staged::commit`] but the rename).
+    fn name(&mut self) -> Result<(), Error> {
+        if self.file.is_some() {
+            return Ok(());
+        }
+        let dir = folder_of(&self.target);
+        let prefix = prefix(&self.target);
+        let mut builder = tempfile::Builder::new();
+        builder.prefix(&prefix).suffix(".tmp");
+        #[cfg(target_os = "linux")]
+        if let Some(f) = self.unnamed.take()
+            && let Ok(file) = builder.make_in(&dir, |p| link_unnamed(&f, p))
+        {
+            self.file = Some(file);
+            return Ok(());
+        }
+        // No unnamed file, or it cannot be linked (no /proc): a named one.
+        let file = builder
+            .tempfile_in(&dir)
+            .and_then(|t| {
+                let (mut f, path) = t.into_parts();
+                fill(&mut f, self.bytes, &self.permissions)?;
+                Ok(NamedTempFile::from_parts((), path))
+            })
+            .map_err(|e| output_error(&self.shown, &e))?;
+        self.file = Some(file);
+        Ok(())
+    }
+
+    /// Rename the named temporary file over the target.
+    fn commit(mut self) -> Result<(), Error> {
+        self.name()?;
+        let shown = self.shown;
+        match self.file {
+            Some(file) => file
+                .persist(&self.target)
+                .map(|_| ())
+                .map_err(|e| output_error(&shown, &e.error)),
+            None => Err(Error::Internal(format!(
+                "{}: the temporary file has no name",
+                shown.display()
+            ))),
+        }
     }
 }
 
@@ -320,11 +357,16 @@ pub fn write_charts(
     for p in &paths {
         check_target(p, false)?;
     }
-    let staged = paths
+    // Write and sync every chart unnamed, then name them all, then rename them all:
+    // a failure before the renames leaves every old chart in place.
+    let mut staged = paths
         .iter()
         .zip(charts)
         .map(|(p, (_, svg))| stage(p, svg.as_bytes()))
         .collect::<Result<Vec<_>, Error>>()?;
+    for s in &mut staged {
+        s.name()?;
+    }
     for s in staged {
         s.commit()?;
     }
