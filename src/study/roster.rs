@@ -2,7 +2,9 @@
 //! columns (`id, sex, age_years, height_cm, mass_kg` required; `body_fat_percent,
 //! rmr_kcal_per_day, intake_kcal_per_day, pal`, the screening answers and `arm`
 //! optional). Every value is checked against the plan's ranges (PLAN.md), and each
-//! participant is calibrated, so an error names the row and the column.
+//! participant is calibrated, so an error names the row and the column. The file is
+//! read by [`crate::input`] and split by the `csv` crate, so a value in double quotes
+//! may hold a comma, as in the log.
 
 use super::Study;
 use crate::error::{Error, InputError, Location};
@@ -90,7 +92,8 @@ pub fn parse_roster(file: &str, text: &str, study: &Study) -> Result<Vec<RosterE
     let (records, fault) = crate::input::csv_records(&text, true);
     let mut records = records.into_iter().filter(|r| {
         let first = r.cells.first().map_or("", |c| c.trim());
-        !(r.cells.len() == 1 && first.is_empty()) && !first.starts_with('#')
+        let blank = r.cells.len() == 1 && first.is_empty();
+        !(blank || first.starts_with('#'))
     });
     let Some(head) = records.next() else {
         if let Some(f) = fault {
@@ -200,39 +203,7 @@ fn row(
     out: &[RosterEntry],
 ) -> Result<RosterEntry, Error> {
     let cell = |k: usize| index[k].map(|i| cells[i]).filter(|c| !c.is_empty());
-    let num = |k: usize| -> Result<Option<f64>, Error> {
-        let (n, _, range) = COLUMNS[k];
-        let Some(c) = cell(k) else { return Ok(None) };
-        let (lo, hi, unit) = range.expect("a numeric column");
-        let x: f64 = c.parse().map_err(|_| {
-            cx.err(
-                Some(ln),
-                Some(n),
-                format!("value \"{c}\" is not a number; allowed {lo} to {hi}{unit}"),
-            )
-        })?;
-        if n == "height_cm" && (1.2..=2.3).contains(&x) {
-            return Err(cx.err(Some(ln), Some(n), format!("value {c} looks like metres; give the height in centimetres (e.g. {:.0}); allowed 120 to 230 cm", x * 100.0)));
-        }
-        if n == "body_fat_percent" && x > 0.0 && x < 1.0 {
-            return Err(cx.err(
-                Some(ln),
-                Some(n),
-                format!(
-                    "value {c} looks like a fraction; give a percent (e.g. {:.0}); allowed 3 to 70",
-                    x * 100.0
-                ),
-            ));
-        }
-        if !x.is_finite() || x < lo || x > hi {
-            return Err(cx.err(
-                Some(ln),
-                Some(n),
-                format!("value {c} is out of range; allowed {lo} to {hi}{unit}"),
-            ));
-        }
-        Ok(Some(x))
-    };
+    let num = |k: usize| number(cx, ln, k, cell(k));
     let id = cell(0).ok_or_else(|| {
         cx.err(
             Some(ln),
@@ -284,39 +255,7 @@ fn row(
     if !(13.0..=80.0).contains(&bmi) {
         return Err(cx.err(Some(ln), Some("mass_kg"), format!("value {mass} with height {height} cm gives BMI {bmi:.1}, outside the allowed 13 to 80 kg/m^2; check the units (kg, cm; a mass in pounds must be converted)")));
     }
-    let flag = |k: usize| -> Result<Option<bool>, Error> {
-        match cell(k) {
-            None => Ok(None),
-            Some("true") => Ok(Some(true)),
-            Some("false") => Ok(Some(false)),
-            Some(other) => Err(cx.err(
-                Some(ln),
-                Some(COLUMNS[k].0),
-                format!("unknown value \"{other}\"; allowed true, false"),
-            )),
-        }
-    };
-    let answers = [flag(9)?, flag(10)?, flag(11)?];
-    let screening = match answers {
-        [Some(a), Some(b), Some(c)] => Some(Screening {
-            exercises_regularly: a,
-            known_disease: b,
-            signs_or_symptoms: c,
-            medical_clearance: flag(12)?.unwrap_or(false),
-        }),
-        [None, None, None] => {
-            if flag(12)?.is_some() {
-                return Err(cx.err(Some(ln), Some("medical_clearance"), "given without the screening answers; give exercises_regularly, known_disease and signs_or_symptoms too (true or false)".to_string()));
-            }
-            None
-        }
-        _ => {
-            let missing = (9..12)
-                .find(|k| answers[k - 9].is_none())
-                .expect("one is missing");
-            return Err(cx.err(Some(ln), Some(COLUMNS[missing].0), "empty while other screening answers are given; answer all three (true or false) or none".to_string()));
-        }
-    };
+    let screening = screening(cx, ln, &cell)?;
     let arm = match cell(13) {
         None => None,
         Some(a) => Some(study.arm_index(a).ok_or_else(|| {
@@ -352,6 +291,83 @@ fn row(
             fitness: None,
         },
         arm,
+    })
+}
+
+/// The number in column `k` of the row on line `ln`, if given, within its range.
+fn number(cx: &Cx, ln: usize, k: usize, cell: Option<&str>) -> Result<Option<f64>, Error> {
+    let (n, _, range) = COLUMNS[k];
+    let Some(c) = cell else { return Ok(None) };
+    let (lo, hi, unit) = range.expect("a numeric column");
+    let x: f64 = c.parse().map_err(|_| {
+        cx.err(
+            Some(ln),
+            Some(n),
+            format!("value \"{c}\" is not a number; allowed {lo} to {hi}{unit}"),
+        )
+    })?;
+    if n == "height_cm" && (1.2..=2.3).contains(&x) {
+        return Err(cx.err(Some(ln), Some(n), format!("value {c} looks like metres; give the height in centimetres (e.g. {:.0}); allowed 120 to 230 cm", x * 100.0)));
+    }
+    if n == "body_fat_percent" && x > 0.0 && x < 1.0 {
+        return Err(cx.err(
+            Some(ln),
+            Some(n),
+            format!(
+                "value {c} looks like a fraction; give a percent (e.g. {:.0}); allowed 3 to 70",
+                x * 100.0
+            ),
+        ));
+    }
+    if !x.is_finite() || x < lo || x > hi {
+        return Err(cx.err(
+            Some(ln),
+            Some(n),
+            format!("value {c} is out of range; allowed {lo} to {hi}{unit}"),
+        ));
+    }
+    Ok(Some(x))
+}
+
+/// The screening answers of the row on line `ln` (all three, and the clearance, or
+/// none); `cell` gives the row's non-empty cell of a column.
+fn screening<'a>(
+    cx: &Cx,
+    ln: usize,
+    cell: &dyn Fn(usize) -> Option<&'a str>,
+) -> Result<Option<Screening>, Error> {
+    let flag = |k: usize| -> Result<Option<bool>, Error> {
+        match cell(k) {
+            None => Ok(None),
+            Some("true") => Ok(Some(true)),
+            Some("false") => Ok(Some(false)),
+            Some(other) => Err(cx.err(
+                Some(ln),
+                Some(COLUMNS[k].0),
+                format!("unknown value \"{other}\"; allowed true, false"),
+            )),
+        }
+    };
+    let answers = [flag(9)?, flag(10)?, flag(11)?];
+    Ok(match answers {
+        [Some(a), Some(b), Some(c)] => Some(Screening {
+            exercises_regularly: a,
+            known_disease: b,
+            signs_or_symptoms: c,
+            medical_clearance: flag(12)?.unwrap_or(false),
+        }),
+        [None, None, None] => {
+            if flag(12)?.is_some() {
+                return Err(cx.err(Some(ln), Some("medical_clearance"), "given without the screening answers; give exercises_regularly, known_disease and signs_or_symptoms too (true or false)".to_string()));
+            }
+            None
+        }
+        _ => {
+            let missing = (9..12)
+                .find(|k| answers[k - 9].is_none())
+                .expect("one is missing");
+            return Err(cx.err(Some(ln), Some(COLUMNS[missing].0), "empty while other screening answers are given; answer all three (true or false) or none".to_string()));
+        }
     })
 }
 
