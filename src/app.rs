@@ -532,10 +532,10 @@ pub fn run(command: &Command) -> Result<Printed, Error> {
             };
             let mut stderr = format!(
                 "wrote {}: {} events from {} to {}\n",
-                if stdout.is_empty() {
-                    out.display().to_string()
-                } else {
+                if is_stdout(out) {
                     "standard output".to_string()
+                } else {
+                    out.display().to_string()
                 },
                 cal.events,
                 cal.span.0,

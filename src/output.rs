@@ -9,6 +9,10 @@
 //!   given the target's final permissions, synced, then renamed over the target; on
 //!   Linux the file has no name until it is complete (`O_TMPFILE`), so a run killed
 //!   while writing leaves nothing behind. On failure the temporary file is removed.
+//!   Naming and renaming happen under [`commit_guard`], which the binary's handler
+//!   of SIGINT and SIGTERM takes before it ends the process, so a run interrupted
+//!   then finishes its renames first (SIGKILL cannot be caught: it can leave a
+//!   named temporary file only in the few system calls between link and rename).
 //! - A set of charts is staged whole before the first one replaces an old file.
 
 use crate::error::Error;
@@ -16,6 +20,17 @@ use std::fs::Permissions;
 use std::io::Write;
 use std::path::{Path, PathBuf};
 use tempfile::NamedTempFile;
+
+/// Held while temporary files have names, from naming to renaming.
+static COMMIT: std::sync::Mutex<()> = std::sync::Mutex::new(());
+
+/// Wait until no temporary file has a name, and keep it so while the guard lives
+/// (a signal handler takes it before the process ends).
+pub fn commit_guard() -> std::sync::MutexGuard<'static, ()> {
+    COMMIT
+        .lock()
+        .unwrap_or_else(std::sync::PoisonError::into_inner)
+}
 
 /// Whether `path` is `-`, standard output.
 pub fn is_stdout(path: &Path) -> bool {
@@ -337,7 +352,9 @@ impl Staged<'_> {
 /// `create_new`, refuse an existing file.
 pub fn write_atomic(path: &Path, bytes: &[u8], create_new: bool) -> Result<(), Error> {
     check_target(path, create_new)?;
-    stage(path, bytes)?.commit()
+    let staged = stage(path, bytes)?;
+    let _guard = commit_guard();
+    staged.commit()
 }
 
 /// Write each `(name, svg)` to `dir/stem-NAME.svg` (creating `dir` if missing), all
@@ -364,6 +381,7 @@ pub fn write_charts(
         .zip(charts)
         .map(|(p, (_, svg))| stage(p, svg.as_bytes()))
         .collect::<Result<Vec<_>, Error>>()?;
+    let _guard = commit_guard();
     for s in &mut staged {
         s.name()?;
     }
