@@ -4,7 +4,25 @@ use clap::Parser;
 use std::io::Write;
 use std::process::ExitCode;
 
+/// On SIGINT or SIGTERM, let the output being renamed into place finish first (see
+/// `dosewright::output`), then end as the signal would have.
+#[cfg(unix)]
+fn finish_renames_on_a_signal() {
+    use signal_hook::consts::{SIGINT, SIGTERM};
+    if let Ok(mut signals) = signal_hook::iterator::Signals::new([SIGINT, SIGTERM]) {
+        std::thread::spawn(move || {
+            if let Some(signal) = signals.forever().next() {
+                let _guard = dosewright::output::commit_guard();
+                let _ = signal_hook::low_level::emulate_default_handler(signal);
+                std::process::exit(128 + signal);
+            }
+        });
+    }
+}
+
 fn main() -> ExitCode {
+    #[cfg(unix)]
+    finish_renames_on_a_signal();
     let cli = dosewright::cli::Cli::parse();
     match dosewright::commands::run(&cli.command) {
         Ok(printed) => {

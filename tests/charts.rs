@@ -4,12 +4,22 @@
 
 use dosewright::report::chart::{
     Band, LineChart, Series, energy_chart, escape, mass_chart, minutes_chart, nice_number,
-    nice_ticks, standard_charts, write_charts,
+    nice_ticks, standard_charts,
 };
 use dosewright::report::units::{EnergyUnit, UnitSystem, Units};
 use dosewright::simulate::{ScenarioRun, simulate};
-use std::path::Path;
+use std::path::{Path, PathBuf};
 use std::process::Command;
+
+/// The charts rendered and written by the one writer, `dosewright::output`.
+fn write_charts(
+    dir: &Path,
+    stem: &str,
+    charts: &[(&str, LineChart)],
+) -> Result<Vec<PathBuf>, dosewright::Error> {
+    let svgs: Vec<(&str, String)> = charts.iter().map(|(n, c)| (*n, c.render())).collect();
+    dosewright::output::write_charts(dir, stem, &svgs)
+}
 
 const DEMO: &str = concat!(env!("CARGO_MANIFEST_DIR"), "/plans/demo.toml");
 
@@ -611,15 +621,16 @@ fn write_charts_creates_the_folder_and_names_the_files() {
 }
 
 #[test]
-fn write_charts_reports_an_output_error() {
+fn write_charts_refuses_a_folder_under_a_file() {
     let (_, charts) = demo_charts();
     let tmp = tempfile::tempdir().expect("a scratch folder");
     let dir = tmp.path();
     let file = dir.join("not-a-folder");
     std::fs::write(&file, "x").unwrap();
     let err = write_charts(&file.join("sub"), "demo", &charts).unwrap_err();
-    assert!(matches!(err, dosewright::Error::Output { .. }), "{err:?}");
-    assert_eq!(err.exit_code(), 1);
+    // A folder that cannot be made is a bad request (exit 2), found before writing.
+    assert!(matches!(err, dosewright::Error::Usage(_)), "{err:?}");
+    assert_eq!(err.exit_code(), 2);
 }
 
 // ---------------------------------------------------------------------------------

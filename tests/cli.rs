@@ -79,7 +79,7 @@ fn a_plan_that_is_not_utf8_is_bad_input() {
     let mut bytes = BASE.as_bytes().to_vec();
     let at = BASE.find("T-001").unwrap() + 2;
     bytes.splice(at..at + 1, [0xE9, 0xFF]);
-    let expected = "error: bad.toml: cannot read: not UTF-8 text (invalid byte at line 2, column 9); save the plan as UTF-8";
+    let expected = "error: bad.toml: cannot read: not UTF-8 text (byte 0xE9 at line 2, column 9); save the file as UTF-8";
     for args in [
         &["check", "bad.toml"][..],
         &["schedule", "bad.toml", "--format", "csv"][..],
@@ -2213,7 +2213,7 @@ fn a_not_utf8_column_counts_characters_like_every_other_message() {
     let problems = bad_run_problems(
         &bytes,
         &["check", "bad.toml"],
-        "error: bad.toml: cannot read: not UTF-8 text (invalid byte at line 2, column 9); save the plan as UTF-8",
+        "error: bad.toml: cannot read: not UTF-8 text (byte 0xFF at line 2, column 9); save the file as UTF-8",
     );
     assert!(problems.is_empty(), "{}", problems.join("\n"));
     // The same line with a value error after the é: the column counts characters.

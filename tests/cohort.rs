@@ -1437,13 +1437,13 @@ fn bad_runs() -> Vec<Bad> {
             "too_few_cells",
             &format!("{H}\nR-1,female,40,165,80\nR-2,male,50,175\n"),
             RANDOMISE,
-            "roster.csv:3: 4 cells for 5 columns; every row needs one cell per header column (no commas inside values)",
+            "roster.csv:3: 4 cells for 5 columns; every row needs one cell per header column (put a value that holds a comma in double quotes)",
         ),
         bad_roster(
             "too_many_cells",
             &format!("{H}\nR-1,female,40,165,80,1.5\n"),
             RANDOMISE,
-            "roster.csv:2: 6 cells for 5 columns; every row needs one cell per header column (no commas inside values)",
+            "roster.csv:2: 6 cells for 5 columns; every row needs one cell per header column (put a value that holds a comma in double quotes)",
         ),
         bad_roster(
             "mixed_arm_column",

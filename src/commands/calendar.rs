@@ -124,7 +124,7 @@ pub fn run(args: &CalendarArgs) -> Result<Printed, Error> {
         .chain(args.logged.log.iter())
         .map(|p| p.as_path())
         .collect();
-    check_outputs(Some(&args.out), &inputs)?;
+    check_outputs(Some(&args.out), None, &inputs)?;
     let plan = load(args.plan.as_deref())?;
     let log = read_log(&plan, args.logged.log.as_deref(), args.logged.as_of)?;
     let request = CalendarRequest {
@@ -135,19 +135,26 @@ pub fn run(args: &CalendarArgs) -> Result<Printed, Error> {
         units: display_units(&args.display),
     };
     let cal = calendar_file(&plan, &log, &request)?;
-    write_output(&args.out, cal.text.as_bytes(), false)?;
+    let to_stdout = crate::output::is_stdout(&args.out);
+    let stdout = if to_stdout {
+        cal.text.clone()
+    } else {
+        write_output(&args.out, cal.text.as_bytes(), false)?;
+        String::new()
+    };
     let mut stderr = format!(
         "wrote {}: {} events from {} to {}\n",
-        args.out.display(),
+        if to_stdout {
+            "standard output".to_string()
+        } else {
+            args.out.display().to_string()
+        },
         cal.events,
         cal.span.0,
         cal.span.1
     );
     stderr.push_str(&warning_lines(&cal.warnings));
-    Ok(Printed {
-        stdout: String::new(),
-        stderr,
-    })
+    Ok(Printed { stdout, stderr })
 }
 
 /// Parse `--stamp`: an RFC 3339 date-time (`2027-03-01T08:00:00Z`, or with an

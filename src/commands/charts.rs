@@ -1,8 +1,9 @@
 //! Writing the SVG charts of a report.
 
 use crate::error::Error;
+use crate::output::write_charts;
 use crate::report::ScheduleReport;
-use crate::report::chart::{Band, LineChart, standard_charts, write_charts};
+use crate::report::chart::{Band, LineChart, standard_charts};
 use crate::report::units::Units;
 use std::path::Path;
 
@@ -30,7 +31,8 @@ pub fn stem(id: &str) -> String {
 /// Write a set of charts named `stem-NAME.svg` into `dir`; returns the notes for
 /// standard error.
 pub fn write(dir: &Path, stem: &str, charts: &[(&str, LineChart)]) -> Result<String, Error> {
-    let paths = write_charts(dir, stem, charts)?;
+    let rendered: Vec<(&str, String)> = charts.iter().map(|(n, c)| (*n, c.render())).collect();
+    let paths = write_charts(dir, stem, &rendered)?;
     Ok(paths
         .iter()
         .map(|p| format!("wrote {}\n", p.display()))

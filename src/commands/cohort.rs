@@ -108,7 +108,7 @@ pub fn run(args: &CohortArgs) -> Result<Printed, Error> {
     }
     let mut inputs = vec![args.study.as_path()];
     inputs.extend(args.roster.as_deref());
-    check_outputs(args.out.as_deref(), &inputs)?;
+    check_outputs(args.out.as_deref(), args.chart.as_deref(), &inputs)?;
     let study = crate::study::load_study(&args.study)?;
     let (members, source, allocation) = cohort_members(&study, args)?;
     let req = CohortRequest {

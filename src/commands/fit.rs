@@ -15,6 +15,7 @@ pub fn run(args: &FitArgs) -> Result<Printed, Error> {
     }
     check_outputs(
         args.out.as_deref(),
+        args.chart.as_deref(),
         &[args.plan.as_path(), args.log.as_path()],
     )?;
     let plan = load(Some(&args.plan))?;

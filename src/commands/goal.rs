@@ -18,7 +18,7 @@ pub fn run(args: &GoalArgs) -> Result<Printed, Error> {
     }
     let mut inputs = vec![args.plan.as_path()];
     inputs.extend(args.logged.log.as_deref());
-    check_outputs(args.out.as_deref(), &inputs)?;
+    check_outputs(args.out.as_deref(), None, &inputs)?;
     let plan = with_added_scenarios(load(Some(&args.plan))?, &args.add_scenario)?;
     let log = read_log(&plan, args.logged.log.as_deref(), args.logged.as_of)?;
     let m0 = plan.participant.subject.mass_kg;

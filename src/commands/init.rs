@@ -10,7 +10,11 @@ pub fn run(args: &InitArgs) -> Result<Printed, Error> {
     let text = plan::starter::STARTER_PLAN;
     // The starter must itself be a valid plan (tested); check before writing.
     plan::parse_plan("starter plan", text)?;
-    match &args.file {
+    match args
+        .file
+        .as_deref()
+        .filter(|f| !crate::output::is_stdout(f))
+    {
         Some(f) => {
             write_output(f, text.as_bytes(), true)?;
             Ok(Printed {

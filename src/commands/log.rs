@@ -35,6 +35,7 @@ pub fn run(args: &LogAddArgs) -> Result<Printed, Error> {
                 .to_string(),
         ));
     }
+    crate::output::check_log(&args.log)?;
     let plan = load(Some(&args.plan))?;
     let entry = match (args.weigh_in, args.session) {
         (Some(kg), _) => NewEntry::WeighIn {

@@ -102,23 +102,30 @@ pub fn read_log(
 
 /// Refuse, before any work, an output path that names one of the command's inputs
 /// or that cannot be written. The one place the commands check their targets.
-pub(crate) fn check_outputs(out: Option<&Path>, inputs: &[&Path]) -> Result<(), Error> {
-    if let Some(o) = out {
-        crate::files::refuse_overwriting_inputs(o, inputs)?;
-        crate::files::check_target(o, false)?;
+pub(crate) fn check_outputs(
+    out: Option<&Path>,
+    chart: Option<&Path>,
+    inputs: &[&Path],
+) -> Result<(), Error> {
+    if let Some(o) = out.filter(|o| !crate::output::is_stdout(o)) {
+        crate::output::refuse_overwriting_inputs(o, inputs)?;
+        crate::output::check_target(o, false)?;
+    }
+    if let Some(dir) = chart {
+        crate::output::check_chart_folder(dir)?;
     }
     Ok(())
 }
 
 /// Whether `a` and `b` name the same existing file.
 pub(crate) fn same_file(a: &Path, b: &Path) -> bool {
-    a == b || crate::files::refuse_overwriting_inputs(a, &[b]).is_err()
+    a == b || crate::output::refuse_overwriting_inputs(a, &[b]).is_err()
 }
 
 /// Write one output file atomically; with `create_new`, refuse an existing file. The
 /// one place the commands write a file.
 pub(crate) fn write_output(path: &Path, bytes: &[u8], create_new: bool) -> Result<(), Error> {
-    crate::files::write_atomic(path, bytes, create_new)
+    crate::output::write_atomic(path, bytes, create_new)
 }
 
 /// The unit system of `--units`.
@@ -166,7 +173,7 @@ pub(crate) fn deliver(
     text: String,
     out: Option<&Path>,
 ) -> Result<Printed, Error> {
-    match out {
+    match out.filter(|o| !crate::output::is_stdout(o)) {
         Some(o) => {
             write_output(o, text.as_bytes(), false)?;
             printed.stderr.push_str(&format!("wrote {}\n", o.display()));

@@ -54,7 +54,7 @@ pub fn run(args: &ScheduleArgs) -> Result<Printed, Error> {
         .chain(args.logged.log.iter())
         .map(|p| p.as_path())
         .collect();
-    check_outputs(args.out.as_deref(), &inputs)?;
+    check_outputs(args.out.as_deref(), args.chart.as_deref(), &inputs)?;
     let plan = load(args.plan.as_deref())?;
     let log = read_log(&plan, args.logged.log.as_deref(), args.logged.as_of)?;
     let r = schedule_report_logged(&plan, &log)?;

@@ -173,7 +173,7 @@ pub fn run(args: &SheetsArgs) -> Result<Printed, Error> {
         .chain(args.roster.iter())
         .map(|p| p.as_path())
         .collect();
-    check_outputs(args.out.as_deref(), &inputs)?;
+    check_outputs(args.out.as_deref(), None, &inputs)?;
     let scenario = args.scenario.as_deref();
     let (mut inputs, warnings, notes) = match (&args.roster, &args.plan) {
         (Some(roster), Some(study)) => study_sheet_inputs(

@@ -18,13 +18,14 @@ pub(super) fn append(
     row: &NewRow,
 ) -> Result<(String, Vec<Warning>), Error> {
     let name = path.display().to_string();
-    let (bytes, existed) = match std::fs::read(path) {
-        Ok(b) => (b, true),
-        Err(e) if e.kind() == std::io::ErrorKind::NotFound => (Vec::new(), false),
-        Err(e) => return Err(parse::unreadable(&name, &e)),
+    crate::output::check_log(path)?;
+    let existed =
+        !matches!(std::fs::metadata(path), Err(e) if e.kind() == std::io::ErrorKind::NotFound);
+    let old = if existed {
+        crate::input::read(path)?.raw
+    } else {
+        String::new()
     };
-    let permissions = std::fs::metadata(path).ok().map(|m| m.permissions());
-    let old = parse::utf8(&name, bytes)?;
     let body = old.strip_prefix('\u{feff}').unwrap_or(&old);
     // An empty file (or one holding only a byte-order mark or blank lines) gets the
     // header, like a new one.
@@ -37,7 +38,7 @@ pub(super) fn append(
     };
     let eol = line_ending(&old);
     let mut text = old.clone();
-    if !body.is_empty() && !body.ends_with('\n') {
+    if !body.is_empty() && !body.ends_with(['\n', '\r']) {
         text.push_str(eol);
     }
     if needs_header {
@@ -56,12 +57,8 @@ pub(super) fn append(
             )));
         }
     };
-    crate::files::write_atomic(path, text.as_bytes(), false)?;
-    if let Some(p) = permissions {
-        // The rename leaves a new file; keep the log's own permissions (best effort:
-        // the row is written either way).
-        let _ = std::fs::set_permissions(path, p);
-    }
+    // The temporary file gets the log's own permissions before it replaces the log.
+    crate::output::write_atomic(path, text.as_bytes(), false)?;
     let what = describe(added, plan);
     let confirmation = match (existed, needs_header) {
         (false, _) => format!(
@@ -85,8 +82,9 @@ pub(super) fn append(
 
 /// The file's line ending: that of its first line, else `\n`.
 fn line_ending(text: &str) -> &'static str {
-    match text.find('\n') {
-        Some(i) if text[..i].ends_with('\r') => "\r\n",
+    match text.find(['\n', '\r']) {
+        Some(i) if text[i..].starts_with("\r\n") => "\r\n",
+        Some(i) if text[i..].starts_with('\r') => "\r",
         _ => "\n",
     }
 }

@@ -151,18 +151,17 @@ pub enum NewEntry {
 }
 
 /// Read and validate the log at `path` against `plan`. `as_of` defaults to the log's
-/// last date; rows after `as_of` are an error. A missing or unreadable file is
-/// [`Error::Unreadable`]; anything wrong inside it, including bytes that are not
-/// UTF-8, is [`Error::Input`] naming the line and the cell.
+/// last date; rows after `as_of` are an error. A file that cannot be read (missing,
+/// not a regular file, too large, not UTF-8: see [`crate::input::read`]) is
+/// [`Error::Unreadable`]; anything wrong inside it is [`Error::Input`] naming the
+/// line and the cell.
 pub fn load_log(
     path: &Path,
     plan: &Plan,
     as_of: Option<NaiveDate>,
 ) -> Result<(Log, Vec<Warning>), Error> {
-    let name = path.display().to_string();
-    let bytes = std::fs::read(path).map_err(|e| parse::unreadable(&name, &e))?;
-    let text = parse::utf8(&name, bytes)?;
-    parse_log(&name, &text, plan, as_of)
+    let f = crate::input::read(path)?;
+    parse_log(&f.name, &f.raw, plan, as_of)
 }
 
 /// Validate log text; `name` names it in errors. `as_of` as for [`load_log`].
@@ -180,9 +179,11 @@ pub fn parse_log(
 /// Validate `row` against the plan and the existing log at `path` (which may not
 /// exist yet: then the header is written first), and append it atomically: the whole
 /// new file goes to a temporary file in the same folder, which is then renamed over
-/// the log ([`crate::files::write_atomic`]). Earlier bytes are kept exactly, a
+/// the log ([`crate::output::write_atomic`]; a symlinked log is written through to
+/// its target, whose permissions are kept). Earlier bytes are kept exactly, a
 /// byte-order mark and Windows line endings included; the new row uses the file's
-/// own line ending. On any error the file is left as it was.
+/// own line ending. A read-only log is refused ([`crate::output::check_log`]). On any
+/// error the file is left as it was.
 ///
 /// Returns a one-line confirmation and the warnings the new row earns (such as an
 /// implausible jump in mass).

@@ -129,105 +129,6 @@ pub(super) struct Parsed {
     pub columns: usize,
 }
 
-/// The reason a file cannot be read, in plain words.
-pub(super) fn unreadable(name: &str, e: &std::io::Error) -> Error {
-    let reason = match e.kind() {
-        std::io::ErrorKind::NotFound => "no such file".to_string(),
-        std::io::ErrorKind::PermissionDenied => "permission denied".to_string(),
-        _ => e.to_string(),
-    };
-    Error::Unreadable {
-        path: name.to_string(),
-        reason,
-    }
-}
-
-/// The file's bytes as text, or an error at the first byte that is not UTF-8.
-pub(super) fn utf8(name: &str, bytes: Vec<u8>) -> Result<String, Error> {
-    String::from_utf8(bytes).map_err(|e| {
-        let bytes = e.as_bytes();
-        let bad = e.utf8_error().valid_up_to();
-        if bytes.starts_with(&[0xFF, 0xFE]) || bytes.starts_with(&[0xFE, 0xFF]) {
-            return Error::Input(InputError {
-                location: Location::file(name),
-                key: None,
-                message: "the file is UTF-16 text, not UTF-8; save the log as UTF-8 text (CSV)"
-                    .to_string(),
-            });
-        }
-        let line_start = bytes[..bad]
-            .iter()
-            .rposition(|b| *b == b'\n')
-            .map_or(0, |i| i + 1);
-        let line = bytes[..bad].iter().filter(|b| **b == b'\n').count() + 1;
-        let cell = cell_index(&bytes[line_start..bad]);
-        // The header names the cell when it is readable.
-        let header = String::from_utf8_lossy(bytes.split(|b| *b == b'\n').next().unwrap_or(&[]))
-            .trim_start_matches('\u{feff}')
-            .to_string();
-        let key = header
-            .split(',')
-            .nth(cell)
-            .map(|k| k.trim().to_string())
-            .filter(|k| !k.is_empty() && !k.contains('\u{fffd}'));
-        Error::Input(InputError {
-            location: Location {
-                file: name.to_string(),
-                line: Some(line),
-                column: Some(cell + 1),
-            },
-            key,
-            message: format!(
-                "not UTF-8 text (byte 0x{:02X} cannot be read as UTF-8); save the log as UTF-8 text",
-                bytes[bad]
-            ),
-        })
-    })
-}
-
-/// The 0-based cell of the end of `line_prefix` (commas inside quotes do not count).
-fn cell_index(line_prefix: &[u8]) -> usize {
-    let mut quoted = false;
-    let mut cell = 0;
-    for b in line_prefix {
-        match b {
-            b'"' => quoted = !quoted,
-            b',' if !quoted => cell += 1,
-            _ => {}
-        }
-    }
-    cell
-}
-
-/// The cells of one line of CSV (RFC 4180 quoting: a cell that starts with `"` runs
-/// to the next lone `"`, and `""` inside it is one quote); `Err` holds the 0-based
-/// cell whose quote is not closed on the line.
-fn split_cells(line: &str) -> Result<Vec<String>, usize> {
-    let mut cells = Vec::new();
-    let mut cell = String::new();
-    let mut quoted = false;
-    let mut chars = line.chars().peekable();
-    while let Some(c) = chars.next() {
-        match (quoted, c) {
-            (true, '"') if chars.peek() == Some(&'"') => {
-                cell.push('"');
-                chars.next();
-            }
-            (true, '"') => quoted = false,
-            (true, c) => cell.push(c),
-            (false, ',') => cells.push(std::mem::take(&mut cell)),
-            // A quote opens a quoted cell only at the cell's start; elsewhere it is text.
-            (false, '"') if cell.is_empty() => quoted = true,
-            (false, c) => cell.push(c),
-        }
-    }
-    if quoted {
-        return Err(cells.len());
-    }
-    cells.push(cell);
-    Ok(cells)
-}
-
 /// The header as it must be, for messages.
 fn header_text() -> String {
     COLUMNS.join(",")
@@ -240,8 +141,8 @@ pub(super) fn parse(
     plan: &Plan,
     as_of: Option<NaiveDate>,
 ) -> Result<Parsed, Error> {
-    // A UTF-8 byte-order mark is accepted (spreadsheets on Windows write one).
-    let text = text.strip_prefix('\u{feff}').unwrap_or(text);
+    // A UTF-8 byte-order mark is accepted (spreadsheets on Windows write one), and
+    // Windows and old Mac line endings.
     let start = plan.protocol.start;
     let end = plan.protocol.end_date();
     if let Some(d) = as_of
@@ -258,36 +159,23 @@ pub(super) fn parse(
         header: Vec::new(),
         rows: Vec::new(),
     };
-    for (i, line_text) in text.split('\n').enumerate() {
-        let line = i + 1;
-        let line_text = line_text.strip_suffix('\r').unwrap_or(line_text);
-        if let Some(at) = line_text.find('\r') {
-            let cell = cell_index(&line_text.as_bytes()[..at]);
-            return Err(cx.error(
-                line,
-                Some(cell),
-                cx.name(cell),
-                "a carriage return alone ends a line here; save the log with Windows (CRLF) or Unix (LF) line endings".to_string(),
-            ));
-        }
-        let cells = split_cells(line_text).map_err(|cell| {
-            cx.error(
-                line,
-                Some(cell),
-                cx.name(cell),
-                "a quote (\") opened in this cell is not closed on this line; close it (a cell cannot run over several lines)".to_string(),
-            )
-        })?;
-        let cells: Vec<&str> = cells.iter().map(String::as_str).collect();
+    let text = crate::input::normalise(text);
+    let (records, fault) = crate::input::csv_records(&text, false);
+    for record in &records {
+        let cells: Vec<&str> = record.cells.iter().map(String::as_str).collect();
         if cells.iter().all(|c| c.trim().is_empty()) {
             continue; // a blank line, or a row of empty cells a spreadsheet left
         }
         if cx.header.is_empty() {
-            cx.header = cx.check_header(line, &cells)?;
+            cx.header = cx.check_header(record.line, &cells)?;
         } else {
-            let row = cx.row(line, &cells)?;
+            let row = cx.row(record.line, &cells)?;
             cx.rows.push(row);
         }
+    }
+    if let Some(f) = fault {
+        let key = f.cell.and_then(|c| cx.name(c));
+        return Err(f.into_error(file, key));
     }
     if cx.header.is_empty() {
         // Nothing but blank lines or empty cells.

@@ -10,42 +10,11 @@ use crate::model::energy::{CalibrationError, calibrate};
 use crate::model::{Constants, RestForNet, Subject};
 use std::ops::Range;
 
-/// Read and validate a plan file. A missing, unreadable or non-UTF-8 file is bad input.
+/// Read and validate a plan file. A file that cannot be read (missing, not a regular
+/// file, too large, not UTF-8: see [`crate::input::read`]) is bad input.
 pub fn load_plan(path: &std::path::Path) -> Result<Plan, Error> {
-    let name = path.display().to_string();
-    let bytes = std::fs::read(path).map_err(|e| Error::Unreadable {
-        path: name.clone(),
-        reason: io_reason(&e),
-    })?;
-    let text = String::from_utf8(bytes).map_err(|e| {
-        let good = e.utf8_error().valid_up_to();
-        let bytes = e.as_bytes();
-        let line = bytes[..good].iter().filter(|b| **b == b'\n').count() + 1;
-        let line_start = bytes[..good]
-            .iter()
-            .rposition(|b| *b == b'\n')
-            .map_or(0, |i| i + 1);
-        // Columns count characters, as editors and the TOML errors do.
-        let col = String::from_utf8_lossy(&bytes[line_start..good])
-            .chars()
-            .count()
-            + 1;
-        Error::Unreadable {
-            path: name.clone(),
-            reason: format!(
-                "not UTF-8 text (invalid byte at line {line}, column {col}); save the plan as UTF-8"
-            ),
-        }
-    })?;
+    let (name, text) = crate::input::read_text(path)?;
     parse_plan(&name, &text)
-}
-
-pub(crate) fn io_reason(e: &std::io::Error) -> String {
-    match e.kind() {
-        std::io::ErrorKind::NotFound => "no such file".to_string(),
-        std::io::ErrorKind::PermissionDenied => "permission denied".to_string(),
-        _ => e.to_string(),
-    }
 }
 
 /// Parse and validate plan text; `file` names it in errors.

@@ -61,27 +61,33 @@ impl Cx<'_> {
 
 /// Read and validate a roster for `study`.
 pub fn load_roster(path: &std::path::Path, study: &Study) -> Result<Vec<RosterEntry>, Error> {
-    let name = path.display().to_string();
-    let bytes = std::fs::read(path).map_err(|e| Error::Unreadable {
-        path: name.clone(),
-        reason: crate::plan::validate::io_reason(&e),
-    })?;
-    let text = String::from_utf8(bytes).map_err(|_| Error::Unreadable {
-        path: name.clone(),
-        reason: "not UTF-8 text; save the roster as UTF-8 CSV".to_string(),
-    })?;
-    parse_roster(&name, &text, study)
+    let f = crate::input::read(path)?;
+    parse_roster(&f.name, &f.raw, study)
+}
+
+/// A cell as written, trimmed, without the double quotes some tools leave around a
+/// cell after spaces (the `csv` crate removes those of a properly quoted cell).
+fn clean(cell: &str) -> &str {
+    let c = cell.trim();
+    c.strip_prefix('"')
+        .and_then(|x| x.strip_suffix('"'))
+        .map_or(c, str::trim)
 }
 
 /// Parse and validate roster text; `file` names it in errors.
 pub fn parse_roster(file: &str, text: &str, study: &Study) -> Result<Vec<RosterEntry>, Error> {
     let cx = Cx { file };
-    let text = text.strip_prefix('\u{feff}').unwrap_or(text);
-    let mut lines = text.lines().enumerate().filter(|(_, l)| {
-        let t = l.trim();
-        !t.is_empty() && !t.starts_with('#')
+    let text = crate::input::normalise(text);
+    let (records, fault) = crate::input::csv_records(&text, true);
+    let mut records = records.into_iter().filter(|r| {
+        let first = r.cells.first().map_or("", |c| c.trim());
+        let blank = r.cells.len() == 1 && first.is_empty();
+        !(blank || first.starts_with('#'))
     });
-    let Some((h_at, header)) = lines.next() else {
+    let Some(head) = records.next() else {
+        if let Some(f) = fault {
+            return Err(f.into_error(file, None));
+        }
         return Err(cx.err(
             None,
             None,
@@ -91,71 +97,22 @@ pub fn parse_roster(file: &str, text: &str, study: &Study) -> Result<Vec<RosterE
             ),
         ));
     };
-    let header: Vec<String> = header
-        .split(',')
-        .map(|c| c.trim().trim_matches('"').trim().to_string())
-        .collect();
-    let mut index = [None; COLUMNS.len()];
-    for (i, h) in header.iter().enumerate() {
-        let Some(k) = COLUMNS.iter().position(|(n, ..)| n == h) else {
-            let looks_like_data = h.parse::<f64>().is_ok();
-            let hint = if looks_like_data {
-                format!(
-                    "the first line holds data; insert the header {} as line 1",
-                    required_header()
-                )
-            } else {
-                format!(
-                    "allowed columns {}",
-                    COLUMNS.iter().map(|c| c.0).collect::<Vec<_>>().join(", ")
-                )
-            };
-            return Err(cx.err(
-                Some(h_at + 1),
-                Some(h),
-                format!("unknown column \"{h}\"; {hint}"),
-            ));
-        };
-        if index[k].is_some() {
-            return Err(cx.err(
-                Some(h_at + 1),
-                Some(h),
-                format!("column \"{h}\" appears twice in the header"),
-            ));
-        }
-        index[k] = Some(i);
-    }
-    for (k, (n, required, _)) in COLUMNS.iter().enumerate() {
-        if *required && index[k].is_none() {
-            return Err(cx.err(
-                Some(h_at + 1),
-                Some(n),
-                format!(
-                    "missing required column; the header needs {}",
-                    required_header()
-                ),
-            ));
-        }
-    }
+    let header: Vec<String> = head.cells.iter().map(|c| clean(c).to_string()).collect();
+    let index = header_index(&cx, head.line, &header)?;
     let mut out: Vec<RosterEntry> = Vec::new();
-    for (at, line) in lines {
-        let ln = at + 1;
-        // A cell in double quotes (as spreadsheets write text) is read without them.
-        let cells: Vec<&str> = line
-            .split(',')
-            .map(|c| {
-                let c = c.trim();
-                c.strip_prefix('"')
-                    .and_then(|x| x.strip_suffix('"'))
-                    .map_or(c, str::trim)
-            })
-            .collect();
+    for record in records {
+        let ln = record.line;
+        let cells: Vec<&str> = record.cells.iter().map(|c| clean(c)).collect();
         if cells.len() != header.len() {
-            return Err(cx.err(Some(ln), None, format!("{} cells for {} columns; every row needs one cell per header column (no commas inside values)", cells.len(), header.len())));
+            return Err(cx.err(Some(ln), None, format!("{} cells for {} columns; every row needs one cell per header column (put a value that holds a comma in double quotes)", cells.len(), header.len())));
         }
         let cell = |k: usize| index[k].map(|i| cells[i]).filter(|c| !c.is_empty());
         let entry = check_row(&cx, study, ln, &cell, &out)?;
         out.push(entry);
+    }
+    if let Some(f) = fault {
+        let key = f.cell.and_then(|c| header.get(c).cloned());
+        return Err(f.into_error(file, key));
     }
     if out.is_empty() {
         return Err(cx.err(
@@ -173,6 +130,57 @@ pub fn parse_roster(file: &str, text: &str, study: &Study) -> Result<Vec<RosterE
         return Err(cx.err(Some(e.line), Some("arm"), "empty while other rows give an arm; give every participant an arm, or leave the column empty everywhere and have the arms randomised".to_string()));
     }
     Ok(out)
+}
+
+/// The position in the header of each of [`COLUMNS`], checking the header names.
+fn header_index(
+    cx: &Cx,
+    line: usize,
+    header: &[String],
+) -> Result<[Option<usize>; COLUMNS.len()], Error> {
+    let mut index = [None; COLUMNS.len()];
+    for (i, h) in header.iter().enumerate() {
+        let Some(k) = COLUMNS.iter().position(|(n, ..)| n == h) else {
+            let looks_like_data = h.parse::<f64>().is_ok();
+            let hint = if looks_like_data {
+                format!(
+                    "the first line holds data; insert the header {} as line 1",
+                    required_header()
+                )
+            } else {
+                format!(
+                    "allowed columns {}",
+                    COLUMNS.iter().map(|c| c.0).collect::<Vec<_>>().join(", ")
+                )
+            };
+            return Err(cx.err(
+                Some(line),
+                Some(h),
+                format!("unknown column \"{h}\"; {hint}"),
+            ));
+        };
+        if index[k].is_some() {
+            return Err(cx.err(
+                Some(line),
+                Some(h),
+                format!("column \"{h}\" appears twice in the header"),
+            ));
+        }
+        index[k] = Some(i);
+    }
+    for (k, (n, required, _)) in COLUMNS.iter().enumerate() {
+        if *required && index[k].is_none() {
+            return Err(cx.err(
+                Some(line),
+                Some(n),
+                format!(
+                    "missing required column; the header needs {}",
+                    required_header()
+                ),
+            ));
+        }
+    }
+    Ok(index)
 }
 
 /// Check the cells of the row on line `ln` (`cell(k)`: the cell of column `k` of

@@ -7,21 +7,13 @@ use super::{Arm, Population, RmrError, Study, Uncertainty};
 use crate::error::Error;
 use crate::model::Compensation;
 use crate::plan::raw::S;
-use crate::plan::validate::{Cx, io_reason};
+use crate::plan::validate::Cx;
 use crate::plan::{SCENARIO_KEYS, Scenario};
 use std::ops::Range;
 
-/// Read and validate a study file.
+/// Read and validate a study file (read by [`crate::input::read`]).
 pub fn load_study(path: &std::path::Path) -> Result<Study, Error> {
-    let name = path.display().to_string();
-    let bytes = std::fs::read(path).map_err(|e| Error::Unreadable {
-        path: name.clone(),
-        reason: io_reason(&e),
-    })?;
-    let text = String::from_utf8(bytes).map_err(|_| Error::Unreadable {
-        path: name.clone(),
-        reason: "not UTF-8 text; save the study file as UTF-8".to_string(),
-    })?;
+    let (name, text) = crate::input::read_text(path)?;
     parse_study(&name, &text)
 }
 

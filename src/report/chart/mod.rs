@@ -22,10 +22,6 @@ pub use cohort::{cohort_mass_chart, cohort_minutes_chart, cohort_power_chart};
 pub use standard::{composition_chart, energy_chart, mass_chart, minutes_chart, standard_charts};
 pub use svg::escape;
 
-use crate::error::Error;
-use crate::files::write_atomic;
-use std::path::{Path, PathBuf};
-
 /// Canvas width, px.
 const WIDTH: f64 = 900.0;
 /// Canvas height, px; a legend taller than the plot makes the canvas taller.
@@ -141,25 +137,4 @@ pub struct LineChart {
     pub x_range: Option<(f64, f64)>,
     /// Extend the y axis to include zero.
     pub y_includes_zero: bool,
-}
-
-/// Write each chart to `dir/stem-NAME.svg` (creating `dir` if missing), each file
-/// atomically; returns the paths in chart order.
-pub fn write_charts(
-    dir: &Path,
-    stem: &str,
-    charts: &[(&str, LineChart)],
-) -> Result<Vec<PathBuf>, Error> {
-    std::fs::create_dir_all(dir).map_err(|e| Error::Output {
-        path: dir.display().to_string(),
-        reason: e.to_string(),
-    })?;
-    charts
-        .iter()
-        .map(|(name, chart)| {
-            let path = dir.join(format!("{stem}-{name}.svg"));
-            write_atomic(&path, chart.render().as_bytes(), false)?;
-            Ok(path)
-        })
-        .collect()
 }
