@@ -13,8 +13,7 @@
 //!
 //! The checkers are small scanners over the source with comments, strings and
 //! character literals blanked out; each is tested on made-up inputs below so that
-//! it can be seen to fail. The whole-`src` check is ignored until the restructure
-//! lands (`cargo test --test architecture -- --ignored` runs it).
+//! it can be seen to fail. The whole-`src` check runs on every `cargo test`.
 
 use std::collections::{BTreeMap, BTreeSet};
 use std::path::{Path, PathBuf};
@@ -565,7 +564,6 @@ fn layout_problems(files: &BTreeMap<PathBuf, String>) -> Vec<String> {
 }
 
 #[test]
-#[ignore = "enabled after the restructure merge"]
 fn src_keeps_the_layout_rules() {
     let src = Path::new(env!("CARGO_MANIFEST_DIR")).join("src");
     let files = rust_files(&src);
@@ -775,7 +773,7 @@ fn a_renderer_that_writes_files_or_simulates_is_caught() {
 
 #[test]
 fn the_scanner_reads_the_real_source() {
-    // Not the rules (the ignored test holds those), but the scanner on every file of
+    // Not the rules (`src_keeps_the_layout_rules` holds those), but the scanner on every file of
     // src: each file's functions are found and none runs past the end of its file.
     let src = Path::new(env!("CARGO_MANIFEST_DIR")).join("src");
     let files = rust_files(&src);
