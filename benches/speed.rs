@@ -1,4 +1,4 @@
-//! Speed figures for the README: `cargo bench`.
+//! Speed figures for docs/speed.md and the README's summary: `cargo bench`.
 //!
 //! Goals (issue 2): a 52-week plan with three scenarios simulates in under 2 ms as a
 //! library call, and `dosewright schedule` on it finishes in under 30 ms end to end
@@ -104,7 +104,7 @@ fn main() {
     );
     // The cohort goals of the issues: 1000 participants x 3 arms x 52 weeks with one
     // draw in under 0.5 s, and with 100 draws (15.6 million participant-weeks) in
-    // under 5 s; memory is measured outside (README, "Speed").
+    // under 5 s; memory is measured outside (docs/speed.md).
     let cohort = |draws: &'static str| {
         [
             "cohort",

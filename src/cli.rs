@@ -54,7 +54,7 @@ pub enum FormatArg {
     Table,
     /// One row per session.
     Csv,
-    /// Machine-readable, keys as documented in the README.
+    /// Machine-readable, keys as documented in docs/file-formats.md section 4.
     Json,
 }
 
@@ -65,7 +65,7 @@ pub enum CompareFormat {
     Table,
     /// One row per scenario and checkpoint.
     Csv,
-    /// Machine-readable, keys as documented in the README.
+    /// Machine-readable, keys as documented in docs/file-formats.md section 4.
     Json,
     /// Markdown tables for documents.
     Markdown,
@@ -76,7 +76,7 @@ pub enum CompareFormat {
 pub enum GoalFormat {
     /// Human-readable table with warnings and cautions.
     Table,
-    /// Machine-readable, keys as documented in the README.
+    /// Machine-readable, keys as documented in docs/file-formats.md section 4.
     Json,
 }
 
@@ -227,11 +227,11 @@ pub enum CohortFormat {
     Table,
     /// One row per participant, arm and scenario.
     Csv,
-    /// The summaries as JSON (keys per PLAN.md, "Cohort JSON").
+    /// The summaries as JSON (keys per docs/file-formats.md section 4.5, "Cohort JSON").
     Json,
 }
 
-/// The integrator of `cohort` (MODEL.md 6).
+/// The integrator of `cohort` (docs/model.md section 6).
 #[derive(Debug, Clone, Copy, PartialEq, Eq, ValueEnum)]
 pub enum IntegratorArg {
     /// Classic Runge-Kutta 4 with one-day steps (fast; within 1e-4 kg of dopri5 over 10 years).

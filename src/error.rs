@@ -1,5 +1,5 @@
 //! Errors a person can act on: where (file, line, column), which key, what value, and
-//! what is allowed. Every error maps to the exit code of PLAN.md.
+//! what is allowed. Every error maps to the exit code of docs/commands.md section 2.
 
 use chrono::NaiveDate;
 use std::fmt;
@@ -70,7 +70,7 @@ impl fmt::Display for InputError {
     }
 }
 
-/// The simulation left the model's valid range (MODEL.md 6).
+/// The simulation left the model's valid range (docs/model.md section 6).
 #[derive(Debug, Clone, PartialEq)]
 pub struct RangeError {
     /// The plan file.
@@ -140,7 +140,7 @@ pub enum Error {
 }
 
 impl Error {
-    /// The process exit code for this error (PLAN.md: 2 bad input, 1 anything else).
+    /// The process exit code for this error (docs/commands.md section 2: 2 bad input, 1 anything else).
     pub fn exit_code(&self) -> i32 {
         match self {
             Error::Output { .. } | Error::Internal(_) => 1,

@@ -5,7 +5,7 @@
 //! week's reference mass; [`report`] renders the finished result. Data flows one
 //! way: file -> raw -> plan -> simulation -> report.
 //!
-//! Reference: the model is specified in MODEL.md (README, "The model"); each module
+//! Reference: the model is specified in docs/model.md; each module
 //! names the publications of its equations.
 
 #![warn(missing_docs)]

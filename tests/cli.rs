@@ -1,5 +1,5 @@
 //! CLI tests: drive the real `dosewright` binary through every command and format,
-//! check the JSON contract of PLAN.md and invariants of the schedule, the warnings
+//! check the JSON contract of docs/file-formats.md section 4 and invariants of the schedule, the warnings
 //! with their stable codes, and bad plans beside the catalogue of tests/cases/bad-plan.
 //!
 //! Every participant here is invented and goes by a pseudonymous code.
@@ -381,7 +381,7 @@ fn bad_plans_with_unclear_messages_say_what_is_wrong() {
 }
 
 // ---------------------------------------------------------------------------
-// schedule --format json: the PLAN.md contract and invariants
+// schedule --format json: the docs/file-formats.md section 4.1 contract and invariants
 // ---------------------------------------------------------------------------
 
 /// What a plan says about its calendar, for checking a schedule against it.
@@ -403,7 +403,7 @@ fn weekday_word(d: chrono::NaiveDate) -> &'static str {
     ["mon", "tue", "wed", "thu", "fri", "sat", "sun"][d.weekday().num_days_from_monday() as usize]
 }
 
-/// Every key PLAN.md lists for `schedule --format json`, with its type, and the
+/// Every key docs/file-formats.md section 4.1 lists for `schedule --format json`, with its type, and the
 /// calendar and bookkeeping invariants of the weeks.
 fn assert_schedule_contract(j: &Value, shape: &Shape) {
     let b = &j["baseline"];
@@ -1928,7 +1928,7 @@ fn cap_never_leaves_a_session_over_the_maximum() {
                     0,
                     "max {max} step {step}: {m} min is not a whole step"
                 );
-                // The largest whole step within the maximum (README, "Cap").
+                // The largest whole step within the maximum (docs/design.md section 1, "Cap").
                 assert!(
                     m + step > max,
                     "max {max} step {step}: {m} min is cut too far"
@@ -2227,7 +2227,7 @@ fn a_not_utf8_column_counts_characters_like_every_other_message() {
 
 #[test]
 fn cap_says_what_length_it_cut_to() {
-    // Maximum 40, 15-minute steps: sessions are cut to 30 minutes (README: the largest
+    // Maximum 40, 15-minute steps: sessions are cut to 30 minutes (docs/design.md section 1, "Cap": the largest
     // whole step that fits), yet the warning says "sessions cut to the maximum".
     let plan = base_with(
         &[(

@@ -5,7 +5,7 @@
 //! beside it, an invariant of the design, an independent computation written here,
 //! or the single-plan `schedule`, which the cohort must reproduce exactly for one
 //! participant (DEVELOPERS.md: "use the same integrator wherever two results must
-//! agree exactly", MODEL.md 6).
+//! agree exactly", docs/model.md section 6).
 //!
 //! Every participant here is invented and goes by a pseudonymous code.
 
@@ -485,7 +485,7 @@ fn one_participant_equals_the_single_plan_on_the_command_line() {
 }
 
 // ---------------------------------------------------------------------------
-// MODEL.md 6: RK4 with one-day steps against Dopri5 over 10 years
+// docs/model.md section 6: RK4 with one-day steps against Dopri5 over 10 years
 // ---------------------------------------------------------------------------
 
 /// An invented participant with a 10-year (520-week) horizon, a dose that follows
@@ -545,7 +545,7 @@ diet_change_kcal_per_day = -250.0
 
 #[test]
 fn rk4_with_one_day_steps_is_within_1e_4_kg_of_dopri5_over_ten_years() {
-    // MODEL.md 6: "A fixed-step method (classic RK4, step at most one day) may serve
+    // docs/model.md section 6: "A fixed-step method (classic RK4, step at most one day) may serve
     // where speed matters (the cohort) when a test shows it within 1e-4 kg of Dopri5
     // over 10 years". Every week's end state is compared, for sessions throughout and
     // for five years of sessions then five of follow-up (the step off the dose).
@@ -834,7 +834,7 @@ fn staff_run(study: &str, roster: &str, extra: &[&str]) -> Value {
 #[test]
 fn staff_hours_are_the_scheduled_session_minutes_over_60() {
     // By hand: 150 min/week over 3 sessions is 50 min a session at the full dose. The
-    // ramp (r_w = 0.5 + 0.5 (w - 1)/2, MODEL.md 4) gives 25 min in week 1 and 37.5,
+    // ramp (r_w = 0.5 + 0.5 (w - 1)/2, docs/model.md section 4) gives 25 min in week 1 and 37.5,
     // rounded up to 38, in week 2; weeks 3-8 are at 50. Three participants in the
     // dosed arm, 3 sessions a week each:
     //   week 1: 9 x 25 = 225 min = 3.75 h; week 2: 9 x 38 = 342 min = 5.7 h;
@@ -1035,7 +1035,7 @@ fn synthetic_participants_and_their_arms_do_not_change_when_more_are_drawn() {
 // --all-arms against the allocated run, and the JSON contract
 // ---------------------------------------------------------------------------
 
-/// Every key PLAN.md ("Cohort JSON") names, with the right type.
+/// Every key docs/file-formats.md section 4.5 ("Cohort JSON") names, with the right type.
 fn assert_cohort_json_contract(j: &Value) {
     for k in ["seed", "draws", "participants"] {
         assert!(j[k].is_u64(), "{k}: {}", j[k]);
@@ -1898,7 +1898,7 @@ fn a_synthetic_value_of_the_wrong_shape_says_what_is_allowed() {
 
 #[test]
 fn a_participant_out_of_balance_before_exercise_earns_the_drift_warning() {
-    // README: every output carries the warnings the plan earns. DR-01's intake (2400
+    // docs/warnings.md: every output carries the warnings the plan earns. DR-01's intake (2400
     // kcal/day) is below the 2535 kcal/day her PAL implies (Mifflin-St Jeor RMR
     // 10 x 93.6 + 6.25 x 170.5 - 5 x 41 - 161 = 1635.6 kcal/day, x 1.55; derived), so
     // `schedule` warns intake-pal-drift, and so must the cohort, where she loses
@@ -2029,7 +2029,7 @@ fn streamed_minute_summaries_equal_the_summaries_of_every_run_kept() {
     }
 }
 
-/// The risky-plan warnings of `schedule` (README "Warnings") are counted by the
+/// The risky-plan warnings of `schedule` (docs/warnings.md) are counted by the
 /// cohort too. For one participant in one arm the cohort must name exactly the codes
 /// that `schedule` names for the same plan, with both integrators (RK4 takes the
 /// fast loop, Dopri5 the general driver), and say that 100% of participants have

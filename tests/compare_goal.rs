@@ -1,7 +1,7 @@
 //! `compare` and `goal` (issue 3): the dose a goal needs, round-tripped through the
-//! plan; the scenario comparison and its JSON contract (PLAN.md), cross-checked with
+//! plan; the scenario comparison and its JSON contract (docs/file-formats.md section 4), cross-checked with
 //! `schedule`; the dose-response table; the projection band; and the physiology
-//! checks of MODEL.md 5.
+//! checks of docs/model.md section 5.
 //!
 //! Numbers come from library calls; command-line behaviour from the real binary.
 //! Every participant here is invented and goes by a pseudonymous code.
@@ -42,7 +42,7 @@ pal = 1.5
 
 /// The four scenarios most tests run: none compensated, lagged eating back, a mix, and
 /// moving less. Each has `c_I (1 - beta) + c_A < 1`, so loss rises with the dose
-/// (MODEL.md 5).
+/// (docs/model.md section 5).
 const SCENARIOS: &str = r#"
 [[scenario]]
 name = "as prescribed"
@@ -516,7 +516,7 @@ fn goal_out_of_reach_under_a_cap_says_the_cap_limits_it() {
 
 #[test]
 fn goal_more_compensation_needs_a_larger_dose() {
-    // MODEL.md 5: the share of the dose that reaches the stores falls with c_I and c_A,
+    // docs/model.md section 5: the share of the dose that reaches the stores falls with c_I and c_A,
     // so a scenario that eats back 40% (lagged) needs more than one that eats nothing back.
     let answers = round_trip(&goal_cases()[0]);
     let dose = |n: &str| {
@@ -554,7 +554,7 @@ fn goal_round_trip_when_the_goal_week_falls_inside_the_ramp() {
 #[test]
 fn goal_met_without_exercise_gives_dose_zero_and_says_so() {
     // A diet arm of -600 kcal/day loses about 600*56/7750 = 4 kg in 8 weeks on its own
-    // (MODEL.md 2, ~7,750 kcal/kg tissue), far beyond a 1 kg goal.
+    // (docs/model.md section 2, ~7,750 kcal/kg tissue), far beyond a 1 kg goal.
     let extra = "\n[[scenario]]\nname = \"diet -600\"\ndiet_change_kcal_per_day = -600\n";
     let text = plan_text(
         PARTICIPANT_ESTIMATED,
@@ -602,7 +602,7 @@ fn goal_met_without_exercise_gives_dose_zero_and_says_so() {
 #[test]
 fn goal_just_beyond_the_diet_alone_needs_the_smallest_allowed_dose() {
     // The edge of the bracket: a goal 1 g beyond what the diet arm loses with no
-    // exercise is met by the smallest kcal_per_week the plan allows (10, PLAN.md):
+    // exercise is met by the smallest kcal_per_week the plan allows (10, docs/file-formats.md section 1):
     // even 3 one-minute sessions a week add ~0.02 kg in 8 weeks.
     let text = plan_text(
         PARTICIPANT_ESTIMATED,
@@ -638,7 +638,7 @@ fn goal_just_beyond_the_diet_alone_needs_the_smallest_allowed_dose() {
 
 #[test]
 fn goal_out_of_reach_under_full_compensation() {
-    // MODEL.md 5: with c_I (1 - beta) + c_A >= 1 (here 1.2 * 0.9 = 1.08) more exercise
+    // docs/model.md section 5: with c_I (1 - beta) + c_A >= 1 (here 1.2 * 0.9 = 1.08) more exercise
     // brings no more loss.
     let text = plan_text(
         PARTICIPANT_ESTIMATED,
@@ -681,7 +681,7 @@ fn goal_out_of_reach_under_full_compensation() {
 
 #[test]
 fn goal_out_of_reach_when_the_goal_is_huge() {
-    // 40 kg in 4 weeks: beyond any dose in the allowed range (PLAN.md, 0.5-150
+    // 40 kg in 4 weeks: beyond any dose in the allowed range (docs/file-formats.md section 1, 0.5-150
     // kcal/kg/week), whatever the scenario.
     let text = plan_text(
         PARTICIPANT_ESTIMATED,
@@ -756,7 +756,7 @@ fn goal_json_has_the_plan_md_keys_and_matches_the_library() {
             "minutes_goal_week",
             "reason",
         ] {
-            assert!(sc.get(key).is_some(), "PLAN.md key {key:?} in {sc}");
+            assert!(sc.get(key).is_some(), "JSON contract key {key:?} in {sc}");
         }
         assert_eq!(s(sc, "name"), a.name);
         assert_eq!(s(sc, "dose_unit"), "kcal_per_session");
@@ -970,7 +970,7 @@ fn compare_checkpoints_are_4_12_26_within_the_horizon_the_ends_and_at_week() {
 
 #[test]
 fn compare_rows_equal_the_schedule_end_states() {
-    // Invariant: row N is the state at the end of week N (PLAN.md), the same run that
+    // Invariant: row N is the state at the end of week N (docs/file-formats.md section 4.2), the same run that
     // `schedule` prints as weeks[N-1].end.
     let text = compare_plan();
     let c = cli_json(&text, "compare", &["--at-week", "7"]);
@@ -988,7 +988,7 @@ fn compare_rows_equal_the_schedule_end_states() {
         assert_eq!(rows.len(), weeks.len(), "one row per checkpoint");
         for (row, &n) in rows.iter().zip(&weeks) {
             for key in ROW_KEYS {
-                assert!(row.get(key).is_some(), "PLAN.md key {key:?} in {row}");
+                assert!(row.get(key).is_some(), "JSON contract key {key:?} in {row}");
             }
             assert_eq!(row["week"].as_u64(), Some(n));
             let w = &arr(b, "weeks")[n as usize - 1];
@@ -1024,7 +1024,7 @@ fn compare_rows_equal_the_schedule_end_states() {
                     < 2e-4
             );
         }
-        // Follow-up checkpoints have no minutes (PLAN.md).
+        // Follow-up checkpoints have no minutes (docs/file-formats.md section 4.2).
         let last = rows.last().expect("rows");
         assert_eq!(last["minutes_per_session"].as_u64(), Some(0));
     }
@@ -1215,7 +1215,7 @@ fn compare_add_scenario_adds_a_column_with_plain_words() {
         s(&sc[6], "assumptions"),
         "every session delivered as prescribed; nothing compensated"
     );
-    // MODEL.md 5: eating back 30% at once leaves less of the dose than nothing eaten back.
+    // docs/model.md section 5: eating back 30% at once leaves less of the dose than nothing eaten back.
     let last = |v: &Value| {
         num(
             arr(v, "rows")
@@ -1307,7 +1307,7 @@ fn compare_bad_weeks_and_doses_exit_2() {
         &["--doses", "151", "allowed 0.5 to 150"],
     );
     c(&["--doses", "4,nan"], &["--doses", "NaN"]);
-    // Other dose kinds: their own ranges (PLAN.md).
+    // Other dose kinds: their own ranges (docs/file-formats.md section 1).
     let per_session = text.replacen("kcal_per_kg_week = 12.0", "kcal_per_session = 300", 1);
     assert_usage_error(
         &per_session,
@@ -1333,7 +1333,7 @@ fn compare_bad_weeks_and_doses_exit_2() {
 
 #[test]
 fn compare_warns_when_a_diet_takes_intake_below_rmr_or_the_floor() {
-    // Issue 3 / REFERENCES.md 6.4 (common practice): unsupervised intake floors of
+    // Issue 3 / docs/references.md section 6.4 (common practice): unsupervised intake floors of
     // 1,200 kcal/day (women) and 1,500 (men), and never below RMR. CG-114's intake at
     // balance is PAL 1.5 x Mifflin-St Jeor 1,531.5 = 2,297 kcal/day (closed form);
     // -1,200 takes it to ~1,097 (below both), -500 to ~1,797 (below neither).
@@ -1425,7 +1425,7 @@ fn dose_response_is_monotone_and_equals_schedule_runs_of_the_edited_plan() {
             }
         }
     }
-    // MODEL.md 5: while c_I (1 - beta) + c_A < 1 every extra unit of dose adds deficit,
+    // docs/model.md section 5: while c_I (1 - beta) + c_A < 1 every extra unit of dose adds deficit,
     // so loss is non-decreasing in the dose at each protocol checkpoint. (After the
     // protocol a lagged intake can overshoot, so follow-up weeks are not claimed.)
     for (j, sc) in plan.scenarios.iter().enumerate() {
@@ -1500,12 +1500,12 @@ fn compare_library_rows_equal_the_simulation() {
 }
 
 // ---------------------------------------------------------------------------
-// Physiology (MODEL.md 5)
+// Physiology (docs/model.md section 5)
 // ---------------------------------------------------------------------------
 
 #[test]
 fn follow_up_regains_toward_baseline_as_prescribed() {
-    // MODEL.md 5 / issue 3: after the dose stops, intake stays at EI0 while expenditure
+    // docs/model.md section 5 / issue 3: after the dose stops, intake stays at EI0 while expenditure
     // is lower at the lower mass, so mass climbs back toward, but not past, baseline.
     let s = sim(&compare_plan());
     let sc = &s.scenarios[0];
@@ -1535,7 +1535,7 @@ fn follow_up_regains_toward_baseline_as_prescribed() {
 
 #[test]
 fn lagged_intake_compensation_fades_after_the_protocol() {
-    // MODEL.md 5: dXbar/dt = (X - Xbar)/tau_I and EI = EI0 + c_I Xbar; with X = 0 in
+    // docs/model.md section 5: dXbar/dt = (X - Xbar)/tau_I and EI = EI0 + c_I Xbar; with X = 0 in
     // follow-up Xbar decays exactly as exp(-t/tau_I) (closed form), so the extra
     // intake after F follow-up weeks is the protocol-end extra times exp(-7F/tau_I).
     let text = plan_text(
@@ -1600,7 +1600,7 @@ fn compensation(c_i: f64, c_a: f64) -> Compensation {
 
 #[test]
 fn start_deficit_ratio_is_one_minus_ci_times_one_minus_beta_minus_ca() {
-    // MODEL.md 5 (issue 3 check): at the start, no lag, no adaptation, the deficit rate
+    // docs/model.md section 5 (issue 3 check): at the start, no lag, no adaptation, the deficit rate
     // exercise adds over the net exercise rate is 1 - c_I (1 - beta) - c_A, to 1e-9;
     // the first week's dose_share is within 1e-2 of it.
     let base = compare_plan();
@@ -1641,7 +1641,7 @@ fn start_deficit_ratio_is_one_minus_ci_times_one_minus_beta_minus_ca() {
 
 #[test]
 fn full_intake_compensation_leaves_beta_of_the_dose() {
-    // MODEL.md 5 (issue 3 check): c_I = 1, no lag: the extra food carries its own TEF,
+    // docs/model.md section 5 (issue 3 check): c_I = 1, no lag: the extra food carries its own TEF,
     // so the deficit rate at the start is beta * X, and week 1's dose_share is near
     // beta = 0.10 (within 1e-2).
     let base = compare_plan();

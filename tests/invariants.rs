@@ -1,4 +1,4 @@
-//! Invariants and analytic solutions of the model (MODEL.md section 6, issue 2 "Tests"):
+//! Invariants and analytic solutions of the model (docs/model.md section 6, issue 2 "Tests"):
 //! energy conservation against an independent quadrature, the analytic steady state,
 //! zero dose at balance, minutes that exactly meet the target before rounding, and the
 //! early `dose_share` / deficit-rate closed form `1 - c_I (1 - beta) - c_A`.
@@ -87,7 +87,7 @@ diet_change_kcal_per_day = -250.0
 
 #[test]
 fn energy_conservation_against_simpson_quadrature() {
-    // MODEL.md 6, "Energy invariant": rho_F dF + rho_L dL equals the integral of EI - EE,
+    // docs/model.md section 6, "Energy invariant": rho_F dF + rho_L dL equals the integral of EI - EE,
     // computed independently (a quadrature over dense output), to 1e-6 relative.
     //
     // The plan is run by `simulate`; the same run is then rebuilt week by week from the
@@ -142,7 +142,7 @@ fn energy_conservation_against_simpson_quadrature() {
             let start = body_of(&y);
             y = *samples.states.last().unwrap();
             if comp.intake_lag_days == 0.0 {
-                // The driver keeps Xbar = X when there is no lag (MODEL.md 5).
+                // The driver keeps Xbar = X when there is no lag (docs/model.md section 5).
                 y[2] = phys.fluxes(comp, &bouts, &body_of(&y)).exercise;
             }
             let end = body_of(&y);
@@ -170,7 +170,7 @@ fn energy_conservation_against_simpson_quadrature() {
                     imbalance,
                     max_relative = 1e-6
                 );
-                // The prescribed net energy is the integral of X (MODEL.md 4).
+                // The prescribed net energy is the integral of X (docs/model.md section 4).
                 assert_relative_eq!(week.end.prescribed_net_kcal, exercise, max_relative = 1e-6);
             }
         }
@@ -199,7 +199,7 @@ fn steady_subject(pal: f64, body_fat: f64) -> Subject {
 
 #[test]
 fn analytic_steady_state_after_ten_relaxation_times() {
-    // MODEL.md 6, "Analytic steady state": Mifflin-St Jeor (dRMR/dM = 10 kcal/day/kg;
+    // docs/model.md section 6, "Analytic steady state": Mifflin-St Jeor (dRMR/dM = 10 kcal/day/kg;
     // Mifflin et al. 1990, Am J Clin Nutr 51:241), no measured RMR, intake at balance,
     // no exercise, no compensation, a constant intake change dEI:
     // dM -> dEI (1 - beta) / (10 + delta). Derivation: at balance EI0 = RMR0 + beta EI0 +
@@ -217,7 +217,7 @@ fn analytic_steady_state_after_ten_relaxation_times() {
         let (baseline, phys) = calibrate(&steady_subject(pal, fat), &constants).unwrap();
         let beta = constants.tef_fraction;
         let delta = phys.activity_kcal_per_kg_day;
-        // delta from its definition (MODEL.md 3 step 4), computed here: AE0 = TDEE0 -
+        // delta from its definition (docs/model.md section 3 step 4), computed here: AE0 = TDEE0 -
         // RMR0 - beta EI0 with TDEE0 = EI0 = pal RMR0 and RMR0 by Mifflin.
         let rmr0 = 10.0 * 98.0 + 6.25 * 178.0 - 5.0 * 45.0 + 5.0;
         assert_relative_eq!(
@@ -251,8 +251,8 @@ fn analytic_steady_state_after_ten_relaxation_times() {
 
 #[test]
 fn zero_dose_at_balance_keeps_mass_constant() {
-    // MODEL.md 6: "Zero dose at balance keeps mass constant." Energy balance at baseline
-    // by construction (MODEL.md 3: EI0 = TDEE0), with every RMR equation, with and
+    // docs/model.md section 6: "Zero dose at balance keeps mass constant." Energy balance at baseline
+    // by construction (docs/model.md section 3: EI0 = TDEE0), with every RMR equation, with and
     // without a measured RMR or a measured intake; compensation channels set but inert
     // (no exercise energy to compensate, no loss to adapt to). Ten years.
     let inert = Compensation {
@@ -359,7 +359,7 @@ round_minutes_to = {step}
 
 #[test]
 fn minutes_exactly_meet_the_target_before_rounding() {
-    // MODEL.md 4 steps 2-3: E_w = dose (per session, / n, or x M_basis / n) x r_w with
+    // docs/model.md section 4 steps 2-3: E_w = dose (per session, / n, or x M_basis / n) x r_w with
     // r_w = s + (1 - s)(w - 1)/R for w <= R, else 1; d_w = E_w / e_w with e_w the gross
     // per-minute energy MET x 3.5 x M_w / 200 (ACSM kcal/min formula) or that minus
     // RMR_w / 1440 (own rest) or minus 3.5 x M_w / 200 (one MET); rounded up to the step.
@@ -477,7 +477,7 @@ fn minutes_exactly_meet_the_target_before_rounding() {
 
 #[test]
 fn rounding_keeps_exact_minutes_and_rounds_up_otherwise() {
-    // MODEL.md 4 step 3: ceil(d/step - 1e-9) x step. 350 kcal at 5 MET and 80 kg: 5 x 3.5
+    // docs/model.md section 4 step 3: ceil(d/step - 1e-9) x step. 350 kcal at 5 MET and 80 kg: 5 x 3.5
     // x 80 / 200 = 7 kcal/min exactly -> 50 min exactly, which a step of 5 keeps and a
     // step of 3 takes to 51; 351 kcal -> 50.14 min -> 55 with a step of 5.
     let text = |kcal: f64, step: u32| {
@@ -570,7 +570,7 @@ const PAIRS: [(f64, f64); 7] = [
 
 #[test]
 fn first_week_dose_share_matches_closed_form() {
-    // MODEL.md 5: early on, with no lag and no adaptation, dose_share = 1 - c_I (1 - beta)
+    // docs/model.md section 5: early on, with no lag and no adaptation, dose_share = 1 - c_I (1 - beta)
     // - c_A (the extra food carries its own TEF); issue 2: within 1e-2 in week 1.
     for tef in [0.10, 0.20] {
         for rest in ["own-rmr", "one-met"] {
@@ -587,7 +587,7 @@ fn first_week_dose_share_matches_closed_form() {
 
 #[test]
 fn initial_deficit_rate_ratio_matches_closed_form() {
-    // MODEL.md 5 at the start (baseline state, tau = 0): with EI = EI0 + c_I X,
+    // docs/model.md section 5 at the start (baseline state, tau = 0): with EI = EI0 + c_I X,
     // TEF = beta EI, AE = delta M - c_A X, EE = RMR + TEF + AE + X, the deficit rate the
     // exercise adds is (EE - EI)_with - (EE - EI)_without = X (1 - c_I (1 - beta) - c_A).
     // Checked to 1e-9, both in kcal/day and as the rate of stored-energy loss.
@@ -650,7 +650,7 @@ fn initial_deficit_rate_ratio_matches_closed_form() {
 
 #[test]
 fn net_exercise_rate_is_the_weeks_sessions_over_seven_days() {
-    // MODEL.md 4: X is the week's sessions' net energy at the current M and RMR, divided
+    // docs/model.md section 4: X is the week's sessions' net energy at the current M and RMR, divided
     // by 7: sum of minutes x (MET x 3.5 x M / 200 - RMR / 1440) / 7 (own rest).
     let plan = parse(&dose_share_plan(&[(0.0, 0.0)], 0.10, "own-rmr"));
     let sim = simulate(&plan).unwrap();
@@ -686,7 +686,7 @@ fn net_exercise_rate_is_the_weeks_sessions_over_seven_days() {
 }
 
 /// Classic fourth-order Runge-Kutta on `Physiology::fluxes` with `n` equal steps: an
-/// independent reference integrator (MODEL.md 6 names RK4 as the fixed-step method),
+/// independent reference integrator (docs/model.md section 6 names RK4 as the fixed-step method),
 /// sharing nothing with `ode_solvers`.
 fn rk4(
     phys: &dosewright::model::Physiology,
@@ -720,7 +720,7 @@ fn rk4(
 
 #[test]
 fn integrate_end_state_does_not_depend_on_the_output_step() {
-    // MODEL.md 6: Dormand-Prince 5(4) at relative tolerance 1e-8 or tighter. The state
+    // docs/model.md section 6: Dormand-Prince 5(4) at relative tolerance 1e-8 or tighter. The state
     // `integrate` returns at the end of a stretch must be the solution there whatever the
     // dense-output step, and agree with an independent RK4 reference (4096 steps; its
     // error here is far below 1e-9 of the change) to 1e-8 of the change. Stretches of one
@@ -761,9 +761,9 @@ fn integrate_end_state_does_not_depend_on_the_output_step() {
 
 #[test]
 fn baseline_drift_matches_an_independent_integration() {
-    // MODEL.md 3 step 5: intake and PAL both given and different: the drift is the
+    // docs/model.md section 3 step 5: intake and PAL both given and different: the drift is the
     // projected mass change in 4 weeks with no exercise. Checked against the RK4
-    // reference on the same calibrated physiology, to 1e-8 of the change (MODEL.md 6
+    // reference on the same calibrated physiology, to 1e-8 of the change (docs/model.md section 6
     // tolerance). An invented participant (code DR-05): intake 2600 kcal/day, PAL 1.4.
     let plan = parse(&RICH_PLAN.replace(
         "intake_kcal_per_day = 2300",

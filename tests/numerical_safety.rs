@@ -1,7 +1,7 @@
 //! Numerical safety (issue 8, point 5): extreme but valid plans either run to the end
 //! with finite, physically sensible numbers, or are refused with
 //! [`Error::OutOfRange`] naming the scenario, the day, the date and the state
-//! (MODEL.md 6). Never a NaN, an infinity, a negative mass or a hang.
+//! (docs/model.md section 6). Never a NaN, an infinity, a negative mass or a hang.
 //!
 //! Every plan here is valid (it passes `parse_plan`); what is extreme is where the
 //! model is driven. Participants are invented (pseudonymous codes NS-xx).
@@ -552,7 +552,7 @@ fn big_negative_diet_change_is_stopped_at_the_fat_floor() {
     let plan = valid(&text);
     let (e, msg) = expect_out_of_range(&plan);
     assert_eq!(e.scenario, "crash diet");
-    // Stopped at a floor of the model's range: fat mass 2 kg (MODEL.md 6), or body
+    // Stopped at a floor of the model's range: fat mass 2 kg (docs/model.md section 6), or body
     // mass 30 kg / BMI 13 kg/m^2 (the plan's own lower limits, which the driver
     // also holds the projection to), whichever comes first.
     let m = e.fat_kg + e.lean_kg;

@@ -29,7 +29,7 @@ fn config() -> ProptestConfig {
 }
 
 /// Slack for "never less" comparisons of masses, kg: far below any effect of one minute
-/// of exercise, far above the integrator's tolerance (MODEL.md 6).
+/// of exercise, far above the integrator's tolerance (docs/model.md section 6).
 const MASS_SLACK_KG: f64 = 1e-9;
 
 // --- plan text ---------------------------------------------------------------------------
@@ -302,13 +302,13 @@ fn parse(text: &str) -> Plan {
 }
 
 /// Simulate, or reject the case if the model leaves its valid range (that is a correct
-/// refusal, MODEL.md 6, not a property violation).
+/// refusal, docs/model.md section 6, not a property violation).
 fn run(plan: &Plan) -> Result<Simulation, TestCaseError> {
     simulate(plan).map_err(|e| TestCaseError::reject(format!("out of range: {e}")))
 }
 
 fn beta() -> f64 {
-    // The plans set tef_fraction = 0.1 explicitly (MODEL.md 3, common practice).
+    // The plans set tef_fraction = 0.1 explicitly (docs/model.md section 3, common practice).
     0.1
 }
 
@@ -338,7 +338,7 @@ proptest! {
     #![proptest_config(config())]
 
     /// More dose never gives less loss while c_I (1 - beta) + c_A < 1, with no intake lag,
-    /// at the end of every week, protocol and follow-up. MODEL.md 5 with tau_I = 0: each
+    /// at the end of every week, protocol and follow-up. docs/model.md section 5 with tau_I = 0: each
     /// extra kcal/day of exercise X adds X (1 - c_I (1 - beta) - c_A) > 0 to the deficit
     /// rate; along the Forbes curve the state is one-dimensional and the week's minutes
     /// never fall when the dose rises or the reference mass falls, so the heavier-dosed
@@ -365,7 +365,7 @@ proptest! {
     /// below c_I times that largest value, so with c_I (1 - beta) + c_A <= 0.5 the extra
     /// deficit rate stays positive and the larger dose loses at least as much at the end
     /// of every protocol week. (After exercise stops the lagged intake goes on while the
-    /// body relaxes towards its old state; there MODEL.md does not imply the ordering.)
+    /// body relaxes towards its old state; there docs/model.md does not imply the ordering.)
     #[test]
     fn more_dose_never_gives_less_loss_with_lagged_intake(
         p in person(),
@@ -391,7 +391,7 @@ proptest! {
     }
 
     /// More compensation (any channel larger, the others no smaller, the same lag) never
-    /// gives more loss (MODEL.md 5: each channel only raises intake or lowers expenditure).
+    /// gives more loss (docs/model.md section 5: each channel only raises intake or lowers expenditure).
     #[test]
     fn more_compensation_never_gives_more_loss(
         p in person(),
@@ -563,7 +563,7 @@ fn compare_doses(
 }
 
 /// The reference state (mass and RMR, no adaptation) at body mass `mass_kg` on the Forbes
-/// curve through the baseline (MODEL.md 7).
+/// curve through the baseline (docs/model.md section 7).
 fn reference_on_curve(phys: &Physiology, fat0: f64, lean0: f64, mass_kg: f64) -> Reference {
     let c = phys.constants.forbes_constant_kg;
     let fat = forbes_fat_at_mass(fat0, lean0, mass_kg, c);

@@ -1,10 +1,10 @@
 //! External check values: every number asserted here comes from outside the project
-//! (a published worked value, or arithmetic on published inputs as REFERENCES.md
-//! records it), with its source named beside it exactly as REFERENCES.md names it.
+//! (a published worked value, or arithmetic on published inputs as docs/references.md
+//! records it), with its source named beside it exactly as docs/references.md names it.
 //!
 //! Tolerances: a value printed to k decimals is checked to half a unit in the last
 //! place (plus a hair for the binary representation of the printed number), unless a
-//! closed form allows a tighter one. Subjects are REFERENCES.md section 0's invented
+//! closed form allows a tighter one. Subjects are docs/references.md section 0's invented
 //! reference subjects M and F, and invented participants with pseudonymous codes.
 
 use approx::{assert_abs_diff_eq, assert_relative_eq};
@@ -35,7 +35,7 @@ fn kmh_from_mph_acsm(mph: f64) -> f64 {
     mph * 26.8 * 60.0 / 1000.0
 }
 
-// --- reference subjects (REFERENCES.md section 0: "common practice, no source (chosen
+// --- reference subjects (docs/references.md section 0: "common practice, no source (chosen
 // test subject)") ---------------------------------------------------------------------
 
 struct RefSubject {
@@ -87,7 +87,7 @@ fn physiology_m(constants: Constants) -> Physiology {
 
 // --- 1.1 / 1.3: ACSM kcal/min formula and MET-to-minutes table --------------------------
 
-/// One row of REFERENCES.md table 1.3 (all "derived"): code, MET, mass, kcal/min,
+/// One row of docs/references.md table 1.3 (all "derived"): code, MET, mass, kcal/min,
 /// min per 400 kcal gross, min per 400 kcal net of one MET (MET - 1), min per 400 kcal
 /// with the MET x kg / 60 (1 kcal/kg/h) convention.
 const TABLE_1_3: [(&str, f64, f64, f64, f64, f64, f64); 8] = [
@@ -148,7 +148,7 @@ fn table_1_3_kcal_per_min_and_minutes_per_400_kcal_gross() {
 #[test]
 fn table_1_3_minutes_per_400_kcal_net_of_one_met() {
     // REFERENCES 1.3 "min per 400 kcal if net (MET-1)" (derived), through our
-    // rest_for_net = "one-met" semantics (MODEL.md 4: net = (m - 1) x 3.5 x M / 200).
+    // rest_for_net = "one-met" semantics (docs/model.md section 4: net = (m - 1) x 3.5 x M / 200).
     let phys = physiology_m(Constants {
         rest_for_net: RestForNet::OneMet,
         ..Constants::default()
@@ -205,7 +205,7 @@ fn table_1_3_one_kcal_per_kg_per_hour_column_is_5_percent_longer() {
 
 #[test]
 fn own_rest_and_one_met_agree_when_rmr_is_3_5_ml_per_kg_per_min() {
-    // MODEL.md 4: "For a participant whose RMR is 3.5 ml/kg/min the two agree": RMR =
+    // docs/model.md section 4: "For a participant whose RMR is 3.5 ml/kg/min the two agree": RMR =
     // 3.5 x M / 200 kcal/min x 1440 (1 MET = 3.5 mL/kg/min, Byrne et al. 2005 — confirmed).
     let own = physiology_m(Constants::default());
     let one = physiology_m(Constants {
@@ -231,7 +231,7 @@ fn own_rest_and_one_met_agree_when_rmr_is_3_5_ml_per_kg_per_min() {
 fn corrected_met_worked_values() {
     // REFERENCES 1.1 "Worked corrected-MET values" (derived; Harris–Benedict 1919 values
     // from section 3; the corrected-MET procedure itself is from memory, unconfirmed):
-    // corrected MET = MET x 3.5 / RMR_ind, which is our relative intensity (MODEL.md 4).
+    // corrected MET = MET x 3.5 / RMR_ind, which is our relative intensity (docs/model.md section 4).
     let phys = physiology_m(Constants::default());
     // Subject M, HB RMR 1796.99 kcal/d: 7.0 -> 7.853, 4.3 -> 4.824.
     assert_abs_diff_eq!(
@@ -336,7 +336,7 @@ fn acsm_a7_leg_cycling_100_w_80_kg() {
         8.31,
         epsilon = half_unit(2)
     );
-    // Cycling's MET depends on mass (MODEL.md 4): lighter rider, higher MET.
+    // Cycling's MET depends on mass (docs/model.md section 4): lighter rider, higher MET.
     assert!(cyc.met_at(70.0) > met);
 }
 
@@ -383,9 +383,9 @@ fn rmr_cunningham_1980() {
 #[test]
 fn rmr_livingston_kohlstadt_agrees_with_confirmed_equations() {
     // Livingston EH, Kohlstadt I. Obes Res 2005;13(7):1255-1262: the coefficients the
-    // code uses are from memory, unconfirmed (REFERENCES.md 3), so the values they
+    // code uses are from memory, unconfirmed (docs/references.md section 3), so the values they
     // give cannot be their own check. Checked instead against sources outside them:
-    // for subjects M and F of REFERENCES.md 3 the equation must fall within the 95 %
+    // for subjects M and F of docs/references.md section 3 the equation must fall within the 95 %
     // limits of the revised Harris-Benedict equation, +-213 kcal/d for men and +-201
     // for women (Roza AM, Shizgal HM. Am J Clin Nutr 1984;40(1):168-182 — confirmed,
     // secondary copy), around both that equation (M 1796.86, F 1408.27 kcal/d,
@@ -414,7 +414,7 @@ fn rmr_livingston_kohlstadt_agrees_with_confirmed_equations() {
 
 #[test]
 fn measured_rmr_personal_factor_scales_the_equation() {
-    // MODEL.md 3 step 1: k_R = RMR_measured / RMR_equation(baseline); subject M with a
+    // docs/model.md section 3 step 1: k_R = RMR_measured / RMR_equation(baseline); subject M with a
     // measured 1557 kcal/d and Mifflin 1730.00 (Mifflin et al. 1990, Am J Clin Nutr
     // 51:241 — confirmed) gives k_R = 0.9 exactly.
     let subject = Subject {
@@ -444,7 +444,7 @@ fn deurenberg_adult_equation() {
     // 40 y) 22.63 %; F (BMI 23.88, 35 y) 31.30 %.
     let bmi_m = bmi(80.0, 180.0);
     let bmi_f = bmi(65.0, 165.0);
-    // BMI column of REFERENCES section 0.
+    // BMI column of docs/references.md section 0.
     assert_abs_diff_eq!(bmi_m, 24.69, epsilon = half_unit(2));
     assert_abs_diff_eq!(bmi_f, 23.88, epsilon = half_unit(2));
     let pm = deurenberg_percent_fat(bmi_m, 40.0, Sex::Male);
@@ -458,7 +458,7 @@ fn deurenberg_adult_equation() {
 
 #[test]
 fn deurenberg_estimate_in_the_calibrated_baseline() {
-    // MODEL.md 1: without a measured body fat, F0 comes from Deurenberg et al. 1991 (Br J
+    // docs/model.md section 1: without a measured body fat, F0 comes from Deurenberg et al. 1991 (Br J
     // Nutr 65:105), and is marked as estimated. REFERENCES 4 (derived): M 18.10 kg, F
     // 20.35 kg.
     for (s, fm) in [(&SUBJECT_M, 18.10), (&SUBJECT_F, 20.35)] {
@@ -522,7 +522,7 @@ fn three_thousand_five_hundred_kcal_per_pound_crossing() {
     // ... and at FM ~ 35.6 kg with 9441 / 1816.
     let f = crossing(wishnofsky_kcal_per_kg(), 10.4, 9441.0, 1816.0);
     assert_abs_diff_eq!(f, 35.6, epsilon = half_unit(1));
-    // MODEL.md 2: "with the defaults 7,750 kcal/kg at F = 40 kg" (derived there).
+    // docs/model.md section 2: "with the defaults 7,750 kcal/kg at F = 40 kg" (derived there).
     assert_abs_diff_eq!(
         energy_density_of_change(40.0, 10.4, 9500.0, 1020.0),
         7750.0,
@@ -555,7 +555,7 @@ fn energy_density_table_with_9441_and_1816() {
 
 #[test]
 fn model_partition_reproduces_the_table_with_9441_and_1816() {
-    // The same table through the model's own partition (MODEL.md 2): at a state with fat
+    // The same table through the model's own partition (docs/model.md section 2): at a state with fat
     // mass FM and an energy imbalance, (EI - EE)/(dF/dt + dL/dt) is the energy per kg of
     // tissue changed, and (dL/dt)/(dF/dt + dL/dt) is the Forbes lean share
     // 10.4/(10.4 + FM) (REFERENCES 5: derived from the log form; Forbes GB. Nutr Rev
@@ -798,7 +798,7 @@ fn fixed_kcal_per_session_needs_more_minutes_as_mass_falls() {
         let (r80, r75) = (minutes(80.0), minutes(75.0));
         assert_abs_diff_eq!(r80.minutes_unrounded, at80, epsilon = half_unit(1));
         assert_abs_diff_eq!(r75.minutes_unrounded, at75, epsilon = half_unit(1));
-        // Rounded up to the default 1-minute step (MODEL.md 4): ceil of the table value.
+        // Rounded up to the default 1-minute step (docs/model.md section 4): ceil of the table value.
         assert_eq!(f64::from(r80.minutes_per_session), at80.ceil());
         assert_eq!(f64::from(r75.minutes_per_session), at75.ceil());
     }

@@ -1,11 +1,11 @@
 //! Re-planning from a participant log, adherence, and compensation read from the
-//! weigh-ins (issue 4, "Checks"; MODEL.md 7).
+//! weigh-ins (issue 4, "Checks"; docs/model.md section 7).
 //!
-//! Expected values come from closed forms (REFERENCES.md 5, the Forbes curve solved
+//! Expected values come from closed forms (docs/references.md section 5, the Forbes curve solved
 //! with a Lambert W written here), from invariants (the first law on every stretch
 //! between weigh-ins; an unchanged schedule when the weigh-ins equal the projection),
 //! from the truth parameters of a simulated participant, or from hand arithmetic on
-//! MODEL.md's equations. None is copied from the program's own output.
+//! docs/model.md's equations. None is copied from the program's own output.
 //!
 //! Every participant and every value here is invented; participant codes are
 //! pseudonyms. The log file rules themselves are in tests/log.rs.
@@ -33,7 +33,7 @@ use dosewright::simulate::{
 const HEADER: &str =
     "date,kind,mass_kg,body_fat_percent,minutes,compendium_code,met,avg_hr_bpm,rpe,note";
 
-/// Forbes constant, kg (MODEL.md 2 default; REFERENCES.md 5, Forbes 1987).
+/// Forbes constant, kg (docs/model.md section 2 default; docs/references.md section 5, Forbes 1987).
 const FORBES_KG: f64 = 10.4;
 
 /// Principal branch of the Lambert W function for `x >= 0` by Newton's method on
@@ -52,13 +52,13 @@ fn my_lambert_w0(x: f64) -> f64 {
     w
 }
 
-/// REFERENCES.md 5, "Finite change along the Forbes curve" (derived row):
+/// docs/references.md section 5, "Finite change along the Forbes curve" (derived row):
 /// `FM1 = c W0[(FM0/c) exp((FM0 + dBW)/c)]`.
 fn forbes_fm1(fm0: f64, dbw: f64, c: f64) -> f64 {
     c * my_lambert_w0(fm0 / c * ((fm0 + dbw) / c).exp())
 }
 
-/// The state a weigh-in should move `pre` to (MODEL.md 7): the measured mass, with
+/// The state a weigh-in should move `pre` to (docs/model.md section 7): the measured mass, with
 /// `F = M %BF / 100` when body fat is measured, else along the Forbes curve.
 fn expected_anchor(pre: &State, mass_kg: f64, body_fat_percent: Option<f64>) -> (f64, f64) {
     let fat = match body_fat_percent {
@@ -76,7 +76,7 @@ fn day_of(plan: &Plan, date: NaiveDate) -> u32 {
     (date - plan.protocol.start).num_days() as u32
 }
 
-/// A weigh-in row (PLAN.md columns); `{}` prints the shortest exact form of an f64.
+/// A weigh-in row (docs/file-formats.md section 3 columns); `{}` prints the shortest exact form of an f64.
 fn weigh_row(date: NaiveDate, mass_kg: f64, body_fat: Option<f64>) -> String {
     let bf = body_fat.map_or(String::new(), |b| format!("{b}"));
     format!("{date},weigh-in,{mass_kg},{bf},,,,,,")
@@ -198,7 +198,7 @@ fn quadrature(f: &[f64]) -> f64 {
 
 #[test]
 fn my_forbes_closed_form_gives_the_references_check_values() {
-    // REFERENCES.md 5, "Macroscopic Forbes check values" (derived with the closed
+    // docs/references.md section 5, "Macroscopic Forbes check values" (derived with the closed
     // form): FM0 30, dBW -10 -> FM1 22.84, dFFM -2.84; FM0 16, dBW -5 -> dFM -2.91,
     // dFFM -2.09 (two decimals as printed there).
     let fm1 = forbes_fm1(30.0, -10.0, FORBES_KG);
@@ -233,7 +233,7 @@ fn the_librarys_lambert_w_satisfies_its_definition_and_my_newton_values() {
 
 #[test]
 fn anchor_moves_along_the_forbes_curve_as_the_closed_form_says() {
-    // Closed form (REFERENCES.md 5) against `anchor`, including the two check cases
+    // Closed form (docs/references.md section 5) against `anchor`, including the two check cases
     // of that section: FM0 30 kg, dBW -10 kg -> FM1 22.84 kg; FM0 16, dBW -5 -> -2.91.
     let cases = [
         (30.0, 50.0, -10.0),
@@ -259,7 +259,7 @@ fn anchor_moves_along_the_forbes_curve_as_the_closed_form_says() {
             moved[0]
         );
         assert!((moved[0] + moved[1] - w.mass_kg).abs() < 1e-9);
-        // MODEL.md 7: Xbar and the running integral stay as they were.
+        // docs/model.md section 7: Xbar and the running integral stay as they were.
         assert_eq!((moved[2], moved[3]), (123.4, 5678.9));
     }
     assert!(
@@ -271,7 +271,7 @@ fn anchor_moves_along_the_forbes_curve_as_the_closed_form_says() {
             .abs()
             < 0.005
     );
-    // MODEL.md 7: with a measured body fat, F = M %BF / 100, whatever the state was.
+    // docs/model.md section 7: with a measured body fat, F = M %BF / 100, whatever the state was.
     let moved = anchor(
         &State::new(41.0, 55.0, 7.0, 8.0),
         &weigh(95.9, Some(42.0)),
@@ -291,7 +291,7 @@ fn weigh(mass_kg: f64, body_fat_percent: Option<f64>) -> WeighIn {
     }
 }
 
-/// An invented participant whose RMR follows Katch-McArdle (`370 + 21.6 L`, MODEL.md
+/// An invented participant whose RMR follows Katch-McArdle (`370 + 21.6 L`, docs/model.md
 /// 3), so that a week's reference RMR reveals its reference fat-free mass; every
 /// compensation channel is on. Start Monday 2027-03-01, 8 weeks and 2 of follow-up.
 const ANCHOR_PLAN: &str = r#"[participant]
@@ -411,7 +411,7 @@ fn re_anchoring_lands_on_the_measured_mass_and_moves_along_the_forbes_curve() {
                 w.reference_mass_kg
             );
             assert_eq!(w.mass_source, MassSource::Measured);
-            // Katch-McArdle (MODEL.md 3) with adaptation (MODEL.md 5) inverted for L.
+            // Katch-McArdle (docs/model.md section 3) with adaptation (docs/model.md section 5) inverted for L.
             let lean_ref = (w.reference_rmr_kcal_per_day
                 + ANCHOR_ADAPTATION * (m0 - w.reference_mass_kg).max(0.0)
                 - 370.0)
@@ -434,7 +434,7 @@ fn re_anchoring_lands_on_the_measured_mass_and_moves_along_the_forbes_curve() {
                 "day {day}: fat {} vs closed form {fat}",
                 y[0]
             );
-            // MODEL.md 7: Xbar stays as it was (the solver's dense output aside).
+            // docs/model.md section 7: Xbar stays as it was (the solver's dense output aside).
             assert!(
                 (y[2] - pre[2]).abs() < 1e-6,
                 "day {day}: Xbar {} vs {}",
@@ -449,7 +449,7 @@ fn re_anchoring_lands_on_the_measured_mass_and_moves_along_the_forbes_curve() {
     assert!((plain.daily[17][0] + plain.daily[17][1] - 95.1).abs() > 0.1);
 }
 
-/// The week's bouts as `run` integrates them (MODEL.md 7): the delivered sessions on
+/// The week's bouts as `run` integrates them (docs/model.md section 7): the delivered sessions on
 /// days up to as-of, the planned ones after it.
 fn bouts_of_week(plan: &Plan, obs: &Observed, week: &WeekRecord) -> Vec<Bout> {
     let s = 7 * (week.week - 1);
@@ -476,7 +476,7 @@ fn bouts_of_week(plan: &Plan, obs: &Observed, week: &WeekRecord) -> Vec<Bout> {
 
 #[test]
 fn the_energy_invariant_holds_on_every_stretch_between_weigh_ins() {
-    // MODEL.md 2 and 6: rho_F dF + rho_L dL equals the integral of EI - EE, by an
+    // docs/model.md sections 2 and 6: rho_F dF + rho_L dL equals the integral of EI - EE, by an
     // independent quadrature (Simpson / 3-8 rule over the daily states, with
     // `Physiology::fluxes`), on each stretch between weigh-ins and week boundaries.
     let plan = plan_of("anchor.toml", ANCHOR_PLAN);
@@ -561,7 +561,7 @@ fn the_energy_invariant_holds_on_every_stretch_between_weigh_ins() {
 
 #[test]
 fn the_daily_state_on_every_weigh_in_day_is_the_measured_one() {
-    // MODEL.md 7: a weigh-in dated D is the state at 00:00 of D; RunOutput.daily is
+    // docs/model.md section 7: a weigh-in dated D is the state at 00:00 of D; RunOutput.daily is
     // documented as the state at 00:00 of every day. Both kinds of weigh-in day
     // (week start and mid-week) must then hold the measured mass.
     let plan = plan_of("anchor.toml", ANCHOR_PLAN);
@@ -723,7 +723,7 @@ fn fit_recovers_an_intake_fraction_of_0_35_from_noisy_weekly_weigh_ins() {
 
 #[test]
 fn the_fit_interval_is_the_profile_of_the_sum_of_squares() {
-    // MODEL.md 7: the interval ends where SSE(p) = SSE_min (1 + 3.84 / (n - 1)); the
+    // docs/model.md section 7: the interval ends where SSE(p) = SSE_min (1 + 3.84 / (n - 1)); the
     // sum of squares is recomputed here from runs with the delivered sessions and no
     // re-anchoring, at each end of the interval.
     let truth = plan_of("truth.toml", &fit_plan_text(0.35, 14.0, 0.0));
@@ -803,7 +803,7 @@ fn fit_recovers_an_activity_fraction_of_0_3() {
 
 #[test]
 fn with_no_lag_eating_back_and_moving_less_are_the_same_to_the_scale() {
-    // MODEL.md 5: with no lag the balance sees c_I (1 - beta) X from eating back and
+    // docs/model.md section 5: with no lag the balance sees c_I (1 - beta) X from eating back and
     // c_A X from moving less, so weigh-ins of a participant who eats back 0.35 are
     // fitted by c_A = 0.35 (1 - 0.10) = 0.315 (closed form, beta = 0.10), and both
     // fits explain the weigh-ins equally well.
@@ -830,7 +830,7 @@ fn with_no_lag_eating_back_and_moving_less_are_the_same_to_the_scale() {
             < 1e-6 * by_intake.exercise_kcal_per_day
     );
     // The mean exercise energy is about the delivered sessions' net energy spread
-    // over the 169 days of the log (net at each week's reference state, MODEL.md 4).
+    // over the 169 days of the log (net at each week's reference state, docs/model.md section 4).
     let t = plan_of("truth.toml", &truth);
     let sim = simulate(&t).unwrap();
     let net: f64 = sim.scenarios[0]
@@ -848,10 +848,10 @@ fn with_no_lag_eating_back_and_moving_less_are_the_same_to_the_scale() {
 
 #[test]
 fn both_channels_imply_the_same_extra_intake_for_the_same_weigh_ins() {
-    // MODEL.md 7: the number is an effective compensation expressed as intake, which
+    // docs/model.md section 7: the number is an effective compensation expressed as intake, which
     // weigh-ins cannot split into channels. The same weigh-ins must therefore imply
     // the same extra intake whichever channel is fitted: c_A X of activity given up
-    // is balanced by c_A X / (1 - beta) of intake (MODEL.md 3, TEF = beta EI).
+    // is balanced by c_A X / (1 - beta) of intake (docs/model.md section 3, TEF = beta EI).
     let truth = fit_plan_text(0.35, 0.0, 0.0);
     let held = fit_plan_text(0.0, 0.0, 0.0);
     let by_intake = fit_simulated(&truth, &held, FitParameter::IntakeFraction, 0.0);
@@ -868,7 +868,7 @@ fn both_channels_imply_the_same_extra_intake_for_the_same_weigh_ins() {
 
 #[test]
 fn fit_refuses_too_little_data() {
-    // MODEL.md 7: fewer than three weigh-ins spanning at least 21 days is too little.
+    // docs/model.md section 7: fewer than three weigh-ins spanning at least 21 days is too little.
     let plan = plan_of("fit.toml", &fit_plan_text(0.0, 14.0, 0.0));
     let with = |days: &[u32]| -> Result<FitResult, Error> {
         let mut rows = Vec::new();
@@ -992,7 +992,7 @@ fn a_participant_who_follows_the_plan_exactly_gets_the_same_schedule() {
             "week {}",
             p.week
         );
-        // MODEL.md 4: measured when a weigh-in falls on the week's first day or in
+        // docs/model.md section 4: measured when a weigh-in falls on the week's first day or in
         // the 6 days before (the log holds weigh-ins up to as-of only).
         let s = 7 * (l.week - 1);
         let measured = weigh_days.iter().any(|d| *d <= s && d + 6 >= s);
@@ -1062,7 +1062,7 @@ const TWO_WEEK_LOG: &str =
 2027-01-17,weigh-in,88.9,,,,,,,
 ";
 
-/// MODEL.md 3 and 4 by hand for ADHERENCE_PLAN: Mifflin-St Jeor for a woman of 40 y
+/// docs/model.md sections 3 and 4 by hand for ADHERENCE_PLAN: Mifflin-St Jeor for a woman of 40 y
 /// and 165 cm, ACSM gross kcal/min, net of own RMR.
 fn rmr_ad(m: f64) -> f64 {
     10.0 * m + 6.25 * 165.0 - 5.0 * 40.0 - 161.0
@@ -1153,7 +1153,7 @@ fn check_adherence(sim: &Simulation, hand: &[Hand; 2], tol: f64) {
         assert_eq!(
             f64::from(sc.weeks[i].minutes_per_session) * 3.0,
             h.min_presc,
-            "the prescription itself (MODEL.md 4, step 3)"
+            "the prescription itself (docs/model.md section 4, step 3)"
         );
     }
     assert!(
@@ -1292,7 +1292,7 @@ fn json_of(r: &common::Run, what: &str) -> serde_json::Value {
 
 #[test]
 fn log_add_appends_rows_that_schedule_then_uses() {
-    // Issue 4 point 1 and PLAN.md "The participant log"; MODEL.md 7 for as-of.
+    // Issue 4 point 1 and docs/file-formats.md section 3 ("The participant log"); docs/model.md section 7 for as-of.
     let dir = Scratch::new("replan-log-add");
     dir.write("plan.toml", ADHERENCE_PLAN);
     let first = "date,kind,mass_kg,body_fat_percent,minutes,compendium_code,met,avg_hr_bpm,rpe,note
@@ -1324,7 +1324,7 @@ fn log_add_appends_rows_that_schedule_then_uses() {
     ]);
     assert_eq!(r.code, Some(0), "{}", r.stderr);
     assert_eq!(r.stdout, "");
-    // PLAN.md columns: the earlier bytes kept, two rows after them.
+    // docs/file-formats.md section 3 columns: the earlier bytes kept, two rows after them.
     let now = std::fs::read_to_string(&path).unwrap();
     assert_eq!(
         now,
@@ -1407,7 +1407,7 @@ fn log_add_appends_rows_that_schedule_then_uses() {
     assert_eq!(r.stdout, "");
     assert!(r.stderr.contains("after the as-of date"), "{}", r.stderr);
     // --as-of after the last row: the days between count, planned sessions with no
-    // row are missed (MODEL.md 7).
+    // row are missed (docs/model.md section 7).
     let r = common::run(dir.cmd().args([
         "schedule",
         "plan.toml",
@@ -1502,7 +1502,7 @@ fn compare_and_goal_take_the_log() {
         .map(|r| num(r, "minutes_per_session") as u32)
         .collect();
     assert!(minutes.iter().all(|m| *m == 40), "{minutes:?}");
-    // MODEL.md 6, linearised: an offset of mass relaxes as exp(-t k / rho_eff), k the
+    // docs/model.md section 6, linearised: an offset of mass relaxes as exp(-t k / rho_eff), k the
     // extra expenditure per kg: Mifflin's 10 kcal/kg/day plus delta (section 3), and
     // while sessions run the extra net energy of the same minutes at a heavier mass
     // (section 4; 3 x 40 min a week at 5 MET); rho_eff of the Forbes partition
@@ -1572,7 +1572,7 @@ fn compare_and_goal_take_the_log() {
 
 #[test]
 fn fit_on_the_command_line_json_chart_and_activity_parameter() {
-    // PLAN.md "fit --format json" keys; truth parameter of a simulated participant.
+    // docs/file-formats.md section 4.4 ("fit --format json") keys; truth parameter of a simulated participant.
     let dir = Scratch::new("replan-fit-cli");
     dir.write("plan.toml", ADHERENCE_PLAN);
     // Truth: the same participant eating back 30% of the exercise energy, no lag.
@@ -1609,7 +1609,7 @@ fn fit_on_the_command_line_json_chart_and_activity_parameter() {
         "charts",
     ]));
     let j = json_of(&r, "fit --format json");
-    // PLAN.md, "fit --format json".
+    // docs/file-formats.md section 4.4 ("fit --format json").
     assert_eq!(text(&j, "parameter"), "intake_fraction");
     let estimate = num(&j, "estimate");
     assert!((estimate - 0.3).abs() < 0.01, "{estimate}");
@@ -1639,7 +1639,7 @@ fn fit_on_the_command_line_json_chart_and_activity_parameter() {
     }
 
     // --parameter activity_fraction: with no lag the same weigh-ins read as
-    // c_A = c_I (1 - beta) = 0.27 (MODEL.md 5).
+    // c_A = c_I (1 - beta) = 0.27 (docs/model.md section 5).
     let r = common::run(dir.cmd().args([
         "fit",
         "plan.toml",

@@ -174,10 +174,10 @@ fn dates_and_weekdays_are_the_calendars() {
 
 #[test]
 fn the_demo_first_week_matches_the_schedule_and_its_hand_arithmetic() {
-    // README: 12 kcal/kg/week x 104.0 kg / 3 sessions x 0.5 (ramp) = 208 kcal; at
+    // docs/walkthrough.md: 12 kcal/kg/week x 104.0 kg / 3 sessions x 0.5 (ramp) = 208 kcal; at
     // 4.3 MET a 104.0 kg body spends 4.3 x 3.5 x 104.0 / 200 = 7.826 kcal/min (ACSM
     // kcal/min formula), so 208 / 7.826 = 26.6 min, rounded up to 27; 27 min give
-    // 211 kcal gross. Moderate by MET (3.0-5.9, ACSM GETP 10th ed., REFERENCES.md
+    // 211 kcal gross. Moderate by MET (3.0-5.9, ACSM GETP 10th ed., docs/references.md
     // 6.2): RPE 12-13.
     let d = text_of(None, &["--week", "1"]);
     assert!(d.contains("Minutes computed for a body mass of 104.0 kg (measured at baseline)."));
@@ -194,7 +194,7 @@ fn the_demo_first_week_matches_the_schedule_and_its_hand_arithmetic() {
 #[test]
 fn karvonen_ranges_checked_by_hand() {
     // Karvonen MJ, Kentala E, Mustala O 1957, Ann Med Exp Biol Fenn 35:307
-    // (REFERENCES.md 6.3): THR = HRrest + i (HRmax - HRrest). Tanaka H, Monahan KD,
+    // (docs/references.md section 6.3): THR = HRrest + i (HRmax - HRrest). Tanaka H, Monahan KD,
     // Seals DR 2001, J Am Coll Cardiol 37:153: HRmax = 208 - 0.7 x age; the example
     // participant is 56, so HRmax = 208 - 39.2 = 168.8, and HRrest = 72 (the plan).
     let hr_rest = 72.0;
@@ -217,7 +217,7 @@ fn karvonen_ranges_checked_by_hand() {
     );
     assert!(t.contains("HRrest 72 bpm, HRmax 169 bpm (age-predicted, Tanaka 208 - 0.7 x age)"));
     // The treadmill walk: ACSM walking equation VO2 = 0.1 S + 1.8 S G + 3.5 ml/kg/min
-    // (ACSM GETP 10th ed., REFERENCES.md 2) at 5.6 km/h (93.33 m/min) and 3% grade,
+    // (ACSM GETP 10th ed., docs/references.md section 2) at 5.6 km/h (93.33 m/min) and 3% grade,
     // against VO2peak 22.5 ml/kg/min x 88.0 kg = 1.98 l/min held, at the week's
     // reference mass: the %VO2R, the band, then Karvonen.
     let plan = parse_plan(EXAMPLE_NAME, example_text()).unwrap();

@@ -2,7 +2,7 @@
 //! reserve and the heart-rate reserve, warm-up and cool-down counted in the energy,
 //! closures with the make-up rule.
 //!
-//! Expected values are published worked examples (REFERENCES.md 6.3), formulas
+//! Expected values are published worked examples (docs/references.md section 6.3), formulas
 //! computed by hand here, or invariants; never the program's own output. The
 //! participants are invented and go by pseudonymous codes.
 
@@ -116,7 +116,7 @@ fn rotation_with_two_activities_meets_the_weekly_energy_target() {
     let s = sim(&plan);
     for run in &s.scenarios {
         for w in &run.weeks {
-            // The ramp: 0.5 in week 1, linear to 1 in week 5 (MODEL.md 4).
+            // The ramp: 0.5 in week 1, linear to 1 in week 5 (docs/model.md section 4).
             let r = if w.week <= 4 {
                 0.5 + 0.5 * f64::from(w.week - 1) / 4.0
             } else {
@@ -157,7 +157,7 @@ fn rotation_with_two_activities_meets_the_weekly_energy_target() {
 // Relative intensity
 // ---------------------------------------------------------------------------
 
-/// REFERENCES.md 6.3 (derived check values): age 40 gives 180 by both 220 - age (Fox,
+/// docs/references.md section 6.3 (derived check values): age 40 gives 180 by both 220 - age (Fox,
 /// Naughton and Haskell 1971) and Tanaka 208 - 0.7 age (Tanaka, Monahan and Seals 2001,
 /// J Am Coll Cardiol 37:153); age 60 gives 160 and 166. Karvonen (Karvonen, Kentala and
 /// Mustala 1957, Ann Med Exp Biol Fenn 35:307), HRrest 70, 60 % HRR: 136 at 40 years;

@@ -10,7 +10,7 @@
 /// One MET as oxygen uptake, ml O2 per kg per minute (Byrne et al. 2005, J Appl Physiol 99:1112).
 pub const ML_O2_PER_MET: f64 = 3.5;
 
-/// Work rate of one watt in kg*m/min (MODEL.md 4; the ACSM teaching value is 6, 6.12 is
+/// Work rate of one watt in kg*m/min (docs/model.md section 4; the ACSM teaching value is 6, 6.12 is
 /// the physical conversion 60/9.80665 = 6.118 rounded).
 pub const KGM_PER_WATT: f64 = 6.12;
 

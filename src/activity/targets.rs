@@ -140,7 +140,7 @@ impl IntensityClass {
         }
     }
 
-    /// The RPE range (Borg 6-20) of the class (REFERENCES.md 6.2: ACSM GETP 10th ed.;
+    /// The RPE range (Borg 6-20) of the class (docs/references.md section 6.2: ACSM GETP 10th ed.;
     /// very light below 9 and vigorous up to 17 from memory).
     pub fn rpe(self) -> (u32, u32) {
         match self {
@@ -258,7 +258,7 @@ mod tests {
 
     #[test]
     fn classes_follow_the_acsm_table() {
-        // ACSM GETP 10th ed. (REFERENCES.md 6.2): light 2.0-2.9 MET, moderate 3.0-5.9,
+        // ACSM GETP 10th ed. (docs/references.md section 6.2): light 2.0-2.9 MET, moderate 3.0-5.9,
         // vigorous >= 6.0; 30-39 / 40-59 / >= 60 %HRR.
         assert_eq!(IntensityClass::of_met(2.9), IntensityClass::Light);
         assert_eq!(IntensityClass::of_met(3.0), IntensityClass::Moderate);
@@ -271,7 +271,7 @@ mod tests {
 
     #[test]
     fn a_class_boundary_survives_a_round_trip_through_the_equations() {
-        // 60% of VO2 reserve is vigorous (ACSM GETP 10th ed., REFERENCES.md 6.2) for
+        // 60% of VO2 reserve is vigorous (ACSM GETP 10th ed., docs/references.md section 6.2) for
         // any peak: to MET by the VO2-reserve equation and back to the fraction.
         let mut below = 0;
         for peak in [15.0, 22.5, 22.547_4, 31.3, 48.0] {

@@ -1,11 +1,11 @@
-//! The participant log: weigh-ins and delivered sessions as CSV (PLAN.md, "The
+//! The participant log: weigh-ins and delivered sessions as CSV (docs/file-formats.md section 3, "The
 //! participant log"), read into a validated [`Log`] and appended to one row at a time.
 //!
 //! One header row `date,kind,mass_kg,body_fat_percent,minutes,compendium_code,met,
 //! avg_hr_bpm,rpe,note` (more columns may follow), then one row per weigh-in or
 //! session in date order, dated from the protocol start through
 //! [`Protocol::end_date`](crate::plan::Protocol::end_date) inclusive. A weigh-in
-//! dated D is the state at 00:00 of day D (MODEL.md 7).
+//! dated D is the state at 00:00 of day D (docs/model.md section 7).
 //!
 //! Limits: mass 30-350 kg and body fat 3-70 % as for the plan; minutes 0-600 (0 is
 //! a missed session recorded on purpose); MET above 1 and at most 25 as for the

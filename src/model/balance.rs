@@ -12,7 +12,7 @@
 //! mass and `r` the resting rate per minute exercise is counted above; the cost is the
 //! same whatever the number of sessions.
 //!
-//! Reference: MODEL.md sections 2, 3 and 5; Forbes GB 1987, Nutr Rev 45:225.
+//! Reference: docs/model.md sections 2, 3 and 5; Forbes GB 1987, Nutr Rev 45:225.
 
 use crate::activity::acsm::ML_O2_PER_MET;
 use crate::model::energy::{

@@ -64,7 +64,7 @@ pub fn lambert_w0(x: f64) -> f64 {
 
 /// The fat mass on the Forbes curve through (`fat_kg`, `lean_kg`) whose body mass is
 /// `mass_kg`: solves `F' + c ln F' = M - (L - c ln F)`, i.e.
-/// `F' = c W0(exp(b / c) / c)` (MODEL.md 7).
+/// `F' = c W0(exp(b / c) / c)` (docs/model.md section 7).
 pub fn forbes_fat_at_mass(fat_kg: f64, lean_kg: f64, mass_kg: f64, forbes_constant_kg: f64) -> f64 {
     let c = forbes_constant_kg;
     let b = mass_kg - (lean_kg - c * fat_kg.ln());

@@ -6,7 +6,7 @@
 //! `TEF = beta EI`, `AE = delta M - c_A X`, `EI = EI0 + diet + c_I Xbar`,
 //! `dXbar/dt = (X - Xbar) / tau_I`, `RMR = k_R RMR_eq(M, L) - a_R max(0, M0 - M)`.
 //!
-//! Reference: MODEL.md sections 2, 3 and 5; Forbes GB 1987, Nutr Rev 45:225.
+//! Reference: docs/model.md sections 2, 3 and 5; Forbes GB 1987, Nutr Rev 45:225.
 
 use crate::activity::Intensity;
 use crate::activity::acsm::{ML_O2_PER_MET, gross_kcal_per_min};
@@ -17,7 +17,7 @@ use serde::Serialize;
 /// Minutes in a day.
 pub const MINUTES_PER_DAY: f64 = 1440.0;
 
-/// Which resting rate exercise energy is counted above (MODEL.md 4).
+/// Which resting rate exercise energy is counted above (docs/model.md section 4).
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
 #[serde(rename_all = "kebab-case")]
 pub enum RestForNet {
@@ -27,7 +27,7 @@ pub enum RestForNet {
     OneMet,
 }
 
-/// The model's constants (MODEL.md; every one a plan may override).
+/// The model's constants (docs/model.md; every one a plan may override).
 #[derive(Debug, Clone, Copy, PartialEq, Serialize)]
 pub struct Constants {
     /// RMR equation.
@@ -78,7 +78,7 @@ pub struct Subject {
     pub pal: Option<f64>,
 }
 
-/// The stated compensation assumptions of one scenario (MODEL.md 5).
+/// The stated compensation assumptions of one scenario (docs/model.md section 5).
 #[derive(Debug, Clone, Copy, PartialEq, Default, Serialize)]
 pub struct Compensation {
     /// `c_I`: share of exercise energy eaten back.
@@ -93,7 +93,7 @@ pub struct Compensation {
     pub diet_change_kcal_per_day: f64,
 }
 
-/// The participant's baseline, calibrated (MODEL.md 3).
+/// The participant's baseline, calibrated (docs/model.md section 3).
 #[derive(Debug, Clone, PartialEq, Serialize)]
 pub struct Baseline {
     /// Body mass, kg.
@@ -221,7 +221,7 @@ pub struct Fluxes {
     pub dlagged: f64,
 }
 
-/// Calibrate the baseline (MODEL.md 3, steps 1-5).
+/// Calibrate the baseline (docs/model.md section 3, steps 1-5).
 pub fn calibrate(
     subject: &Subject,
     constants: &Constants,
@@ -319,7 +319,7 @@ impl Physiology {
     }
 
     /// Relative ("corrected") intensity: the activity's gross cost in multiples of the
-    /// participant's own resting rate (MODEL.md 4).
+    /// participant's own resting rate (docs/model.md section 4).
     pub fn relative_intensity(&self, met: f64, mass_kg: f64, rmr_kcal_per_day: f64) -> f64 {
         gross_kcal_per_min(met, mass_kg) / (rmr_kcal_per_day / MINUTES_PER_DAY)
     }

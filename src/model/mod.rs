@@ -1,6 +1,6 @@
 //! Physiology: RMR equations, body composition and the energy-balance right-hand side.
 //!
-//! Reference: MODEL.md (the project's model specification) and the papers cited in
+//! Reference: docs/model.md (the project's model specification) and the papers cited in
 //! each submodule.
 
 pub mod balance;

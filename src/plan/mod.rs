@@ -1,5 +1,5 @@
 //! Plan files: raw TOML structs that mirror the file, and the validated [`Plan`]
-//! whose types cannot hold a value outside PLAN.md's allowed ranges.
+//! whose types cannot hold a value outside the allowed ranges of docs/file-formats.md section 1.
 
 mod fields;
 mod locate;
@@ -123,7 +123,7 @@ pub struct Screening {
     pub medical_clearance: bool,
 }
 
-/// What happens to a session longer than the maximum (MODEL.md 4).
+/// What happens to a session longer than the maximum (docs/model.md section 4).
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
 #[serde(rename_all = "kebab-case")]
 pub enum OverMax {
@@ -205,7 +205,7 @@ impl DoseAmount {
         }
     }
 
-    /// The allowed range of this kind, both ends included (PLAN.md): what a plan may
+    /// The allowed range of this kind, both ends included (docs/file-formats.md): what a plan may
     /// give and what the goal solver searches.
     pub fn range(&self) -> (f64, f64) {
         match self {
@@ -242,7 +242,7 @@ impl DoseAmount {
 pub enum EnergyBasis {
     /// Gross energy, rest included.
     Gross,
-    /// Net of rest (MODEL.md 4, `rest_for_net`).
+    /// Net of rest (docs/model.md section 4, `rest_for_net`).
     Net,
 }
 
@@ -277,7 +277,7 @@ pub struct Ramp {
 }
 
 impl Ramp {
-    /// `r_w = s + (1 - s)(w - 1)/R` for `w <= R`, else 1 (MODEL.md 4).
+    /// `r_w = s + (1 - s)(w - 1)/R` for `w <= R`, else 1 (docs/model.md section 4).
     pub fn fraction(&self, week: u32) -> f64 {
         if week <= self.weeks {
             self.start_fraction
@@ -463,7 +463,7 @@ impl Compensation {
     }
 }
 
-/// The scenario keys with their allowed ranges and units (PLAN.md).
+/// The scenario keys with their allowed ranges and units (docs/file-formats.md section 1).
 pub const SCENARIO_KEYS: [(&str, f64, f64, &str); 5] = [
     ("intake_fraction", 0.0, 1.5, ""),
     ("intake_lag_days", 0.0, 365.0, " days"),

@@ -1,5 +1,5 @@
 //! The participant rules, written once: the allowed range of every participant field
-//! and what is wrong with a value (PLAN.md, `[participant]`). The plan's validator and
+//! and what is wrong with a value (docs/file-formats.md, `[participant]`). The plan's validator and
 //! the study's roster both call these and place the message themselves (the plan at
 //! its file, line, column and dotted key; the roster at its file, line and column).
 
@@ -38,7 +38,7 @@ pub enum Field {
 }
 
 /// The BMI a participant's mass and height may give, kg/m^2: the bodies the model's
-/// equations are meant for (PLAN.md).
+/// equations are meant for (docs/file-formats.md).
 pub const BMI_RANGE: (f64, f64) = (13.0, 80.0);
 
 /// The sexes a participant may give, by their word.

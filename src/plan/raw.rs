@@ -1,4 +1,4 @@
-#![allow(missing_docs)] // fields are the plan keys, documented in PLAN.md and the README
+#![allow(missing_docs)] // fields are the plan keys, documented in docs/file-formats.md section 1
 //! Raw plan structs: exactly the TOML file, every value with its byte span, unknown
 //! keys refused. Validation into [`crate::plan::Plan`] happens in one place.
 

@@ -1,4 +1,4 @@
-//! Raw plan -> validated [`Plan`]: every range of PLAN.md, every one-of group, every
+//! Raw plan -> validated [`Plan`]: every range of docs/file-formats.md section 1, every one-of group, every
 //! error with file, line, column, key, value and what is allowed.
 
 pub(crate) use super::fields::Cx;

@@ -1,7 +1,7 @@
 //! The cohort report: per arm and scenario the spread of mass and fat-mass change,
 //! dose share, session minutes and the share over the maximum; supervised hours for
 //! staffing. Rendered as a table, a per-participant CSV, or JSON ("Cohort JSON",
-//! PLAN.md).
+//! docs/file-formats.md).
 
 use super::table::{align_numbers, new_table};
 use super::units::Units;

@@ -1,6 +1,6 @@
 //! `compare`: every scenario side by side at the checkpoints, with the projection
 //! band, and optionally a dose-response table. Renders as table, CSV, JSON (keys per
-//! PLAN.md) or Markdown.
+//! docs/file-formats.md) or Markdown.
 
 use crate::model::Compensation;
 use crate::plan::Plan;

@@ -9,7 +9,7 @@ use crate::safety::{ScreeningOutcome, Warning};
 use crate::simulate::fit::FitResult;
 use serde::Serialize;
 
-/// Everything `fit` reports; the fit's own keys sit at the top level (PLAN.md).
+/// Everything `fit` reports; the fit's own keys sit at the top level (docs/file-formats.md section 4.4).
 #[derive(Debug, Clone, PartialEq, Serialize)]
 pub struct FitReport {
     /// Tool and version.

@@ -1,5 +1,5 @@
 //! `goal`: the smallest dose of the plan's kind that reaches a loss by a week, per
-//! scenario, as a table or JSON (keys per PLAN.md).
+//! scenario, as a table or JSON (keys per docs/file-formats.md section 4).
 
 use crate::report::table::{align_numbers, new_table, warnings_text};
 use crate::report::units::Units;

@@ -1,10 +1,10 @@
-//! JSON output, keys per PLAN.md. Every float is rounded to 4 decimals so that the
+//! JSON output, keys per docs/file-formats.md section 4. Every float is rounded to 4 decimals so that the
 //! bytes are stable; no number is ever NaN or infinite.
 
 use serde::Serialize;
 use serde_json::Value;
 
-/// Decimal places kept in JSON numbers (masses keep at least three, PLAN.md).
+/// Decimal places kept in JSON numbers (masses keep at least three, docs/file-formats.md section 4).
 pub const DECIMALS: i32 = 4;
 
 fn round(v: &mut Value) {

@@ -21,7 +21,7 @@ pub const WEEKLY_LOSS_FRACTION: f64 = 0.01;
 pub const UNDERWEIGHT_BMI: f64 = 18.5;
 
 /// Unsupervised intake floors, kcal/day: 1,200 (women) and 1,500 (men) (common
-/// practice; REFERENCES.md 6.4, with the 2013 AHA/ACC/TOS guideline's 1,200-1,500 and
+/// practice; docs/references.md section 6.4, with the 2013 AHA/ACC/TOS guideline's 1,200-1,500 and
 /// 1,500-1,800 kcal/day prescriptions, Jensen et al. 2014, Circulation 129:S102).
 pub fn intake_floor_kcal_per_day(sex: Sex) -> f64 {
     match sex {
@@ -76,7 +76,7 @@ pub struct RiskSubject {
 }
 
 /// The risky-plan signs of one run, as `schedule` warns of them for one plan
-/// (README "Warnings"): the cohort counts the runs that have each.
+/// (docs/warnings.md): the cohort counts the runs that have each.
 #[derive(Debug, Clone, Copy, Default, PartialEq, Eq, Serialize)]
 pub struct RunRisks {
     /// Projected loss above 1% of body mass in some week (`loss-rate-over-1-percent`).

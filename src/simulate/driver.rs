@@ -365,7 +365,7 @@ fn range_error(
     })
 }
 
-/// MODEL.md 6: fat mass below 2 kg, RMR, activity or exercise net energy at or below
+/// docs/model.md section 6: fat mass below 2 kg, RMR, activity or exercise net energy at or below
 /// zero, intake below zero, or any non-finite value is out of range.
 fn check_state(
     plan: &Plan,
@@ -386,7 +386,7 @@ fn check_state(
             body.fat_kg
         ));
     }
-    // The model is calibrated for the bodies a plan may describe (PLAN.md: mass 30 to
+    // The model is calibrated for the bodies a plan may describe (docs/file-formats.md section 1: mass 30 to
     // 350 kg, BMI 13 to 80); below that its equations are far outside their data.
     let m = body.mass_kg();
     let b = crate::model::composition::bmi(m, physiology.height_cm);

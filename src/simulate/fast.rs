@@ -1,6 +1,6 @@
 //! The cohort's allocation-free hot loop: the same model and weekly re-prescription
 //! as [`super::run`] (the same right-hand side, [`crate::model::balance`], and the same
-//! dose rule, [`session_dose`]), with classic RK4 in one-day steps (MODEL.md 6), for the common
+//! dose rule, [`session_dose`]), with classic RK4 in one-day steps (docs/model.md section 6), for the common
 //! plans (one activity whose MET does not depend on mass, no closures, over-maximum
 //! policy `flag` or `cap`). Each week's exercise is summed once into MET-minutes and
 //! minutes, so the right-hand side costs the same whatever the number of sessions.

@@ -1,4 +1,4 @@
-//! Compensation read from the weigh-ins (MODEL.md 7): the scenario parameter that
+//! Compensation read from the weigh-ins (docs/model.md section 7): the scenario parameter that
 //! best explains the measured masses, with an approximate 95% interval.
 //!
 //! The model runs from baseline with the delivered sessions and no re-anchoring;
@@ -145,7 +145,7 @@ fn curve(
                 f.intake - physiology.intake_kcal_per_day - sc.compensation.diet_change_kcal_per_day
             }
             // Activity given up, as the intake that would do the same: extra intake
-            // carries its own TEF, so it takes X c_A / (1 - beta) (MODEL.md 5).
+            // carries its own TEF, so it takes X c_A / (1 - beta) (docs/model.md section 5).
             FitParameter::ActivityFraction => {
                 sc.compensation.activity_fraction * f.exercise / (1.0 - plan.constants.tef_fraction)
             }

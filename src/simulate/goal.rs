@@ -5,7 +5,7 @@
 //! With minute rounding the loss is a staircase in the dose, so the search runs on
 //! the grid of the reported resolution itself: the doses `k * resolution` are
 //! bracketed by the plan's allowed range and bisected on the integer `k` (the loss
-//! is non-decreasing in the dose while `c_I (1 - beta) + c_A < 1`, MODEL.md 5). The
+//! is non-decreasing in the dose while `c_I (1 - beta) + c_A < 1`, docs/model.md section 5). The
 //! answer is then exact for the plan as printed: that dose reaches the goal and the
 //! dose one step lower does not. (A continuous root-finder such as Brent's method
 //! gains nothing on a staircase and still needs the settling step.)

@@ -2,7 +2,7 @@
 //! re-prescribe the minutes, integrate the week, check the model's valid range, and
 //! record what a report needs. Follow-up weeks run with no exercise.
 //!
-//! Reference: MODEL.md sections 4-6.
+//! Reference: docs/model.md sections 4-6.
 
 pub mod adherence;
 pub mod arm_comparison;
@@ -30,11 +30,11 @@ use observed::Observed;
 use prescription::{OverMaxNote, Reference, prescribe};
 use serde::Serialize;
 
-/// Lowest fat mass the model accepts, kg (MODEL.md 6).
+/// Lowest fat mass the model accepts, kg (docs/model.md section 6).
 pub const MIN_FAT_KG: f64 = 2.0;
-/// Lowest body mass the model accepts, kg (the plan's own lower limit, PLAN.md).
+/// Lowest body mass the model accepts, kg (the plan's own lower limit, docs/file-formats.md section 1).
 pub const MIN_MASS_KG: f64 = 30.0;
-/// Lowest BMI the model accepts, kg/m^2 (the plan's own lower limit, PLAN.md).
+/// Lowest BMI the model accepts, kg/m^2 (the plan's own lower limit, docs/file-formats.md section 1).
 pub const MIN_BMI: f64 = 13.0;
 
 /// Whether a week's reference mass was measured or projected.
@@ -237,7 +237,7 @@ pub fn simulate(plan: &Plan) -> Result<Simulation, Error> {
 }
 
 /// Simulate every scenario, re-anchored at the weigh-ins and with the delivered
-/// sessions of `observed` up to its `as_of` date (MODEL.md 7). The no-exercise
+/// sessions of `observed` up to its `as_of` date (docs/model.md section 7). The no-exercise
 /// counterfactual behind `dose_share` is not re-anchored.
 pub fn simulate_observed(plan: &Plan, observed: Option<&Observed>) -> Result<Simulation, Error> {
     let (baseline, physiology) = calibrated(plan)?;

@@ -1,5 +1,5 @@
 //! Measured data as the driver uses it: weigh-ins to re-anchor at and delivered
-//! sessions to replace the planned ones, as days since the start (MODEL.md 7).
+//! sessions to replace the planned ones, as days since the start (docs/model.md section 7).
 
 use crate::activity::Intensity;
 use crate::model::composition::forbes_fat_at_mass;
@@ -58,7 +58,7 @@ impl Observed {
             .filter(move |w| w.day == day && w.day <= self.as_of_day)
     }
 
-    /// Whether a weigh-in falls on `day` or in the 6 days before (MODEL.md 4).
+    /// Whether a weigh-in falls on `day` or in the 6 days before (docs/model.md section 4).
     pub fn measured_near(&self, day: u32) -> bool {
         self.weigh_ins
             .iter()
@@ -73,7 +73,7 @@ impl Observed {
     }
 }
 
-/// Move the state to a measured mass (MODEL.md 7): with a measured body fat,
+/// Move the state to a measured mass (docs/model.md section 7): with a measured body fat,
 /// `F = M %BF / 100`; otherwise along the Forbes curve through the projected state.
 /// The lagged exercise energy and the running integral stay as they were.
 pub fn anchor(y: &State, w: &WeighIn, forbes_constant_kg: f64) -> State {

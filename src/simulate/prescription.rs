@@ -1,5 +1,5 @@
 //! Weekly re-prescription: the week's target energy, the minutes that deliver it at
-//! the reference state, rounding, and the over-maximum policies (MODEL.md 4).
+//! the reference state, rounding, and the over-maximum policies (docs/model.md section 4).
 //!
 //! `d_w = E_w / e_w`, rounded up to the step: `ceil(d/step - 1e-9) * step`.
 

@@ -1,4 +1,4 @@
-#![allow(missing_docs)] // fields are the study keys, documented in the README
+#![allow(missing_docs)] // fields are the study keys, documented in docs/file-formats.md section 2
 //! Raw study structs: exactly the TOML file, every value with its byte span, unknown
 //! keys refused. The shared protocol tables are the plan's own raw structs.
 

@@ -1,7 +1,7 @@
 //! The roster: one CSV row per participant, with the plan's participant keys as
 //! columns (`id, sex, age_years, height_cm, mass_kg` required; `body_fat_percent,
 //! rmr_kcal_per_day, intake_kcal_per_day, pal`, the screening answers and `arm`
-//! optional). Every value is checked against the plan's ranges (PLAN.md), and each
+//! optional). Every value is checked against the plan's ranges (docs/file-formats.md section 1), and each
 //! participant is calibrated, so an error names the row and the column.
 
 use super::Study;

@@ -45,7 +45,7 @@ pub struct Member {
 pub struct CohortRequest {
     /// Every participant in every arm (else each in its allocated arm).
     pub all_arms: bool,
-    /// The integrator (MODEL.md 6).
+    /// The integrator (docs/model.md section 6).
     pub integrator: Integrator,
     /// Checkpoint weeks (end of week N), sorted, distinct.
     pub checkpoints: Vec<u32>,

@@ -15,9 +15,9 @@ mod rk4;
 pub use dopri5::integrate;
 pub use rk4::integrate_rk4;
 
-/// Relative tolerance of [`integrate`] (MODEL.md 6 asks for 1e-8 or tighter).
+/// Relative tolerance of [`integrate`] (docs/model.md section 6 asks for 1e-8 or tighter).
 pub const RTOL: f64 = 1e-10;
-/// Absolute tolerance of [`integrate`] (MODEL.md 6).
+/// Absolute tolerance of [`integrate`] (docs/model.md section 6).
 pub const ATOL: f64 = 1e-10;
 
 /// The integrated state vector.
@@ -80,7 +80,7 @@ pub struct Samples {
     pub states: Vec<State>,
 }
 
-/// Which integrator a run uses (MODEL.md 6): Dormand-Prince 5(4) with tight
+/// Which integrator a run uses (docs/model.md section 6): Dormand-Prince 5(4) with tight
 /// tolerances everywhere results must be exact, or classic fixed-step RK4 with a step
 /// of at most one day where speed matters (the cohort), shown within 1e-4 kg of
 /// Dormand-Prince over 10 years by a test.

@@ -1,4 +1,4 @@
-//! Classic fixed-step RK4 over one stretch of days (MODEL.md 6).
+//! Classic fixed-step RK4 over one stretch of days (docs/model.md section 6).
 
 use super::{Rhs, Samples, State, output_steps};
 use crate::model::{Bout, Compensation, Physiology};
