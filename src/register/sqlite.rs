@@ -282,7 +282,9 @@ impl SqliteStore {
                 .pragma_update(None, "journal_mode", "wal")
                 .map_err(|e| db_error(&store.name, e))?;
         }
-        store.migrate()?;
+        if version < SCHEMA_VERSION {
+            store.migrate()?;
+        }
         Ok(store)
     }
 
