@@ -106,7 +106,10 @@ fn a_new_register_is_owner_only_and_checks_out() {
     assert_eq!(report.application_id, APPLICATION_ID);
     assert_eq!(report.schema_version, SCHEMA_VERSION);
     assert_eq!(report.journal_mode, "wal");
-    assert_eq!((report.participants, report.rows, report.changes), (1, 0, 1));
+    assert_eq!(
+        (report.participants, report.rows, report.changes),
+        (1, 0, 1)
+    );
     drop(store);
     // The header bytes carry the project's id (SQLite file format: bytes 68-71,
     // big-endian) and the schema version (bytes 60-63).
@@ -200,7 +203,10 @@ fn a_read_only_register_is_refused_for_writing_and_nothing_is_written() {
     let err = SqliteStore::open(&path).unwrap_err();
     assert_eq!(err.exit_code(), 2);
     let err = err.to_string();
-    assert!(err.contains("read-only") && err.contains("nothing was written"), "{err}");
+    assert!(
+        err.contains("read-only") && err.contains("nothing was written"),
+        "{err}"
+    );
     assert_eq!(std::fs::read(&path).unwrap(), before);
     assert_eq!(listing(dir.path()), files);
     // Reading still works, and a write through a read-only store fails whole.
@@ -226,7 +232,11 @@ fn corrections_and_voids_keep_the_original_and_the_audit_says_who_when_why() {
         .unwrap()
         .row;
     let second = store
-        .record(CODE, &session(0, 30.0, "first session"), &stamp("trainer-a", 0))
+        .record(
+            CODE,
+            &session(0, 30.0, "first session"),
+            &stamp("trainer-a", 0),
+        )
         .unwrap()
         .row;
     assert_eq!(first.status, Status::Current);
@@ -258,7 +268,11 @@ fn corrections_and_voids_keep_the_original_and_the_audit_says_who_when_why() {
         .row;
     assert_eq!(fixed.supersedes, Some(first.id));
     let voided = store
-        .void(second.id, &stamp("nurse", 2), "recorded for the wrong participant")
+        .void(
+            second.id,
+            &stamp("nurse", 2),
+            "recorded for the wrong participant",
+        )
         .unwrap();
     assert_eq!(voided.row, Some(second.id));
 
@@ -320,7 +334,10 @@ fn corrections_and_voids_keep_the_original_and_the_audit_says_who_when_why() {
         .correct(first.id, &weigh_in(0, 104.5), &stamp("nurse", 3), "again")
         .unwrap_err()
         .to_string();
-    assert!(err.contains(&format!("already corrected by row {}", fixed.id)), "{err}");
+    assert!(
+        err.contains(&format!("already corrected by row {}", fixed.id)),
+        "{err}"
+    );
     let err = store
         .void(second.id, &stamp("nurse", 3), "again")
         .unwrap_err()
@@ -495,7 +512,9 @@ fn rows_recorded_in_any_order_export_as_the_log_that_schedule_reads() {
     let mut want = expected.rows.clone();
     want.sort_by_key(key);
     let strip = |rows: Vec<dosewright::log::LogRow>| -> Vec<_> {
-        rows.into_iter().map(|r| (r.date, r.entry, r.note)).collect()
+        rows.into_iter()
+            .map(|r| (r.date, r.entry, r.note))
+            .collect()
     };
     assert_eq!(strip(got), strip(want));
 
@@ -661,12 +680,7 @@ fn concurrent_writers(writers: usize) {
     let (path, store) = new_register(dir.path(), CODE);
     drop(store);
     let children: Vec<_> = (0..writers)
-        .map(|i| {
-            spawn_child(&format!(
-                "record\t{}\t{CODE}\tw{i}\t{ROWS}",
-                path.display()
-            ))
-        })
+        .map(|i| spawn_child(&format!("record\t{}\t{CODE}\tw{i}\t{ROWS}", path.display())))
         .collect();
     std::thread::sleep(std::time::Duration::from_millis(300));
     let backup = dir.path().join("backup.register");
@@ -706,7 +720,11 @@ fn concurrent_writers(writers: usize) {
     let copied = copy.rows(Some(CODE), Which::All).unwrap();
     assert!(copied.len() <= writers * ROWS);
     for r in &copied {
-        assert!(rows.contains(r), "row {} of the backup is not in the register", r.id);
+        assert!(
+            rows.contains(r),
+            "row {} of the backup is not in the register",
+            r.id
+        );
     }
 }
 
@@ -733,20 +751,60 @@ fn a_writer_killed_during_an_import_leaves_all_or_none_and_a_sound_file() {
         300,
     );
     let full = began.elapsed();
-    assert!(out.status.success(), "{}", String::from_utf8_lossy(&out.stderr));
+    assert!(
+        out.status.success(),
+        "{}",
+        String::from_utf8_lossy(&out.stderr)
+    );
     let store = SqliteStore::open(&path).unwrap();
     assert_eq!(store.rows(None, Which::All).unwrap().len(), BATCH);
     drop(store);
 
-    let mut killed = 0;
-    for (k, fraction) in [0.3, 0.6, 0.9].into_iter().enumerate() {
+    // Kills at fixed fractions of that time, and kills the moment the child is
+    // seen holding the write lock (its import transaction is open: a second
+    // connection's BEGIN IMMEDIATE finds the register busy).
+    let mut in_transaction = 0;
+    let plans: [(&str, f64); 5] = [
+        ("timed", 0.5),
+        ("timed", 0.9),
+        ("in transaction", 0.0),
+        ("in transaction", 0.0),
+        ("in transaction", 0.0),
+    ];
+    for (k, (how, fraction)) in plans.into_iter().enumerate() {
         let (path, store) = new_register(&dir.path().join(format!("k{k}")).tap_mkdir(), CODE);
         drop(store);
         let mut child = spawn_child(&format!("import\t{}\t{CODE}\tb\t{BATCH}", path.display()));
-        std::thread::sleep(full.mul_f64(fraction));
-        if child.try_wait().unwrap().is_none() {
-            child.kill().unwrap(); // SIGKILL
-            killed += 1;
+        if how == "timed" {
+            std::thread::sleep(full.mul_f64(fraction));
+            if child.try_wait().unwrap().is_none() {
+                child.kill().unwrap(); // SIGKILL
+            }
+        } else {
+            let probe = rusqlite::Connection::open(&path).unwrap();
+            probe.busy_timeout(std::time::Duration::ZERO).unwrap();
+            let deadline = Instant::now() + std::time::Duration::from_secs(60);
+            loop {
+                assert!(
+                    Instant::now() < deadline,
+                    "the child never took the write lock"
+                );
+                match probe.execute_batch("BEGIN IMMEDIATE; ROLLBACK;") {
+                    Ok(()) => {
+                        assert!(
+                            child.try_wait().unwrap().is_none(),
+                            "the child finished before it was seen writing"
+                        );
+                        std::thread::sleep(std::time::Duration::from_micros(200));
+                    }
+                    Err(e) if e.sqlite_error_code() == Some(rusqlite::ErrorCode::DatabaseBusy) => {
+                        child.kill().unwrap(); // SIGKILL, the transaction open
+                        in_transaction += 1;
+                        break;
+                    }
+                    Err(e) => panic!("{e}"),
+                }
+            }
         }
         let status = child.wait().unwrap();
         let store = SqliteStore::open(&path).unwrap();
@@ -755,9 +813,9 @@ fn a_writer_killed_during_an_import_leaves_all_or_none_and_a_sound_file() {
         let n = store.rows(None, Which::All).unwrap().len();
         assert!(
             n == 0 || n == BATCH,
-            "{n} of {BATCH} rows after a kill at {fraction} ({status})"
+            "{n} of {BATCH} rows after a kill ({how} {fraction}, {status})"
         );
-        eprintln!("kill at {fraction} of {full:?}: {n} of {BATCH} rows ({status})");
+        eprintln!("kill {how} {fraction} of {full:?}: {n} of {BATCH} rows ({status})");
         let imports = store
             .audit(None)
             .unwrap()
@@ -766,7 +824,7 @@ fn a_writer_killed_during_an_import_leaves_all_or_none_and_a_sound_file() {
             .count();
         assert_eq!(imports, n);
     }
-    assert!(killed > 0, "no child was still running when killed");
+    assert_eq!(in_transaction, 3);
 }
 
 trait TapMkdir {
