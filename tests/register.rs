@@ -903,4 +903,24 @@ fn speed_of_one_weigh_in_in_a_full_register() {
         "open, record one weigh-in among 50,000 rows, close: {:?}",
         began.elapsed()
     );
+    let mut store = SqliteStore::open(&path).unwrap();
+    let began = Instant::now();
+    store
+        .record("SITE1-101", &weigh_in(251, 100.0), &s)
+        .unwrap();
+    eprintln!("record alone: {:?}", began.elapsed());
+    let began = Instant::now();
+    participant_log(&store, "SITE1-102", None).unwrap();
+    eprintln!("read a participant's plan and log: {:?}", began.elapsed());
+    let text = plan_text("SITE1-102");
+    let began = Instant::now();
+    let plan = dosewright::plan::parse_plan("p.toml", &text).unwrap();
+    eprintln!("of which parse the plan: {:?}", began.elapsed());
+    let rows = store.rows(Some("SITE1-102"), Which::Current).unwrap();
+    let began = Instant::now();
+    let log = log_csv(&rows).unwrap();
+    eprintln!("of which render {} rows: {:?}", rows.len(), began.elapsed());
+    let began = Instant::now();
+    dosewright::log::parse_log("x", &log, &plan, None).unwrap();
+    eprintln!("of which parse the log: {:?}", began.elapsed());
 }
