@@ -121,6 +121,9 @@ fn a_new_register_is_owner_only_and_checks_out() {
     );
     // Reopened, it holds the participant.
     let store = SqliteStore::open(&path).unwrap();
+    let all = store.participants().unwrap();
+    assert_eq!(all.len(), 1);
+    assert_eq!(all[0].code, CODE);
     let p = store.participant(CODE).unwrap();
     assert_eq!(p.arm.as_deref(), Some("exercise"));
     assert_eq!(p.plan_text, plan_text(CODE));

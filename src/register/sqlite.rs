@@ -244,6 +244,9 @@ impl SqliteStore {
         self.conn
             .busy_timeout(BUSY_TIMEOUT)
             .and_then(|_| self.conn.pragma_update(None, "foreign_keys", true))
+            // Each commit reaches the disk before "recorded" is said (WAL's own
+            // default would let a power cut lose the last commits).
+            .and_then(|_| self.conn.pragma_update(None, "synchronous", "FULL"))
             .map_err(|e| db_error(&self.name, e))
     }
 
