@@ -927,3 +927,24 @@ fn speed_of_one_weigh_in_in_a_full_register() {
     dosewright::log::parse_log("x", &log, &plan, None).unwrap();
     eprintln!("of which parse the log: {:?}", began.elapsed());
 }
+
+#[test]
+fn a_register_of_an_older_schema_is_migrated_forward_on_open() {
+    // Version 0: the project's application id and no tables yet (as `create`
+    // leaves a file before its first migration).
+    let dir = tempfile::tempdir().unwrap();
+    let path = dir.path().join("old.register");
+    {
+        let c = rusqlite::Connection::open(&path).unwrap();
+        c.pragma_update(None, "application_id", APPLICATION_ID)
+            .unwrap();
+        c.execute_batch("CREATE TABLE scratch (x); DROP TABLE scratch;")
+            .unwrap();
+    }
+    let err = SqliteStore::open_read_only(&path).unwrap_err().to_string();
+    assert!(err.contains("schema version 0"), "{err}");
+    let store = SqliteStore::open(&path).unwrap();
+    let report = store.check().unwrap();
+    assert!(report.ok(), "{report:?}");
+    assert_eq!(report.schema_version, SCHEMA_VERSION);
+}
