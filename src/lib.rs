@@ -19,6 +19,7 @@ pub mod log;
 pub mod model;
 pub mod output;
 pub mod plan;
+pub mod register;
 pub mod report;
 pub mod safety;
 pub mod simulate;

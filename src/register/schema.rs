@@ -1,0 +1,112 @@
+//! The register's schema as forward-only migrations: script `i` (0-based) takes a
+//! register from version `i` to version `i + 1` (`PRAGMA user_version`). A script
+//! once shipped is never edited; a change of schema is a new script at the end.
+
+/// `PRAGMA application_id` of every register: the bytes "DWRG" (dosewright
+/// register), so a register is told from any other SQLite file by its header.
+pub const APPLICATION_ID: i32 = i32::from_be_bytes(*b"DWRG");
+
+/// The migrations, oldest first; the schema version is their count.
+pub(super) const MIGRATIONS: &[&str] = &[V1];
+
+/// The newest schema version this program knows.
+pub const SCHEMA_VERSION: i64 = MIGRATIONS.len() as i64;
+
+/// Version 1: participants, entries (one stable id space for every measured row)
+/// with their weigh-in and session values, and the changes (the audit trail).
+/// Triggers refuse every DELETE and every UPDATE of a recorded value.
+const V1: &str = r#"
+CREATE TABLE participants (
+    id          INTEGER PRIMARY KEY,
+    code        TEXT NOT NULL UNIQUE CHECK (length(trim(code)) > 0),
+    arm         TEXT,
+    plan_name   TEXT NOT NULL,
+    plan_text   TEXT NOT NULL,
+    enrolled_at TEXT NOT NULL,
+    enrolled_by TEXT NOT NULL CHECK (length(trim(enrolled_by)) > 0)
+);
+
+CREATE TABLE changes (
+    id             INTEGER PRIMARY KEY,
+    at             TEXT NOT NULL,
+    by             TEXT NOT NULL CHECK (length(trim(by)) > 0),
+    action         TEXT NOT NULL
+                   CHECK (action IN ('enrol', 'record', 'import', 'correct', 'void')),
+    participant_id INTEGER NOT NULL REFERENCES participants (id),
+    entry_id       INTEGER REFERENCES entries (id),
+    old_values     TEXT,
+    new_values     TEXT,
+    reason         TEXT,
+    CHECK (action NOT IN ('correct', 'void') OR length(trim(coalesce(reason, ''))) > 0)
+);
+
+CREATE TABLE entries (
+    id             INTEGER PRIMARY KEY,
+    participant_id INTEGER NOT NULL REFERENCES participants (id),
+    kind           TEXT NOT NULL CHECK (kind IN ('weigh-in', 'session')),
+    date           TEXT NOT NULL,
+    note           TEXT NOT NULL DEFAULT '',
+    recorded_at    TEXT NOT NULL,
+    recorded_by    TEXT NOT NULL CHECK (length(trim(recorded_by)) > 0),
+    supersedes     INTEGER UNIQUE REFERENCES entries (id),
+    superseded_by  INTEGER UNIQUE REFERENCES entries (id),
+    voided_by      INTEGER UNIQUE REFERENCES changes (id)
+);
+CREATE INDEX entries_by_participant ON entries (participant_id, date, id);
+CREATE INDEX changes_by_participant ON changes (participant_id, id);
+
+CREATE TABLE weigh_ins (
+    entry_id         INTEGER PRIMARY KEY REFERENCES entries (id),
+    mass_kg          REAL NOT NULL,
+    body_fat_percent REAL,
+    body_fat_method  TEXT
+);
+
+CREATE TABLE sessions (
+    entry_id        INTEGER PRIMARY KEY REFERENCES entries (id),
+    minutes         REAL NOT NULL,
+    compendium_code TEXT,
+    met             REAL,
+    watts           REAL,
+    speed_kmh       REAL,
+    avg_hr_bpm      REAL,
+    rpe             REAL
+);
+
+CREATE TRIGGER participants_keep BEFORE DELETE ON participants
+BEGIN SELECT RAISE(ABORT, 'the register keeps every row: a participant cannot be deleted'); END;
+CREATE TRIGGER participants_fixed BEFORE UPDATE ON participants
+BEGIN SELECT RAISE(ABORT, 'the register keeps every row: an enrolment cannot be changed'); END;
+
+CREATE TRIGGER changes_keep BEFORE DELETE ON changes
+BEGIN SELECT RAISE(ABORT, 'the register keeps every row: the audit trail cannot be deleted'); END;
+CREATE TRIGGER changes_fixed BEFORE UPDATE ON changes
+BEGIN SELECT RAISE(ABORT, 'the register keeps every row: the audit trail cannot be changed'); END;
+
+CREATE TRIGGER entries_keep BEFORE DELETE ON entries
+BEGIN SELECT RAISE(ABORT, 'the register keeps every row: void or correct it instead of deleting'); END;
+-- Only the marks superseded_by and voided_by may be set, each once, from empty; a
+-- row already superseded or voided is frozen.
+CREATE TRIGGER entries_fixed BEFORE UPDATE ON entries
+WHEN NEW.id IS NOT OLD.id
+  OR NEW.participant_id IS NOT OLD.participant_id
+  OR NEW.kind IS NOT OLD.kind
+  OR NEW.date IS NOT OLD.date
+  OR NEW.note IS NOT OLD.note
+  OR NEW.recorded_at IS NOT OLD.recorded_at
+  OR NEW.recorded_by IS NOT OLD.recorded_by
+  OR NEW.supersedes IS NOT OLD.supersedes
+  OR OLD.superseded_by IS NOT NULL
+  OR OLD.voided_by IS NOT NULL
+BEGIN SELECT RAISE(ABORT, 'the register keeps every row: a recorded value cannot be changed; correct the row instead'); END;
+
+CREATE TRIGGER weigh_ins_keep BEFORE DELETE ON weigh_ins
+BEGIN SELECT RAISE(ABORT, 'the register keeps every row: void or correct it instead of deleting'); END;
+CREATE TRIGGER weigh_ins_fixed BEFORE UPDATE ON weigh_ins
+BEGIN SELECT RAISE(ABORT, 'the register keeps every row: a recorded value cannot be changed; correct the row instead'); END;
+
+CREATE TRIGGER sessions_keep BEFORE DELETE ON sessions
+BEGIN SELECT RAISE(ABORT, 'the register keeps every row: void or correct it instead of deleting'); END;
+CREATE TRIGGER sessions_fixed BEFORE UPDATE ON sessions
+BEGIN SELECT RAISE(ABORT, 'the register keeps every row: a recorded value cannot be changed; correct the row instead'); END;
+"#;
