@@ -17,6 +17,7 @@ pub mod error;
 pub mod files;
 pub mod log;
 pub mod model;
+pub mod pilot;
 pub mod plan;
 pub mod register;
 pub mod report;

@@ -1,0 +1,141 @@
+//! The pilot's estimates as `[[scenario]]` values of a study file, so that
+//! `cohort --draws` for the next trial runs on what the pilot measured.
+//!
+//! One scenario per exercise arm. Each value is a normal with the arm's mean and
+//! its between-participant SD (measurement error removed), truncated to the key's
+//! allowed range; a fixed value when the spread is 0 or cannot be estimated; a
+//! uniform over the range when the spread is so wide that the truncation would
+//! keep too little of the normal. Without a TEE, intake cannot be told from the
+//! rest: the whole gap is then written as an effective `intake_fraction`
+//! (`(1 - share) / (1 - beta)`), and the block says so.
+
+use super::arm::{PilotAnalysis, TermSummary};
+use super::Term;
+use crate::plan::scenario_range;
+use crate::study::dist::{Dist, MIN_NORMAL_MASS};
+
+fn num(x: f64) -> String {
+    let s = format!("{x:.4}");
+    let s = s.trim_end_matches('0').trim_end_matches('.');
+    if s == "-0" { "0".to_string() } else { s.to_string() }
+}
+
+/// One key's value as study-file text, with a comment line about it.
+fn value(key: &str, mean: f64, sd: Option<f64>, what: &str) -> (String, String) {
+    let (lo, hi, _) = scenario_range(key);
+    let m = mean.clamp(lo, hi);
+    let mut note = format!("{key}: {what}; mean {}", num(mean));
+    if m != mean {
+        note.push_str(&format!(
+            " held to the allowed {} to {}",
+            num(lo),
+            num(hi)
+        ));
+    }
+    let text = match sd {
+        Some(sd) if sd > 0.0 => {
+            let d = Dist::Normal {
+                mean: m,
+                sd,
+                min: lo,
+                max: hi,
+            };
+            note.push_str(&format!(", between-participant SD {}", num(sd)));
+            if d.kept_mass() < MIN_NORMAL_MASS * 1.2 {
+                note.push_str(" -- too wide for a truncated normal: uniform over the range");
+                format!("{{ dist = \"uniform\", min = {}, max = {} }}", num(lo), num(hi))
+            } else {
+                format!(
+                    "{{ dist = \"normal\", mean = {}, sd = {}, min = {}, max = {} }}",
+                    num(m),
+                    num(sd),
+                    num(lo),
+                    num(hi)
+                )
+            }
+        }
+        _ => {
+            note.push_str(", no spread estimated: fixed");
+            num(m)
+        }
+    };
+    (format!("{key} = {text}"), note)
+}
+
+fn spread(s: &TermSummary) -> Option<f64> {
+    s.between_sd
+}
+
+/// The `[[scenario]]` tables for every exercise arm of `analysis`, with comment
+/// lines naming where each value came from. `pilot` names the pilot in the
+/// scenario names.
+pub fn scenario_block(analysis: &PilotAnalysis, pilot: &str) -> String {
+    let beta = analysis.tef_fraction;
+    let mut out = format!(
+        "# Scenario values measured in the pilot \"{pilot}\": per exercise arm, each term's\n\
+         # mean and between-participant SD (measurement error removed), truncated to the\n\
+         # allowed range. Written by the pilot analysis (docs/pilot-analysis.md).\n"
+    );
+    for arm in analysis.arms.iter().filter(|a| !a.control) {
+        let mut lines = Vec::new();
+        let mut notes = vec![format!("arm \"{}\", {} participant(s)", arm.arm, arm.n)];
+        if let Some(s) = arm.term(Term::IntakeFraction) {
+            let (l, n) = value("intake_fraction", s.mean, spread(s), "from TEE (intake balance)");
+            lines.push(l);
+            notes.push(n);
+        } else if let Some(s) = arm.term(Term::Share) {
+            let (l, n) = value(
+                "intake_fraction",
+                (1.0 - s.mean) / (1.0 - beta),
+                spread(s).map(|x| x / (1.0 - beta)),
+                "EFFECTIVE: the whole gap as intake (no TEE, so intake, resting metabolism and other movement cannot be told apart)",
+            );
+            lines.push(l);
+            notes.push(n);
+        }
+        if let Some(s) = arm.term(Term::ActivityFraction) {
+            let (l, n) = value("activity_fraction", s.mean, spread(s), "from the rest of the gap");
+            lines.push(l);
+            notes.push(n);
+        }
+        if let Some(s) = arm.term(Term::RmrAdaptationPerKg) {
+            let (l, n) = value(
+                "rmr_adaptation_kcal_per_kg",
+                s.mean,
+                spread(s),
+                "from measured RMR against the equation",
+            );
+            lines.push(l);
+            notes.push(n);
+        }
+        out.push('\n');
+        for n in notes {
+            out.push_str(&format!("# {n}\n"));
+        }
+        out.push_str("[[scenario]]\n");
+        out.push_str(&format!(
+            "name = {}\n",
+            toml_string(&format!("pilot {pilot}: {}", arm.arm))
+        ));
+        for l in lines {
+            out.push_str(&l);
+            out.push('\n');
+        }
+    }
+    out
+}
+
+/// A TOML basic string.
+fn toml_string(s: &str) -> String {
+    let mut out = String::from("\"");
+    for ch in s.chars() {
+        match ch {
+            '"' => out.push_str("\\\""),
+            '\\' => out.push_str("\\\\"),
+            c if c.is_control() => out.push(' '),
+            c => out.push(c),
+        }
+    }
+    out.push('"');
+    out
+}
