@@ -22,6 +22,7 @@
 //! effect deducted) `+ (RMR0 - mean RMR)` (resting) `+ (AE0 - mean AE)` (the rest).
 
 pub mod arm;
+pub mod import;
 mod lin;
 pub mod precision;
 pub mod report;
@@ -363,85 +364,7 @@ pub fn check(p: &PilotParticipant) -> Result<Vec<Warning>, Error> {
         ));
     }
     for (k, v) in p.visits.iter().enumerate() {
-        for (key, x, lo, hi) in [
-            ("fat_kg", v.fat_kg, 1.0, 300.0),
-            ("fat_free_kg", v.fat_free_kg, 15.0, 250.0),
-        ] {
-            if !x.is_finite() || x > 500.0 {
-                return Err(input_error(
-                    &v.at,
-                    key,
-                    format!(
-                        "participant {who}, visit of {}: {x} looks like grams, not kg; give kilograms (e.g. {:.1})",
-                        v.date,
-                        x / 1000.0
-                    ),
-                ));
-            }
-            if !(lo..=hi).contains(&x) {
-                return Err(input_error(
-                    &v.at,
-                    key,
-                    format!(
-                        "participant {who}, visit of {}: {x} kg is out of range; allowed {lo} to {hi} kg",
-                        v.date
-                    ),
-                ));
-            }
-        }
-        for (key, sd) in [("fat_sd_kg", v.fat_sd_kg), ("fat_free_sd_kg", v.fat_free_sd_kg)] {
-            if let Some(sd) = sd
-                && !(sd.is_finite() && (0.0..=10.0).contains(&sd))
-            {
-                return Err(input_error(
-                    &v.at,
-                    key,
-                    format!(
-                        "participant {who}, visit of {}: precision {sd} kg is out of range; allowed 0 to 10 kg",
-                        v.date
-                    ),
-                ));
-            }
-        }
-        if let Some(w) = v.weighed_kg {
-            if !w.is_finite() || w > 500.0 {
-                return Err(input_error(
-                    &v.at,
-                    "mass_kg",
-                    format!(
-                        "participant {who}, visit of {}: {w} looks like grams, not kg; give kilograms",
-                        v.date
-                    ),
-                ));
-            }
-            let diff = v.fat_kg + v.fat_free_kg - w;
-            if diff.abs() > MASS_REFUSE_KG {
-                return Err(input_error(
-                    &v.at,
-                    "mass_kg",
-                    format!(
-                        "participant {who}, visit of {}: fat {} + fat-free {} = {:.1} kg is {:.1} kg from the weighed {w} kg; allowed within {MASS_REFUSE_KG} kg (check the units and columns)",
-                        v.date,
-                        v.fat_kg,
-                        v.fat_free_kg,
-                        v.fat_kg + v.fat_free_kg,
-                        diff.abs()
-                    ),
-                ));
-            }
-            if diff.abs() > MASS_WARN_KG {
-                warnings.push(warn(
-                    "pilot-mass-mismatch",
-                    format!(
-                        "{}: participant {who}, visit of {}: fat + fat-free = {:.1} kg differs from the weighed {w} kg by {:.1} kg (more than {MASS_WARN_KG} kg)",
-                        place(&v.at),
-                        v.date,
-                        v.fat_kg + v.fat_free_kg,
-                        diff.abs()
-                    ),
-                ));
-            }
-        }
+        warnings.extend(check_visit(who, v)?);
         if k > 0 && v.date <= p.visits[k - 1].date {
             return Err(input_error(
                 &v.at,
@@ -467,67 +390,12 @@ pub fn check(p: &PilotParticipant) -> Result<Vec<Warning>, Error> {
         }
     }
     for r in &p.rmr {
-        let x = r.kcal_per_day;
-        if x.is_finite() && x > 0.0 && x < 30.0 {
-            return Err(input_error(
-                &r.at,
-                "rmr_kcal_per_day",
-                format!(
-                    "participant {who}, RMR of {}: {x} looks like MJ/day; give kcal/day ({x} MJ = {:.0} kcal)",
-                    r.date,
-                    x * KCAL_PER_MJ
-                ),
-            ));
-        }
-        if !(x.is_finite() && (500.0..=5000.0).contains(&x)) {
-            return Err(input_error(
-                &r.at,
-                "rmr_kcal_per_day",
-                format!(
-                    "participant {who}, RMR of {}: {x} kcal/day is out of range; allowed 500 to 5000",
-                    r.date
-                ),
-            ));
-        }
-        check_sd(&r.at, who, "rmr_sd", r.sd, 500.0)?;
+        check_rmr(who, r)?;
     }
     let first = p.visits[0].date;
     let last = p.visits[p.visits.len() - 1].date;
     for t in &p.tee {
-        let x = t.kcal_per_day;
-        if x.is_finite() && x > 0.0 && x < 40.0 {
-            return Err(input_error(
-                &t.at,
-                "tee_kcal_per_day",
-                format!(
-                    "participant {who}, TEE {} to {}: {x} looks like MJ/day; give kcal/day ({x} MJ = {:.0} kcal)",
-                    t.first,
-                    t.last,
-                    x * KCAL_PER_MJ
-                ),
-            ));
-        }
-        if !(x.is_finite() && (800.0..=8000.0).contains(&x)) {
-            return Err(input_error(
-                &t.at,
-                "tee_kcal_per_day",
-                format!(
-                    "participant {who}, TEE {} to {}: {x} kcal/day is out of range; allowed 800 to 8000",
-                    t.first, t.last
-                ),
-            ));
-        }
-        check_sd(&t.at, who, "tee_sd", t.sd, 1500.0)?;
-        if t.last < t.first {
-            return Err(input_error(
-                &t.at,
-                "last",
-                format!(
-                    "participant {who}: TEE period ends ({}) before it begins ({})",
-                    t.last, t.first
-                ),
-            ));
-        }
+        check_tee(who, t)?;
         let (s, e) = t.span();
         let baseline = e <= first;
         if !baseline && (s < first || e > last) {
@@ -579,6 +447,160 @@ pub fn check(p: &PilotParticipant) -> Result<Vec<Warning>, Error> {
         }
     }
     Ok(warnings)
+}
+
+
+/// Check one visit's values: kg not grams, ranges, precision, and fat plus
+/// fat-free mass against the weighed mass.
+pub fn check_visit(who: &str, v: &Visit) -> Result<Vec<Warning>, Error> {
+    let mut warnings = Vec::new();
+    for (key, x, lo, hi) in [
+        ("fat_kg", v.fat_kg, 1.0, 300.0),
+        ("fat_free_kg", v.fat_free_kg, 15.0, 250.0),
+    ] {
+        if !x.is_finite() || x > 500.0 {
+            return Err(input_error(
+                &v.at,
+                key,
+                format!(
+                    "participant {who}, visit of {}: {x} looks like grams, not kg; give kilograms (e.g. {:.1})",
+                    v.date,
+                    x / 1000.0
+                ),
+            ));
+        }
+        if !(lo..=hi).contains(&x) {
+            return Err(input_error(
+                &v.at,
+                key,
+                format!(
+                    "participant {who}, visit of {}: {x} kg is out of range; allowed {lo} to {hi} kg",
+                    v.date
+                ),
+            ));
+        }
+    }
+    for (key, sd) in [("fat_sd_kg", v.fat_sd_kg), ("fat_free_sd_kg", v.fat_free_sd_kg)] {
+        if let Some(sd) = sd
+            && !(sd.is_finite() && (0.0..=10.0).contains(&sd))
+        {
+            return Err(input_error(
+                &v.at,
+                key,
+                format!(
+                    "participant {who}, visit of {}: precision {sd} kg is out of range; allowed 0 to 10 kg",
+                    v.date
+                ),
+            ));
+        }
+    }
+    if let Some(w) = v.weighed_kg {
+        if !w.is_finite() || w > 500.0 {
+            return Err(input_error(
+                &v.at,
+                "mass_kg",
+                format!(
+                    "participant {who}, visit of {}: {w} looks like grams, not kg; give kilograms",
+                    v.date
+                ),
+            ));
+        }
+        let diff = v.fat_kg + v.fat_free_kg - w;
+        if diff.abs() > MASS_REFUSE_KG {
+            return Err(input_error(
+                &v.at,
+                "mass_kg",
+                format!(
+                    "participant {who}, visit of {}: fat {} + fat-free {} = {:.1} kg is {:.1} kg from the weighed {w} kg; allowed within {MASS_REFUSE_KG} kg (check the units and columns)",
+                    v.date,
+                    v.fat_kg,
+                    v.fat_free_kg,
+                    v.fat_kg + v.fat_free_kg,
+                    diff.abs()
+                ),
+            ));
+        }
+        if diff.abs() > MASS_WARN_KG {
+            warnings.push(warn(
+                "pilot-mass-mismatch",
+                format!(
+                    "{}: participant {who}, visit of {}: fat + fat-free = {:.1} kg differs from the weighed {w} kg by {:.1} kg (more than {MASS_WARN_KG} kg)",
+                    place(&v.at),
+                    v.date,
+                    v.fat_kg + v.fat_free_kg,
+                    diff.abs()
+                ),
+            ));
+        }
+    }
+    Ok(warnings)
+}
+
+/// Check one RMR's values: kcal/day not MJ/day, range, precision.
+pub fn check_rmr(who: &str, r: &RmrMeasure) -> Result<(), Error> {
+    let x = r.kcal_per_day;
+    if x.is_finite() && x > 0.0 && x < 30.0 {
+        return Err(input_error(
+            &r.at,
+            "rmr_kcal_per_day",
+            format!(
+                "participant {who}, RMR of {}: {x} looks like MJ/day; give kcal/day ({x} MJ = {:.0} kcal)",
+                r.date,
+                x * KCAL_PER_MJ
+            ),
+        ));
+    }
+    if !(x.is_finite() && (500.0..=5000.0).contains(&x)) {
+        return Err(input_error(
+            &r.at,
+            "rmr_kcal_per_day",
+            format!(
+                "participant {who}, RMR of {}: {x} kcal/day is out of range; allowed 500 to 5000",
+                r.date
+            ),
+        ));
+    }
+    check_sd(&r.at, who, "rmr_sd", r.sd, 500.0)?;
+    Ok(())
+}
+
+/// Check one TEE's values: kcal/day not MJ/day, range, precision, period order.
+pub fn check_tee(who: &str, t: &TeeMeasure) -> Result<(), Error> {
+    let x = t.kcal_per_day;
+    if x.is_finite() && x > 0.0 && x < 40.0 {
+        return Err(input_error(
+            &t.at,
+            "tee_kcal_per_day",
+            format!(
+                "participant {who}, TEE {} to {}: {x} looks like MJ/day; give kcal/day ({x} MJ = {:.0} kcal)",
+                t.first,
+                t.last,
+                x * KCAL_PER_MJ
+            ),
+        ));
+    }
+    if !(x.is_finite() && (800.0..=8000.0).contains(&x)) {
+        return Err(input_error(
+            &t.at,
+            "tee_kcal_per_day",
+            format!(
+                "participant {who}, TEE {} to {}: {x} kcal/day is out of range; allowed 800 to 8000",
+                t.first, t.last
+            ),
+        ));
+    }
+    check_sd(&t.at, who, "tee_sd", t.sd, 1500.0)?;
+    if t.last < t.first {
+        return Err(input_error(
+            &t.at,
+            "last",
+            format!(
+                "participant {who}: TEE period ends ({}) before it begins ({})",
+                t.last, t.first
+            ),
+        ));
+    }
+    Ok(())
 }
 
 /// kcal in one MJ (1 kcal = 4.184 kJ, the thermochemical calorie).
