@@ -22,6 +22,7 @@
 //! effect deducted) `+ (RMR0 - mean RMR)` (resting) `+ (AE0 - mean AE)` (the rest).
 
 pub mod arm;
+pub mod gather;
 pub mod import;
 mod lin;
 pub mod precision;
