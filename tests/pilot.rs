@@ -391,3 +391,87 @@ fn intervals_cover_the_truth_in_repeated_synthetic_pilots() {
         assert!(share(sd_hits[k]) >= 0.9, "{}", report.join("; "));
     }
 }
+
+/// The scenario block written from a synthetic pilot is accepted by the study
+/// loader, and a cohort run on it (`cohort --draws`, the project's Monte Carlo
+/// machinery) reproduces the pilot's mean achieved share within its interval.
+#[test]
+fn a_cohort_on_the_written_scenarios_reproduces_the_pilot_share() {
+    use dosewright::pilot::scenario::scenario_block;
+    use dosewright::simulate::cohort::{CohortRequest, Member, run_cohort};
+    use dosewright::simulate::integrate::Integrator;
+    let means = Truth {
+        intake_fraction: 0.3,
+        activity_fraction: 0.1,
+        rmr_adaptation: 10.0,
+    };
+    let sds = Truth {
+        intake_fraction: 0.15,
+        activity_fraction: 0.08,
+        rmr_adaptation: 5.0,
+    };
+    let ps = synthetic_pilot(77, 16, means, sds);
+    let a = analyse(&ps, &Constants::default()).unwrap();
+    let share = a.arms[0].term(Term::Share).unwrap();
+    let (lo, hi) = share.mean_interval.unwrap();
+    let block = scenario_block(&a, "synthetic");
+    // The next study: the pilot's protocol (12 weeks, 5 sessions of 60 minutes at
+    // 6.5 MET, no ramp) and population.
+    let study_text = format!(
+        r#"[study]
+name = "next trial"
+
+[protocol]
+start = 2027-01-04
+weeks = 12
+session_days = ["mon", "tue", "wed", "thu", "fri"]
+max_session_minutes = 90
+
+[activity]
+met = 6.5
+
+[[arm]]
+name = "exercise"
+dose = {{ minutes_per_week = 300 }}
+
+{block}
+[synthetic]
+female_fraction = 0.5
+age_years = {{ dist = "normal", mean = 45, sd = 8, min = 25, max = 65 }}
+height_cm_female = 164
+height_cm_male = 178
+bmi = {{ dist = "normal", mean = 32, sd = 2.5, min = 27, max = 38 }}
+pal = 1.6
+"#
+    );
+    let study = dosewright::study::parse_study("next.toml", &study_text)
+        .unwrap_or_else(|e| panic!("{e}\n{study_text}"));
+    let people = dosewright::study::synthetic::draw(&study, 40, 11).unwrap();
+    let members: Vec<Member> = people
+        .into_iter()
+        .map(|participant| Member {
+            participant,
+            arm: Some(0),
+        })
+        .collect();
+    let req = CohortRequest {
+        all_arms: false,
+        integrator: Integrator::Rk4,
+        checkpoints: vec![],
+        draws: 10,
+        seed: 5,
+    };
+    let runs = run_cohort(&study, &members, &req, &|| {}).unwrap();
+    let shares: Vec<f64> = runs
+        .members
+        .iter()
+        .flat_map(|m| m.runs.iter().filter_map(|r| r.dose_share))
+        .collect();
+    let mean = shares.iter().sum::<f64>() / shares.len() as f64;
+    eprintln!(
+        "pilot share {:.3} ({lo:.3} to {hi:.3}); cohort on the written scenario {mean:.3} over {} runs",
+        share.mean,
+        shares.len()
+    );
+    assert!(lo <= mean && mean <= hi, "cohort {mean} outside the pilot's {lo}..{hi}");
+}

@@ -12,7 +12,7 @@
 use super::arm::{PilotAnalysis, TermSummary};
 use super::Term;
 use crate::plan::scenario_range;
-use crate::study::dist::{Dist, MIN_NORMAL_MASS};
+use crate::study::dist::{Dist, MIN_NORMAL_MASS, normal_cdf};
 
 fn num(x: f64) -> String {
     let s = format!("{x:.4}");
@@ -32,34 +32,87 @@ fn value(key: &str, mean: f64, sd: Option<f64>, what: &str) -> (String, String) 
             num(hi)
         ));
     }
-    let text = match sd {
-        Some(sd) if sd > 0.0 => {
-            let d = Dist::Normal {
-                mean: m,
-                sd,
-                min: lo,
-                max: hi,
-            };
-            note.push_str(&format!(", between-participant SD {}", num(sd)));
-            if d.kept_mass() < MIN_NORMAL_MASS * 1.2 {
-                note.push_str(" -- too wide for a truncated normal: uniform over the range");
-                format!("{{ dist = \"uniform\", min = {}, max = {} }}", num(lo), num(hi))
-            } else {
+    let text = match sd.filter(|sd| *sd > 0.0) {
+        Some(sd) => match truncated_with_mean(m, sd, lo, hi) {
+            Some((mu, s)) => {
+                note.push_str(&format!(", between-participant SD {}", num(sd)));
+                if s < sd {
+                    note.push_str(&format!(
+                        " (narrowed to {} so that the truncated normal keeps the mean)",
+                        num(s)
+                    ));
+                }
+                if (mu - m).abs() > 1e-9 {
+                    note.push_str(&format!(
+                        "; the normal's own mean {} gives the truncated mean {}",
+                        num(mu),
+                        num(m)
+                    ));
+                }
                 format!(
                     "{{ dist = \"normal\", mean = {}, sd = {}, min = {}, max = {} }}",
-                    num(m),
-                    num(sd),
+                    num(mu),
+                    num(s),
                     num(lo),
                     num(hi)
                 )
             }
-        }
-        _ => {
+            None => {
+                note.push_str(", spread too wide for the range: fixed at the mean");
+                num(m)
+            }
+        },
+        None => {
             note.push_str(", no spread estimated: fixed");
             num(m)
         }
     };
     (format!("{key} = {text}"), note)
+}
+
+/// Mean of a normal(`mu`, `sd`) truncated to `[lo, hi]`:
+/// `mu + sd (phi(a) - phi(b)) / (Phi(b) - Phi(a))`, `a = (lo - mu) / sd`,
+/// `b = (hi - mu) / sd` (Johnson NL, Kotz S, Balakrishnan N 1994, Continuous
+/// Univariate Distributions vol. 1, 2nd ed., section 10.1).
+pub fn truncated_mean(mu: f64, sd: f64, lo: f64, hi: f64) -> f64 {
+    let phi = |z: f64| (-0.5 * z * z).exp() / (2.0 * std::f64::consts::PI).sqrt();
+    let (a, b) = ((lo - mu) / sd, (hi - mu) / sd);
+    mu + sd * (phi(a) - phi(b)) / (normal_cdf(b) - normal_cdf(a))
+}
+
+/// The normal's own mean and SD whose truncation to `[lo, hi]` has mean `target`
+/// (so the next study draws around what the pilot measured, not a mean pushed
+/// away from a bound by the truncation), keeping at least 1.2 times the share of
+/// the normal the study loader requires; the SD is narrowed (by 20 % steps) when
+/// the target cannot be reached otherwise. None when even a narrow one cannot.
+pub fn truncated_with_mean(target: f64, sd: f64, lo: f64, hi: f64) -> Option<(f64, f64)> {
+    let mut s = sd;
+    for _ in 0..40 {
+        // The truncated mean rises with mu: bisect.
+        let (mut a, mut b) = (lo - 10.0 * s, hi + 10.0 * s);
+        for _ in 0..200 {
+            let mid = 0.5 * (a + b);
+            if truncated_mean(mid, s, lo, hi) < target {
+                a = mid;
+            } else {
+                b = mid;
+            }
+        }
+        let mu = 0.5 * (a + b);
+        let d = Dist::Normal {
+            mean: mu,
+            sd: s,
+            min: lo,
+            max: hi,
+        };
+        if d.kept_mass() >= 1.2 * MIN_NORMAL_MASS
+            && (truncated_mean(mu, s, lo, hi) - target).abs() <= 1e-6 * (hi - lo)
+        {
+            return Some((mu, s));
+        }
+        s *= 0.8;
+    }
+    None
 }
 
 fn spread(s: &TermSummary) -> Option<f64> {
