@@ -820,6 +820,7 @@ pub fn run(command: &Command) -> Result<Printed, Error> {
             })
         }
         Command::Cohort(args) => cohort_command(args),
+        Command::Pilot(args) => crate::pilot_cmd::run(args),
         Command::Check { plan, display } => {
             let plan = load(Some(plan))?;
             let r = schedule_report(&plan)?;

@@ -459,6 +459,8 @@ pub enum Command {
     /// Simulate a study's cohort: every participant in its arm (or every arm), summarised per arm.
     #[command(group = clap::ArgGroup::new("who").required(true).args(["roster", "synthetic"]))]
     Cohort(CohortArgs),
+    /// Analyse a pilot in a register: achieved against delivered energy, intake balance, the gap's causes; scenarios for the next study.
+    Pilot(crate::pilot_cmd::PilotArgs),
     /// List or search the built-in activity table and show the ACSM equations.
     Activities {
         /// A code (or its first digits) or words of the label, e.g. "cycling".

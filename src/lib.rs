@@ -18,6 +18,7 @@ pub mod files;
 pub mod log;
 pub mod model;
 pub mod pilot;
+pub mod pilot_cmd;
 pub mod plan;
 pub mod register;
 pub mod report;
