@@ -66,8 +66,12 @@ pub fn run(args: &PilotArgs) -> Result<Printed, Error> {
             let rows = import::parse_measurements(&name, &text)?;
             let mut store = SqliteStore::open(&args.register)?;
             let who = args.by.as_deref().unwrap_or_default();
-            let (ids, warnings) = store.import_measurements(&rows, &Stamp::new(who, Utc::now())?)?;
-            stderr.push_str(&format!("imported {} measurement(s) from {name}\n", ids.len()));
+            let (ids, warnings) =
+                store.import_measurements(&rows, &Stamp::new(who, Utc::now())?)?;
+            stderr.push_str(&format!(
+                "imported {} measurement(s) from {name}\n",
+                ids.len()
+            ));
             for w in warnings {
                 stderr.push_str(&format!("warning: {}\n", w.message));
             }
@@ -87,11 +91,19 @@ pub fn run(args: &PilotArgs) -> Result<Printed, Error> {
         stderr.push_str(&format!("warning: {}\n", w.message));
     }
     if let Some(path) = &args.scenarios {
-        write_atomic(path, scenario::scenario_block(&analysis, &args.name).as_bytes(), false)?;
+        write_atomic(
+            path,
+            scenario::scenario_block(&analysis, &args.name).as_bytes(),
+            false,
+        )?;
         stderr.push_str(&format!("wrote {}\n", path.display()));
     }
     if let Some(path) = &args.chart {
-        write_atomic(path, report::chart_svg(&analysis, &args.name).as_bytes(), false)?;
+        write_atomic(
+            path,
+            report::chart_svg(&analysis, &args.name).as_bytes(),
+            false,
+        )?;
         stderr.push_str(&format!("wrote {}\n", path.display()));
     }
     let text = match args.format {

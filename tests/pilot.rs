@@ -13,7 +13,7 @@ use dosewright::error::Location;
 use dosewright::model::energy::calibrate;
 use dosewright::model::{BodyState, Bout, Compensation, Constants, Physiology, Sex, Subject};
 use dosewright::pilot::{
-    Body, Delivered, PilotParticipant, RmrMeasure, Term, TeeMeasure, Visit, analyse,
+    Body, Delivered, PilotParticipant, RmrMeasure, TeeMeasure, Term, Visit, analyse,
     analyse_interval, check, precision,
 };
 use rand::SeedableRng;
@@ -83,7 +83,13 @@ fn run(
         let fl = ph.fluxes(comp, bouts, &s);
         [fl.dfat, fl.dlean, fl.intake, fl.expenditure, fl.exercise]
     };
-    let mut y = [baseline.fat_mass_kg, baseline.fat_free_mass_kg, 0.0, 0.0, 0.0];
+    let mut y = [
+        baseline.fat_mass_kg,
+        baseline.fat_free_mass_kg,
+        0.0,
+        0.0,
+        0.0,
+    ];
     let snap = |y: &[f64; 5]| Snap {
         fat: y[0],
         lean: y[1],
@@ -260,7 +266,15 @@ fn exact_measurements_recover_the_model() {
     let b = bouts(50.0, 6.0, 5);
     let r = run(&sub, &comp, &b, 12, &visit_days);
     let mut rng = ChaCha8Rng::seed_from_u64(1);
-    let p = measure("S-1", "exercise", &sub, &r, &visit_days, Noise { on: false }, &mut rng);
+    let p = measure(
+        "S-1",
+        "exercise",
+        &sub,
+        &r,
+        &visit_days,
+        Noise { on: false },
+        &mut rng,
+    );
     check(&p).expect("valid");
     let a = analyse_interval(&p, &Constants::default(), 0, visit_days.len() - 1).unwrap();
     let rel = |x: f64, y: f64| ((x - y) / y).abs();
@@ -285,7 +299,15 @@ fn exact_measurements_recover_the_model() {
     // With visits only at the ends the trapezoid is coarser but still close.
     let ends = [0usize, 84];
     let r2 = run(&sub, &comp, &b, 12, &ends);
-    let p2 = measure("S-2", "exercise", &sub, &r2, &ends, Noise { on: false }, &mut rng);
+    let p2 = measure(
+        "S-2",
+        "exercise",
+        &sub,
+        &r2,
+        &ends,
+        Noise { on: false },
+        &mut rng,
+    );
     let a2 = analyse_interval(&p2, &Constants::default(), 0, 1).unwrap();
     assert!((a2.intake_fraction.unwrap().value - 0.35).abs() < 1e-6);
     assert!((a2.rmr_adaptation_per_kg.unwrap().value - 12.0).abs() < 1e-6);
@@ -353,9 +375,21 @@ fn intervals_cover_the_truth_in_repeated_synthetic_pilots() {
         rmr_adaptation: 15.0,
     };
     let terms = [
-        (Term::IntakeFraction, means.intake_fraction, sds.intake_fraction),
-        (Term::ActivityFraction, means.activity_fraction, sds.activity_fraction),
-        (Term::RmrAdaptationPerKg, means.rmr_adaptation, sds.rmr_adaptation),
+        (
+            Term::IntakeFraction,
+            means.intake_fraction,
+            sds.intake_fraction,
+        ),
+        (
+            Term::ActivityFraction,
+            means.activity_fraction,
+            sds.activity_fraction,
+        ),
+        (
+            Term::RmrAdaptationPerKg,
+            means.rmr_adaptation,
+            sds.rmr_adaptation,
+        ),
     ];
     let pilots = 200;
     let mut mean_hits = [0usize; 3];
@@ -385,7 +419,10 @@ fn intervals_cover_the_truth_in_repeated_synthetic_pilots() {
             )
         })
         .collect();
-    eprintln!("coverage over {pilots} synthetic pilots: {}", report.join("; "));
+    eprintln!(
+        "coverage over {pilots} synthetic pilots: {}",
+        report.join("; ")
+    );
     for k in 0..3 {
         assert!(share(mean_hits[k]) >= 0.9, "{}", report.join("; "));
         assert!(share(sd_hits[k]) >= 0.9, "{}", report.join("; "));
@@ -473,5 +510,8 @@ pal = 1.6
         share.mean,
         shares.len()
     );
-    assert!(lo <= mean && mean <= hi, "cohort {mean} outside the pilot's {lo}..{hi}");
+    assert!(
+        lo <= mean && mean <= hi,
+        "cohort {mean} outside the pilot's {lo}..{hi}"
+    );
 }

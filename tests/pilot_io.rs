@@ -10,7 +10,7 @@ use dosewright::model::{Constants, Sex};
 use dosewright::pilot::import::{assemble, parse_measurements};
 use dosewright::pilot::scenario::scenario_block;
 use dosewright::pilot::{
-    Body, Delivered, PilotParticipant, RmrMeasure, Term, TeeMeasure, Visit, analyse,
+    Body, Delivered, PilotParticipant, RmrMeasure, TeeMeasure, Term, Visit, analyse,
     analyse_interval, check, precision, report,
 };
 use dosewright::register::{
@@ -133,15 +133,27 @@ fn hand_case_matches_the_pencil_and_paper_working() {
     );
     let dc = &a.decomposition;
     // Intake term 0.9 * 38.024; resting 1650 - (1650 + 1600) / 2 = 25.
-    close(dc.intake.unwrap().value, 0.9 * (200.0 - 13606.0 / 84.0), 1e-9);
+    close(
+        dc.intake.unwrap().value,
+        0.9 * (200.0 - 13606.0 / 84.0),
+        1e-9,
+    );
     close(dc.resting.unwrap().value, 25.0, 1e-9);
-    close(dc.resting_explained.unwrap().value, 1650.0 - (1650.0 + predicted) / 2.0, 1e-6);
+    close(
+        dc.resting_explained.unwrap().value,
+        1650.0 - (1650.0 + predicted) / 2.0,
+        1e-6,
+    );
     let rest = (24000.0 - 13606.0) / 84.0 - 0.9 * (200.0 - 13606.0 / 84.0) - 25.0;
     close(dc.rest.value, rest, 1e-9);
     // AE0 = 0.9 * 2600 - 1650 = 690; delta = 690 / 85; mean mass 84.15.
     let explained = 690.0 / 85.0 * (85.0 - 84.15);
     close(dc.rest_explained.unwrap().value, explained, 1e-6);
-    close(a.activity_fraction.unwrap().value, (rest - explained) / (24000.0 / 84.0), 1e-6);
+    close(
+        a.activity_fraction.unwrap().value,
+        (rest - explained) / (24000.0 / 84.0),
+        1e-6,
+    );
     // Uncertainty of the stores' rate: independent DXA errors, 1.5 % of fat and
     // 0.8 % of fat-free mass at each visit.
     let var = 9500f64.powi(2) * ((0.015 * 35.0f64).powi(2) + (0.015 * 33.6f64).powi(2))
@@ -163,12 +175,21 @@ fn bad_input_is_refused_naming_participant_row_and_value() {
     let mut p = hand_case();
     p.visits[1].fat_kg = 33600.0;
     let m = msg(check(&p).unwrap_err());
-    assert!(m.contains("pilot.csv:3") && m.contains("H-1") && m.contains("33600") && m.contains("grams"), "{m}");
+    assert!(
+        m.contains("pilot.csv:3")
+            && m.contains("H-1")
+            && m.contains("33600")
+            && m.contains("grams"),
+        "{m}"
+    );
     // MJ/day for an RMR.
     let mut p = hand_case();
     p.rmr[1].kcal_per_day = 6.7;
     let m = msg(check(&p).unwrap_err());
-    assert!(m.contains("pilot.csv:5") && m.contains("MJ") && m.contains("6.7"), "{m}");
+    assert!(
+        m.contains("pilot.csv:5") && m.contains("MJ") && m.contains("6.7"),
+        "{m}"
+    );
     // MJ/day for a TEE.
     let mut p = hand_case();
     p.tee[1].kcal_per_day = 11.7;
@@ -178,12 +199,18 @@ fn bad_input_is_refused_naming_participant_row_and_value() {
     let mut p = hand_case();
     p.visits.swap(0, 1);
     let m = msg(check(&p).unwrap_err());
-    assert!(m.contains("date order") && m.contains("H-1") && m.contains("pilot.csv:2"), "{m}");
+    assert!(
+        m.contains("date order") && m.contains("H-1") && m.contains("pilot.csv:2"),
+        "{m}"
+    );
     // A TEE period beyond the last visit.
     let mut p = hand_case();
     p.tee[1].last = p.tee[1].last + chrono::Days::new(10);
     let m = msg(check(&p).unwrap_err());
-    assert!(m.contains("does not lie between two body-composition visits"), "{m}");
+    assert!(
+        m.contains("does not lie between two body-composition visits"),
+        "{m}"
+    );
     // Fat + fat-free far from the weighed mass: refused beyond 5 kg, warned beyond 1.5.
     let mut p = hand_case();
     p.visits[0].weighed_kg = Some(95.0);
@@ -192,7 +219,11 @@ fn bad_input_is_refused_naming_participant_row_and_value() {
     let mut p = hand_case();
     p.visits[0].weighed_kg = Some(87.0);
     let w = check(&p).unwrap();
-    assert!(w.iter().any(|w| w.message.contains("differs from the weighed 87 kg")), "{w:?}");
+    assert!(
+        w.iter()
+            .any(|w| w.message.contains("differs from the weighed 87 kg")),
+        "{w:?}"
+    );
     // Outside the protocol.
     let mut p = hand_case();
     p.protocol = Some((d(2027, 1, 11), d(2027, 6, 1)));
@@ -221,9 +252,19 @@ H-1,tee,2027-01-04,2027-03-28,,,,2800,DLW,,
 fn the_measurement_csv_reads_into_the_same_analysis() {
     let rows = parse_measurements("pilot.csv", CSV).unwrap();
     assert_eq!(rows.len(), 6);
-    let located: Vec<_> = rows.iter().map(|r| (r.measurement.clone(), r.at.clone())).collect();
+    let located: Vec<_> = rows
+        .iter()
+        .map(|r| (r.measurement.clone(), r.at.clone()))
+        .collect();
     let h = hand_case();
-    let p = assemble("H-1", "exercise", h.body, &located, h.sessions.clone(), None);
+    let p = assemble(
+        "H-1",
+        "exercise",
+        h.body,
+        &located,
+        h.sessions.clone(),
+        None,
+    );
     check(&p).unwrap();
     let a = analyse_interval(&p, &Constants::default(), 0, 1).unwrap();
     let b = analyse_interval(&h, &Constants::default(), 0, 1).unwrap();
@@ -295,7 +336,9 @@ T-001,tee,2027-01-04,2027-02-28,,,,2500,DLW
     // All or none: an unknown participant on the last row writes nothing.
     let bad = format!("{text}X-999,rmr,2027-01-04,,,,,1450,\n");
     let rows_bad = parse_measurements("m.csv", &bad).unwrap();
-    let e = msg(store.import_measurements(&rows_bad, &stamp("desk")).unwrap_err());
+    let e = msg(store
+        .import_measurements(&rows_bad, &stamp("desk"))
+        .unwrap_err());
     assert!(e.contains("X-999") && e.contains("m.csv:7"), "{e}");
     assert_eq!(store.measurements(None, Which::All).unwrap().len(), 5);
     // A correction supersedes; the original stays.
@@ -309,10 +352,23 @@ T-001,tee,2027-01-04,2027-02-28,,,,2500,DLW
         .unwrap();
     assert_eq!(new.supersedes, Some(ids[3]));
     let all = store.measurements(Some("T-001"), Which::All).unwrap();
-    assert!(all.iter().any(|r| r.id == ids[3] && r.status == Status::Superseded(new.id)));
-    assert_eq!(store.measurements(Some("T-001"), Which::Current).unwrap().len(), 5);
+    assert!(
+        all.iter()
+            .any(|r| r.id == ids[3] && r.status == Status::Superseded(new.id))
+    );
+    assert_eq!(
+        store
+            .measurements(Some("T-001"), Which::Current)
+            .unwrap()
+            .len(),
+        5
+    );
     // A correction keeps the kind; an empty reason is refused.
-    assert!(store.correct_measurement(new.id, &rows[0].measurement, "", &stamp("n"), "x").is_err());
+    assert!(
+        store
+            .correct_measurement(new.id, &rows[0].measurement, "", &stamp("n"), "x")
+            .is_err()
+    );
     assert!(store.void_measurement(new.id, &stamp("n"), " ").is_err());
     let audit = store.measurement_audit(Some("T-001")).unwrap();
     assert_eq!(audit.len(), 6);
@@ -322,7 +378,13 @@ T-001,tee,2027-01-04,2027-02-28,,,,2500,DLW
     drop(store);
     let c = rusqlite::Connection::open(&path).unwrap();
     assert!(c.execute("DELETE FROM measurements", []).is_err());
-    assert!(c.execute("UPDATE measurements SET kcal_per_day = 1 WHERE kind = 'rmr'", []).is_err());
+    assert!(
+        c.execute(
+            "UPDATE measurements SET kcal_per_day = 1 WHERE kind = 'rmr'",
+            []
+        )
+        .is_err()
+    );
     drop(c);
     // Sessions from the register's log, measured by the dose rule.
     let mut store = SqliteStore::open(&path).unwrap();
@@ -352,7 +414,10 @@ T-001,tee,2027-01-04,2027-02-28,,,,2500,DLW
     // (female, 40 y, 165 cm: 800 + 1031.25 - 200 - 161 = 1470.25 kcal/day):
     // 45 * (4 * 3.5 * 80 / 200 - 1470.25 / 1440) = 45 * (5.6 - 1.02101) = 206.05 kcal.
     let first = ps[0].sessions[0].net_kcal;
-    assert!((first - 45.0 * (5.6 - 1470.25 / 1440.0)).abs() < 1e-9, "{first}");
+    assert!(
+        (first - 45.0 * (5.6 - 1470.25 / 1440.0)).abs() < 1e-9,
+        "{first}"
+    );
     let a = analyse(&ps, &Constants::default()).unwrap();
     assert_eq!(a.participants[0].rmr_measured, Some(1410.0));
 }
@@ -423,5 +488,9 @@ fn scenario_block_reads_back_through_the_study_loader() {
         assert!(md.contains(&p.code));
     }
     let svg = report::chart_svg(&a, "hand pilot");
-    assert!(svg.starts_with("<svg") && svg.contains("stroke-dasharray") && svg.trim_end().ends_with("</svg>"));
+    assert!(
+        svg.starts_with("<svg")
+            && svg.contains("stroke-dasharray")
+            && svg.trim_end().ends_with("</svg>")
+    );
 }

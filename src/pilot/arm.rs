@@ -134,7 +134,7 @@ pub fn summarise(term: Term, values: &[(f64, f64)]) -> TermSummary {
     let hi = (df * s2 / chi2_quantile(df, 0.025) - mean_var).max(0.0);
     s.between_sd = Some(tau2.sqrt());
     s.between_sd_interval = Some((lo.sqrt(), hi.sqrt()));
-    if s2 <= mean_var {
+    if mean_var > 0.0 && s2 <= mean_var {
         s.note = Some(
             "the spread across participants is no larger than the measurement error: the between-participant SD is estimated as 0".to_string(),
         );

@@ -57,7 +57,10 @@ pub fn from_register(store: &SqliteStore) -> Result<Vec<PilotParticipant>, Error
         let plan: Plan = person.plan()?;
         let s = &plan.participant.subject;
         let (_, ph) = calibrate(s, &plan.constants).map_err(|e| {
-            Error::Internal(format!("{}: the baseline cannot be calibrated: {e:?}", plan.source_name))
+            Error::Internal(format!(
+                "{}: the baseline cannot be calibrated: {e:?}",
+                plan.source_name
+            ))
         })?;
         let visits: Vec<(NaiveDate, f64, f64)> = rows
             .iter()

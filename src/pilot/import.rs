@@ -116,25 +116,47 @@ pub fn parse_measurements(file: &str, text: &str) -> Result<Vec<Imported>, Error
         let num = |k: &str| -> Result<Option<f64>, Error> {
             match get(k) {
                 None => Ok(None),
-                Some(v) => v.parse::<f64>().ok().filter(|x| x.is_finite()).map(Some).ok_or_else(|| {
-                    err(&at, k, format!("participant {code}: \"{v}\" is not a number"))
-                }),
+                Some(v) => v
+                    .parse::<f64>()
+                    .ok()
+                    .filter(|x| x.is_finite())
+                    .map(Some)
+                    .ok_or_else(|| {
+                        err(
+                            &at,
+                            k,
+                            format!("participant {code}: \"{v}\" is not a number"),
+                        )
+                    }),
             }
         };
         let need = |k: &str, kind: &str| -> Result<f64, Error> {
             num(k)?.ok_or_else(|| {
-                err(&at, k, format!("participant {code}: a {kind} row needs {k}"))
+                err(
+                    &at,
+                    k,
+                    format!("participant {code}: a {kind} row needs {k}"),
+                )
             })
         };
         let date = |k: &str| -> Result<NaiveDate, Error> {
-            let v = get(k).ok_or_else(|| err(&at, k, format!("participant {code}: {k} is empty")))?;
+            let v =
+                get(k).ok_or_else(|| err(&at, k, format!("participant {code}: {k} is empty")))?;
             NaiveDate::parse_from_str(v, "%Y-%m-%d").map_err(|_| {
-                err(&at, k, format!("participant {code}: \"{v}\" is not a date; write YYYY-MM-DD"))
+                err(
+                    &at,
+                    k,
+                    format!("participant {code}: \"{v}\" is not a date; write YYYY-MM-DD"),
+                )
             })
         };
         let method = |kind: &str| -> Result<String, Error> {
             get("method").map(str::to_string).ok_or_else(|| {
-                err(&at, "method", format!("participant {code}: a {kind} row needs its method (e.g. DXA, DLW)"))
+                err(
+                    &at,
+                    "method",
+                    format!("participant {code}: a {kind} row needs its method (e.g. DXA, DLW)"),
+                )
             })
         };
         let kind = get("kind").unwrap_or("");
@@ -164,7 +186,9 @@ pub fn parse_measurements(file: &str, text: &str) -> Result<Vec<Imported>, Error
                 return Err(err(
                     &at,
                     "kind",
-                    format!("participant {code}: unknown kind \"{other}\"; allowed composition, rmr, tee"),
+                    format!(
+                        "participant {code}: unknown kind \"{other}\"; allowed composition, rmr, tee"
+                    ),
                 ));
             }
         };

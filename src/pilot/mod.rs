@@ -450,7 +450,6 @@ pub fn check(p: &PilotParticipant) -> Result<Vec<Warning>, Error> {
     Ok(warnings)
 }
 
-
 /// Check one visit's values: kg not grams, ranges, precision, and fat plus
 /// fat-free mass against the weighed mass.
 pub fn check_visit(who: &str, v: &Visit) -> Result<Vec<Warning>, Error> {
@@ -481,7 +480,10 @@ pub fn check_visit(who: &str, v: &Visit) -> Result<Vec<Warning>, Error> {
             ));
         }
     }
-    for (key, sd) in [("fat_sd_kg", v.fat_sd_kg), ("fat_free_sd_kg", v.fat_free_sd_kg)] {
+    for (key, sd) in [
+        ("fat_sd_kg", v.fat_sd_kg),
+        ("fat_free_sd_kg", v.fat_free_sd_kg),
+    ] {
         if let Some(sd) = sd
             && !(sd.is_finite() && (0.0..=10.0).contains(&sd))
         {
@@ -614,7 +616,9 @@ fn check_sd(at: &Location, who: &str, key: &str, sd: Option<f64>, max: f64) -> R
         return Err(input_error(
             at,
             key,
-            format!("participant {who}: precision {sd} kcal/day is out of range; allowed 0 to {max}"),
+            format!(
+                "participant {who}: precision {sd} kcal/day is out of range; allowed 0 to {max}"
+            ),
         ));
     }
     Ok(())
@@ -679,9 +683,8 @@ impl Measured<'_> {
             .filter(|(_, r)| (r.date - d).num_days().abs() <= MATCH_DAYS)
             .min_by_key(|(_, r)| (r.date - d).num_days().abs())
             .map(|(j, r)| {
-                let sd = r
-                    .sd
-                    .unwrap_or(precision::RMR_INDIRECT_CALORIMETRY.cv * r.kcal_per_day);
+                let sd =
+                    r.sd.unwrap_or(precision::RMR_INDIRECT_CALORIMETRY.cv * r.kcal_per_day);
                 Lin::measured(r.kcal_per_day, rmr_id(j), sd)
             })
     }
@@ -698,9 +701,8 @@ impl Measured<'_> {
             .filter(|(_, t)| t.span().1 <= first)
             .collect();
         if let Some((j, t)) = base.last() {
-            let sd = t
-                .sd
-                .unwrap_or(precision::tee(&t.method).cv * t.kcal_per_day);
+            let sd =
+                t.sd.unwrap_or(precision::tee(&t.method).cv * t.kcal_per_day);
             return Some(Lin::measured(t.kcal_per_day, tee_id(*j), sd));
         }
         self.p.baseline_intake.map(|(ei, sd)| {
@@ -727,9 +729,8 @@ impl Measured<'_> {
             }
             let i = (a..=b).rev().find(|&i| v[i].date <= s)?;
             let k = (a..=b).find(|&k| v[k].date >= e)?;
-            let sd = t
-                .sd
-                .unwrap_or(precision::tee(&t.method).cv * t.kcal_per_day);
+            let sd =
+                t.sd.unwrap_or(precision::tee(&t.method).cv * t.kcal_per_day);
             let ei = Lin::measured(t.kcal_per_day, tee_id(j), sd).add(&self.stores(i, k));
             let n = (e - s).num_days() as f64;
             total = total.combine(1.0, &ei, n);

@@ -30,7 +30,10 @@ fn decimals(t: Term) -> usize {
 fn term_row(s: &TermSummary) -> String {
     let d = decimals(s.term);
     let pair = |p: Option<(f64, f64)>| {
-        p.map_or_else(|| "--".to_string(), |(a, b)| format!("{} to {}", f(a, d), f(b, d)))
+        p.map_or_else(
+            || "--".to_string(),
+            |(a, b)| format!("{} to {}", f(a, d), f(b, d)),
+        )
     };
     format!(
         "| {} | {} | {} | {} | {} | {} | {} | {} |",
@@ -131,7 +134,13 @@ pub fn markdown(a: &PilotAnalysis, pilot: &str) -> String {
     }
     let _ = writeln!(o, "\nPrecision defaults used where a row gives none:\n");
     for d in precision::ALL {
-        let _ = writeln!(o, "- {}: CV {} % ({})", d.what, f(d.cv * 100.0, 1), d.source);
+        let _ = writeln!(
+            o,
+            "- {}: CV {} % ({})",
+            d.what,
+            f(d.cv * 100.0, 1),
+            d.source
+        );
     }
     if !a.warnings.is_empty() {
         let _ = writeln!(o, "\n## Warnings\n");
@@ -152,7 +161,9 @@ fn escape(t: &str) -> String {
 
 /// Okabe-Ito colours (Okabe M, Ito K 2008, Color Universal Design), one per arm,
 /// with a different marker shape too.
-const COLOURS: [&str; 6] = ["#0072b2", "#d55e00", "#009e73", "#cc79a7", "#e69f00", "#56b4e9"];
+const COLOURS: [&str; 6] = [
+    "#0072b2", "#d55e00", "#009e73", "#cc79a7", "#e69f00", "#56b4e9",
+];
 
 /// Achieved against delivered energy per participant (kcal/day), each with its
 /// 95 % interval as a vertical bar, coloured and shaped by arm, with the identity
@@ -257,7 +268,11 @@ pub fn chart_svg(a: &PilotAnalysis, pilot: &str) -> String {
             let _ = writeln!(s, "{}", marker(k, cx, cy, colour, &p.code));
         }
         let ly = top + 20.0 + 22.0 * k as f64;
-        let _ = writeln!(s, "{}", marker(k, left + pw + 20.0, ly - 4.0, colour, &arm.arm));
+        let _ = writeln!(
+            s,
+            "{}",
+            marker(k, left + pw + 20.0, ly - 4.0, colour, &arm.arm)
+        );
         let _ = writeln!(
             s,
             "<text x=\"{:.1}\" y=\"{ly:.1}\" font-size=\"13\">{}</text>",
@@ -292,7 +307,9 @@ pub fn chart_svg(a: &PilotAnalysis, pilot: &str) -> String {
 fn marker(k: usize, cx: f64, cy: f64, colour: &str, title: &str) -> String {
     let t = format!("<title>{}</title>", escape(title));
     match k % 3 {
-        0 => format!("<circle cx=\"{cx:.1}\" cy=\"{cy:.1}\" r=\"5\" fill=\"{colour}\">{t}</circle>"),
+        0 => {
+            format!("<circle cx=\"{cx:.1}\" cy=\"{cy:.1}\" r=\"5\" fill=\"{colour}\">{t}</circle>")
+        }
         1 => format!(
             "<rect x=\"{:.1}\" y=\"{:.1}\" width=\"9\" height=\"9\" fill=\"{colour}\">{t}</rect>",
             cx - 4.5,

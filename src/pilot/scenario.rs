@@ -9,15 +9,19 @@
 //! rest: the whole gap is then written as an effective `intake_fraction`
 //! (`(1 - share) / (1 - beta)`), and the block says so.
 
-use super::arm::{PilotAnalysis, TermSummary};
 use super::Term;
+use super::arm::{PilotAnalysis, TermSummary};
 use crate::plan::scenario_range;
 use crate::study::dist::{Dist, MIN_NORMAL_MASS, normal_cdf};
 
 fn num(x: f64) -> String {
     let s = format!("{x:.4}");
     let s = s.trim_end_matches('0').trim_end_matches('.');
-    if s == "-0" { "0".to_string() } else { s.to_string() }
+    if s == "-0" {
+        "0".to_string()
+    } else {
+        s.to_string()
+    }
 }
 
 /// One key's value as study-file text, with a comment line about it.
@@ -26,11 +30,7 @@ fn value(key: &str, mean: f64, sd: Option<f64>, what: &str) -> (String, String) 
     let m = mean.clamp(lo, hi);
     let mut note = format!("{key}: {what}; mean {}", num(mean));
     if m != mean {
-        note.push_str(&format!(
-            " held to the allowed {} to {}",
-            num(lo),
-            num(hi)
-        ));
+        note.push_str(&format!(" held to the allowed {} to {}", num(lo), num(hi)));
     }
     let text = match sd.filter(|sd| *sd > 0.0) {
         Some(sd) => match truncated_with_mean(m, sd, lo, hi) {
@@ -133,7 +133,12 @@ pub fn scenario_block(analysis: &PilotAnalysis, pilot: &str) -> String {
         let mut lines = Vec::new();
         let mut notes = vec![format!("arm \"{}\", {} participant(s)", arm.arm, arm.n)];
         if let Some(s) = arm.term(Term::IntakeFraction) {
-            let (l, n) = value("intake_fraction", s.mean, spread(s), "from TEE (intake balance)");
+            let (l, n) = value(
+                "intake_fraction",
+                s.mean,
+                spread(s),
+                "from TEE (intake balance)",
+            );
             lines.push(l);
             notes.push(n);
         } else if let Some(s) = arm.term(Term::Share) {
@@ -147,7 +152,12 @@ pub fn scenario_block(analysis: &PilotAnalysis, pilot: &str) -> String {
             notes.push(n);
         }
         if let Some(s) = arm.term(Term::ActivityFraction) {
-            let (l, n) = value("activity_fraction", s.mean, spread(s), "from the rest of the gap");
+            let (l, n) = value(
+                "activity_fraction",
+                s.mean,
+                spread(s),
+                "from the rest of the gap",
+            );
             lines.push(l);
             notes.push(n);
         }

@@ -409,8 +409,17 @@ impl SqliteStore {
         let row = self.write(|tx, name| {
             let (pid, _) = find_participant(tx, name, code)?;
             let id = insert(tx, pid, m, note, stamp, None).map_err(|e| db_error(name, e))?;
-            change(tx, stamp, "record", pid, Some(id), None, Some(m.to_json()), None)
-                .map_err(|e| db_error(name, e))?;
+            change(
+                tx,
+                stamp,
+                "record",
+                pid,
+                Some(id),
+                None,
+                Some(m.to_json()),
+                None,
+            )
+            .map_err(|e| db_error(name, e))?;
             select_one(tx, id)
                 .map_err(|e| db_error(name, e))?
                 .ok_or_else(|| Error::Internal(format!("measurement {id} not found after insert")))
@@ -544,7 +553,9 @@ impl SqliteStore {
             Which::Current => " AND m.superseded_by IS NULL AND m.voided_by IS NULL",
             Which::All => "",
         };
-        let sql = format!("{SELECT} WHERE (?1 IS NULL OR p.code = ?1){filter} ORDER BY p.code, m.date, m.id");
+        let sql = format!(
+            "{SELECT} WHERE (?1 IS NULL OR p.code = ?1){filter} ORDER BY p.code, m.date, m.id"
+        );
         let e = |e| db_error(&name, e);
         let mut stmt = conn.prepare(&sql).map_err(e)?;
         let rows = stmt
