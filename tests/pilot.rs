@@ -394,6 +394,7 @@ fn intervals_cover_the_truth_in_repeated_synthetic_pilots() {
     let pilots = 200;
     let mut mean_hits = [0usize; 3];
     let mut sd_hits = [0usize; 3];
+    let mut widths = [(0.0f64, 0.0f64); 3];
     for seed in 0..pilots {
         let ps = synthetic_pilot(1000 + seed, 16, means, sds);
         let a = analyse(&ps, &Constants::default()).unwrap();
@@ -402,8 +403,10 @@ fn intervals_cover_the_truth_in_repeated_synthetic_pilots() {
             let sum = arm.term(*t).expect("estimated");
             let (lo, hi) = sum.mean_interval.unwrap();
             mean_hits[k] += usize::from(lo <= *m && *m <= hi);
+            widths[k].0 += (hi - lo) / pilots as f64;
             let (lo, hi) = sum.between_sd_interval.unwrap();
             sd_hits[k] += usize::from(lo <= *s && *s <= hi);
+            widths[k].1 += (hi - lo) / pilots as f64;
         }
     }
     let share = |h: usize| h as f64 / pilots as f64;
@@ -412,10 +415,12 @@ fn intervals_cover_the_truth_in_repeated_synthetic_pilots() {
         .enumerate()
         .map(|(k, (t, ..))| {
             format!(
-                "{}: mean {:.3}, SD {:.3}",
+                "{}: mean {:.3} (mean width {:.3}), SD {:.3} (mean width {:.3})",
                 t.label(),
                 share(mean_hits[k]),
-                share(sd_hits[k])
+                widths[k].0,
+                share(sd_hits[k]),
+                widths[k].1
             )
         })
         .collect();

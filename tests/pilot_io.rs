@@ -494,3 +494,52 @@ fn scenario_block_reads_back_through_the_study_loader() {
             && svg.trim_end().ends_with("</svg>")
     );
 }
+
+/// The difference from control by Welch's t: with equal spreads and equal arms
+/// the degrees of freedom are 2n - 2 and the half-width t(0.975, 4) = 2.776
+/// (any t table) times sqrt(2 s^2 / n).
+#[test]
+fn difference_from_control_and_consecutive_visits() {
+    let mut ps = vec![];
+    for (k, fat_end) in [33.6, 33.2, 34.0].into_iter().enumerate() {
+        let mut p = hand_case();
+        p.code = format!("E-{k}");
+        p.visits[1].fat_kg = fat_end;
+        let mut c = p.clone();
+        c.code = format!("C-{k}");
+        c.arm = "control".into();
+        c.sessions.clear();
+        ps.push(p);
+        ps.push(c);
+    }
+    // One participant with a single visit is left out, with a warning.
+    let mut lone = hand_case();
+    lone.code = "L-1".into();
+    lone.visits.truncate(1);
+    ps.push(lone);
+    let a = analyse(&ps, &Constants::default()).unwrap();
+    assert_eq!(a.control.as_deref(), Some("control"));
+    assert!(a.warnings.iter().any(|w| w.message.contains("L-1")));
+    let ex = a.arms.iter().find(|x| x.arm == "exercise").unwrap();
+    let gap = ex.term(Term::Gap).unwrap();
+    let (d, lo, hi) = gap.vs_control.unwrap();
+    let x = 24000.0 / 84.0;
+    assert!((d - x).abs() < 1e-9, "{d}");
+    let s2 = gap.observed_sd.unwrap().powi(2);
+    let half = 2.776 * (2.0 * s2 / 3.0).sqrt();
+    assert!((hi - d - half).abs() < 1e-3 * half && (d - lo - half).abs() < 1e-3 * half);
+    // Consecutive visits: a participant with three visits gets two intervals whose
+    // store changes add up to the whole.
+    let mut p = hand_case();
+    let mid = p.visits[0].date + chrono::Days::new(42);
+    p.visits.insert(1, visit(mid, 34.3, 49.8, 9));
+    let a = analyse(&[p], &Constants::default()).unwrap();
+    assert_eq!(a.between_visits.len(), 2);
+    let total: f64 = a
+        .between_visits
+        .iter()
+        .map(|i| i.stores.value * i.days)
+        .sum();
+    assert!((total - a.participants[0].stores.value * 84.0).abs() < 1e-6);
+    assert!(report::markdown(&a, "x").contains("Between consecutive visits"));
+}

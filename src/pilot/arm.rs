@@ -72,6 +72,8 @@ impl ArmSummary {
 pub struct PilotAnalysis {
     /// Each participant, baseline to last visit.
     pub participants: Vec<IntervalAnalysis>,
+    /// Participants with more than two visits: each pair of consecutive visits.
+    pub between_visits: Vec<IntervalAnalysis>,
     /// Each arm, in order of first appearance.
     pub arms: Vec<ArmSummary>,
     /// Warnings about the measurements.
@@ -171,9 +173,31 @@ fn welch(a: &[(f64, f64)], b: &[(f64, f64)]) -> Option<(f64, f64, f64)> {
 pub fn analyse(participants: &[PilotParticipant], c: &Constants) -> Result<PilotAnalysis, Error> {
     let mut warnings = Vec::new();
     let mut each = Vec::with_capacity(participants.len());
+    let mut between = Vec::new();
     for p in participants {
+        if p.visits.len() < 2 {
+            warnings.push(Warning {
+                code: "pilot-one-visit",
+                message: format!(
+                    "participant {} has {} body-composition visit(s): left out of the analysis (it needs a baseline and a later visit)",
+                    p.code,
+                    p.visits.len()
+                ),
+            });
+            continue;
+        }
         warnings.extend(check(p)?);
         each.push(analyse_interval(p, c, 0, p.visits.len() - 1)?);
+        if p.visits.len() > 2 {
+            for k in 0..p.visits.len() - 1 {
+                between.push(analyse_interval(p, c, k, k + 1)?);
+            }
+        }
+    }
+    if each.is_empty() {
+        return Err(Error::Usage(
+            "no participant has two body-composition visits; the analysis needs a baseline and a later visit".to_string(),
+        ));
     }
     let mut names: Vec<String> = Vec::new();
     for a in &each {
@@ -229,6 +253,7 @@ pub fn analyse(participants: &[PilotParticipant], c: &Constants) -> Result<Pilot
     }
     Ok(PilotAnalysis {
         participants: each,
+        between_visits: between,
         arms,
         warnings,
         control,

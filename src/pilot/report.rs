@@ -87,6 +87,28 @@ pub fn markdown(a: &PilotAnalysis, pilot: &str) -> String {
             est(&Some(d.rest), 0),
         );
     }
+    if !a.between_visits.is_empty() {
+        let _ = writeln!(o, "\n## Between consecutive visits\n");
+        let _ = writeln!(
+            o,
+            "| participant | from | to | delivered | achieved | share | gap | intake change |"
+        );
+        let _ = writeln!(o, "|---|---|---|---|---|---|---|---|");
+        for p in &a.between_visits {
+            let _ = writeln!(
+                o,
+                "| {} | {} | {} | {} | {} | {} | {} | {} |",
+                p.code,
+                p.from,
+                p.to,
+                f(p.delivered, 0),
+                est(&Some(p.achieved), 0),
+                est(&p.share, 2),
+                est(&Some(p.gap), 0),
+                est(&p.intake_change, 0),
+            );
+        }
+    }
     let _ = writeln!(o, "\n## Per arm\n");
     for arm in &a.arms {
         let _ = writeln!(
