@@ -341,6 +341,42 @@ T-001,tee,2027-01-04,2027-02-28,,,,2500,DLW
         .unwrap_err());
     assert!(e.contains("X-999") && e.contains("m.csv:7"), "{e}");
     assert_eq!(store.measurements(None, Which::All).unwrap().len(), 5);
+    // One row recorded by hand; a value in MJ is refused and nothing is written.
+    let (row, _) = store
+        .record_measurement(
+            "T-001",
+            &Measurement::Rmr {
+                date: d(2027, 2, 1),
+                kcal_per_day: 1440.0,
+                sd_kcal_per_day: None,
+            },
+            "mid-point",
+            &stamp("nurse"),
+        )
+        .unwrap();
+    assert_eq!(row.recorded.who, "nurse");
+    let e = msg(store
+        .record_measurement(
+            "T-001",
+            &Measurement::Rmr {
+                date: d(2027, 2, 2),
+                kcal_per_day: 6.0,
+                sd_kcal_per_day: None,
+            },
+            "",
+            &stamp("nurse"),
+        )
+        .unwrap_err());
+    assert!(e.contains("MJ") && e.contains("T-001"), "{e}");
+    store
+        .void_measurement(row.id, &stamp("nurse"), "entered twice")
+        .unwrap();
+    assert!(
+        store
+            .void_measurement(row.id, &stamp("nurse"), "again")
+            .is_err()
+    );
+    assert_eq!(store.measurements(None, Which::Current).unwrap().len(), 5);
     // A correction supersedes; the original stays.
     let fix = Measurement::Rmr {
         date: d(2027, 3, 1),
@@ -371,9 +407,15 @@ T-001,tee,2027-01-04,2027-02-28,,,,2500,DLW
     );
     assert!(store.void_measurement(new.id, &stamp("n"), " ").is_err());
     let audit = store.measurement_audit(Some("T-001")).unwrap();
-    assert_eq!(audit.len(), 6);
-    assert_eq!(audit[5].action, "correct");
-    assert!(audit[5].old_values.as_deref().unwrap().contains("1420"));
+    let actions: Vec<&str> = audit.iter().map(|c| c.action.as_str()).collect();
+    assert_eq!(
+        actions,
+        [
+            "import", "import", "import", "import", "import", "record", "void", "correct"
+        ]
+    );
+    assert_eq!(audit[6].reason.as_deref(), Some("entered twice"));
+    assert!(audit[7].old_values.as_deref().unwrap().contains("1420"));
     // A raw DELETE is refused by the triggers.
     drop(store);
     let c = rusqlite::Connection::open(&path).unwrap();
