@@ -191,8 +191,8 @@ const COLOURS: [&str; 6] = [
 /// 95 % interval as a vertical bar, coloured and shaped by arm, with the identity
 /// line (everything delivered reaches the stores).
 pub fn chart_svg(a: &PilotAnalysis, pilot: &str) -> String {
-    let (w, h) = (760.0, 560.0);
-    let (left, right, top, bottom) = (80.0, 200.0, 60.0, 70.0);
+    let (w, h) = (880.0, 560.0);
+    let (left, right, top, bottom) = (80.0, 320.0, 60.0, 70.0);
     let pw = w - left - right;
     let ph = h - top - bottom;
     let mut lo = 0.0f64;
@@ -221,6 +221,8 @@ pub fn chart_svg(a: &PilotAnalysis, pilot: &str) -> String {
     let step = nice_step((hi - lo) / 6.0);
     let mut t = (lo / step).ceil() * step;
     while t <= hi {
+        // No "-0" label.
+        let t0 = if t.abs() < 1e-9 * step { 0.0 } else { t };
         let _ = writeln!(
             s,
             "<line x1=\"{:.1}\" y1=\"{:.1}\" x2=\"{:.1}\" y2=\"{:.1}\" stroke=\"#e3e3e3\"/>",
@@ -242,14 +244,14 @@ pub fn chart_svg(a: &PilotAnalysis, pilot: &str) -> String {
             "<text x=\"{:.1}\" y=\"{:.1}\" font-size=\"12\" text-anchor=\"middle\">{}</text>",
             x(t),
             top + ph + 18.0,
-            f(t, 0)
+            f(t0, 0)
         );
         let _ = writeln!(
             s,
             "<text x=\"{:.1}\" y=\"{:.1}\" font-size=\"12\" text-anchor=\"end\">{}</text>",
             left - 6.0,
             y(t) + 4.0,
-            f(t, 0)
+            f(t0, 0)
         );
         t += step;
     }
