@@ -320,6 +320,8 @@ pub enum Command {
     /// Simulate a study's cohort: every participant in its arm (or every arm), summarised per arm.
     #[command(group = clap::ArgGroup::new("who").required(true).args(["roster", "synthetic"]))]
     Cohort(CohortArgs),
+    /// Analyse a pilot in a register: achieved against delivered energy, intake balance, the gap's causes; scenarios for the next study.
+    Pilot(PilotArgs),
     /// List or search the built-in activity table and show the ACSM equations.
     Activities(ActivitiesArgs),
 }
@@ -546,4 +548,43 @@ pub struct ActivitiesArgs {
     /// Units of the equations' speed ranges.
     #[arg(long, value_enum, default_value_t = UnitsArg::Metric)]
     pub units: UnitsArg,
+}
+
+/// Output format of `pilot`.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, ValueEnum)]
+pub enum PilotFormat {
+    /// The report as Markdown (tables, decomposition, assumptions and cautions).
+    Markdown,
+    /// Every number as JSON.
+    Json,
+}
+
+/// `dosewright pilot REGISTER ...`
+#[derive(Debug, Args)]
+pub struct PilotArgs {
+    /// The trial register: participants (plans, arms), delivered sessions and measurements.
+    pub register: PathBuf,
+    /// First import this measurement CSV into the register, all rows or none
+    /// (columns: participant, kind, date, last_date, fat_kg, fat_free_kg, mass_kg,
+    /// kcal_per_day, method, fat_sd_kg, fat_free_sd_kg, sd_kcal_per_day, note).
+    #[arg(long, value_name = "FILE", requires = "by")]
+    pub import: Option<PathBuf>,
+    /// Who is importing (the person or desk account), with --import.
+    #[arg(long, value_name = "WHO", requires = "import")]
+    pub by: Option<String>,
+    /// The pilot's name, in the report and the scenario names.
+    #[arg(long, default_value = "pilot")]
+    pub name: String,
+    /// Output format.
+    #[arg(long, value_enum, default_value_t = PilotFormat::Markdown)]
+    pub format: PilotFormat,
+    /// Write the report to this file (atomically) instead of standard output.
+    #[arg(long, value_name = "FILE")]
+    pub out: Option<PathBuf>,
+    /// Write the `[[scenario]]` block for the next study file to this file.
+    #[arg(long, value_name = "FILE")]
+    pub scenarios: Option<PathBuf>,
+    /// Write the chart of achieved against delivered energy (SVG) to this file.
+    #[arg(long, value_name = "FILE")]
+    pub chart: Option<PathBuf>,
 }

@@ -18,6 +18,7 @@ pub mod input;
 pub mod log;
 pub mod model;
 pub mod output;
+pub mod pilot;
 pub mod plan;
 pub mod register;
 pub mod report;

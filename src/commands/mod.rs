@@ -25,6 +25,7 @@ pub mod fit;
 pub mod goal;
 pub mod init;
 pub mod log;
+pub mod pilot;
 pub mod schedule;
 pub mod sheets;
 
@@ -50,6 +51,7 @@ pub fn run(command: &Command) -> Result<Printed, Error> {
             action: LogAction::Add(args),
         } => log::run(args),
         Command::Cohort(args) => cohort::run(args),
+        Command::Pilot(args) => pilot::run(args),
         Command::Check(args) => check::run(args),
         Command::Init(args) => init::run(args),
         Command::Activities(args) => activities::run(args),

@@ -13,8 +13,11 @@
 //! The library never reads the clock, the OS user or the environment: every write
 //! takes a [`Stamp`] (who and when, UTC) from the caller.
 
+mod measured;
 mod schema;
 mod sqlite;
+
+pub use measured::{Measurement, MeasurementChange, MeasurementRow};
 
 pub use schema::{APPLICATION_ID, SCHEMA_VERSION};
 pub use sqlite::{CheckReport, SqliteStore};
@@ -545,7 +548,7 @@ fn check_extras(m: &Measure) -> Result<(), Error> {
 }
 
 /// Text that must fit on one line.
-fn one_line(key: &str, text: &str) -> Result<(), Error> {
+pub(crate) fn one_line(key: &str, text: &str) -> Result<(), Error> {
     if text.contains(['\n', '\r']) {
         return Err(Error::Usage(format!(
             "{key}: the text holds a line break; it must be one line"
@@ -555,7 +558,7 @@ fn one_line(key: &str, text: &str) -> Result<(), Error> {
 }
 
 /// A reason for a correction or void: required, one line.
-fn reason_text(reason: &str) -> Result<&str, Error> {
+pub(crate) fn reason_text(reason: &str) -> Result<&str, Error> {
     let reason = reason.trim();
     if reason.is_empty() {
         return Err(Error::Usage(

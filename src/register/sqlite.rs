@@ -71,7 +71,7 @@ impl CheckReport {
 /// A SQLite failure in plain words: a lock held too long, a read-only file or a
 /// full disk are the person's to act on (exit 2, or 1 for the disk); anything else
 /// is a write that failed.
-fn db_error(name: &str, e: rusqlite::Error) -> Error {
+pub(super) fn db_error(name: &str, e: rusqlite::Error) -> Error {
     let code = e.sqlite_error_code();
     match code {
         Some(ErrorCode::DatabaseBusy) | Some(ErrorCode::DatabaseLocked) => Error::Usage(format!(
@@ -235,6 +235,11 @@ impl SqliteStore {
         Ok(store)
     }
 
+    /// The connection, for the measurement tables (`super::measured`).
+    pub(super) fn conn(&self) -> &Connection {
+        &self.conn
+    }
+
     /// The register's path.
     pub fn path(&self) -> &Path {
         &self.path
@@ -319,7 +324,7 @@ impl SqliteStore {
 
     /// One write: a `BEGIN IMMEDIATE` transaction around `f`, committed only when
     /// `f` succeeds (dropped, it rolls back).
-    fn write<T>(
+    pub(super) fn write<T>(
         &mut self,
         f: impl FnOnce(&Transaction, &str) -> Result<T, Error>,
     ) -> Result<T, Error> {
@@ -525,12 +530,12 @@ fn conversion(i: usize, e: impl std::error::Error + Send + Sync + 'static) -> ru
     rusqlite::Error::FromSqlConversionFailure(i, rusqlite::types::Type::Text, Box::new(e))
 }
 
-fn parse_date(r: &rusqlite::Row<'_>, i: usize) -> rusqlite::Result<NaiveDate> {
+pub(super) fn parse_date(r: &rusqlite::Row<'_>, i: usize) -> rusqlite::Result<NaiveDate> {
     let s: String = r.get(i)?;
     NaiveDate::parse_from_str(&s, "%Y-%m-%d").map_err(|e| conversion(i, e))
 }
 
-fn parse_time(r: &rusqlite::Row<'_>, i: usize) -> rusqlite::Result<DateTime<Utc>> {
+pub(super) fn parse_time(r: &rusqlite::Row<'_>, i: usize) -> rusqlite::Result<DateTime<Utc>> {
     let s: String = r.get(i)?;
     DateTime::parse_from_rfc3339(&s)
         .map(|t| t.with_timezone(&Utc))
@@ -581,7 +586,7 @@ const PARTICIPANT_SELECT: &str =
     "SELECT code, arm, plan_name, plan_text, enrolled_at, enrolled_by FROM participants";
 
 /// The participant's row id and record, or an error naming the code.
-fn find_participant(
+pub(super) fn find_participant(
     conn: &Connection,
     name: &str,
     code: &str,

@@ -1,0 +1,109 @@
+//! Default measurement precision, used where a row does not state its own. Each
+//! figure is a repeat-measurement (short-term, in vivo) standard deviation or
+//! coefficient of variation, named with its source. Values marked "from memory"
+//! could not be read in a stored copy of the source when this was written; a site
+//! should replace them with its own precision study (docs/pilot-analysis.md).
+
+use serde::Serialize;
+
+/// One default with its source.
+#[derive(Debug, Clone, Copy, PartialEq, Serialize)]
+pub struct Precision {
+    /// What it applies to.
+    pub what: &'static str,
+    /// The relative SD (coefficient of variation), as a fraction.
+    pub cv: f64,
+    /// Where the figure comes from.
+    pub source: &'static str,
+}
+
+/// DXA whole-body fat mass, repeat scans on the same day with repositioning: CV
+/// about 1-2 %; 1.5 % used.
+pub const DXA_FAT: Precision = Precision {
+    what: "DXA fat mass",
+    cv: 0.015,
+    source: "Toombs RJ, Ducher G, Shepherd JA, De Souza MJ 2012, Obesity 20:30 (in vivo precision of whole-body DXA, review); figure from memory, unconfirmed",
+};
+
+/// DXA whole-body lean (fat-free) mass: CV about 0.5-1 %; 0.8 % used.
+pub const DXA_LEAN: Precision = Precision {
+    what: "DXA fat-free mass",
+    cv: 0.008,
+    source: "Toombs RJ et al. 2012, Obesity 20:30; figure from memory, unconfirmed",
+};
+
+/// Other methods of body composition (bioimpedance, air displacement,
+/// deuterium dilution): a wider 3 % on both compartments.
+pub const OTHER_COMPOSITION: Precision = Precision {
+    what: "fat and fat-free mass by a method other than DXA",
+    cv: 0.03,
+    source: "common practice, no source (a deliberately wider figure than DXA's)",
+};
+
+/// Resting metabolic rate by indirect calorimetry, day to day in the same person:
+/// CV about 3-5 %; 4 % used.
+pub const RMR_INDIRECT_CALORIMETRY: Precision = Precision {
+    what: "RMR by indirect calorimetry (day to day)",
+    cv: 0.04,
+    source: "Compher C, Frankenfield D, Keim N, Roth-Yousey L 2006, J Am Diet Assoc 106:881 (best-practice review of RMR measurement); figure from memory, unconfirmed",
+};
+
+/// Total energy expenditure by doubly labelled water over 1-3 weeks: analytical
+/// precision about 2-8 %; with the within-person variation of free living about
+/// 8 %; 6 % used.
+pub const TEE_DOUBLY_LABELLED_WATER: Precision = Precision {
+    what: "TEE by doubly labelled water",
+    cv: 0.06,
+    source: "Schoeller DA 1988, J Nutr 118:1278 (precision 2-8 %); Black AE, Cole TJ 2000, Eur J Clin Nutr 54:386 (within-person CV about 8 %); figures from memory, unconfirmed",
+};
+
+/// TEE by another method (accelerometry plus an equation, heart rate): 15 %.
+pub const TEE_OTHER: Precision = Precision {
+    what: "TEE by a method other than doubly labelled water",
+    cv: 0.15,
+    source: "common practice, no source (a deliberately wide figure)",
+};
+
+/// A stated baseline intake (food records, recall): 15 %.
+pub const INTAKE_REPORTED: Precision = Precision {
+    what: "baseline intake stated without a TEE measurement",
+    cv: 0.15,
+    source: "common practice, no source (self-report is known to under-report; use a TEE where there is one)",
+};
+
+/// The defaults for body composition by `method` (DXA, or anything else): (fat,
+/// fat-free).
+pub fn composition(method: &str) -> (Precision, Precision) {
+    if is_dxa(method) {
+        (DXA_FAT, DXA_LEAN)
+    } else {
+        (OTHER_COMPOSITION, OTHER_COMPOSITION)
+    }
+}
+
+/// The default for TEE by `method`.
+pub fn tee(method: &str) -> Precision {
+    let m = method.trim().to_ascii_lowercase();
+    if m == "dlw" || m.contains("doubly") {
+        TEE_DOUBLY_LABELLED_WATER
+    } else {
+        TEE_OTHER
+    }
+}
+
+/// Whether a method name means DXA.
+pub fn is_dxa(method: &str) -> bool {
+    let m = method.trim().to_ascii_lowercase();
+    m == "dxa" || m == "dexa" || m.contains("absorptiometry")
+}
+
+/// Every default, for reports.
+pub const ALL: [Precision; 7] = [
+    DXA_FAT,
+    DXA_LEAN,
+    OTHER_COMPOSITION,
+    RMR_INDIRECT_CALORIMETRY,
+    TEE_DOUBLY_LABELLED_WATER,
+    TEE_OTHER,
+    INTAKE_REPORTED,
+];
