@@ -850,6 +850,7 @@ pub fn run(command: &Command) -> Result<Printed, Error> {
                 }),
             }
         }
+        Command::Desk(args) => crate::desk::run(args),
         Command::Activities {
             text,
             met_min,

@@ -459,6 +459,8 @@ pub enum Command {
     /// Simulate a study's cohort: every participant in its arm (or every arm), summarised per arm.
     #[command(group = clap::ArgGroup::new("who").required(true).args(["roster", "synthetic"]))]
     Cohort(CohortArgs),
+    /// The trainer's desk: a local web server over a register, its accounts, and a demo register.
+    Desk(crate::desk::DeskArgs),
     /// List or search the built-in activity table and show the ACSM equations.
     Activities {
         /// A code (or its first digits) or words of the label, e.g. "cycling".

@@ -13,6 +13,7 @@
 pub mod activity;
 pub mod app;
 pub mod cli;
+pub mod desk;
 pub mod error;
 pub mod files;
 pub mod log;

@@ -7,7 +7,7 @@
 pub const APPLICATION_ID: i32 = i32::from_be_bytes(*b"DWRG");
 
 /// The migrations, oldest first; the schema version is their count.
-pub(super) const MIGRATIONS: &[&str] = &[V1];
+pub(super) const MIGRATIONS: &[&str] = &[V1, V2];
 
 /// The newest schema version this program knows.
 pub const SCHEMA_VERSION: i64 = MIGRATIONS.len() as i64;
@@ -109,4 +109,26 @@ CREATE TRIGGER sessions_keep BEFORE DELETE ON sessions
 BEGIN SELECT RAISE(ABORT, 'the register keeps every row: void or correct it instead of deleting'); END;
 CREATE TRIGGER sessions_fixed BEFORE UPDATE ON sessions
 BEGIN SELECT RAISE(ABORT, 'the register keeps every row: a recorded value cannot be changed; correct the row instead'); END;
+"#;
+
+/// Version 2: the desk's accounts (docs/desk.md) and the trail of what was done to
+/// them. Web sessions are kept in the server's memory only, never on disk.
+const V2: &str = r#"
+CREATE TABLE accounts (
+    id           INTEGER PRIMARY KEY,
+    name         TEXT NOT NULL UNIQUE CHECK (length(trim(name)) > 0),
+    role         TEXT NOT NULL CHECK (role IN ('trainer', 'dietitian', 'designer', 'admin')),
+    password_phc TEXT NOT NULL CHECK (password_phc LIKE '$argon2%'),
+    disabled     INTEGER NOT NULL DEFAULT 0 CHECK (disabled IN (0, 1)),
+    created_at   TEXT NOT NULL,
+    created_by   TEXT NOT NULL CHECK (length(trim(created_by)) > 0)
+);
+
+CREATE TABLE account_changes (
+    id         INTEGER PRIMARY KEY,
+    at         TEXT NOT NULL,
+    by         TEXT NOT NULL CHECK (length(trim(by)) > 0),
+    account_id INTEGER NOT NULL REFERENCES accounts (id),
+    action     TEXT NOT NULL CHECK (action IN ('create', 'password', 'disable', 'enable'))
+);
 "#;
