@@ -97,7 +97,19 @@ pub fn plans(start: NaiveDate, count: Option<usize>) -> Result<Vec<Enrolment>, E
                 participant.insert(key.to_string(), v);
             }
         }
-        participant.insert("screening".into(), toml::Value::Table(screening));
+        // A roster row with the screening unanswered gets no screening block (the
+        // plan then says screening is not recorded).
+        if !screening.is_empty() {
+            participant.insert("screening".into(), toml::Value::Table(screening));
+        }
+        // An invented resting heart rate (60 to 74 beats/min), so the sheets and the
+        // day view show a target heart-rate range.
+        let mut fitness = toml::Table::new();
+        fitness.insert(
+            "hr_rest_bpm".into(),
+            toml::Value::Float(60.0 + ((i * 5) % 15) as f64),
+        );
+        participant.insert("fitness".into(), toml::Value::Table(fitness));
         plan.insert("participant".into(), toml::Value::Table(participant));
         let protocol = plan
             .get_mut("protocol")
@@ -115,11 +127,14 @@ pub fn plans(start: NaiveDate, count: Option<usize>) -> Result<Vec<Enrolment>, E
         protocol.insert("dose".into(), arm["dose"].clone());
         let text = toml::to_string(&plan).map_err(|e| bad("a demo plan", e))?;
         let arm_name = arm.get("name").and_then(|n| n.as_str()).map(String::from);
-        out.push(Enrolment {
+        let e = Enrolment {
             plan_name: format!("{STUDY_NAME} and {ROSTER_NAME}"),
             plan_text: text,
             arm: arm_name,
-        });
+        };
+        // Every plan is checked before the register is created.
+        crate::plan::parse_plan(&e.plan_name, &e.plan_text)?;
+        out.push(e);
     }
     Ok(out)
 }
@@ -142,9 +157,10 @@ pub fn create(
     weeks_of_rows: u32,
     stamp: &Stamp,
 ) -> Result<Vec<String>, Error> {
+    let enrolments = plans(start, count)?;
     let mut store = SqliteStore::create(path)?;
     let mut codes = Vec::new();
-    for e in plans(start, count)? {
+    for e in enrolments {
         let p = store.enrol(&e, stamp)?;
         let plan = p.plan()?;
         let mass = plan.participant.subject.mass_kg;

@@ -565,13 +565,13 @@ async fn day(axum::extract::State(st): axum::extract::State<State>, h: HeaderMap
                                     td { @if l.due.is_empty() { "not due" } @else {
                                         @for s in &l.due { div { (s.activity) @if let Some(b) = s.bout { " (bout " (b) ")" } } }
                                     } }
-                                    td.n { @for s in &l.due { div { (s.minutes) } } }
+                                    td.n.minutes { @for s in &l.due { div { (s.minutes) } } }
                                     td.n { @for s in &l.due { div { (s.session_minutes) " min" } } }
-                                    td { @for s in &l.due { div { (hr_text(s)) } } }
+                                    td.hr { @for s in &l.due { div { (hr_text(s)) } } }
                                     td { @for s in &l.due { div { (s.targets.rpe.0) "-" (s.targets.rpe.1) } } }
                                     td {
                                         @if l.recorded.is_empty() { span.tag { "nothing yet" } }
-                                        @for r in &l.recorded { div { span.tag.done { (r.measure.kind()) } " " (describe(&r.measure)) } }
+                                        @for r in &l.recorded { div { span.tag.done { (r.measure.kind()) } " " (describe(&r.measure)) @if !r.measure.note().is_empty() { " · " span.muted { (r.measure.note()) } } } }
                                     }
                                     td { (l.screening) @if l.warnings > 0 { br; span.muted { (l.warnings) " warning(s) on the participant page" } } }
                                 }
