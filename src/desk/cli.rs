@@ -273,6 +273,10 @@ fn serve_blocking(config: Config) -> Result<(), Error> {
             );
         }
         eprintln!("desk: serving {} at http://{addr}/ (Ctrl-C stops)", st.config.register.display());
+        // Re-plan every participant once in the background, so the first day view
+        // does not wait for it (a failure here shows on the page when asked for).
+        let warm = st.clone();
+        tokio::task::spawn_blocking(move || warm.warm_up());
         super::serve_on(listener, st, shutdown_signal()).await?;
         eprintln!("desk: stopped");
         Ok(())

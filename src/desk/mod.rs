@@ -198,6 +198,14 @@ impl Desk {
             .unwrap_or_else(|_| HeaderValue::from_static("invalid=; Max-Age=0"))
     }
 
+    /// Re-plan every participant of the register into the cache (today's day
+    /// view); errors are left for the pages to show.
+    pub fn warm_up(&self) {
+        if let Ok(store) = SqliteStore::open_read_only(&self.config.register) {
+            let _ = views::day_view(&store, &self.cache, today());
+        }
+    }
+
     fn new_session(&self, account: &str) -> Result<(String, String), Fault> {
         let token = random_token()?;
         let csrf = random_token()?;

@@ -105,6 +105,11 @@ pre{background:#fff;border:1px solid #c8c8c8;padding:.6rem;overflow-x:auto;white
 .tag{display:inline-block;padding:0 .4rem;border-radius:3px;background:#e9ecef;font-size:.85rem}
 .tag.done{background:#d7f0da}
 .wide{overflow-x:auto}
+.nowrap{white-space:nowrap}
+td.screen,th.screen{min-width:14rem}
+.kv{font-size:.88rem;overflow-wrap:anywhere}
+label input,label select{display:block;margin-top:.15rem}
+.inline label input{display:inline;margin:0 .2rem 0 0}
 @media (max-width:900px){main{padding:.6rem}th,td{padding:.25rem .3rem;font-size:.92rem}}
 @media print{header.top,form,.noprint,button,.button{display:none!important}body{background:#fff}main{max-width:none;padding:0}a{color:#000;text-decoration:none}table{page-break-inside:auto}tr{page-break-inside:avoid}}
 "#;
@@ -512,6 +517,26 @@ fn safety(r: &Replan) -> Markup {
     }
 }
 
+/// The JSON values of an audit entry as "key: value" lines (empty values left
+/// out; a plan's text shown by its length only).
+fn values(json: Option<&str>) -> Markup {
+    let Some(text) = json else { return html! {} };
+    match serde_json::from_str::<serde_json::Map<String, serde_json::Value>>(text) {
+        Ok(map) => html! {
+            @for (k, v) in &map {
+                @match v {
+                    serde_json::Value::Null => {},
+                    serde_json::Value::String(s) if s.is_empty() => {},
+                    serde_json::Value::String(s) if k == "plan_text" => { div.kv { span.muted { (k) ": " } (s.lines().count()) " lines" } },
+                    serde_json::Value::String(s) => { div.kv { span.muted { (k) ": " } (s) } },
+                    other => { div.kv { span.muted { (k) ": " } (other.to_string()) } },
+                }
+            }
+        },
+        Err(_) => html! { code { (text) } },
+    }
+}
+
 fn hr_text(s: &crate::report::sessions::PlannedSession) -> String {
     match &s.targets.heart_rate {
         Some(h) => format!("{}-{} bpm", h.low_bpm, h.high_bpm),
@@ -552,28 +577,26 @@ async fn day(axum::extract::State(st): axum::extract::State<State>, h: HeaderMap
                 } @else {
                     div.wide { table {
                         thead { tr {
-                            th { "Participant" } th { "Arm" } th { "Week" } th { "Due" }
-                            th { "Minutes at target" } th { "Whole session" } th { "Target heart rate" } th { "RPE" }
-                            th { "Recorded today" } th { "Screening" }
+                            th { "Participant" } th { "Week" } th { "Due" }
+                            th { "Minutes at target" } th { "Target heart rate" } th { "RPE" }
+                            th { "Recorded on this date" } th.screen { "Screening" }
                         } }
                         tbody {
                             @for l in &v.lines {
                                 tr {
-                                    td { a href=(code_path(&l.code)) { (l.code) } }
-                                    td { (l.arm.as_deref().unwrap_or("")) }
+                                    td { a href=(code_path(&l.code)) { (l.code) } @if let Some(a) = &l.arm { br; span.muted { (a) } } }
                                     td.n { @if let Some(w) = l.week { (w) } }
                                     td { @if l.due.is_empty() { "not due" } @else {
                                         @for s in &l.due { div { (s.activity) @if let Some(b) = s.bout { " (bout " (b) ")" } } }
                                     } }
-                                    td.n.minutes { @for s in &l.due { div { (s.minutes) } } }
-                                    td.n { @for s in &l.due { div { (s.session_minutes) " min" } } }
-                                    td.hr { @for s in &l.due { div { (hr_text(s)) } } }
-                                    td { @for s in &l.due { div { (s.targets.rpe.0) "-" (s.targets.rpe.1) } } }
+                                    td.n.minutes { @for s in &l.due { div { (s.minutes) } div.muted { (s.session_minutes) " min in all" } } }
+                                    td.hr.nowrap { @for s in &l.due { div { (hr_text(s)) } } }
+                                    td.nowrap { @for s in &l.due { div { (s.targets.rpe.0) "-" (s.targets.rpe.1) } } }
                                     td {
                                         @if l.recorded.is_empty() { span.tag { "nothing yet" } }
                                         @for r in &l.recorded { div { span.tag.done { (r.measure.kind()) } " " (describe(&r.measure)) @if !r.measure.note().is_empty() { " · " span.muted { (r.measure.note()) } } } }
                                     }
-                                    td { (l.screening) @if l.warnings > 0 { br; span.muted { (l.warnings) " warning(s) on the participant page" } } }
+                                    td.screen { (l.screening) @if l.warnings > 0 { br; span.muted { (l.warnings) " warning(s) on the participant page" } } }
                                 }
                             }
                         }
@@ -626,7 +649,7 @@ fn mass_chart_svg(r: &Replan) -> String {
 fn weigh_in_fields(w: Option<&WeighIn>, date: NaiveDate) -> Markup {
     html! {
         label { "Date" input type="date" name="date" required value=(w.map_or(date, |w| w.date)); }
-        label { "Body mass" input name="mass" inputmode="decimal" required value=[w.map(|w| round_text(w.mass_kg, 3))]; }
+        label { "Body mass" input name="mass" inputmode="decimal" required value=[w.map(|w| w.mass_kg)]; }
         div.inline {
             label { input type="radio" name="unit" value="kg" checked; " kg" }
             label { input type="radio" name="unit" value="lb"; " lb" }
@@ -981,13 +1004,13 @@ async fn audit(
                         @for c in &changes {
                             tr {
                                 td.n { (c.id) }
-                                td { (c.stamp.at_text()) }
+                                td.nowrap { (c.stamp.at.format("%Y-%m-%d")) br; (c.stamp.at.format("%H:%M:%S%.3fZ")) }
                                 td { (c.stamp.who) }
                                 td { (c.action.name()) }
                                 td.n { @if let Some(r) = c.row { (r) } }
                                 td { (c.reason.as_deref().unwrap_or("")) }
-                                td { code { (c.old_values.as_deref().unwrap_or("")) } }
-                                td { code { (c.new_values.as_deref().unwrap_or("")) } }
+                                td { (values(c.old_values.as_deref())) }
+                                td { (values(c.new_values.as_deref())) }
                             }
                         }
                     }
