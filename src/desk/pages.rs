@@ -106,7 +106,7 @@ pre{background:#fff;border:1px solid #c8c8c8;padding:.6rem;overflow-x:auto;white
 .tag.done{background:#d7f0da}
 .wide{overflow-x:auto}
 .nowrap{white-space:nowrap}
-td.screen,th.screen{min-width:14rem}
+td.screen,th.screen{min-width:11rem}
 .kv{font-size:.88rem;overflow-wrap:anywhere}
 label input,label select{display:block;margin-top:.15rem}
 .inline label input{display:inline;margin:0 .2rem 0 0}
