@@ -77,14 +77,22 @@ fn main() {
     let get = |path: &str| -> String {
         let mut r = agent.get(format!("{base}{path}")).call().unwrap();
         assert_eq!(r.status(), 200, "{path}");
-        r.body_mut().with_config().limit(50_000_000).read_to_string().unwrap()
+        r.body_mut()
+            .with_config()
+            .limit(50_000_000)
+            .read_to_string()
+            .unwrap()
     };
     let page = get("/signin");
     let i = page.find("name=\"csrf\" value=\"").unwrap() + 19;
     let token = page[i..i + 64].to_string();
     let r = agent
         .post(format!("{base}/signin"))
-        .send_form([("csrf", token.as_str()), ("name", "t"), ("password", password)])
+        .send_form([
+            ("csrf", token.as_str()),
+            ("name", "t"),
+            ("password", password),
+        ])
         .unwrap();
     assert_eq!(r.status(), 303);
 
@@ -93,36 +101,56 @@ fn main() {
     let body = get(day);
     let cold = t.elapsed();
     assert!(body.contains("DSK-200"));
-    report("day view, 200 participants, cold (re-plans all)", None, (cold, cold));
-    report("day view, 200 participants, warm", Some(50.0), time(20, || {
-        get(day);
-    }));
-    report("participant page (DSK-100), warm", Some(50.0), time(20, || {
-        get("/p/DSK-100");
-    }));
-    report("audit page (DSK-100)", Some(50.0), time(20, || {
-        get("/p/DSK-100/audit");
-    }));
+    report(
+        "day view, 200 participants, cold (re-plans all)",
+        None,
+        (cold, cold),
+    );
+    report(
+        "day view, 200 participants, warm",
+        Some(50.0),
+        time(20, || {
+            get(day);
+        }),
+    );
+    report(
+        "participant page (DSK-100), warm",
+        Some(50.0),
+        time(20, || {
+            get("/p/DSK-100");
+        }),
+    );
+    report(
+        "audit page (DSK-100)",
+        Some(50.0),
+        time(20, || {
+            get("/p/DSK-100/audit");
+        }),
+    );
     // One new row: the next day view re-plans that participant only.
     let page = get("/p/DSK-050");
     let i = page.find("name=\"csrf\" value=\"").unwrap() + 19;
     let csrf = page[i..i + 64].to_string();
     let mut n = 0;
-    report("record a session + day view re-planning one", Some(100.0), time(10, || {
-        n += 1;
-        let note = format!("bench {n}");
-        let r = agent
-            .post(format!("{base}/p/DSK-050/session"))
-            .send_form([
-                ("csrf", csrf.as_str()),
-                ("date", "2027-01-13"),
-                ("minutes", "30"),
-                ("note", note.as_str()),
-            ])
-            .unwrap();
-        assert_eq!(r.status(), 200);
-        get(day);
-    }));
+    report(
+        "record a session + day view re-planning one",
+        Some(100.0),
+        time(10, || {
+            n += 1;
+            let note = format!("bench {n}");
+            let r = agent
+                .post(format!("{base}/p/DSK-050/session"))
+                .send_form([
+                    ("csrf", csrf.as_str()),
+                    ("date", "2027-01-13"),
+                    ("minutes", "30"),
+                    ("note", note.as_str()),
+                ])
+                .unwrap();
+            assert_eq!(r.status(), 200);
+            get(day);
+        }),
+    );
     drop(stop);
     server.join().unwrap();
 }

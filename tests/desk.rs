@@ -39,7 +39,10 @@ fn every_page_by_role_and_nothing_without_signing_in() {
     for p in pages {
         let r = anon.get(p);
         assert_eq!(r.status, 303, "{p} without signing in");
-        assert!(r.location.as_deref().unwrap_or("").starts_with("/signin"), "{p}");
+        assert!(
+            r.location.as_deref().unwrap_or("").starts_with("/signin"),
+            "{p}"
+        );
         assert!(!r.body.contains("PIL-"), "{p} leaks data");
     }
     // Which role may see what (docs/desk.md, "Accounts and roles").
@@ -47,9 +50,7 @@ fn every_page_by_role_and_nothing_without_signing_in() {
         let read = role != "admin";
         match page {
             "/day" | "/p/PIL-008" | "/p/PIL-008/audit" => read,
-            "/p/PIL-008/sheets?week=1" | "/sheets?date=2027-01-04" | "/row/1" => {
-                role == "trainer"
-            }
+            "/p/PIL-008/sheets?week=1" | "/sheets?date=2027-01-04" | "/row/1" => role == "trainer",
             "/p/PIL-008/fit" => role == "dietitian",
             p if p.starts_with("/export") => role == "designer",
             "/admin" => role == "admin",
@@ -69,7 +70,10 @@ fn every_page_by_role_and_nothing_without_signing_in() {
             let want = if allowed(role, p) { 200 } else { 403 };
             assert_eq!(r.status, want, "{account} GET {p}: {}", r.body);
             if want == 403 {
-                assert!(!r.body.contains("PIL-008"), "{account} {p}: the 403 leaks data");
+                assert!(
+                    !r.body.contains("PIL-008"),
+                    "{account} {p}: the 403 leaks data"
+                );
             }
         }
     }
@@ -158,7 +162,12 @@ fn correct_and_void_need_a_reason_and_keep_the_original() {
     let r = c.post_with_token(
         &page,
         &format!("/row/{id}/correct"),
-        &[("date", &day_of(0)), ("mass", "95.0"), ("unit", "kg"), ("reason", " ")],
+        &[
+            ("date", &day_of(0)),
+            ("mass", "95.0"),
+            ("unit", "kg"),
+            ("reason", " "),
+        ],
     );
     assert_eq!(r.status, 400);
     assert!(r.body.contains("reason"), "{}", r.body);
@@ -294,18 +303,31 @@ fn hostile_text_is_escaped_everywhere() {
     // A participant code in the path is escaped in the 400/404 page.
     let r = c.get("/p/%3Cscript%3E");
     assert!(!r.body.contains("<script>"), "{}", r.body);
-    for page in ["/p/PIL-008", "/p/PIL-008/audit", &format!("/day?date={}", day_of(0))] {
+    for page in [
+        "/p/PIL-008",
+        "/p/PIL-008/audit",
+        &format!("/day?date={}", day_of(0)),
+    ] {
         let body = c.get(page).body;
         assert!(!body.contains("<script>"), "{page}");
         assert!(!body.contains("<img src=x"), "{page}");
-        assert!(body.contains("&lt;script&gt;alert(1)&lt;/script&gt;"), "{page}");
+        assert!(
+            body.contains("&lt;script&gt;alert(1)&lt;/script&gt;"),
+            "{page}"
+        );
         assert!(body.contains("&amp;lt;already&amp;gt;"), "{page}");
     }
     let d = server.signed_in("designer1");
     let csv = d.get("/export/sessions.csv");
     assert!(csv.content_type.starts_with("text/csv"));
-    assert!(csv.body.contains("<script>alert(1)</script>"), "CSV holds the text as given");
+    assert!(
+        csv.body.contains("<script>alert(1)</script>"),
+        "CSV holds the text as given"
+    );
 }
+
+/// A form's path, its fields, and the field the 400 must name.
+type Case = (&'static str, Vec<(&'static str, String)>, &'static str);
 
 #[test]
 fn bad_values_get_a_400_naming_the_field() {
@@ -313,36 +335,60 @@ fn bad_values_get_a_400_naming_the_field() {
     let server = Server::start(site.config());
     let c = server.signed_in("trainer1");
     let before = site.counts();
-    let cases: Vec<(&str, Vec<(&str, String)>, &str)> = vec![
+    let cases: Vec<Case> = vec![
         (
             "/p/PIL-008/weigh-in",
-            vec![("date", day_of(0)), ("mass", "abc".into()), ("unit", "kg".into())],
+            vec![
+                ("date", day_of(0)),
+                ("mass", "abc".into()),
+                ("unit", "kg".into()),
+            ],
             "mass",
         ),
         (
             "/p/PIL-008/weigh-in",
-            vec![("date", day_of(0)), ("mass", "80".into()), ("unit", "stone".into())],
+            vec![
+                ("date", day_of(0)),
+                ("mass", "80".into()),
+                ("unit", "stone".into()),
+            ],
             "unit",
         ),
         (
             "/p/PIL-008/weigh-in",
-            vec![("date", "2027-13-40".into()), ("mass", "80".into()), ("unit", "kg".into())],
+            vec![
+                ("date", "2027-13-40".into()),
+                ("mass", "80".into()),
+                ("unit", "kg".into()),
+            ],
             "date",
         ),
         (
             "/p/PIL-008/weigh-in",
-            vec![("date", day_of(0)), ("mass", "NaN".into()), ("unit", "kg".into())],
+            vec![
+                ("date", day_of(0)),
+                ("mass", "NaN".into()),
+                ("unit", "kg".into()),
+            ],
             "mass",
         ),
         // The log's own rules (the register validates through the log's parser).
         (
             "/p/PIL-008/weigh-in",
-            vec![("date", day_of(1)), ("mass", "5".into()), ("unit", "kg".into())],
+            vec![
+                ("date", day_of(1)),
+                ("mass", "5".into()),
+                ("unit", "kg".into()),
+            ],
             "mass_kg",
         ),
         (
             "/p/PIL-008/weigh-in",
-            vec![("date", "2026-01-01".into()), ("mass", "90".into()), ("unit", "kg".into())],
+            vec![
+                ("date", "2026-01-01".into()),
+                ("mass", "90".into()),
+                ("unit", "kg".into()),
+            ],
             "date",
         ),
         (
@@ -352,12 +398,20 @@ fn bad_values_get_a_400_naming_the_field() {
         ),
         (
             "/p/PIL-008/session",
-            vec![("date", day_of(0)), ("minutes", "30".into()), ("rpe", "40".into())],
+            vec![
+                ("date", day_of(0)),
+                ("minutes", "30".into()),
+                ("rpe", "40".into()),
+            ],
             "rpe",
         ),
         (
             "/p/PIL-008/session",
-            vec![("date", day_of(0)), ("minutes", "30".into()), ("watts", "-1".into())],
+            vec![
+                ("date", day_of(0)),
+                ("minutes", "30".into()),
+                ("watts", "-1".into()),
+            ],
             "watts",
         ),
     ];
@@ -365,7 +419,11 @@ fn bad_values_get_a_400_naming_the_field() {
         let f: Vec<(&str, &str)> = form.iter().map(|(k, v)| (*k, v.as_str())).collect();
         let r = c.post_with_token("/p/PIL-008", path, &f);
         assert_eq!(r.status, 400, "{path} {form:?}: {}", r.body);
-        assert!(r.body.contains(key), "{path} {form:?} should name {key}: {}", r.body);
+        assert!(
+            r.body.contains(key),
+            "{path} {form:?} should name {key}: {}",
+            r.body
+        );
     }
     // Not enrolled.
     let r = c.post_with_token(
@@ -497,7 +555,12 @@ fn a_disabled_account_loses_access_at_once() {
     let before = site.counts();
     let r = t.post(
         "/p/PIL-008/weigh-in",
-        &[("csrf", &token), ("date", &day_of(0)), ("mass", "90"), ("unit", "kg")],
+        &[
+            ("csrf", &token),
+            ("date", &day_of(0)),
+            ("mass", "90"),
+            ("unit", "kg"),
+        ],
     );
     assert_eq!(r.status, 303);
     assert_eq!(site.counts(), before);
@@ -609,7 +672,10 @@ fn sign_in_is_rate_limited_per_account_and_per_address() {
     // address's own limit is reached.
     assert_eq!(c.sign_in("trainer2", PASSWORD).status, 303);
     for _ in 0..3 {
-        assert_eq!(server.client().sign_in("nobody", "wrong password!").status, 401);
+        assert_eq!(
+            server.client().sign_in("nobody", "wrong password!").status,
+            401
+        );
     }
     assert_eq!(server.client().sign_in("trainer2", PASSWORD).status, 429);
     // A sign-in form without its token is refused.

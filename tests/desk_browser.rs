@@ -49,7 +49,10 @@ fn start_driver(path: &Path) -> (Driver, u16) {
     let driver = Driver(child);
     let t0 = Instant::now();
     while std::net::TcpStream::connect(("127.0.0.1", port)).is_err() {
-        assert!(t0.elapsed() < Duration::from_secs(30), "chromedriver did not listen");
+        assert!(
+            t0.elapsed() < Duration::from_secs(30),
+            "chromedriver did not listen"
+        );
         std::thread::sleep(Duration::from_millis(100));
     }
     (driver, port)
@@ -115,7 +118,15 @@ async fn sign_in(c: &Client, base: &str, name: &str) {
         .click()
         .await
         .unwrap();
-    wait_title(c, if name == "admin1" { "Accounts" } else { "Day view" }).await;
+    wait_title(
+        c,
+        if name == "admin1" {
+            "Accounts"
+        } else {
+            "Day view"
+        },
+    )
+    .await;
 }
 
 async fn sign_out(c: &Client) {
@@ -194,7 +205,13 @@ fn the_desk_in_chromium() {
             .await
             .unwrap();
         wait_title(&c, "Participant PIL-008").await;
-        assert!(c.current_url().await.unwrap().path().ends_with("/p/PIL-008"));
+        assert!(
+            c.current_url()
+                .await
+                .unwrap()
+                .path()
+                .ends_with("/p/PIL-008")
+        );
         shoot(&c, "participant").await;
 
         // A weigh-in in pounds.
@@ -272,7 +289,10 @@ fn the_desk_in_chromium() {
             .await
             .unwrap();
         let corrected = wait_title(&c, "Corrected row ").await;
-        assert!(corrected.contains(&format!("Corrected row {id}")), "{corrected}");
+        assert!(
+            corrected.contains(&format!("Corrected row {id}")),
+            "{corrected}"
+        );
 
         // The audit shows the record, the correction, who and why.
         c.goto(&format!("{base}/p/PIL-008/audit")).await.unwrap();
@@ -283,7 +303,9 @@ fn the_desk_in_chromium() {
         shoot(&c, "audit").await;
 
         // Print week 2's sheet to PDF.
-        c.goto(&format!("{base}/p/PIL-008/sheets?week=2")).await.unwrap();
+        c.goto(&format!("{base}/p/PIL-008/sheets?week=2"))
+            .await
+            .unwrap();
         shoot(&c, "sheet").await;
         let pdf = c
             .print(
@@ -296,7 +318,9 @@ fn the_desk_in_chromium() {
         assert!(pdf.starts_with(b"%PDF-"), "the print is a PDF");
         assert!(pdf.len() > 1000);
         std::fs::write(shots_dir().join("sheet-week2.pdf"), &pdf).unwrap();
-        c.goto(&format!("{base}/sheets?date={monday2}")).await.unwrap();
+        c.goto(&format!("{base}/sheets?date={monday2}"))
+            .await
+            .unwrap();
         shoot(&c, "site-sheets").await;
         c.goto(&format!("{base}/account")).await.unwrap();
         shoot(&c, "account").await;
@@ -305,7 +329,9 @@ fn the_desk_in_chromium() {
         sign_in(&c, &base, "dietitian1").await;
         c.goto(&format!("{base}/p/PIL-008/fit")).await.unwrap();
         shoot(&c, "fit").await;
-        c.goto(&format!("{base}/p/PIL-008/sheets?week=2")).await.unwrap();
+        c.goto(&format!("{base}/p/PIL-008/sheets?week=2"))
+            .await
+            .unwrap();
         assert!(c.source().await.unwrap().contains("Not allowed"));
         shoot(&c, "forbidden").await;
         c.goto(&format!("{base}/day?date={monday2}")).await.unwrap();

@@ -125,7 +125,7 @@ pub fn check_name(name: &str) -> Result<(), Error> {
 /// A new password: [`MIN_PASSWORD_CHARS`] to [`MAX_PASSWORD_CHARS`] characters.
 pub fn check_password(password: &str) -> Result<(), Error> {
     let n = password.chars().count();
-    if n < MIN_PASSWORD_CHARS || n > MAX_PASSWORD_CHARS {
+    if !(MIN_PASSWORD_CHARS..=MAX_PASSWORD_CHARS).contains(&n) {
         return Err(Error::Usage(format!(
             "password: {n} characters; give {MIN_PASSWORD_CHARS} to {MAX_PASSWORD_CHARS} characters"
         )));
@@ -176,7 +176,13 @@ impl Account {
 }
 
 fn account_of(row: &rusqlite::Row<'_>) -> rusqlite::Result<(i64, String, String, bool, String)> {
-    Ok((row.get(0)?, row.get(1)?, row.get(2)?, row.get(3)?, row.get(4)?))
+    Ok((
+        row.get(0)?,
+        row.get(1)?,
+        row.get(2)?,
+        row.get(3)?,
+        row.get(4)?,
+    ))
 }
 
 fn to_account((id, name, role, disabled, phc): (i64, String, String, bool, String)) -> Account {
@@ -230,7 +236,9 @@ pub fn create(
         .transaction_with_behavior(rusqlite::TransactionBehavior::Immediate)
         .map_err(|e| db("register", e))?;
     let exists: Option<i64> = tx
-        .query_row("SELECT id FROM accounts WHERE name = ?1", [name], |r| r.get(0))
+        .query_row("SELECT id FROM accounts WHERE name = ?1", [name], |r| {
+            r.get(0)
+        })
         .optional()
         .map_err(|e| db("register", e))?;
     if exists.is_some() {
@@ -264,8 +272,7 @@ fn log_change(
 }
 
 fn existing(conn: &Connection, name: &str) -> Result<Account, Error> {
-    find(conn, name)?
-        .ok_or_else(|| Error::Usage(format!("name: there is no account \"{name}\"")))
+    find(conn, name)?.ok_or_else(|| Error::Usage(format!("name: there is no account \"{name}\"")))
 }
 
 /// Set a new password.

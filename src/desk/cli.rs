@@ -126,8 +126,11 @@ fn read_password(from_stdin: bool) -> Result<String, Error> {
             .map_err(|e| Error::Usage(format!("--password-stdin: cannot read: {e}")))?;
         return Ok(line.trim_end_matches(['\n', '\r']).to_string());
     }
-    let first = rpassword::prompt_password("Password: ")
-        .map_err(|e| Error::Usage(format!("cannot read the password from the terminal ({e}); use --password-stdin")))?;
+    let first = rpassword::prompt_password("Password: ").map_err(|e| {
+        Error::Usage(format!(
+            "cannot read the password from the terminal ({e}); use --password-stdin"
+        ))
+    })?;
     accounts::check_password(&first)?;
     let again = rpassword::prompt_password("Again: ")
         .map_err(|e| Error::Usage(format!("cannot read the password: {e}")))?;
@@ -221,7 +224,9 @@ fn account(action: &AccountAction) -> Result<Printed, Error> {
         } => {
             let mut conn = connect(register)?;
             if accounts::find(&conn, name)?.is_none() {
-                return Err(Error::Usage(format!("--name: there is no account \"{name}\"")));
+                return Err(Error::Usage(format!(
+                    "--name: there is no account \"{name}\""
+                )));
             }
             let password = read_password(*password_stdin)?;
             accounts::set_password(&mut conn, name, &password, &stamp()?)?;

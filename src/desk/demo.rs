@@ -52,7 +52,10 @@ pub fn plans(start: NaiveDate, count: Option<usize>) -> Result<Vec<Enrolment>, E
     let dosed: Vec<(&csv::StringRecord, &toml::Table)> = roster
         .iter()
         .filter_map(|r| {
-            let arm = header.iter().position(|h| h == "arm").and_then(|i| r.get(i))?;
+            let arm = header
+                .iter()
+                .position(|h| h == "arm")
+                .and_then(|i| r.get(i))?;
             let t = arms
                 .iter()
                 .find(|a| a.get("name").and_then(|n| n.as_str()) == Some(arm))?;

@@ -164,8 +164,7 @@ fn digest(token: &str) -> [u8; 32] {
 /// Equal strings, compared in time that depends only on the length.
 fn same(a: &str, b: &str) -> bool {
     a.len() == b.len()
-        && a
-            .bytes()
+        && a.bytes()
             .zip(b.bytes())
             .fold(0u8, |acc, (x, y)| acc | (x ^ y))
             == 0
@@ -370,7 +369,9 @@ impl IntoResponse for Fault {
             Fault::Forbidden(message) => {
                 pages::problem(StatusCode::FORBIDDEN, "Not allowed", &message)
             }
-            Fault::NotFound(message) => pages::problem(StatusCode::NOT_FOUND, "Not found", &message),
+            Fault::NotFound(message) => {
+                pages::problem(StatusCode::NOT_FOUND, "Not found", &message)
+            }
             Fault::TooMany(wait) => {
                 let mut r = pages::problem(
                     StatusCode::TOO_MANY_REQUESTS,

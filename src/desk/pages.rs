@@ -3,7 +3,7 @@
 use super::accounts::{self, Role};
 use super::views::{self, Replan};
 use super::{Fault, Fields, Need, State, Who, field, guarded, now, today};
-use crate::register::{self, Measure, Row, Session, Stamp, Status, Store, Which, WeighIn};
+use crate::register::{self, Measure, Row, Session, Stamp, Status, Store, WeighIn, Which};
 use crate::report::chart::{Series, mass_chart};
 use crate::report::sheets::{self, Paper};
 use crate::report::units::{KG_PER_LB, Units};
@@ -63,7 +63,10 @@ async fn security_headers(mut r: Response) -> Response {
         header::X_CONTENT_TYPE_OPTIONS,
         HeaderValue::from_static("nosniff"),
     );
-    h.insert(header::REFERRER_POLICY, HeaderValue::from_static("no-referrer"));
+    h.insert(
+        header::REFERRER_POLICY,
+        HeaderValue::from_static("no-referrer"),
+    );
     h.insert(header::X_FRAME_OPTIONS, HeaderValue::from_static("DENY"));
     h.insert(header::CACHE_CONTROL, HeaderValue::from_static("no-store"));
     r
@@ -288,7 +291,11 @@ async fn signin(
                 Ok(t) => t,
                 Err(f) => return f.into_response(),
             };
-            let mut r = see_other(if role == Role::Admin { "/admin" } else { "/day" });
+            let mut r = see_other(if role == Role::Admin {
+                "/admin"
+            } else {
+                "/day"
+            });
             let h = r.headers_mut();
             h.append(
                 header::SET_COOKIE,
@@ -368,8 +375,7 @@ fn number(fields: &Fields, key: &str, what: &str) -> Result<Option<f64>, Fault> 
 }
 
 fn required(fields: &Fields, key: &str, what: &str) -> Result<f64, Fault> {
-    number(fields, key, what)?
-        .ok_or_else(|| Fault::Bad(format!("{key}: missing; give {what}")))
+    number(fields, key, what)?.ok_or_else(|| Fault::Bad(format!("{key}: missing; give {what}")))
 }
 
 fn text(fields: &Fields, key: &str) -> String {
@@ -552,7 +558,11 @@ fn csrf(who: &Who) -> Markup {
 // The day view
 // ---------------------------------------------------------------------------
 
-async fn day(axum::extract::State(st): axum::extract::State<State>, h: HeaderMap, q: Q) -> Response {
+async fn day(
+    axum::extract::State(st): axum::extract::State<State>,
+    h: HeaderMap,
+    q: Q,
+) -> Response {
     let q = q.0;
     guarded(st, h, Need::Read, None, move |desk, who, store, _| {
         let date = query_date(&q)?;
@@ -638,7 +648,10 @@ fn mass_chart_svg(r: &Replan) -> String {
             markers_only: true,
         });
     }
-    chart.title = format!("Body mass: projection re-planned from the log, and weigh-ins ({})", r.report.participant_id);
+    chart.title = format!(
+        "Body mass: projection re-planned from the log, and weigh-ins ({})",
+        r.report.participant_id
+    );
     chart.caption.push_str(&format!(
         " Points: the recorded weigh-ins. Screening: {}.",
         r.report.screening.recommendation
@@ -818,24 +831,30 @@ async fn record(
     fields: Fields,
     parse: fn(&Fields) -> Result<Measure, Fault>,
 ) -> Response {
-    guarded(st, h, Need::Record, Some(fields), move |_, who, store, fields| {
-        let fields = fields.unwrap_or_default();
-        let m = parse(&fields)?;
-        let recorded = store.record(&code, &m, &stamp(who)?)?;
-        let r = recorded.row;
-        saved(
-            who,
-            &format!("Recorded row {}", r.id),
-            &code,
-            &format!(
-                "{} of {}: {}",
-                r.measure.kind(),
-                r.measure.date(),
-                describe(&r.measure)
-            ),
-            &recorded.warnings,
-        )
-    })
+    guarded(
+        st,
+        h,
+        Need::Record,
+        Some(fields),
+        move |_, who, store, fields| {
+            let fields = fields.unwrap_or_default();
+            let m = parse(&fields)?;
+            let recorded = store.record(&code, &m, &stamp(who)?)?;
+            let r = recorded.row;
+            saved(
+                who,
+                &format!("Recorded row {}", r.id),
+                &code,
+                &format!(
+                    "{} of {}: {}",
+                    r.measure.kind(),
+                    r.measure.date(),
+                    describe(&r.measure)
+                ),
+                &recorded.warnings,
+            )
+        },
+    )
     .await
 }
 
@@ -933,27 +952,33 @@ async fn correct(
     Path(id): Path<String>,
     Form(fields): Form<Fields>,
 ) -> Response {
-    guarded(st, h, Need::Record, Some(fields), move |_, who, store, fields| {
-        let fields = fields.unwrap_or_default();
-        let row = find_row(&*store, &id)?;
-        let m = match row.measure {
-            Measure::WeighIn(_) => weigh_in_of(&fields)?,
-            Measure::Session(_) => session_of(&fields)?,
-        };
-        let why = reason(&fields)?;
-        let recorded = store.correct(row.id, &m, &stamp(who)?, &why)?;
-        saved(
-            who,
-            &format!("Corrected row {} (now row {})", row.id, recorded.row.id),
-            &row.participant,
-            &format!(
-                "{} -> {}; reason: {why}",
-                describe(&row.measure),
-                describe(&recorded.row.measure)
-            ),
-            &recorded.warnings,
-        )
-    })
+    guarded(
+        st,
+        h,
+        Need::Record,
+        Some(fields),
+        move |_, who, store, fields| {
+            let fields = fields.unwrap_or_default();
+            let row = find_row(&*store, &id)?;
+            let m = match row.measure {
+                Measure::WeighIn(_) => weigh_in_of(&fields)?,
+                Measure::Session(_) => session_of(&fields)?,
+            };
+            let why = reason(&fields)?;
+            let recorded = store.correct(row.id, &m, &stamp(who)?, &why)?;
+            saved(
+                who,
+                &format!("Corrected row {} (now row {})", row.id, recorded.row.id),
+                &row.participant,
+                &format!(
+                    "{} -> {}; reason: {why}",
+                    describe(&row.measure),
+                    describe(&recorded.row.measure)
+                ),
+                &recorded.warnings,
+            )
+        },
+    )
     .await
 }
 
@@ -963,19 +988,25 @@ async fn void(
     Path(id): Path<String>,
     Form(fields): Form<Fields>,
 ) -> Response {
-    guarded(st, h, Need::Record, Some(fields), move |_, who, store, fields| {
-        let fields = fields.unwrap_or_default();
-        let row = find_row(&*store, &id)?;
-        let why = reason(&fields)?;
-        store.void(row.id, &stamp(who)?, &why)?;
-        saved(
-            who,
-            &format!("Voided row {}", row.id),
-            &row.participant,
-            &format!("{}; reason: {why}", describe(&row.measure)),
-            &[],
-        )
-    })
+    guarded(
+        st,
+        h,
+        Need::Record,
+        Some(fields),
+        move |_, who, store, fields| {
+            let fields = fields.unwrap_or_default();
+            let row = find_row(&*store, &id)?;
+            let why = reason(&fields)?;
+            store.void(row.id, &stamp(who)?, &why)?;
+            saved(
+                who,
+                &format!("Voided row {}", row.id),
+                &row.participant,
+                &format!("{}; reason: {why}", describe(&row.measure)),
+                &[],
+            )
+        },
+    )
     .await
 }
 
@@ -1022,13 +1053,13 @@ async fn audit(
                         @for r in &rows {
                             tr {
                                 td.n { (r.id) }
-                                td { (r.measure.date()) }
-                                td { (r.measure.kind()) }
+                                td.nowrap { (r.measure.date()) }
+                                td.nowrap { (r.measure.kind()) }
                                 td { (describe(&r.measure)) }
                                 td { (r.status.name()) @if let Status::Superseded(by) = r.status { " by row " (by) } }
                                 td.n { @if let Some(s) = r.supersedes { (s) } }
                                 td { (r.recorded.who) }
-                                td { (r.recorded.at_text()) }
+                                td.nowrap { (r.recorded.at.format("%Y-%m-%d")) br; (r.recorded.at.format("%H:%M:%S%.3fZ")) }
                             }
                         }
                     }
@@ -1170,7 +1201,10 @@ async fn fit(
 // Export
 // ---------------------------------------------------------------------------
 
-async fn export_page(axum::extract::State(st): axum::extract::State<State>, h: HeaderMap) -> Response {
+async fn export_page(
+    axum::extract::State(st): axum::extract::State<State>,
+    h: HeaderMap,
+) -> Response {
     guarded(st, h, Need::Export, None, |_, who, store, _| {
         let n = store.participants()?.len();
         ok(page(
@@ -1202,7 +1236,7 @@ async fn export_file(
             "changes.csv" => register::changes_csv(&store.audit(None)?)?,
             _ => return Err(Fault::NotFound(format!("no export named {file}"))),
         };
-        Ok(Response::builder()
+        Response::builder()
             .status(StatusCode::OK)
             .header(header::CONTENT_TYPE, "text/csv; charset=utf-8")
             .header(
@@ -1210,7 +1244,7 @@ async fn export_file(
                 format!("attachment; filename=\"{file}\""),
             )
             .body(Body::from(text))
-            .map_err(|e| Fault::Internal(e.to_string()))?)
+            .map_err(|e| Fault::Internal(e.to_string()))
     })
     .await
 }
@@ -1219,7 +1253,10 @@ async fn export_file(
 // Accounts
 // ---------------------------------------------------------------------------
 
-async fn account_page(axum::extract::State(st): axum::extract::State<State>, h: HeaderMap) -> Response {
+async fn account_page(
+    axum::extract::State(st): axum::extract::State<State>,
+    h: HeaderMap,
+) -> Response {
     guarded(st, h, Need::Any, None, |_, who, _, _| {
         ok(page(
             "Password",
@@ -1271,7 +1308,10 @@ async fn change_password(
     .await
 }
 
-async fn admin_page(axum::extract::State(st): axum::extract::State<State>, h: HeaderMap) -> Response {
+async fn admin_page(
+    axum::extract::State(st): axum::extract::State<State>,
+    h: HeaderMap,
+) -> Response {
     guarded(st, h, Need::Admin, None, |desk, who, _, _| {
         let conn = accounts::connect(&desk.config.register)?;
         let list = accounts::list(&conn)?;

@@ -55,11 +55,14 @@ impl Replan {
     }
 }
 
+/// The cache's map: code to (digest, re-planned participant).
+type Entries = HashMap<String, ([u8; 32], Arc<Replan>)>;
+
 /// Re-planned participants, keyed by code, each with the digest of the plan text
 /// and current rows it was computed from.
 #[derive(Debug, Default)]
 pub struct Cache {
-    entries: Mutex<HashMap<String, ([u8; 32], Arc<Replan>)>>,
+    entries: Mutex<Entries>,
 }
 
 /// The log as `schedule --log` reads it (measured data up to the log's last date,
@@ -121,7 +124,7 @@ impl Cache {
         self.replan(store, &participant, &rows)
     }
 
-    fn lock(&self) -> std::sync::MutexGuard<'_, HashMap<String, ([u8; 32], Arc<Replan>)>> {
+    fn lock(&self) -> std::sync::MutexGuard<'_, Entries> {
         // A panic while holding the lock leaves only a cache behind: use it.
         self.entries.lock().unwrap_or_else(|p| p.into_inner())
     }

@@ -29,8 +29,11 @@ impl Site {
     pub fn new() -> Site {
         let dir = tempfile::tempdir().unwrap();
         let register = dir.path().join("site.db");
-        let stamp = Stamp::new("test-setup", Utc.with_ymd_and_hms(2027, 1, 1, 8, 0, 0).unwrap())
-            .unwrap();
+        let stamp = Stamp::new(
+            "test-setup",
+            Utc.with_ymd_and_hms(2027, 1, 1, 8, 0, 0).unwrap(),
+        )
+        .unwrap();
         desk::demo::create(&register, start(), None, 0, &stamp).unwrap();
         let mut conn = accounts::connect(&register).unwrap();
         for (name, role) in [
