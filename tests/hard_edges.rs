@@ -1841,6 +1841,28 @@ fn usage_cases() -> Vec<Case> {
             ],
             Clap(&["error: unexpected argument '--units' found"]),
         ),
+        // desk
+        case(
+            "desk_serve_idle_zero",
+            &["desk", "serve", "site.db", "--idle-minutes", "0"],
+            Exact("error: --idle-minutes: 0 is not allowed; give 1 or more"),
+        ),
+        case(
+            "desk_demo_existing_file",
+            &["desk", "demo", "plan.toml"],
+            Exact(
+                "error: plan.toml: the file already exists; open the register there, or choose a new file name",
+            ),
+        ),
+        case(
+            "desk_account_bad_role",
+            &[
+                "desk", "account", "add", "site.db", "--name", "x", "--role", "chef",
+            ],
+            Exact(
+                "error: role: \"chef\" is not a role; give trainer, dietitian, designer or admin",
+            ),
+        ),
     ]
 }
 
@@ -3526,7 +3548,11 @@ fn the_determinism_runs_cover_every_command_format_and_chart() {
         .flat_map(|(_, kinds, _)| kinds.iter())
         .map(|(c, f)| (c.to_string(), f.to_string()))
         .collect();
-    let missing: Vec<_> = output_kinds().difference(&covered).cloned().collect();
+    let missing: Vec<_> = output_kinds()
+        .difference(&covered)
+        .filter(|(c, f)| !CLOCKED.contains(&(c.as_str(), f.as_str())))
+        .cloned()
+        .collect();
     assert!(missing.is_empty(), "outputs not in outputs(): {missing:?}");
     for (name, kinds, args) in outputs() {
         for (cmd, kind) in kinds.iter() {
@@ -4234,10 +4260,29 @@ const AUDIT: &[Audited] = &[
 ];
 
 /// Outputs that are not reports: they carry no projection and no advice.
-const NOT_REPORTS: &[((&str, &str), &str)] = &[(
-    ("log add", ""),
-    "one confirmation line on stderr (\"log.csv: added line N: ...\") and the row's own warnings",
-)];
+const NOT_REPORTS: &[((&str, &str), &str)] = &[
+    (
+        ("log add", ""),
+        "one confirmation line on stderr (\"log.csv: added line N: ...\") and the row's own warnings",
+    ),
+    (
+        ("desk serve", ""),
+        "a web server; its participant pages and sheets carry the screening result and cautions (tests/desk.rs)",
+    ),
+    (
+        ("desk demo", ""),
+        "one line naming the register created and the participants enrolled",
+    ),
+    (
+        ("desk account", ""),
+        "one confirmation line per account action",
+    ),
+];
+
+/// Outputs that record the clock by design, so no two runs are byte-identical: the
+/// desk's commands write registers and accounts stamped with the time of the change
+/// (docs/register.md, "Audit rules"), and `desk serve` runs until stopped.
+const CLOCKED: &[(&str, &str)] = &[("desk serve", ""), ("desk demo", ""), ("desk account", "")];
 
 /// Gaps in the cautions that exist today, found by this audit (reported; their
 /// owners fix them in src/). Each is asserted to be still missing, so closing one

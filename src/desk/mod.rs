@@ -467,7 +467,24 @@ where
     let out = tokio::task::spawn_blocking(move || {
         let who = check(&st, &headers, need, form.as_ref())?;
         let mut store = SqliteStore::open(&st.config.register)?;
-        f(&st, &who, &mut store, form)
+        f(&st, &who, &mut store, form).map_err(|fault| match fault {
+            // Messages name the register by its file name, not the server's path.
+            Fault::Bad(m) => {
+                let full = st.config.register.display().to_string();
+                let short = st
+                    .config
+                    .register
+                    .file_name()
+                    .map(|n| n.to_string_lossy().into_owned())
+                    .unwrap_or_default();
+                Fault::Bad(if full.is_empty() {
+                    m
+                } else {
+                    m.replace(&full, &short)
+                })
+            }
+            other => other,
+        })
     })
     .await;
     match out {
