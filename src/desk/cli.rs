@@ -272,12 +272,13 @@ fn serve_blocking(config: Config) -> Result<(), Error> {
             .local_addr()
             .map_err(|e| Error::Internal(e.to_string()))?;
         let st = super::state(config)?;
-        if !addr.ip().is_loopback() {
-            eprintln!(
-                "warning: the desk listens on {addr}, reachable from the network. Protect it: a firewall limited to the site's machines, and HTTPS through a reverse proxy (then use --behind-tls)."
-            );
+        if let Some(w) = listen_warning(addr) {
+            eprintln!("{w}");
         }
-        eprintln!("desk: serving {} at http://{addr}/ (Ctrl-C stops)", st.config.register.display());
+        eprintln!(
+            "desk: serving {} at http://{addr}/ (Ctrl-C stops)",
+            st.config.register.display()
+        );
         // Re-plan every participant once in the background, so the first day view
         // does not wait for it (a failure here shows on the page when asked for).
         let warm = st.clone();
@@ -285,6 +286,15 @@ fn serve_blocking(config: Config) -> Result<(), Error> {
         super::serve_on(listener, st, shutdown_signal()).await?;
         eprintln!("desk: stopped");
         Ok(())
+    })
+}
+
+/// The warning printed when the desk listens on anything but loopback.
+pub fn listen_warning(addr: SocketAddr) -> Option<String> {
+    (!addr.ip().is_loopback()).then(|| {
+        format!(
+            "warning: the desk listens on {addr}, reachable from the network. Protect it: a firewall limited to the site's machines, and HTTPS through a reverse proxy (then use --behind-tls)."
+        )
     })
 }
 
