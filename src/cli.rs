@@ -322,6 +322,8 @@ pub enum Command {
     Cohort(CohortArgs),
     /// Analyse a pilot in a register: achieved against delivered energy, intake balance, the gap's causes; scenarios for the next study.
     Pilot(PilotArgs),
+    /// The trainer's desk: a local web server over a register, its accounts, and a demo register.
+    Desk(crate::desk::DeskArgs),
     /// List or search the built-in activity table and show the ACSM equations.
     Activities(ActivitiesArgs),
 }

@@ -13,6 +13,7 @@
 pub mod activity;
 pub mod cli;
 pub mod commands;
+pub mod desk;
 pub mod error;
 pub mod input;
 pub mod log;

@@ -21,9 +21,13 @@ fn finish_renames_on_a_signal() {
 }
 
 fn main() -> ExitCode {
-    #[cfg(unix)]
-    finish_renames_on_a_signal();
     let cli = dosewright::cli::Cli::parse();
+    // The desk's server stops gracefully on the same signals (src/desk/cli.rs) and
+    // writes no output files, so it keeps its own handler.
+    #[cfg(unix)]
+    if !matches!(cli.command, dosewright::cli::Command::Desk(_)) {
+        finish_renames_on_a_signal();
+    }
     match dosewright::commands::run(&cli.command) {
         Ok(printed) => {
             let mut out = std::io::stdout().lock();

@@ -1685,7 +1685,11 @@ fn the_determinism_runs_cover_every_command_format_and_chart() {
         .flat_map(|(_, kinds, _)| kinds.iter())
         .map(|(c, f)| (c.to_string(), f.to_string()))
         .collect();
-    let missing: Vec<_> = output_kinds().difference(&covered).cloned().collect();
+    let missing: Vec<_> = output_kinds()
+        .difference(&covered)
+        .filter(|(c, f)| !CLOCKED.contains(&(c.as_str(), f.as_str())))
+        .cloned()
+        .collect();
     assert!(missing.is_empty(), "outputs not in outputs(): {missing:?}");
     for (name, kinds, args) in outputs() {
         for (cmd, kind) in kinds.iter() {
@@ -2412,7 +2416,24 @@ const NOT_REPORTS: &[((&str, &str), &str)] = &[
         ("pilot", "chart"),
         "achieved against delivered energy of a finished pilot; it prescribes nothing",
     ),
+    (
+        ("desk serve", ""),
+        "a web server; its participant pages and sheets carry the screening result and cautions (tests/desk.rs)",
+    ),
+    (
+        ("desk demo", ""),
+        "one line naming the register created and the participants enrolled",
+    ),
+    (
+        ("desk account", ""),
+        "one confirmation line per account action",
+    ),
 ];
+
+/// Outputs that record the clock by design, so no two runs are byte-identical: the
+/// desk's commands write registers and accounts stamped with the time of the change
+/// (docs/register.md, "Audit rules"), and `desk serve` runs until stopped.
+const CLOCKED: &[(&str, &str)] = &[("desk serve", ""), ("desk demo", ""), ("desk account", "")];
 
 /// Gaps in the cautions that exist today, found by this audit (reported; their
 /// owners fix them in src/). Each is asserted to be still missing, so closing one

@@ -8,14 +8,15 @@
 #![no_main]
 
 use dosewright::Error;
-use dosewright::app::{LogInput, schedule_report_logged};
+use dosewright::commands::LogInput;
+use dosewright::commands::schedule::schedule_report_logged;
 use dosewright::simulate::observed::Observed;
 use libfuzzer_sys::fuzz_target;
 use std::sync::OnceLock;
 
 fn plan() -> &'static dosewright::Plan {
     static PLAN: OnceLock<dosewright::Plan> = OnceLock::new();
-    PLAN.get_or_init(|| dosewright::app::load(None).expect("the demo plan is valid"))
+    PLAN.get_or_init(|| dosewright::commands::load(None).expect("the demo plan is valid"))
 }
 
 fn non_finite_word(text: &str) -> Option<&str> {

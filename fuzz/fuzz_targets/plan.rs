@@ -106,6 +106,6 @@ fuzz_target!(|data: &[u8]| {
         assert_eq!(non_finite_word(&csv), None, "CSV");
     }
     // The same plan through the library's own entry point agrees.
-    let again = dosewright::app::schedule_report(&plan).expect("a plan that ran runs again");
+    let again = dosewright::commands::schedule::schedule_report(&plan).expect("a plan that ran runs again");
     assert_eq!(again.scenarios, report.scenarios, "deterministic");
 });

@@ -52,6 +52,7 @@ pub fn run(command: &Command) -> Result<Printed, Error> {
         } => log::run(args),
         Command::Cohort(args) => cohort::run(args),
         Command::Pilot(args) => pilot::run(args),
+        Command::Desk(args) => crate::desk::run(args),
         Command::Check(args) => check::run(args),
         Command::Init(args) => init::run(args),
         Command::Activities(args) => activities::run(args),
@@ -88,18 +89,31 @@ pub fn read_log(
     };
     check_as_of(plan, as_of)?;
     let (log, warnings) = crate::log::load_log(path, plan, as_of)?;
-    let observed = Observed::from_log(plan, &log, as_of);
-    let summary = report::LogSummary {
-        path: log.path.clone(),
-        as_of: observed.as_of,
-        weigh_ins: observed.weigh_ins.len(),
-        sessions: observed.sessions.len(),
-    };
-    Ok(LogInput {
-        observed: Some(observed),
-        warnings,
-        summary: Some(summary),
-    })
+    Ok(LogInput::from_log(plan, &log, warnings, as_of))
+}
+
+impl LogInput {
+    /// A validated log (from a file or a register) as the simulation and the reports
+    /// take it, up to `as_of`: the one place a log becomes measured data.
+    pub fn from_log(
+        plan: &Plan,
+        log: &crate::log::Log,
+        warnings: Vec<Warning>,
+        as_of: Option<NaiveDate>,
+    ) -> LogInput {
+        let observed = Observed::from_log(plan, log, as_of);
+        let summary = report::LogSummary {
+            path: log.path.clone(),
+            as_of: observed.as_of,
+            weigh_ins: observed.weigh_ins.len(),
+            sessions: observed.sessions.len(),
+        };
+        LogInput {
+            observed: Some(observed),
+            warnings,
+            summary: Some(summary),
+        }
+    }
 }
 
 /// Refuse, before any work, an output path that names one of the command's inputs

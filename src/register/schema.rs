@@ -7,7 +7,7 @@
 pub const APPLICATION_ID: i32 = i32::from_be_bytes(*b"DWRG");
 
 /// The migrations, oldest first; the schema version is their count.
-pub(super) const MIGRATIONS: &[&str] = &[V1, V2];
+pub(super) const MIGRATIONS: &[&str] = &[V1, V2, V3];
 
 /// The newest schema version this program knows.
 pub const SCHEMA_VERSION: i64 = MIGRATIONS.len() as i64;
@@ -187,4 +187,26 @@ WHEN NEW.id IS NOT OLD.id
   OR OLD.superseded_by IS NOT NULL
   OR OLD.voided_by IS NOT NULL
 BEGIN SELECT RAISE(ABORT, 'the register keeps every row: a recorded value cannot be changed; correct the row instead'); END;
+"#;
+
+/// Version 3: the desk's accounts (docs/desk.md) and the trail of what was done to
+/// them. Web sessions are kept in the server's memory only, never on disk.
+const V3: &str = r#"
+CREATE TABLE accounts (
+    id           INTEGER PRIMARY KEY,
+    name         TEXT NOT NULL UNIQUE CHECK (length(trim(name)) > 0),
+    role         TEXT NOT NULL CHECK (role IN ('trainer', 'dietitian', 'designer', 'admin')),
+    password_phc TEXT NOT NULL CHECK (password_phc LIKE '$argon2%'),
+    disabled     INTEGER NOT NULL DEFAULT 0 CHECK (disabled IN (0, 1)),
+    created_at   TEXT NOT NULL,
+    created_by   TEXT NOT NULL CHECK (length(trim(created_by)) > 0)
+);
+
+CREATE TABLE account_changes (
+    id         INTEGER PRIMARY KEY,
+    at         TEXT NOT NULL,
+    by         TEXT NOT NULL CHECK (length(trim(by)) > 0),
+    account_id INTEGER NOT NULL REFERENCES accounts (id),
+    action     TEXT NOT NULL CHECK (action IN ('create', 'password', 'disable', 'enable'))
+);
 "#;

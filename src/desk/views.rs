@@ -1,0 +1,203 @@
+//! What the desk's pages show, computed from the register with the planning
+//! library (no HTTP here): a participant re-planned from their rows, the day view,
+//! the sheets of a week.
+//!
+//! A participant is re-planned exactly as `schedule --log` does it: the register's
+//! rows read back as the CSV log ([`crate::register::participant_log`]), the
+//! measured data taken from that log, then
+//! [`crate::commands::schedule::schedule_report_logged`]. The result is kept in a cache keyed by
+//! the participant's plan text and current rows, so a page shown again after no
+//! change does not simulate again, and any change (by this server or another
+//! process) is seen at once.
+
+use crate::commands::LogInput;
+use crate::commands::schedule::schedule_report_logged;
+use crate::error::Error;
+use crate::register::{self, Participant, Row, Store, Which};
+use crate::report::ScheduleReport;
+use crate::report::sessions::{PlannedSession, SessionPlan, session_plan};
+use chrono::NaiveDate;
+use sha2::{Digest, Sha256};
+use std::collections::HashMap;
+use std::sync::{Arc, Mutex};
+
+/// A participant re-planned from the register.
+#[derive(Debug, Clone)]
+pub struct Replan {
+    /// The participant, their plan, log and the log's warnings.
+    pub log: register::ParticipantLog,
+    /// The log as the schedule reads it.
+    pub input: LogInput,
+    /// The schedule re-planned from the log (with the projection band).
+    pub report: ScheduleReport,
+    /// The planned sessions of the first scenario (the one the sheets print).
+    pub sessions: SessionPlan,
+}
+
+impl Replan {
+    /// The planned sessions on `date`.
+    pub fn sessions_on(&self, date: NaiveDate) -> Vec<&PlannedSession> {
+        self.sessions
+            .weeks
+            .iter()
+            .filter(|w| w.start <= date && date <= w.end)
+            .flat_map(|w| w.sessions.iter().filter(move |s| s.date == date))
+            .collect()
+    }
+
+    /// The protocol week holding `date`, if any.
+    pub fn week_of(&self, date: NaiveDate) -> Option<u32> {
+        self.sessions
+            .weeks
+            .iter()
+            .find(|w| w.start <= date && date <= w.end)
+            .map(|w| w.week)
+    }
+}
+
+/// The cache's map: code to (digest, re-planned participant).
+type Entries = HashMap<String, ([u8; 32], Arc<Replan>)>;
+
+/// Re-planned participants, keyed by code, each with the digest of the plan text
+/// and current rows it was computed from.
+#[derive(Debug, Default)]
+pub struct Cache {
+    entries: Mutex<Entries>,
+}
+
+/// The log as `schedule --log` reads it (measured data up to the log's last date,
+/// its summary and warnings), from a register's participant log.
+pub fn log_input(p: &register::ParticipantLog) -> LogInput {
+    LogInput::from_log(&p.plan, &p.log, p.warnings.clone(), None)
+}
+
+impl Cache {
+    /// A participant re-planned from `rows` (their current rows), from the cache
+    /// when neither the plan nor the rows changed.
+    pub fn replan(
+        &self,
+        store: &dyn Store,
+        participant: &Participant,
+        rows: &[Row],
+    ) -> Result<Arc<Replan>, Error> {
+        let text = register::log_csv(rows)?;
+        let mut h = Sha256::new();
+        h.update(participant.plan_text.as_bytes());
+        h.update([0u8]);
+        h.update(text.as_bytes());
+        let key: [u8; 32] = h.finalize().into();
+        if let Some((k, r)) = self.lock().get(&participant.code)
+            && *k == key
+        {
+            return Ok(r.clone());
+        }
+        let log = register::participant_log(store, &participant.code, None)?;
+        let input = log_input(&log);
+        let report = schedule_report_logged(&log.plan, &input)?;
+        let sessions = session_plan(&log.plan, &report.scenarios[0]);
+        let replan = Arc::new(Replan {
+            log,
+            input,
+            report,
+            sessions,
+        });
+        self.lock()
+            .insert(participant.code.clone(), (key, replan.clone()));
+        Ok(replan)
+    }
+
+    /// One participant re-planned, by code.
+    pub fn replan_code(&self, store: &dyn Store, code: &str) -> Result<Arc<Replan>, Error> {
+        let participant = store.participant(code)?;
+        let rows = store.rows(Some(code), Which::Current)?;
+        self.replan(store, &participant, &rows)
+    }
+
+    fn lock(&self) -> std::sync::MutexGuard<'_, Entries> {
+        // A panic while holding the lock leaves only a cache behind: use it.
+        self.entries.lock().unwrap_or_else(|p| p.into_inner())
+    }
+}
+
+/// One participant's line of the day view.
+#[derive(Debug, Clone)]
+pub struct DayLine {
+    /// The participant.
+    pub code: String,
+    /// Their arm.
+    pub arm: Option<String>,
+    /// The protocol week holding the date.
+    pub week: Option<u32>,
+    /// The sessions due that day (re-planned).
+    pub due: Vec<PlannedSession>,
+    /// The rows already recorded for that date (current ones).
+    pub recorded: Vec<Row>,
+    /// The screening result in words.
+    pub screening: String,
+    /// The number of warnings on the participant's schedule.
+    pub warnings: usize,
+}
+
+/// The day view: every participant due a session on `date` or with a row on it.
+#[derive(Debug, Clone)]
+pub struct DayView {
+    /// The date.
+    pub date: NaiveDate,
+    /// Participants due or recorded, by code.
+    pub lines: Vec<DayLine>,
+    /// Participants enrolled in all.
+    pub enrolled: usize,
+}
+
+/// The day view of `date`: one read of the participants and one of the current
+/// rows, then each participant re-planned (through the cache).
+pub fn day_view(store: &dyn Store, cache: &Cache, date: NaiveDate) -> Result<DayView, Error> {
+    let participants = store.participants()?;
+    let rows = store.rows(None, Which::Current)?;
+    let mut by_code: HashMap<&str, Vec<Row>> = HashMap::new();
+    for r in &rows {
+        by_code
+            .entry(r.participant.as_str())
+            .or_default()
+            .push(r.clone());
+    }
+    let mut lines = Vec::new();
+    for p in &participants {
+        let mine = by_code.remove(p.code.as_str()).unwrap_or_default();
+        let replan = cache.replan(store, p, &mine)?;
+        let due: Vec<PlannedSession> = replan.sessions_on(date).into_iter().cloned().collect();
+        let recorded: Vec<Row> = mine
+            .into_iter()
+            .filter(|r| r.measure.date() == date)
+            .collect();
+        if due.is_empty() && recorded.is_empty() {
+            continue;
+        }
+        lines.push(DayLine {
+            code: p.code.clone(),
+            arm: p.arm.clone(),
+            week: replan.week_of(date),
+            due,
+            recorded,
+            screening: replan.report.screening.recommendation.clone(),
+            warnings: replan.report.warnings.len(),
+        });
+    }
+    Ok(DayView {
+        date,
+        lines,
+        enrolled: participants.len(),
+    })
+}
+
+/// The sheet of week `week` of one participant, as the `sheets` command prints it
+/// (the screening result and the standing cautions on every page).
+pub fn sheet_input(replan: &Replan, weeks: Vec<u32>) -> crate::report::sheets::SheetInput {
+    crate::report::sheets::SheetInput {
+        sessions: replan.sessions.clone(),
+        weeks,
+        screening: replan.report.screening.clone(),
+        log: replan.report.log.clone(),
+        units: crate::report::units::Units::default(),
+    }
+}
