@@ -7,6 +7,8 @@ use std::path::{Path, PathBuf};
 #[cfg(unix)]
 pub mod tree;
 
+pub mod log_fixtures;
+pub mod plan_text;
 pub mod schedule_contract;
 
 /// A small valid plan for an invented participant. It earns no warnings, so a test
