@@ -7,6 +7,8 @@ use std::path::{Path, PathBuf};
 #[cfg(unix)]
 pub mod tree;
 
+#[cfg(unix)]
+pub mod hard_edges;
 pub mod log_fixtures;
 pub mod plan_text;
 pub mod schedule_contract;
