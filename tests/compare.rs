@@ -33,7 +33,7 @@ fn checkpoints_of(j: &Value) -> Vec<u64> {
 
 #[test]
 fn compare_checkpoints_are_4_12_26_within_the_horizon_the_ends_and_at_week() {
-    // Issue 3: weeks 4, 12, 26 (within the horizon), protocol end, follow-up end, --at-week.
+    // The default checkpoints (docs/design.md section 1, "`compare` checkpoints"): weeks 4, 12, 26 (within the horizon), protocol end, follow-up end, --at-week.
     let j = cli_json(&compare_plan(), "compare", &[]);
     assert_eq!(checkpoints_of(&j), vec![4, 12, 16, 24]);
     let j = cli_json(
@@ -155,7 +155,7 @@ fn compare_band_brackets_the_central_mass() {
             widest = widest.max(hi - lo);
         }
     }
-    // With RMR and body fat both estimated the band has width (issue 3).
+    // With RMR and body fat both estimated the band has width (docs/model.md section 8).
     assert!(
         widest > 0.01,
         "band width {widest} kg with estimated RMR and body fat"
@@ -180,7 +180,7 @@ fn compare_band_brackets_the_central_mass() {
 
 #[test]
 fn compare_band_has_zero_width_when_rmr_and_body_fat_are_measured() {
-    // Issue 3: the band comes only from the RMR equation's error and Deurenberg's
+    // docs/model.md section 8: the band comes only from the RMR equation's error and Deurenberg's
     // error; with both measured neither applies.
     let text = plan_text(
         PARTICIPANT_MEASURED,
@@ -442,7 +442,7 @@ fn compare_bad_weeks_and_doses_exit_2() {
 
 #[test]
 fn compare_warns_when_a_diet_takes_intake_below_rmr_or_the_floor() {
-    // Issue 3 / docs/references.md section 6.4 (common practice): unsupervised intake floors of
+    // docs/warnings.md (`intake-below-floor`, `intake-below-rmr`) / docs/references.md section 6.4 (common practice): unsupervised intake floors of
     // 1,200 kcal/day (women) and 1,500 (men), and never below RMR. CG-114's intake at
     // balance is PAL 1.5 x Mifflin-St Jeor 1,531.5 = 2,297 kcal/day (closed form);
     // -1,200 takes it to ~1,097 (below both), -500 to ~1,797 (below neither).

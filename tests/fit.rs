@@ -144,7 +144,7 @@ fn fit_simulated(truth_text: &str, fit_text: &str, param: FitParameter, sd: f64)
 
 #[test]
 fn fit_recovers_an_intake_fraction_of_0_35_from_noisy_weekly_weigh_ins() {
-    // Truth: the simulation's own parameter (issue 4, Checks).
+    // Truth: the parameter the data were simulated with (a fit must recover it; docs/model.md section 7).
     let noisy = fit_simulated(
         &fit_plan_text(0.35, 14.0, 0.0),
         &fit_plan_text(0.0, 14.0, 0.0),
@@ -241,8 +241,8 @@ fn the_fit_interval_is_the_profile_of_the_sum_of_squares() {
 
 #[test]
 fn fit_recovers_an_activity_fraction_of_0_3() {
-    // Truth: the simulation's own parameter (issue 4, Checks: "same for
-    // activity_fraction").
+    // Truth: the parameter the data were simulated with, here activity_fraction
+    // (docs/model.md section 7, "Compensation read from the log").
     let noisy = fit_simulated(
         &fit_plan_text(0.0, 14.0, 0.3),
         &fit_plan_text(0.0, 14.0, 0.0),

@@ -135,7 +135,7 @@ fn round_trip(c: &GoalCase) -> Vec<GoalAnswer> {
         } else {
             1.0
         };
-        assert_eq!(a.resolution, res, "{ctx}: resolution (issue 3)");
+        assert_eq!(a.resolution, res, "{ctx}: resolution of the dose grid");
         let d = a.dose.expect("a reachable goal has a dose");
         assert!(d > 0.0, "{ctx}: these goals need exercise");
         // On the resolution grid (invariant of the reported rounding).
@@ -322,7 +322,7 @@ fn goal_more_compensation_needs_a_larger_dose() {
 
 #[test]
 fn goal_round_trip_when_the_goal_week_falls_inside_the_ramp() {
-    // Issue 3: solved on the full model as `schedule` runs it, ramp included. A goal
+    // docs/commands.md (`goal`): solved on the full model as `schedule` runs it, ramp included. A goal
     // at week 5 of a plan that ramps over 8 weeks must use the plan's ramp.
     let c = GoalCase {
         what: "kcal_per_week, goal week inside an 8-week ramp",
@@ -583,7 +583,7 @@ fn goal_lose_percent_is_of_baseline_mass() {
 
 #[test]
 fn goal_warns_when_the_rate_exceeds_one_percent_a_week() {
-    // Issue 3: 4 kg in 4 weeks from 88 kg is 1.14% a week; 1 kg in 12 weeks is not.
+    // `goal-rate-over-1-percent` (docs/warnings.md): 4 kg in 4 weeks from 88 kg is 1.14% a week; 1 kg in 12 weeks is not.
     let text = &goal_cases()[0].plan;
     let codes = |j: &Value| -> Vec<String> {
         arr(j, "warnings")

@@ -12,7 +12,7 @@ use dosewright::model::{BodyState, Bout, Compensation};
 
 #[test]
 fn follow_up_regains_toward_baseline_as_prescribed() {
-    // docs/model.md section 5 / issue 3: after the dose stops, intake stays at EI0 while expenditure
+    // docs/model.md section 5 ("Follow-up"): after the dose stops, intake stays at EI0 while expenditure
     // is lower at the lower mass, so mass climbs back toward, but not past, baseline.
     let s = sim(&compare_plan());
     let sc = &s.scenarios[0];
@@ -99,7 +99,7 @@ fn start_deficit_ratio(text: &str, c: Compensation) -> (f64, f64) {
 
 #[test]
 fn start_deficit_ratio_is_one_minus_ci_times_one_minus_beta_minus_ca() {
-    // docs/model.md section 5 (issue 3 check): at the start, no lag, no adaptation, the deficit rate
+    // docs/model.md section 5 (the early dose share, a closed form): at the start, no lag, no adaptation, the deficit rate
     // exercise adds over the net exercise rate is 1 - c_I (1 - beta) - c_A, to 1e-9;
     // the first week's dose_share is within 1e-2 of it.
     let base = compare_plan();
@@ -140,7 +140,7 @@ fn start_deficit_ratio_is_one_minus_ci_times_one_minus_beta_minus_ca() {
 
 #[test]
 fn full_intake_compensation_leaves_beta_of_the_dose() {
-    // docs/model.md section 5 (issue 3 check): c_I = 1, no lag: the extra food carries its own TEF,
+    // docs/model.md section 5 (the early dose share, a closed form): c_I = 1, no lag: the extra food carries its own TEF,
     // so the deficit rate at the start is beta * X, and week 1's dose_share is near
     // beta = 0.10 (within 1e-2).
     let base = compare_plan();

@@ -519,7 +519,7 @@ intake_lag_days = 10.0
 
 #[test]
 fn a_participant_who_follows_the_plan_exactly_gets_the_same_schedule() {
-    // Invariant (issue 4, Checks): sessions delivered as prescribed and weigh-ins equal
+    // Invariant (docs/model.md section 7): sessions delivered as prescribed and weigh-ins equal
     // to the projection (full precision) leave every week as the plain run has it.
     let plan = plan_of("follow.toml", FOLLOW_PLAN);
     let plain = simulate(&plan).unwrap();
@@ -818,7 +818,7 @@ fn schedule_json_carries_the_same_adherence() {
 
 #[test]
 fn log_add_appends_rows_that_schedule_then_uses() {
-    // Issue 4 point 1 and docs/file-formats.md section 3 ("The participant log"); docs/model.md section 7 for as-of.
+    // docs/file-formats.md section 3 ("The participant log"); docs/model.md section 7 for as-of.
     let dir = Scratch::new("replan-log-add");
     dir.write("plan.toml", ADHERENCE_PLAN);
     let first = "date,kind,mass_kg,body_fat_percent,minutes,compendium_code,met,avg_hr_bpm,rpe,note
@@ -918,7 +918,7 @@ fn log_add_appends_rows_that_schedule_then_uses() {
     close(num(a, "mean_rpe"), 13.0, 0.0, "RPE");
     close(num(a, "mean_hr_bpm"), 130.0, 0.0, "HR");
 
-    // --as-of before the last row: rows after as-of are an error (issue 4, point 1).
+    // --as-of before the last row: rows after as-of are an error (docs/design.md section 1, "`--as-of` and the log's last row").
     let r = common::run(dir.cmd().args([
         "schedule",
         "plan.toml",
