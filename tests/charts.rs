@@ -644,7 +644,10 @@ fn png_previews_render_with_rsvg_convert() {
         .output()
         .is_err()
     {
-        println!("note: rsvg-convert is not on PATH; skipping the PNG previews");
+        eprintln!(
+            "skipped: png_previews_render_with_rsvg_convert: rsvg-convert is not on PATH \
+             (apt-get install librsvg2-bin; CI installs it)"
+        );
         return;
     }
     let (_, charts) = demo_charts();

@@ -742,7 +742,9 @@ fn unprivileged() -> Option<Vec<String>> {
         Some(setpriv)
     } else {
         eprintln!(
-            "skipped: this user ignores folder permissions and `setpriv` to nobody does not run the binary"
+            "skipped: a_read_only_folder_leaves_earlier_files_byte_identical: this user \
+             ignores folder permissions (root) and `setpriv` to nobody (util-linux) does \
+             not run the binary"
         );
         None
     }
