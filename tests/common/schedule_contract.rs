@@ -1,6 +1,6 @@
-//! Helpers shared by the schedule, check and warning tests: the JSON contract of a
-//! schedule (docs/file-formats.md section 4), the words every caution carries, and the
-//! demo plan's output.
+//! Helpers shared by the schedule, check, over-max, warnings and activities tests: the
+//! JSON contract of a schedule (docs/file-formats.md section 4), the words every caution
+//! carries, and the demo plan's output.
 #![allow(dead_code)] // not every test file uses every helper
 
 use super::*;
