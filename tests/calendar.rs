@@ -852,7 +852,8 @@ fn python_icalendar_reads_the_calendars() {
     });
     let Some(python) = python else {
         eprintln!(
-            "skipped: no Python with the icalendar package (apt-get install python3-icalendar)"
+            "skipped: python_icalendar_reads_the_calendars: no Python with the icalendar \
+             package (apt-get install python3-icalendar; CI installs it)"
         );
         return;
     };

@@ -1,6 +1,7 @@
-//! Charts (issue 3, point 3): the SVG renderer's helpers, the four standard charts of
-//! the demo plan (well-formed XML, content, deterministic bytes, snapshots), writing
-//! them to files, and PNG previews through `rsvg-convert` where it is installed.
+//! Charts (docs/commands.md, "Charts"): the SVG renderer's helpers, the four standard
+//! charts of the demo plan (well-formed XML, content, deterministic bytes, snapshots),
+//! writing them to files, and PNG previews through `rsvg-convert` where it is
+//! installed.
 
 use dosewright::report::chart::{
     Band, LineChart, Series, energy_chart, escape, mass_chart, minutes_chart, nice_number,
@@ -643,7 +644,10 @@ fn png_previews_render_with_rsvg_convert() {
         .output()
         .is_err()
     {
-        println!("note: rsvg-convert is not on PATH; skipping the PNG previews");
+        eprintln!(
+            "skipped: png_previews_render_with_rsvg_convert: rsvg-convert is not on PATH \
+             (apt-get install librsvg2-bin; CI installs it)"
+        );
         return;
     }
     let (_, charts) = demo_charts();

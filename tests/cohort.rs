@@ -1925,7 +1925,7 @@ fn a_participant_out_of_balance_before_exercise_earns_the_drift_warning() {
 }
 
 /// The cohort counts each run's weekly minutes as it finishes and then drops them
-/// (issue 7: "stream the draws into summaries"). The streamed summaries must equal
+/// (docs/speed.md, "What each cohort optimisation bought": weekly minutes counted as each participant finishes). The streamed summaries must equal
 /// those computed from every run kept whole: percentiles of the sorted minutes
 /// (Hyndman and Fan 1996, definition 7, as `percentile`), the maximum, and staff
 /// hours as the sum of whole-session minutes over 60 and the draws. Checked with

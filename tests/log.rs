@@ -1,5 +1,5 @@
 //! The participant log: reading and validating (every rule of docs/file-formats.md section 3, "The
-//! participant log" and issue 4 point 1, with the exact error texts), byte-order
+//! participant log", with the exact error texts), byte-order
 //! marks and Windows line endings, and appending a row without ever losing or
 //! reordering earlier bytes, even when the append fails.
 //!

@@ -3,7 +3,8 @@
 //! weekdays, a Karvonen heart-rate range checked by hand, the self-contained HTML, one
 //! page per week with the cautions on each, escaping, several participants in one
 //! file, the log, and the week selection. Bad command lines are in
-//! `tests/hard_edges.rs` with every other command's.
+//! the usage catalogue (`tests/cases/usage/`, run by `tests/catalogues.rs`) with every
+//! other command's.
 
 mod common;
 

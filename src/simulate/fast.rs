@@ -6,7 +6,7 @@
 //! minutes, so the right-hand side costs the same whatever the number of sessions.
 //! Anything else, and any state outside the model's range, goes back to `run`.
 //!
-//! A test holds it to `run` with RK4 (tests/cohort_speed.rs).
+//! A test holds it to `run` with RK4 (tests/cohort_fast_path.rs).
 
 use super::prescription::{
     Reference, basis_kcal_per_min, cap_minutes, easy_kcal, round_up, session_dose,

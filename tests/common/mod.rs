@@ -7,6 +7,12 @@ use std::path::{Path, PathBuf};
 #[cfg(unix)]
 pub mod tree;
 
+#[cfg(unix)]
+pub mod hard_edges;
+pub mod log_fixtures;
+pub mod plan_text;
+pub mod schedule_contract;
+
 /// A small valid plan for an invented participant. It earns no warnings, so a test
 /// that adds one change and then sees a warning knows the change caused it.
 ///

@@ -1,8 +1,9 @@
-//! Monte Carlo draws of a cohort (issue 7): with every uncertainty off each draw is
-//! the deterministic run; the mean over many draws of a normal `intake_fraction`
-//! converges to the same model averaged by quadrature over the truncated normal;
-//! the same seed gives the same bytes on 1 and 2 threads. The participants are
-//! invented and go by pseudonymous codes.
+//! Monte Carlo draws of a cohort (`cohort --draws`; docs/file-formats.md section 2,
+//! "`[[scenario]]` values and `[uncertainty]`"): with every uncertainty off each draw
+//! is the deterministic run; the mean over many draws of a normal `intake_fraction`
+//! converges to the same model averaged by quadrature over the truncated normal; the
+//! same seed gives the same bytes on 1 and 2 threads. The participants are invented and
+//! go by pseudonymous codes.
 
 mod common;
 

@@ -1,7 +1,8 @@
-//! Property tests (issue 2 "Tests"): more dose never gives less loss while
-//! `c_I (1 - beta) + c_A < 1`; more compensation never gives more loss; minutes fall with
-//! MET and rise as mass falls for a fixed-energy (`kcal_per_session`) dose; results do
-//! not depend on the plan's key order.
+//! Property tests (docs/model.md section 6, "Checks the tests make"; docs/style.md
+//! habit 7): more dose never gives less loss while `c_I (1 - beta) + c_A < 1`; more
+//! compensation never gives more loss; minutes fall with MET and rise as mass falls for
+//! a fixed-energy (`kcal_per_session`) dose; results do not depend on the plan's key
+//! order.
 //!
 //! Plans are built as TOML text and parsed with `dosewright::plan::parse_plan`, for
 //! invented participants (pseudonymous code PT-xx). Case counts are modest (default 32

@@ -1,8 +1,9 @@
-//! Fuzzing in CI (issue 8, point 2): arbitrary bytes and arbitrary structurally valid
-//! plans never panic, never hang (the horizon is bounded), never print NaN or an
-//! infinity, and either succeed or fail with an error whose exit code is 2. The same
-//! holds for logs. `fuzz/` has the coverage-guided `cargo fuzz` targets; this file is
-//! the part that runs on every `cargo test`, within a minute in a debug build.
+//! Fuzzing in CI (docs/commands.md section 3, "What it refuses and why"): arbitrary
+//! bytes and arbitrary structurally valid plans never panic, never hang (the horizon is
+//! bounded), never print NaN or an infinity, and either succeed or fail with an error
+//! whose exit code is 2. The same holds for logs. `fuzz/` has the coverage-guided
+//! `cargo fuzz` targets; this file is the part that runs on every `cargo test`, within
+//! a minute in a debug build.
 //!
 //! Case counts: PROPTEST_CASES, if set, is the number of cases of the main properties
 //! (the expensive ones scale from it); unset, the defaults below keep the whole file

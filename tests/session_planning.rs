@@ -1,6 +1,7 @@
-//! The trainer's week (issue 5): activity rotation, relative intensity by the VO2
-//! reserve and the heart-rate reserve, warm-up and cool-down counted in the energy,
-//! closures with the make-up rule.
+//! The trainer's week (docs/file-formats.md section 1, `[[rotation]]`,
+//! `[participant.fitness]`, warm-up and cool-down): activity rotation, relative
+//! intensity by the VO2 reserve and the heart-rate reserve, warm-up and cool-down
+//! counted in the energy, closures with the make-up rule.
 //!
 //! Expected values are published worked examples (docs/references.md section 6.3), formulas
 //! computed by hand here, or invariants; never the program's own output. The
@@ -72,7 +73,7 @@ fn with(extra_protocol: &str, tail: &str) -> String {
 // ---------------------------------------------------------------------------
 
 /// A rotation that names the same activity on a day is the single-activity plan:
-/// every minute, energy and mass is identical (issue 5 check).
+/// every minute, energy and mass is identical (a plan with a one-entry rotation is the same plan without it).
 #[test]
 fn rotation_with_the_same_activity_equals_the_single_activity_plan() {
     let single = parse(PLAN);

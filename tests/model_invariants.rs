@@ -1,7 +1,8 @@
-//! Invariants and analytic solutions of the model (docs/model.md section 6, issue 2 "Tests"):
-//! energy conservation against an independent quadrature, the analytic steady state,
-//! zero dose at balance, minutes that exactly meet the target before rounding, and the
-//! early `dose_share` / deficit-rate closed form `1 - c_I (1 - beta) - c_A`.
+//! Invariants and analytic solutions of the model (docs/model.md section 6, "Checks the
+//! tests make"): energy conservation against an independent quadrature, the analytic
+//! steady state, zero dose at balance, minutes that exactly meet the target before
+//! rounding, and the early `dose_share` / deficit-rate closed form
+//! `1 - c_I (1 - beta) - c_A`.
 //!
 //! Every expected value is a closed form or an independent computation written out here,
 //! never a number copied from the program's own output. Participants are invented
@@ -571,7 +572,7 @@ const PAIRS: [(f64, f64); 7] = [
 #[test]
 fn first_week_dose_share_matches_closed_form() {
     // docs/model.md section 5: early on, with no lag and no adaptation, dose_share = 1 - c_I (1 - beta)
-    // - c_A (the extra food carries its own TEF); issue 2: within 1e-2 in week 1.
+    // - c_A (the extra food carries its own TEF); the closed form holds to 1e-2 in week 1 (docs/model.md section 5).
     for tef in [0.10, 0.20] {
         for rest in ["own-rmr", "one-met"] {
             let plan = parse(&dose_share_plan(&PAIRS, tef, rest));

@@ -1,5 +1,5 @@
-//! Numerical safety (issue 8, point 5): extreme but valid plans either run to the end
-//! with finite, physically sensible numbers, or are refused with
+//! Numerical safety (docs/model.md section 6, "Valid range"): extreme but valid plans
+//! either run to the end with finite, physically sensible numbers, or are refused with
 //! [`Error::OutOfRange`] naming the scenario, the day, the date and the state
 //! (docs/model.md section 6). Never a NaN, an infinity, a negative mass or a hang.
 //!
