@@ -1,8 +1,8 @@
 //! Speed figures for docs/speed.md and the README's summary: `cargo bench`.
 //!
-//! Goals (issue 2): a 52-week plan with three scenarios simulates in under 2 ms as a
-//! library call, and `dosewright schedule` on it finishes in under 30 ms end to end
-//! (release build). This is a plain timing harness, not a test: it prints the
+//! Goals (docs/speed.md, "How it is measured"): a 52-week plan with three scenarios
+//! simulates in under 2 ms as a library call, and `dosewright schedule` on it
+//! finishes in under 30 ms end to end (release build). This is a plain timing harness, not a test: it prints the
 //! median and the fastest of repeated runs.
 
 use std::path::Path;

@@ -1,9 +1,9 @@
 //! The commands: one file per subcommand, each `run(args) -> Result<Printed, Error>`,
 //! and the few helpers they share (display units, side notes, output delivery).
 //!
-//! Every output target of a command is checked by one call, [`check_outputs`], at the
+//! Every output target of a command is checked by one call, `check_outputs`, at the
 //! start of the command, before any work; every file a command writes goes through
-//! [`write_output`]. Those two are the only places that reach the file writer.
+//! `write_output`. Those two are the only places that reach the file writer.
 
 use crate::cli::{Command, DisplayArgs, EnergyArg, LogAction, UnitsArg};
 use crate::error::Error;

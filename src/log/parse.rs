@@ -22,7 +22,8 @@ pub(super) const RPE: usize = 8;
 pub(super) const NOTE: usize = 9;
 
 /// Largest change between consecutive weigh-ins, kg, within [`JUMP_DAYS`] days that
-/// passes without a warning (issue 4: "more than 3 kg in a week").
+/// passes without a warning (docs/warnings.md, `log-implausible-jump`: more than 3 kg
+/// within 7 days).
 const JUMP_KG: f64 = 3.0;
 /// The window of the jump check, days.
 const JUMP_DAYS: i64 = 7;

@@ -2,7 +2,8 @@
 //!
 //! Reference: Riebe D et al. 2015, Updating ACSM's recommendations for exercise
 //! preparticipation health screening, Med Sci Sports Exerc 47(11):2473-2479
-//! (bibliographic details from memory); the six-cell grid as in issue 2.
+//! (bibliographic details from memory); the six-cell grid of docs/references.md
+//! section 6.2, as printed in docs/warnings.md ("Cautions and the screening grid").
 
 use crate::plan::Screening;
 use serde::Serialize;

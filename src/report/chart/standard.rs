@@ -227,7 +227,7 @@ pub fn energy_chart(runs: &[ScenarioRun], protocol_weeks: u32, u: Units) -> Line
 }
 
 /// The four standard charts, named `mass`, `composition`, `minutes` and `energy`
-/// for [`write_charts`], in units `u` (the band in kg).
+/// for [`crate::output::write_charts`], in units `u` (the band in kg).
 pub fn standard_charts(
     runs: &[ScenarioRun],
     protocol_weeks: u32,

@@ -1,5 +1,5 @@
 //! One stretch of days with fixed bouts, integrated with Dormand-Prince 5(4)
-//! ([`dopri5`]) or classic RK4 ([`rk4`]); the state, the right-hand side and the
+//! (`dopri5`) or classic RK4 (`rk4`); the state, the right-hand side and the
 //! choice between them are here.
 //!
 //! State `y = (F, L, Xbar, P)` with `P' = X`, the running integral of exercise energy
