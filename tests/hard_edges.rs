@@ -1554,6 +1554,23 @@ fn outputs() -> Vec<OutputRun> {
                 "12",
             ],
         ),
+        (
+            "log add in pounds",
+            &[("log add", DISPLAY_UNITS)],
+            vec![
+                "log",
+                "add",
+                "plan.toml",
+                "--log",
+                "log.csv",
+                "--date",
+                "2027-03-24",
+                "--units",
+                "us",
+                "--weigh-in",
+                "228",
+            ],
+        ),
     ]
 }
 
@@ -2397,6 +2414,10 @@ const NOT_REPORTS: &[((&str, &str), &str)] = &[
     (
         ("log add", ""),
         "one confirmation line on stderr (\"log.csv: added line N: ...\") and the row's own warnings",
+    ),
+    (
+        ("log add", DISPLAY_UNITS),
+        "--units is the unit of the weigh-in typed in (stored as kg); the confirmation names both",
     ),
     // The pilot analysis reads measurements already taken and is addressed to the
     // trial team planning the next study; it prescribes no session to anyone.
