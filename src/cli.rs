@@ -125,12 +125,19 @@ pub struct LogAddArgs {
     /// The log file (created with its header if missing).
     #[arg(long, value_name = "FILE")]
     pub log: PathBuf,
-    /// The row's date (YYYY-MM-DD).
+    /// The row's date (YYYY-MM-DD; default: today). The row goes to its place by date.
     #[arg(long, value_name = "DATE")]
-    pub date: NaiveDate,
-    /// A weigh-in: the measured mass, kg.
-    #[arg(long = "weigh-in", value_name = "KG", allow_negative_numbers = true)]
+    pub date: Option<NaiveDate>,
+    /// A weigh-in: the measured mass, kg (lb with --units us).
+    #[arg(long = "weigh-in", value_name = "MASS", allow_negative_numbers = true)]
     pub weigh_in: Option<f64>,
+    /// Units of --weigh-in: metric (kg) or us (lb, stored as kg).
+    #[arg(long, value_enum, default_value_t = UnitsArg::Metric)]
+    pub units: UnitsArg,
+    /// Add a weigh-in even when it is implausibly far from the previous or next
+    /// weigh-in or from the plan's baseline.
+    #[arg(long = "accept-jump", requires = "weigh_in")]
+    pub accept_jump: bool,
     /// With --weigh-in: measured body fat, percent.
     #[arg(
         long = "body-fat",

@@ -678,6 +678,10 @@ const NOT_REPORTS: &[((&str, &str), &str)] = &[
         ("log add", ""),
         "one confirmation line on stderr (\"log.csv: added line N: ...\") and the row's own warnings",
     ),
+    (
+        ("log add", DISPLAY_UNITS),
+        "--units is the unit of the weigh-in typed in (stored as kg); the confirmation names both",
+    ),
     // The pilot analysis reads measurements already taken and is addressed to the
     // trial team planning the next study; it prescribes no session to anyone.
     (

@@ -818,10 +818,8 @@ fn a_failed_append_leaves_the_file_byte_identical() {
             weigh_in("2027-01-13", 400.0),
             "9:3: mass_kg: value 400 is out of range; allowed 30 to 350 kg".to_string(),
         ),
-        (
-            weigh_in("2027-01-06", 79.9),
-            "9:1: date: date 2027-01-06 is earlier than 2027-01-11 on line 8; rows must be in date order: move this row up to its place, or correct the date".to_string(),
-        ),
+        // An earlier date is no longer an error: the row goes to its place by date
+        // (tests/log_units.rs).
         (
             weigh_in("2027-01-11", 79.9),
             "9:1: date: a second weigh-in on 2027-01-11 (the first is on line 6); keep one weigh-in per date: delete one, or correct its date".to_string(),

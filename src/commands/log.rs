@@ -2,8 +2,10 @@
 
 use super::{Printed, load, same_file, warning_lines};
 use crate::cli::LogAddArgs;
+use crate::cli::UnitsArg;
 use crate::error::Error;
-use crate::log::{NewEntry, NewRow, append_row};
+use crate::log::{NewEntry, NewRow, append_row_checked};
+use crate::report::units::KG_PER_LB;
 
 /// Run `log add`.
 pub fn run(args: &LogAddArgs) -> Result<Printed, Error> {
@@ -38,8 +40,8 @@ pub fn run(args: &LogAddArgs) -> Result<Printed, Error> {
     crate::output::check_log(&args.log)?;
     let plan = load(Some(&args.plan))?;
     let entry = match (args.weigh_in, args.session) {
-        (Some(kg), _) => NewEntry::WeighIn {
-            mass_kg: kg,
+        (Some(mass), _) => NewEntry::WeighIn {
+            mass_kg: to_kg(mass, args.units)?,
             body_fat_percent: args.body_fat,
         },
         (None, Some(minutes)) => NewEntry::Session {
@@ -51,14 +53,37 @@ pub fn run(args: &LogAddArgs) -> Result<Printed, Error> {
         },
         (None, None) => unreachable!("clap requires --weigh-in or --session"),
     };
+    // The clock is read here, in the command layer, and nowhere in the library.
+    let date = args
+        .date
+        .unwrap_or_else(|| chrono::Local::now().date_naive());
     let row = NewRow {
-        date: args.date,
+        date,
         entry,
         note: args.note.clone(),
     };
-    let (said, warnings) = append_row(&args.log, &plan, &row)?;
+    let (mut said, warnings) = append_row_checked(&args.log, &plan, &row, args.accept_jump)?;
+    if let (UnitsArg::Us, Some(lb)) = (args.units, args.weigh_in) {
+        said.push_str(&format!(" (given as {lb} lb)"));
+    }
     Ok(Printed {
         stdout: String::new(),
         stderr: format!("{said}\n{}", warning_lines(&warnings)),
     })
+}
+
+/// A weigh-in given in `units`, in kg (the log always holds kg): a pound is
+/// 0.45359237 kg exactly. A value that is not a finite positive number is refused
+/// here, before any conversion could hide it.
+fn to_kg(mass: f64, units: UnitsArg) -> Result<f64, Error> {
+    let unit = match units {
+        UnitsArg::Metric => return Ok(mass),
+        UnitsArg::Us => "lb",
+    };
+    if !(mass.is_finite() && mass > 0.0) {
+        return Err(Error::Usage(format!(
+            "--weigh-in {mass}: give the measured mass in {unit}, a positive number"
+        )));
+    }
+    Ok(mass * KG_PER_LB)
 }

@@ -1,6 +1,7 @@
-//! Appending one row to a log: the new row is written as CSV after the file's own
-//! bytes, the whole new text is validated as a log, and only then is it written, to a
-//! temporary file that is renamed over the log. Earlier bytes are never rewritten.
+//! Adding one row to a log: the new row is written as CSV in its place by date (after
+//! the file's own bytes when it is the latest), the whole new text is validated as a
+//! log, and only then is it written, to a temporary file that is renamed over the log.
+//! Every other byte is kept as it was.
 
 use super::parse::{
     self, BODY_FAT, CODE, DATE, HEART_RATE, KIND, MASS, MET, MINUTES, NOTE, Parsed, RPE,
@@ -11,11 +12,13 @@ use crate::plan::Plan;
 use crate::safety::Warning;
 use std::path::Path;
 
-/// See [`super::append_row`].
+/// See [`super::append_row`] and [`super::append_row_checked`]: `accept_jump` false
+/// refuses a weigh-in implausibly far from its neighbours or from the baseline.
 pub(super) fn append(
     path: &Path,
     plan: &Plan,
     row: &NewRow,
+    accept_jump: bool,
 ) -> Result<(String, Vec<Warning>), Error> {
     let name = path.display().to_string();
     crate::output::check_log(path)?;
@@ -30,33 +33,58 @@ pub(super) fn append(
     // An empty file (or one holding only a byte-order mark or blank lines) gets the
     // header, like a new one.
     let needs_header = body.trim().is_empty();
-    let (old_rows, columns) = if needs_header {
-        (0, COLUMNS.len())
+    let (old_rows, columns, place) = if needs_header {
+        (0, COLUMNS.len(), None)
     } else {
         let parsed = parse::parse(&name, &old, plan, None)?;
-        (parsed.log.rows.len(), parsed.columns)
+        // The new row goes before the first row of a later date (after the rows of
+        // its own date), else at the end.
+        let place = parsed
+            .log
+            .rows
+            .iter()
+            .find(|r| r.date > row.date)
+            .map(|r| r.line);
+        (parsed.log.rows.len(), parsed.columns, place)
     };
     let eol = line_ending(&old);
-    let mut text = old.clone();
-    if !body.is_empty() && !body.ends_with(['\n', '\r']) {
-        text.push_str(eol);
-    }
-    if needs_header {
-        text.push_str(&COLUMNS.join(","));
-        text.push_str(eol);
-    }
-    text.push_str(&render(row, columns)?);
-    text.push_str(eol);
-
-    let Parsed { log, warnings, .. } = parse::parse(&name, &text, plan, None)?;
-    let added = match log.rows.last() {
-        Some(r) if log.rows.len() == old_rows + 1 && r.date == row.date => r,
-        _ => {
-            return Err(Error::Usage(format!(
-                "{name}: the new row did not read back as the log's last row; the file is unchanged"
-            )));
+    let rendered = render(row, columns)?;
+    let text = match place {
+        Some(line) => {
+            let at = line_start(&old, line);
+            format!("{}{rendered}{eol}{}", &old[..at], &old[at..])
+        }
+        None => {
+            let mut text = old.clone();
+            if !body.is_empty() && !body.ends_with(['\n', '\r']) {
+                text.push_str(eol);
+            }
+            if needs_header {
+                text.push_str(&COLUMNS.join(","));
+                text.push_str(eol);
+            }
+            text.push_str(&rendered);
+            text.push_str(eol);
+            text
         }
     };
+
+    let Parsed { log, warnings, .. } = parse::parse(&name, &text, plan, None)?;
+    let found = match place {
+        Some(line) => log.rows.iter().position(|r| r.line == line),
+        None => log.rows.len().checked_sub(1),
+    };
+    let Some(index) =
+        found.filter(|&i| log.rows.len() == old_rows + 1 && log.rows[i].date == row.date)
+    else {
+        return Err(Error::Usage(format!(
+            "{name}: the new row did not read back in its place by date; the file is unchanged"
+        )));
+    };
+    let added = &log.rows[index];
+    if !accept_jump {
+        refuse_a_jump(&name, plan, &log.rows, index)?;
+    }
     // The temporary file gets the log's own permissions before it replaces the log.
     crate::output::write_atomic(path, text.as_bytes(), false)?;
     let what = describe(added, plan);
@@ -78,6 +106,92 @@ pub(super) fn append(
         .map(|w| w.warning)
         .collect();
     Ok((confirmation, warnings))
+}
+
+/// The byte offset where 1-based `line` of `text` starts; a line ends at `\r\n`,
+/// `\r` or `\n`, as the reader counts them.
+fn line_start(text: &str, line: usize) -> usize {
+    let bytes = text.as_bytes();
+    let mut current = 1;
+    let mut i = 0;
+    while current < line && i < bytes.len() {
+        match bytes[i] {
+            b'\r' if bytes.get(i + 1) == Some(&b'\n') => {
+                i += 2;
+                current += 1;
+            }
+            b'\r' | b'\n' => {
+                i += 1;
+                current += 1;
+            }
+            _ => i += 1,
+        }
+    }
+    i
+}
+
+/// Refuse the weigh-in at `rows[index]` when [`super::plausible::is_implausible`]
+/// against the previous weigh-in, the next one or the plan's baseline mass on the
+/// protocol start.
+fn refuse_a_jump(name: &str, plan: &Plan, rows: &[LogRow], index: usize) -> Result<(), Error> {
+    let mass = |r: &LogRow| match r.entry {
+        Entry::WeighIn { mass_kg, .. } => Some(mass_kg),
+        Entry::Session { .. } => None,
+    };
+    let row = &rows[index];
+    let Some(kg) = mass(row) else {
+        return Ok(());
+    };
+    let before = rows[..index]
+        .iter()
+        .rev()
+        .find_map(|r| mass(r).map(|m| (r, m)));
+    let after = rows[index + 1..]
+        .iter()
+        .find_map(|r| mass(r).map(|m| (r, m)));
+    let mut others: Vec<(String, chrono::NaiveDate, f64)> = Vec::new();
+    for (r, m) in before.into_iter().chain(after) {
+        others.push((
+            format!(
+                "the weigh-in of {} ({} kg, line {})",
+                r.date,
+                num(m),
+                r.line
+            ),
+            r.date,
+            m,
+        ));
+    }
+    let start = plan.protocol.start;
+    let base = plan.participant.subject.mass_kg;
+    others.push((
+        format!("the plan's baseline ({} kg on {start})", num(base)),
+        start,
+        base,
+    ));
+    for (what, date, m) in others {
+        let days = (row.date - date).num_days();
+        if super::plausible::is_implausible(m, days, kg) {
+            let allowed = super::plausible::allowed_change_kg(m, days);
+            let change = kg - m;
+            return Err(Error::Usage(format!(
+                "{name}: the weigh-in of {} ({} kg) is {} kg {} {what}, more than the {} kg allowed over {} {}; check the entry (a mass in the wrong unit: --units us takes pounds; another scale; a typing slip); if it is right, add it with --accept-jump. The file is unchanged",
+                row.date,
+                num(kg),
+                num(change.abs()),
+                if change > 0.0 { "above" } else { "below" },
+                num(allowed),
+                days.abs(),
+                if days.abs() == 1 { "day" } else { "days" },
+            )));
+        }
+    }
+    Ok(())
+}
+
+/// A number to two decimals, without trailing zeros.
+fn num(x: f64) -> String {
+    format!("{}", (x * 100.0).round() / 100.0)
 }
 
 /// The file's line ending: that of its first line, else `\n`.

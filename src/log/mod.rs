@@ -20,6 +20,7 @@
 
 mod append;
 mod parse;
+pub mod plausible;
 
 use crate::activity::Intensity;
 use crate::error::Error;
@@ -180,7 +181,8 @@ pub fn parse_log(
 /// exist yet: then the header is written first), and append it atomically: the whole
 /// new file goes to a temporary file in the same folder, which is then renamed over
 /// the log ([`crate::output::write_atomic`]; a symlinked log is written through to
-/// its target, whose permissions are kept). Earlier bytes are kept exactly, a
+/// its target, whose permissions are kept). The row goes to its place by date
+/// (before the first row of a later date). Other bytes are kept exactly, a
 /// byte-order mark and Windows line endings included; the new row uses the file's
 /// own line ending. A read-only log is refused ([`crate::output::check_log`]). On any
 /// error the file is left as it was.
@@ -188,5 +190,19 @@ pub fn parse_log(
 /// Returns a one-line confirmation and the warnings the new row earns (such as an
 /// implausible jump in mass).
 pub fn append_row(path: &Path, plan: &Plan, row: &NewRow) -> Result<(String, Vec<Warning>), Error> {
-    append::append(path, plan, row)
+    append::append(path, plan, row, true)
+}
+
+/// As [`append_row`], but a weigh-in implausibly far
+/// ([`plausible::is_implausible`]) from the previous weigh-in, the next one or the
+/// plan's baseline is refused ([`Error::Usage`], naming `--accept-jump`) unless
+/// `accept_jump`. The row goes to its place by date: before the first row of a
+/// later date, after the rows of its own date.
+pub fn append_row_checked(
+    path: &Path,
+    plan: &Plan,
+    row: &NewRow,
+    accept_jump: bool,
+) -> Result<(String, Vec<Warning>), Error> {
+    append::append(path, plan, row, accept_jump)
 }

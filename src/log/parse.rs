@@ -21,13 +21,6 @@ pub(super) const HEART_RATE: usize = 7;
 pub(super) const RPE: usize = 8;
 pub(super) const NOTE: usize = 9;
 
-/// Largest change between consecutive weigh-ins, kg, within [`JUMP_DAYS`] days that
-/// passes without a warning (docs/warnings.md, `log-implausible-jump`: more than 3 kg
-/// within 7 days).
-const JUMP_KG: f64 = 3.0;
-/// The window of the jump check, days.
-const JUMP_DAYS: i64 = 7;
-
 /// An allowed range for a number cell.
 struct Limits {
     lo: f64,
@@ -200,8 +193,8 @@ pub(super) fn parse(
     })
 }
 
-/// Warnings for consecutive weigh-ins that differ by more than [`JUMP_KG`] within
-/// [`JUMP_DAYS`] days.
+/// Warnings for consecutive weigh-ins that differ by more than the one rule of
+/// [`super::plausible::allowed_change_kg`] allows.
 fn jumps(file: &str, rows: &[LogRow]) -> Vec<LineWarning> {
     let weigh_ins: Vec<(&LogRow, f64)> = rows
         .iter()
@@ -218,7 +211,8 @@ fn jumps(file: &str, rows: &[LogRow]) -> Vec<LineWarning> {
             };
             let days = (after.date - before.date).num_days();
             let change = m1 - m0;
-            (days <= JUMP_DAYS && change.abs() > JUMP_KG).then(|| LineWarning {
+            let allowed = super::plausible::allowed_change_kg(*m0, days);
+            super::plausible::is_implausible(*m0, days, *m1).then(|| LineWarning {
                 line: after.line,
                 warning: Warning {
                     code: "log-implausible-jump",
@@ -232,7 +226,7 @@ fn jumps(file: &str, rows: &[LogRow]) -> Vec<LineWarning> {
                         before.date,
                         fmt_num(*m0),
                         before.line,
-                        fmt_num(JUMP_KG),
+                        fmt_num((allowed * 100.0).round() / 100.0),
                         days,
                         if days == 1 { "day" } else { "days" },
                     ),

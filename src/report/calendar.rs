@@ -58,12 +58,13 @@ pub fn fnv1a_32(bytes: &[u8]) -> u32 {
     })
 }
 
-/// The UID of the `index`-th session on `date`: `CODE-YYYYMMDD-N-HASH@dosewright`.
+/// The UID of the `index`-th session (bout) on `date`: `CODE-YYYYMMDD-N-HASH@dosewright`.
 /// CODE is the participant code with characters other than letters, digits, `-`,
-/// `_` and `.` made `_`; HASH is [`fnv1a_32`] of the unchanged code and the plan's
-/// file name, so two plans of one participant, or two codes that read the same
-/// once made safe, get different UIDs.
-pub fn uid(participant_id: &str, plan_file: &str, date: NaiveDate, index: u32) -> String {
+/// `_` and `.` made `_`; HASH is [`fnv1a_32`] of the unchanged code, so two codes
+/// that read the same once made safe get different UIDs. The UID depends on the
+/// participant and the session only: a renamed or re-planned plan keeps every
+/// session's UID, so a calendar program updates the events instead of adding copies.
+pub fn uid(participant_id: &str, date: NaiveDate, index: u32) -> String {
     let code: String = participant_id
         .chars()
         .map(|c| {
@@ -74,7 +75,7 @@ pub fn uid(participant_id: &str, plan_file: &str, date: NaiveDate, index: u32) -
             }
         })
         .collect();
-    let hash = fnv1a_32(format!("{participant_id}\n{plan_file}").as_bytes());
+    let hash = fnv1a_32(participant_id.as_bytes());
     format!(
         "{code}-{}-{index}-{hash:08x}@{UID_DOMAIN}",
         date.format("%Y%m%d")
@@ -392,15 +393,10 @@ pub fn render(
     for w in &plan.weeks {
         for s in &w.sessions {
             let mut e = Event::new();
-            e.uid(&uid(
-                &plan.participant_id,
-                &plan_file,
-                s.date,
-                s.index_on_date,
-            ))
-            .timestamp(stamp)
-            .summary(&summary(&plan.participant_id, w.week, s))
-            .description(&description(plan, w, s, screening, u));
+            e.uid(&uid(&plan.participant_id, s.date, s.index_on_date))
+                .timestamp(stamp)
+                .summary(&summary(&plan.participant_id, w.week, s))
+                .description(&description(plan, w, s, screening, u));
             match when(s, settings) {
                 When::Timed(start, end) => {
                     e.starts(start).ends(end);
@@ -532,14 +528,17 @@ mod tests {
     }
 
     #[test]
-    fn uids_use_the_file_name_and_safe_characters() {
+    fn uids_use_the_participant_and_the_session_and_safe_characters() {
         let d = NaiveDate::from_ymd_opt(2027, 3, 1).unwrap();
-        let a = uid("TRN-042", "ex.toml", d, 1);
+        let a = uid("TRN-042", d, 1);
         assert!(a.starts_with("TRN-042-20270301-1-"), "{a}");
         assert!(a.ends_with("@dosewright"));
-        assert_ne!(a, uid("TRN-042", "other.toml", d, 1));
-        assert_ne!(a, uid("TRN-042", "ex.toml", d, 2));
-        let odd = uid("R 1/ü", "ex.toml", d, 1);
+        assert_ne!(a, uid("TRN-043", d, 1));
+        assert_ne!(a, uid("TRN-042", d, 2));
+        assert_ne!(a, uid("TRN-042", d.succ_opt().unwrap(), 1));
+        // Two codes that read the same once made safe differ in the hash.
+        assert_ne!(uid("R 1", d, 1), uid("R/1", d, 1));
+        let odd = uid("R 1/ü", d, 1);
         assert!(odd.starts_with("R_1__-"), "{odd}");
         assert!(
             odd.chars()

@@ -529,7 +529,7 @@ fn html_page(h: &mut String, input: &SheetInput, w: &PlannedWeek) {
     h.push_str(&concat!(
         "</colgroup>\n",
         "<thead><tr><th rowspan=\"2\">Date</th><th rowspan=\"2\">Activity and intensity</th><th rowspan=\"2\">Session</th><th rowspan=\"2\">{ENERGY}</th><th rowspan=\"2\">Targets</th><th class=\"rec\" colspan=\"4\">Delivered (fill in)</th></tr>\n",
-        "<tr><th class=\"rec\">min</th><th class=\"rec\">avg HR</th><th class=\"rec\">RPE</th><th class=\"rec\">initials</th></tr></thead>\n",
+        "<tr><th class=\"rec\">min at target</th><th class=\"rec\">avg HR</th><th class=\"rec\">RPE</th><th class=\"rec\">initials</th></tr></thead>\n",
     ).replace("{ENERGY}", input.units.energy_label()));
     for row in rows {
         match row {
@@ -635,7 +635,7 @@ fn text_page(t: &mut String, input: &SheetInput, w: &PlannedWeek) {
                         .unwrap_or_default();
                     let _ = writeln!(
                         t,
-                        "  delivered  {label}min {BLANK}  avg HR {BLANK}  RPE {BLANK}  initials {BLANK}"
+                        "  delivered  {label}min at target {BLANK}  avg HR {BLANK}  RPE {BLANK}  initials {BLANK}"
                     );
                 }
             }

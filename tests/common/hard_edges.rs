@@ -617,6 +617,23 @@ pub fn outputs() -> Vec<OutputRun> {
                 "12",
             ],
         ),
+        (
+            "log add in pounds",
+            &[("log add", DISPLAY_UNITS)],
+            vec![
+                "log",
+                "add",
+                "plan.toml",
+                "--log",
+                "log.csv",
+                "--date",
+                "2027-03-24",
+                "--units",
+                "us",
+                "--weigh-in",
+                "228",
+            ],
+        ),
     ]
 }
 

@@ -82,15 +82,24 @@ pub fn cohort_minutes_chart(r: &crate::report::cohort::CohortReport) -> LineChar
             true,
         ));
     }
+    // The maximum session minutes are a level of minutes, so a dashed horizontal
+    // line across the weeks (not a vertical line at a week).
+    if let Some(m) = r.max_session_minutes {
+        series.push(Series {
+            name: format!("maximum {m:.0} min"),
+            points: vec![(1.0, m), (f64::from(r.weeks.max(2)), m)],
+            dashed: true,
+            slot: r.arms.len(),
+            markers_only: false,
+        });
+    }
     LineChart {
         title: "Minutes per session by week and arm, over participants".to_string(),
         x_label: "Protocol week".to_string(),
         y_label: "Minutes of the longest session [min]".to_string(),
         series,
         band: None,
-        marker: r
-            .max_session_minutes
-            .map(|m| (f64::from(r.weeks), format!("maximum {m:.0} min"))),
+        marker: None,
         caption: caption(
             "Solid: median over participants; dashed: 5th and 95th percentiles. Minutes rise as mass falls for an energy dose.",
         ),
