@@ -131,9 +131,22 @@ fn every_weigh_in_counts_and_an_exact_log_gives_back_the_truth_and_the_start() {
     let log = log_of(&sim, 92.0, 0.0, &mut quiet);
     for plan_mass in [92.0, 92.4, 91.6] {
         let plan = plan_of(&plan_text(plan_mass, 0.0));
-        let f = fit(&plan, &observed(&plan, &log), 0, FitParameter::IntakeFraction).unwrap();
-        assert_eq!(f.weigh_ins, 17, "the start date's weigh-in counts: 1 + 15 weekly + 1");
-        assert!((f.estimate - 0.3).abs() < 0.03, "{plan_mass}: {}", f.estimate);
+        let f = fit(
+            &plan,
+            &observed(&plan, &log),
+            0,
+            FitParameter::IntakeFraction,
+        )
+        .unwrap();
+        assert_eq!(
+            f.weigh_ins, 17,
+            "the start date's weigh-in counts: 1 + 15 weekly + 1"
+        );
+        assert!(
+            (f.estimate - 0.3).abs() < 0.03,
+            "{plan_mass}: {}",
+            f.estimate
+        );
         assert!(
             (f.baseline_estimate_kg - 92.0).abs() < 0.05,
             "{plan_mass}: {}",
@@ -155,9 +168,14 @@ fn a_shift_of_the_plans_baseline_by_one_weigh_ins_scatter_barely_moves_the_estim
         .iter()
         .map(|m| {
             let plan = plan_of(&plan_text(*m, 0.0));
-            fit(&plan, &observed(&plan, &log), 0, FitParameter::IntakeFraction)
-                .unwrap()
-                .estimate
+            fit(
+                &plan,
+                &observed(&plan, &log),
+                0,
+                FitParameter::IntakeFraction,
+            )
+            .unwrap()
+            .estimate
         })
         .collect();
     for f in &fits[1..] {

@@ -688,7 +688,10 @@ fn fit_recovers_an_intake_fraction_of_0_35_from_noisy_weekly_weigh_ins() {
         0.15,
     );
     assert_eq!(noisy.parameter, "intake_fraction");
-    assert_eq!(noisy.weigh_ins, 25, "every weigh-in counts, the baseline's too");
+    assert_eq!(
+        noisy.weigh_ins, 25,
+        "every weigh-in counts, the baseline's too"
+    );
     assert!((noisy.estimate - 0.35).abs() < 0.1, "{}", noisy.estimate);
     assert!(
         noisy.interval[0] <= 0.35 && 0.35 <= noisy.interval[1],
@@ -1625,7 +1628,11 @@ fn fit_on_the_command_line_json_chart_and_activity_parameter() {
     let (lo, hi) = (interval[0].as_f64().unwrap(), interval[1].as_f64().unwrap());
     assert!(lo <= estimate && estimate <= hi, "{lo} {estimate} {hi}");
     let residuals = array(&j, "residuals_kg");
-    assert_eq!(residuals.len(), 9, "one per weigh-in, the baseline's included");
+    assert_eq!(
+        residuals.len(),
+        9,
+        "one per weigh-in, the baseline's included"
+    );
     for (k, r) in residuals.iter().enumerate() {
         let want = truth.protocol.start + Days::new(7 * k as u64);
         assert_eq!(common::date(text(r, "date")), want);

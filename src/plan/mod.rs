@@ -421,7 +421,11 @@ impl Compensation {
         let mut parts = Vec::new();
         if c.intake_fraction != 0.0 {
             let pct = c.intake_fraction.abs() * 100.0;
-            let way = if c.intake_fraction > 0.0 { "rises" } else { "falls" };
+            let way = if c.intake_fraction > 0.0 {
+                "rises"
+            } else {
+                "falls"
+            };
             if c.intake_lag_days > 0.0 {
                 parts.push(format!(
                     "intake {way} by {pct:.0}% of exercise energy, reaching it with a {:.0}-day lag",
@@ -434,7 +438,11 @@ impl Compensation {
             }
         }
         if c.activity_fraction != 0.0 {
-            let way = if c.activity_fraction > 0.0 { "falls" } else { "rises" };
+            let way = if c.activity_fraction > 0.0 {
+                "falls"
+            } else {
+                "rises"
+            };
             parts.push(format!(
                 "other daily movement {way} by {:.0}% of exercise energy",
                 c.activity_fraction.abs() * 100.0

@@ -296,7 +296,10 @@ pub fn fit(
     let fitted = curve(plan, obs, scenario, param, estimate)?;
     let without = curve(plan, obs, scenario, param, 0.0)?;
     let (offset, _) = profile(&points, &fitted);
-    let residuals_kg = points.iter().map(|w| residual(w, &fitted, offset)).collect();
+    let residuals_kg = points
+        .iter()
+        .map(|w| residual(w, &fitted, offset))
+        .collect();
     let last = obs.as_of_day as usize;
     let daily = |c: &Curve| {
         c.daily_mass
