@@ -152,12 +152,13 @@ fn curve(
     let mut exercise = 0.0;
     for (day, y) in out.daily.iter().take(days).enumerate() {
         let w = day / 7;
+        // The same bouts as the run: each delivered session with its warm-up and
+        // cool-down (one energy per session, prescription::session_bouts).
         let bouts: Vec<crate::model::Bout> = obs
             .sessions_in(7 * w as u32, 7 * w as u32 + 7)
             .filter(|s| s.minutes > 0.0)
-            .map(|s| crate::model::Bout {
-                minutes: s.minutes,
-                intensity: s.intensity.clone(),
+            .flat_map(|s| {
+                crate::simulate::prescription::session_bouts(plan, s.minutes, &s.intensity)
             })
             .collect();
         let f = physiology.fluxes(
