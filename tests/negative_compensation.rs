@@ -54,7 +54,7 @@ fn plan_of(text: &str) -> Plan {
 /// Composite Simpson's rule over equally spaced samples.
 fn simpson(values: &[f64], h: f64) -> f64 {
     let n = values.len() - 1;
-    assert!(n >= 2 && n % 2 == 0);
+    assert!(n >= 2 && n.is_multiple_of(2));
     let mut s = values[0] + values[n];
     for (i, v) in values.iter().enumerate().take(n).skip(1) {
         s += if i % 2 == 1 { 4.0 * v } else { 2.0 * v };

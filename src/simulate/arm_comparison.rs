@@ -173,7 +173,7 @@ pub fn comparisons_with(
                         s.checkpoints
                             .iter()
                             .find(|c| c.week == *w)
-                            .map(|c| c.mass_change_kg.clone())
+                            .map(|c| c.mass_change_kg)
                     };
                     if let (Some(x), Some(y)) = (at(sa), at(sb))
                         && *w != end_week
