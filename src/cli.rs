@@ -238,6 +238,26 @@ pub enum CohortFormat {
     Json,
 }
 
+/// The basis of `cohort`'s sample sizes.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, ValueEnum)]
+pub enum BasisArg {
+    /// Every allocated participant.
+    IntentionToTreat,
+    /// Completers only, divided by the completion rate.
+    Completers,
+}
+
+/// The multiplicity adjustment of `cohort`'s sample sizes.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, ValueEnum)]
+pub enum MultiplicityArg {
+    /// None: each comparison at 0.05.
+    None,
+    /// alpha / k for each of k comparisons.
+    Bonferroni,
+    /// Holm's step-down levels.
+    Holm,
+}
+
 /// The integrator of `cohort` (docs/model.md section 6).
 #[derive(Debug, Clone, Copy, PartialEq, Eq, ValueEnum)]
 pub enum IntegratorArg {
@@ -279,9 +299,15 @@ pub struct CohortArgs {
     /// The integrator.
     #[arg(long, value_enum, default_value_t = IntegratorArg::Rk4)]
     pub integrator: IntegratorArg,
-    /// Add a checkpoint week (repeatable); the end of the protocol and of follow-up are always shown.
+    /// Add a checkpoint week (repeatable); the end of the protocol and of follow-up are always shown, and arms are also compared at each such week.
     #[arg(long = "at-week", value_name = "N")]
     pub at_week: Vec<u32>,
+    /// The difference the sample size rests on: intention to treat (drop-outs already in it) or completers (then divided by the completion rate).
+    #[arg(long, value_enum, default_value_t = BasisArg::IntentionToTreat)]
+    pub basis: BasisArg,
+    /// Adjust the significance level for several comparisons (Holm 1979 or Bonferroni).
+    #[arg(long, value_enum, default_value_t = MultiplicityArg::None)]
+    pub multiplicity: MultiplicityArg,
     /// Output format.
     #[arg(long, value_enum, default_value_t = CohortFormat::Table)]
     pub format: CohortFormat,

@@ -42,8 +42,13 @@ pub fn z_alpha() -> f64 {
 /// Participants per arm (before drop-out) for power `power` (e.g. 0.8), not yet
 /// rounded up; None when `delta` is 0 or a number is not finite.
 pub fn n_per_arm(delta: f64, sigma: f64, power: f64) -> Option<f64> {
+    n_per_arm_at(delta, sigma, power, ALPHA)
+}
+
+/// [`n_per_arm`] at the two-sided level `alpha` (e.g. a Bonferroni or Holm level).
+pub fn n_per_arm_at(delta: f64, sigma: f64, power: f64, alpha: f64) -> Option<f64> {
     (delta != 0.0 && delta.is_finite() && sigma.is_finite()).then(|| {
-        let z = z_alpha() + normal_quantile(power);
+        let z = normal_quantile(1.0 - alpha / 2.0) + normal_quantile(power);
         2.0 * z * z * sigma * sigma / (delta * delta)
     })
 }

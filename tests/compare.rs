@@ -365,7 +365,7 @@ fn compare_bad_add_scenario_strings_exit_2_naming_the_problem() {
     bad("x:intake_fracton=0.3", &["unknown key", "intake_fracton"]);
     bad(
         "x:intake_fraction=1.6",
-        &["intake_fraction", "out of range", "allowed 0 to 1.5"],
+        &["intake_fraction", "out of range", "allowed -0.5 to 1.5"],
     );
     bad("x:intake_lag_days=-1", &["intake_lag_days", "out of range"]);
     bad(

@@ -1,9 +1,10 @@
 //! `cohort`: a study's cohort simulated in parallel and summarised per arm.
 
 use super::{Printed, check_outputs, deliver, display_units, refuse_display_units};
-use crate::cli::CohortArgs;
+use crate::cli::{BasisArg, CohortArgs, MultiplicityArg};
 use crate::error::Error;
 use crate::report;
+use crate::simulate::arm_comparison::{Basis, Multiplicity};
 
 /// Checkpoint weeks of a cohort: those asked for, the end of the protocol and of
 /// follow-up, sorted and distinct.
@@ -144,7 +145,24 @@ pub fn run(args: &CohortArgs) -> Result<Printed, Error> {
     bar.finish_and_clear();
     let results = results?;
     let summary = pool.install(|| summarise(&study, &results, &req));
-    let r = report::cohort::CohortReport {
+    let options = crate::simulate::arm_comparison::ComparisonOptions {
+        basis: match args.basis {
+            BasisArg::IntentionToTreat => Basis::IntentionToTreat,
+            BasisArg::Completers => Basis::Completers,
+        },
+        multiplicity: match args.multiplicity {
+            MultiplicityArg::None => Multiplicity::None,
+            MultiplicityArg::Bonferroni => Multiplicity::Bonferroni,
+            MultiplicityArg::Holm => Multiplicity::Holm,
+        },
+        at_weeks: args.at_week.clone(),
+    };
+    let comparisons = crate::simulate::arm_comparison::comparisons_with(
+        &summary.arms,
+        study.protocol.weeks,
+        &options,
+    );
+    let mut r = report::cohort::CohortReport {
         tool: format!("dosewright {}", env!("CARGO_PKG_VERSION")),
         study: study.source_name.clone(),
         name: study.name.clone(),
@@ -176,6 +194,9 @@ pub fn run(args: &CohortArgs) -> Result<Printed, Error> {
         },
     }
     .with_summary(summary);
+    if !r.comparisons.is_empty() {
+        r.comparisons = comparisons;
+    }
     let mut printed = Printed::default();
     let text = match args.format {
         CohortFormat::Table => report::cohort::table(&r, units),

@@ -419,23 +419,33 @@ impl Compensation {
     pub fn assumptions_with(&self, per_day: impl Fn(f64, usize) -> String) -> String {
         let c = self;
         let mut parts = Vec::new();
-        if c.intake_fraction > 0.0 {
-            let pct = c.intake_fraction * 100.0;
+        if c.intake_fraction != 0.0 {
+            let pct = c.intake_fraction.abs() * 100.0;
+            let way = if c.intake_fraction > 0.0 {
+                "rises"
+            } else {
+                "falls"
+            };
             if c.intake_lag_days > 0.0 {
                 parts.push(format!(
-                    "intake rises by {pct:.0}% of exercise energy, reaching it with a {:.0}-day lag",
+                    "intake {way} by {pct:.0}% of exercise energy, reaching it with a {:.0}-day lag",
                     c.intake_lag_days
                 ));
             } else {
                 parts.push(format!(
-                    "intake rises by {pct:.0}% of exercise energy at once"
+                    "intake {way} by {pct:.0}% of exercise energy at once"
                 ));
             }
         }
-        if c.activity_fraction > 0.0 {
+        if c.activity_fraction != 0.0 {
+            let way = if c.activity_fraction > 0.0 {
+                "falls"
+            } else {
+                "rises"
+            };
             parts.push(format!(
-                "other daily movement falls by {:.0}% of exercise energy",
-                c.activity_fraction * 100.0
+                "other daily movement {way} by {:.0}% of exercise energy",
+                c.activity_fraction.abs() * 100.0
             ));
         }
         if c.rmr_adaptation_kcal_per_kg > 0.0 {
@@ -464,10 +474,13 @@ impl Compensation {
 }
 
 /// The scenario keys with their allowed ranges and units (docs/file-formats.md section 1).
+/// The two fractions may be negative down to -0.5: intake that falls, or other
+/// movement that rises, by up to half the exercise energy (arms that lost more than
+/// prescribed; the bound is common practice, docs/model.md section 5).
 pub const SCENARIO_KEYS: [(&str, f64, f64, &str); 5] = [
-    ("intake_fraction", 0.0, 1.5, ""),
+    ("intake_fraction", -0.5, 1.5, ""),
     ("intake_lag_days", 0.0, 365.0, " days"),
-    ("activity_fraction", 0.0, 1.0, ""),
+    ("activity_fraction", -0.5, 1.0, ""),
     ("rmr_adaptation_kcal_per_kg", 0.0, 50.0, " kcal/day per kg"),
     ("diet_change_kcal_per_day", -2500.0, 2500.0, " kcal/day"),
 ];

@@ -359,11 +359,15 @@ fn table_comparisons(r: &CohortReport, u: Units, out: &mut String) {
         let mut c = new_table(&[
             "arms",
             "scenario",
+            "week",
             &format!("difference [{ml}]"),
             &format!("SD [{ml}]"),
             "completion",
-            "n per arm, power 0.8",
-            "n per arm, power 0.9",
+            "alpha",
+            "n per arm, power 0.8 (ITT)",
+            "n per arm, power 0.9 (ITT)",
+            "n per arm, power 0.8 (completers)",
+            "n per arm, power 0.9 (completers)",
         ]);
         align_numbers(&mut c, 2);
         for x in &r.comparisons {
@@ -371,14 +375,18 @@ fn table_comparisons(r: &CohortReport, u: Units, out: &mut String) {
             c.add_row(vec![
                 format!("{} vs {}", x.arms[1], x.arms[0]),
                 x.scenario.clone(),
+                x.week.to_string(),
                 signed(u.mass(x.mean_difference_kg)),
                 format!("{:.2}", u.mass(x.sd_kg)),
                 format!("{:.0}%", x.completion_rate * 100.0),
-                n(x.n_per_arm_power80),
-                n(x.n_per_arm_power90),
+                format!("{:.4}", x.alpha),
+                n(x.intention_to_treat.n_per_arm_power80),
+                n(x.intention_to_treat.n_per_arm_power90),
+                n(x.completers.as_ref().and_then(|c| c.n_per_arm_power80)),
+                n(x.completers.as_ref().and_then(|c| c.n_per_arm_power90)),
             ]);
         }
-        out.push_str(&format!("Participants per arm to detect the difference in mass change at week {} (two-sided alpha 0.05; n = 2 (z_0.975 + z_power)^2 SD^2 / difference^2, Altman 1991; divided by the completion rate)\n{c}\n\n", r.weeks));
+        out.push_str(&format!("Participants per arm to recruit to detect the difference in mass change (end of protocol: week {}; difference and SD of the basis chosen; n = 2 (z_(1-alpha/2) + z_power)^2 SD^2 / difference^2, Altman 1991; intention to treat: drop-outs are in the difference already, nothing divided; completers: divided by the completion rate; alpha adjusted for several comparisons when asked, Holm 1979)\n{c}\n\n", r.weeks));
     }
 }
 

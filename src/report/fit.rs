@@ -42,15 +42,7 @@ impl FitReport {
         fit: FitResult,
     ) -> FitReport {
         let mut warnings = log_warnings.to_vec();
-        if fit.at_bound && fit.estimate > 0.5 {
-            warnings.push(Warning {
-                code: "fit-at-bound",
-                message: format!(
-                    "the estimate {:.2} sits at the end of the allowed range of {}: the weigh-ins may be explained by something the model leaves out (water, a change of diet, measurement error)",
-                    fit.estimate, fit.parameter
-                ),
-            });
-        }
+        warnings.extend(fit_warnings(&fit));
         warnings.extend(schedule.warnings.iter().cloned());
         let meaning = meaning(&fit, Units::default());
         FitReport {
@@ -65,6 +57,52 @@ impl FitReport {
             cautions: schedule.cautions.clone(),
         }
     }
+}
+
+/// The fit's own warnings (docs/warnings.md): a baseline that disagrees with the
+/// first weigh-in, an estimate at either end of the range, a loss beyond the
+/// projection with every delivered session counted in full.
+pub fn fit_warnings(fit: &FitResult) -> Vec<Warning> {
+    let mut warnings = Vec::new();
+    let gap = fit.first_weigh_in_kg - fit.plan_mass_kg;
+    if gap.abs() > 2.0 * fit.residual_sd_kg.max(0.1) {
+        warnings.push(Warning {
+            code: "fit-baseline-disagrees",
+            message: format!(
+                "the plan's baseline mass {:.1} kg and the log's first weigh-in {:.1} kg differ by {:+.1} kg, more than twice the scatter of the weigh-ins about the model ({:.2} kg): check both; the fit estimates the starting mass from all weigh-ins ({:.1} kg)",
+                fit.plan_mass_kg, fit.first_weigh_in_kg, gap, fit.residual_sd_kg, fit.baseline_estimate_kg
+            ),
+        });
+    }
+    if fit.at_upper_bound {
+        warnings.push(Warning {
+            code: "fit-at-bound",
+            message: format!(
+                "the estimate {:.2} sits at the upper end of the allowed range of {} ({}): the weigh-ins may be explained by something the model leaves out (water, a change of diet, measurement error), and the interval says nothing beyond the range",
+                fit.estimate, fit.parameter, fit.range[1]
+            ),
+        });
+    }
+    if fit.at_lower_bound {
+        warnings.push(Warning {
+            code: "fit-at-lower-bound",
+            message: format!(
+                "the estimate {:.2} sits at the lower end of the allowed range of {} ({}): the participant lost more than even that allows, and the interval says nothing beyond the range",
+                fit.estimate, fit.parameter, fit.range[0]
+            ),
+        });
+    }
+    let beyond = fit.loss_without_kg > 0.0 && fit.estimate < 0.0 || fit.at_lower_bound;
+    if beyond {
+        warnings.push(Warning {
+            code: "fit-loss-beyond-projection",
+            message: format!(
+                "the weigh-ins fall faster than the projection with every delivered session counted in full ({:.1} kg by the last weigh-in): early on this is often water and glycogen; it can also be an unrecorded change of diet, or exercise energy entered gross where net was meant (or the reverse)",
+                fit.loss_without_kg
+            ),
+        });
+    }
+    warnings
 }
 
 /// What the fitted number means, in words, with energies and masses in units `u`.
@@ -109,10 +147,13 @@ pub fn render_table(r: &FitReport, u: Units) -> String {
         r.participant_id, r.plan, f.parameter, f.scenario
     );
     s.push_str(&format!(
-        "Estimate {:.3}; approximate 95% interval {:.3} to {:.3} (profile of the sum of squares, SSE <= SSE_min x (1 + 3.84/(n-1)))\nImplied extra intake: {} on average (of {} of exercise energy delivered)\nRMS residual {} over {} weigh-ins spanning {} days\n\n",
+        "Estimate {:.3}; approximate 95% interval {:.3} to {:.3} ({})\nStarting mass estimated from all weigh-ins: {} (the plan says {})\nImplied extra intake: {} on average (of {} of exercise energy delivered)\nRMS residual {} over {} weigh-ins spanning {} days\n\n",
         f.estimate,
         f.interval[0],
         f.interval[1],
+        f.interval_method,
+        u.mass_text(f.baseline_estimate_kg, 1),
+        u.mass_text(f.plan_mass_kg, 1),
         u.per_day_text(f.extra_intake_kcal_per_day, 0),
         u.per_day_text(f.exercise_kcal_per_day, 0),
         u.mass_text(f.rmse_kg, 2),
@@ -191,7 +232,7 @@ pub fn chart(r: &FitReport, u: Units) -> LineChart {
         band: None,
         marker: None,
         caption: format!(
-            "Weigh-ins against the model run from baseline with the delivered sessions. {} Model estimates, not measurements. Screen before exercise, obtain clearance where indicated, and stop on warning signs; local clinical rules and the licensed professionals responsible decide.",
+            "Weigh-ins against the model run with the delivered sessions from the starting mass estimated from all weigh-ins. {} Model estimates, not measurements. Screen before exercise, obtain clearance where indicated, and stop on warning signs; local clinical rules and the licensed professionals responsible decide.",
             "The fitted value is an effective compensation: weigh-ins cannot tell eating more from moving less."
         ),
         x_range: None,

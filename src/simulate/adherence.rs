@@ -5,7 +5,7 @@ use crate::activity::acsm::gross_kcal_per_min;
 use crate::model::Physiology;
 use crate::plan::{DoseAmount, EnergyBasis, MassBasis, Plan};
 use crate::simulate::observed::Observed;
-use crate::simulate::prescription::{PlannedBout, Prescription, Reference};
+use crate::simulate::prescription::{Prescription, Reference, session_kcal};
 use serde::Serialize;
 
 /// One week's adherence, counting days up to the log's `as_of` date.
@@ -98,6 +98,7 @@ pub fn week(
         EnergyBasis::Net => physiology.net_kcal_per_min(met, m, r.rmr_kcal_per_day),
     };
     let net = |met: f64| physiology.net_kcal_per_min(met, m, r.rmr_kcal_per_day);
+    let delivered: Vec<_> = obs.sessions_in(start_day, last + 1).collect();
     let planned: Vec<_> = rx
         .bouts
         .iter()
@@ -105,19 +106,29 @@ pub fn week(
         .collect();
     let mut planned_days: Vec<u32> = planned.iter().map(|b| day_of(&b.date)).collect();
     planned_days.dedup();
-    let met_of = |b: &PlannedBout| plan.activity_at(b.activity).intensity.met_at(m);
     let minutes_prescribed: f64 = planned
         .iter()
         .map(|b| f64::from(b.minutes))
         .fold(0.0, |a, b| a + b)
         + 0.0;
+    // One energy per session: minutes at target plus warm-up and cool-down
+    // (prescription::session_kcal), as in the dose and the simulation.
     let prescribed_with = |per_min: &dyn Fn(f64) -> f64| {
         planned
             .iter()
-            .map(|b| f64::from(b.minutes) * per_min(met_of(b)))
+            .map(|b| {
+                let intensity = &plan.activity_at(b.activity).intensity;
+                session_kcal(plan, f64::from(b.minutes), intensity, m, per_min)
+            })
             .fold(0.0, |a, b| a + b)
     };
-    let delivered: Vec<_> = obs.sessions_in(start_day, last + 1).collect();
+    let delivered_with = |per_min: &dyn Fn(f64) -> f64| {
+        delivered
+            .iter()
+            .filter(|s| s.minutes > 0.0)
+            .map(|s| session_kcal(plan, s.minutes, &s.intensity, m, per_min))
+            .fold(0.0, |a, b| a + b)
+    };
     let mut delivered_days: Vec<u32> = delivered
         .iter()
         .filter(|s| s.minutes > 0.0)
@@ -125,10 +136,7 @@ pub fn week(
         .collect();
     delivered_days.dedup();
     let minutes_delivered: f64 = delivered.iter().map(|s| s.minutes).fold(0.0, |a, b| a + b);
-    let basis_delivered: f64 = delivered
-        .iter()
-        .map(|s| s.minutes * basis_energy(s.intensity.met_at(m)))
-        .fold(0.0, |a, b| a + b);
+    let basis_delivered = delivered_with(&basis_energy);
     let mass_basis = match plan.protocol.dose.mass_basis {
         MassBasis::Baseline => baseline_mass_kg,
         MassBasis::Current => m,
@@ -143,10 +151,7 @@ pub fn week(
         minutes_prescribed,
         minutes_delivered,
         net_kcal_prescribed: prescribed_with(&net),
-        net_kcal_delivered: delivered
-            .iter()
-            .map(|s| s.minutes * net(s.intensity.met_at(m)))
-            .fold(0.0, |a, b| a + b),
+        net_kcal_delivered: delivered_with(&net),
         dose_prescribed: in_plan_unit(
             plan,
             prescribed_with(&basis_energy),

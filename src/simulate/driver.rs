@@ -130,11 +130,7 @@ fn week_bouts(
             .sessions_in(start_day, start_day + 7)
             .filter(|s| s.minutes > 0.0)
         {
-            bouts.push(Bout {
-                minutes: s.minutes,
-                intensity: s.intensity.clone(),
-            });
-            bouts.extend(prescription::easy_bouts(plan));
+            bouts.extend(prescription::session_bouts(plan, s.minutes, &s.intensity));
         }
     }
     bouts

@@ -97,14 +97,41 @@ impl Prescription {
     pub fn model_bouts(&self, plan: &Plan, keep: impl Fn(&PlannedBout) -> bool) -> Vec<Bout> {
         let mut out = Vec::with_capacity(self.bouts.len() * 3);
         for b in self.bouts.iter().filter(|b| keep(b)) {
-            out.push(Bout {
-                minutes: f64::from(b.minutes),
-                intensity: plan.activity_at(b.activity).intensity.clone(),
-            });
-            out.extend(easy_bouts(plan));
+            out.extend(session_bouts(
+                plan,
+                f64::from(b.minutes),
+                &plan.activity_at(b.activity).intensity,
+            ));
         }
         out
     }
+}
+
+/// One session (or bout) as model bouts: `minutes` at target at `intensity`, with the
+/// plan's warm-up and cool-down. The one definition of a session's exercise, used
+/// by the simulation, the adherence table and `fit` alike (docs/model.md section 4).
+pub fn session_bouts(plan: &Plan, minutes: f64, intensity: &Intensity) -> Vec<Bout> {
+    let mut out = vec![Bout {
+        minutes,
+        intensity: intensity.clone(),
+    }];
+    out.extend(easy_bouts(plan));
+    out
+}
+
+/// The energy of one session (or bout), kcal, warm-up and cool-down included:
+/// `per_min(MET)` kcal/min over [`session_bouts`], with METs read at `mass_kg`.
+pub fn session_kcal(
+    plan: &Plan,
+    minutes: f64,
+    intensity: &Intensity,
+    mass_kg: f64,
+    per_min: &dyn Fn(f64) -> f64,
+) -> f64 {
+    session_bouts(plan, minutes, intensity)
+        .iter()
+        .map(|b| b.minutes * per_min(b.intensity.met_at(mass_kg)))
+        .fold(0.0, |a, b| a + b)
 }
 
 /// The warm-up and cool-down of one session or bout, as model bouts.
