@@ -46,7 +46,7 @@ fn yardstick() -> f64 {
     use dosewright::model::balance::Rhs;
     let plan = dosewright::plan::load_plan(Path::new(PLAN)).expect("the benchmark plan is valid");
     let (baseline, ph) = dosewright::simulate::calibrated(&plan).expect("calibrates");
-    let mut comp = plan.scenarios[0].compensation.clone();
+    let mut comp = plan.scenarios[0].compensation;
     comp.intake_fraction = 0.3;
     comp.intake_lag_days = 14.0;
     let rhs = Rhs::new(&ph, &comp);
