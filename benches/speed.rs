@@ -38,6 +38,51 @@ fn report(name: &str, goal_ms: f64, (median, best): (Duration, Duration)) {
     );
 }
 
+/// The yardstick (docs/speed.md): a plain allocation-free RK4 loop of the model's one
+/// right-hand side in one-day steps, one participant at a time on one core, with a
+/// constant weekly exercise and the benchmark study's 14-day lag. Returns seconds
+/// per participant-week.
+fn yardstick() -> f64 {
+    use dosewright::model::balance::Rhs;
+    let plan = dosewright::plan::load_plan(Path::new(PLAN)).expect("the benchmark plan is valid");
+    let (baseline, ph) = dosewright::simulate::calibrated(&plan).expect("calibrates");
+    let mut comp = plan.scenarios[0].compensation;
+    comp.intake_fraction = 0.3;
+    comp.intake_lag_days = 14.0;
+    let rhs = Rhs::new(&ph, &comp);
+    let (participants, weeks) = (20_000usize, 52usize);
+    let f = |y: [f64; 4], a: f64, b: f64| {
+        let p = rhs.point(y[0], y[1], y[2], rhs.rmr(y[0], y[1]), a, b);
+        [p.dfat, p.dlean, p.dlagged, p.exercise]
+    };
+    let add = |y: [f64; 4], h: f64, k: [f64; 4]| std::array::from_fn(|j| y[j] + h * k[j]);
+    let t = Instant::now();
+    let mut sink = 0.0;
+    for i in 0..participants {
+        let mut y = [
+            baseline.fat_mass_kg + 1e-6 * i as f64,
+            baseline.fat_free_mass_kg,
+            0.0,
+            0.0,
+        ];
+        for w in 0..weeks {
+            let (a, b) = (std::hint::black_box(3.0 * 40.0 * 4.0 + w as f64), 120.0);
+            for _ in 0..7 {
+                let k1 = f(y, a, b);
+                let k2 = f(add(y, 0.5, k1), a, b);
+                let k3 = f(add(y, 0.5, k2), a, b);
+                let k4 = f(add(y, 1.0, k3), a, b);
+                y = std::array::from_fn(|j| {
+                    y[j] + (k1[j] + 2.0 * k2[j] + 2.0 * k3[j] + k4[j]) / 6.0
+                });
+            }
+        }
+        sink += y[0];
+    }
+    std::hint::black_box(sink);
+    t.elapsed().as_secs_f64() / (participants * weeks) as f64
+}
+
 fn main() {
     let plan = dosewright::plan::load_plan(Path::new(PLAN)).expect("the benchmark plan is valid");
     report(
@@ -129,8 +174,28 @@ fn main() {
     );
     end_to_end_n(
         "dosewright cohort 1000 x 3 arms x 52 weeks, 100 draws",
-        5000.0,
+        500.0,
         3,
         &cohort("100"),
+    );
+    // Per participant-week on one core against the yardstick, in the same process:
+    // the cohort on one thread (15.6 million participant-weeks), the best of 3 runs.
+    let yard = yardstick().min(yardstick());
+    let mut one: Vec<&str> = cohort("100").to_vec();
+    one.extend(["--threads", "1"]);
+    let (_, best) = time(2, || {
+        let out = Command::new(exe)
+            .args(&one)
+            .output()
+            .expect("the binary runs");
+        assert!(out.status.success());
+    });
+    let per = best.as_secs_f64() / (1000.0 * 3.0 * 52.0 * 100.0);
+    let ratio = per / yard;
+    println!(
+        "yardstick daily RK4 {:.4} us, cohort (1 thread) {:.4} us per participant-week: ratio {ratio:.3}   goal < 0.35: {}",
+        yard * 1e6,
+        per * 1e6,
+        if ratio < 0.35 { "meets" } else { "MISSES" }
     );
 }

@@ -1,6 +1,7 @@
 //! The cohort's allocation-free hot loop: the same model and weekly re-prescription
 //! as [`super::run`] (the same right-hand side, [`crate::model::balance`], and the same
-//! dose rule, [`session_dose`]), with classic RK4 in one-day steps (docs/model.md section 6), for the common
+//! dose rule, [`session_dose`]), with classic RK4 in steps set by the intake lag
+//! ([`rk4_steps_per_week`], docs/model.md section 6), for the common
 //! plans (one activity whose MET does not depend on mass, no closures, over-maximum
 //! policy `flag` or `cap`). Each week's exercise is summed once into MET-minutes and
 //! minutes, so the right-hand side costs the same whatever the number of sessions.
@@ -8,6 +9,7 @@
 //!
 //! A test holds it to `run` with RK4 (tests/cohort_fast_path.rs).
 
+use super::integrate::rk4_steps_per_week;
 use super::prescription::{
     Reference, basis_kcal_per_min, cap_minutes, easy_kcal, round_up, session_dose,
 };
@@ -80,7 +82,7 @@ fn eval(rhs: &Rhs, a: &V, b: &V, y: &S) -> S {
 }
 
 #[inline(always)]
-fn axpy(y: &S, h: f64, k: &S) -> S {
+fn axpy_h(y: &S, h: f64, k: &S) -> S {
     let mut out = *y;
     for (o, kj) in out.iter_mut().zip(k) {
         for (v, kv) in o.iter_mut().zip(kj) {
@@ -278,6 +280,9 @@ fn chunk_run(chunk: &[Lane], rhs: &Rhs, baseline: &Baseline, total: u32) -> Opti
     let mut y: S = [[f0; W], [l0; W], [0.0; W], [0.0; W]];
     let (mut a, mut b): (V, V) = ([0.0; W], [0.0; W]);
     let c = &ph.constants;
+    // The step from the intake lag, the same rule as the general RK4 driver's.
+    let steps = rk4_steps_per_week(comp.intake_lag_days);
+    let h = 7.0 / steps as f64;
     for w in 1..=total {
         for i in 0..W {
             let yi = [y[0][i], y[1][i], y[2][i], y[3][i]];
@@ -292,15 +297,14 @@ fn chunk_run(chunk: &[Lane], rhs: &Rhs, baseline: &Baseline, total: u32) -> Opti
                 &mut outs[i],
             )?;
         }
-        for _ in 0..7 {
+        for _ in 0..steps {
             let k1 = eval(rhs, &a, &b, &y);
-            let k2 = eval(rhs, &a, &b, &axpy(&y, 0.5, &k1));
-            let k3 = eval(rhs, &a, &b, &axpy(&y, 0.5, &k2));
-            let k4 = eval(rhs, &a, &b, &axpy(&y, 1.0, &k3));
+            let k2 = eval(rhs, &a, &b, &axpy_h(&y, h / 2.0, &k1));
+            let k3 = eval(rhs, &a, &b, &axpy_h(&y, h / 2.0, &k2));
+            let k4 = eval(rhs, &a, &b, &axpy_h(&y, h, &k3));
             for j in 0..4 {
                 for i in 0..W {
-                    y[j][i] +=
-                        (k1[j][i] + k2[j][i] * 2.0 + k3[j][i] * 2.0 + k4[j][i]) * (1.0 / 6.0);
+                    y[j][i] += (k1[j][i] + k2[j][i] * 2.0 + k3[j][i] * 2.0 + k4[j][i]) * (h / 6.0);
                 }
             }
         }

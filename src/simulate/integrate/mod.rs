@@ -71,6 +71,19 @@ impl System<f64, State> for Rhs<'_> {
     }
 }
 
+/// RK4 steps per 7 days for an intake lag of `lag_days` (docs/model.md section 6): a
+/// step of at most a quarter of the lag, between 1 and 7 steps a week; 1 step a week
+/// without a lag, where the right-hand side is smooth over the week and its slowest
+/// time constant (the body's, hundreds of days) sets the error. The cohort's fast loop
+/// and [`integrate_rk4`] both take their step from here, so the two agree exactly.
+pub fn rk4_steps_per_week(lag_days: f64) -> usize {
+    if lag_days > 0.0 {
+        ((4.0 * 7.0 / lag_days).ceil() as usize).clamp(1, 7)
+    } else {
+        1
+    }
+}
+
 /// Samples of the solution every `step` days from 0 to `days` inclusive.
 #[derive(Debug, Clone)]
 pub struct Samples {
@@ -82,15 +95,15 @@ pub struct Samples {
 
 /// Which integrator a run uses (docs/model.md section 6): Dormand-Prince 5(4) with tight
 /// tolerances everywhere results must be exact, or classic fixed-step RK4 with a step
-/// of at most one day where speed matters (the cohort), shown within 1e-4 kg of
-/// Dormand-Prince over 10 years by a test.
+/// from the intake lag ([`rk4_steps_per_week`]) where speed matters (the cohort), shown
+/// within 1e-4 kg of Dormand-Prince over 10 years by a test.
 #[derive(Debug, Clone, Copy, Default, PartialEq, Eq, serde::Serialize)]
 #[serde(rename_all = "kebab-case")]
 pub enum Integrator {
     /// Dormand-Prince 5(4), `RTOL`/`ATOL`.
     #[default]
     Dopri5,
-    /// Classic Runge-Kutta 4, one-day steps (or the output step when shorter).
+    /// Classic Runge-Kutta 4, steps from the intake lag ([`rk4_steps_per_week`]).
     Rk4,
 }
 
