@@ -1,5 +1,5 @@
 //! The desk's accounts: a name, a role and an argon2id password hash (a PHC
-//! string), kept in the register's `accounts` table (schema version 2), with a row
+//! string), kept in the register's `accounts` table (schema version 3), with a row
 //! in `account_changes` for every creation, password change, disabling and
 //! enabling. Who and when are given by the caller, as for the register.
 
