@@ -3,6 +3,7 @@
 use chrono::NaiveDate;
 use clap::builder::RangedU64ValueParser;
 use clap::{Args, Parser, Subcommand, ValueEnum, value_parser};
+use std::net::SocketAddr;
 use std::path::PathBuf;
 
 /// Plan exercise as a dose of energy, re-prescribe session minutes as body mass
@@ -356,7 +357,7 @@ pub enum Command {
     /// Analyse a pilot in a register: achieved against delivered energy, intake balance, the gap's causes; scenarios for the next study.
     Pilot(PilotArgs),
     /// The trainer's desk: a local web server over a register, its accounts, and a demo register.
-    Desk(crate::desk::DeskArgs),
+    Desk(DeskArgs),
     /// List or search the built-in activity table and show the ACSM equations.
     Activities(ActivitiesArgs),
 }
@@ -622,4 +623,99 @@ pub struct PilotArgs {
     /// Write the chart of achieved against delivered energy (SVG) to this file.
     #[arg(long, value_name = "FILE")]
     pub chart: Option<PathBuf>,
+}
+
+/// `dosewright desk ...`
+#[derive(Debug, Clone, Args)]
+pub struct DeskArgs {
+    /// What to do.
+    #[command(subcommand)]
+    pub action: DeskAction,
+}
+
+/// The desk's actions.
+#[derive(Debug, Clone, Subcommand)]
+pub enum DeskAction {
+    /// Serve the desk over a register until Ctrl-C (on 127.0.0.1 unless --listen says otherwise).
+    Serve {
+        /// The register (SQLite file).
+        register: PathBuf,
+        /// Listen on this address and port instead of 127.0.0.1:8470 (anything but loopback prints a warning).
+        #[arg(long, value_name = "ADDR:PORT")]
+        listen: Option<SocketAddr>,
+        /// Listen on this port of 127.0.0.1.
+        #[arg(long, value_name = "PORT", conflicts_with = "listen")]
+        port: Option<u16>,
+        /// End a session after this many minutes without a request.
+        #[arg(long, value_name = "MINUTES", default_value_t = 30)]
+        idle_minutes: u64,
+        /// The desk is reached over HTTPS through a proxy that terminates TLS: mark cookies Secure.
+        #[arg(long)]
+        behind_tls: bool,
+    },
+    /// Create the demo register from the built-in example study and roster (invented participants).
+    Demo {
+        /// The new register (must not exist).
+        register: PathBuf,
+        /// The protocol's first day (default: this week's Monday).
+        #[arg(long, value_name = "DATE")]
+        start: Option<chrono::NaiveDate>,
+    },
+    /// Manage accounts.
+    Account {
+        /// What to do.
+        #[command(subcommand)]
+        action: AccountAction,
+    },
+}
+
+/// Account actions.
+#[derive(Debug, Clone, Subcommand)]
+pub enum AccountAction {
+    /// Create an account (the password is asked for without echo, or read from standard input).
+    Add {
+        /// The register.
+        register: PathBuf,
+        /// The sign-in name (letters, digits, '.', '_', '-').
+        #[arg(long)]
+        name: String,
+        /// trainer (record, correct, print), dietitian (read, fit), designer (read, export) or admin (accounts).
+        #[arg(long)]
+        role: String,
+        /// Read the password from the first line of standard input instead of asking.
+        #[arg(long)]
+        password_stdin: bool,
+    },
+    /// Set a new password.
+    Password {
+        /// The register.
+        register: PathBuf,
+        /// The account.
+        #[arg(long)]
+        name: String,
+        /// Read the password from the first line of standard input instead of asking.
+        #[arg(long)]
+        password_stdin: bool,
+    },
+    /// Disable an account (its sessions end at their next request).
+    Disable {
+        /// The register.
+        register: PathBuf,
+        /// The account.
+        #[arg(long)]
+        name: String,
+    },
+    /// Enable a disabled account.
+    Enable {
+        /// The register.
+        register: PathBuf,
+        /// The account.
+        #[arg(long)]
+        name: String,
+    },
+    /// List the accounts.
+    List {
+        /// The register.
+        register: PathBuf,
+    },
 }

@@ -21,6 +21,7 @@ pub mod model;
 pub mod output;
 pub mod pilot;
 pub mod plan;
+pub mod planning;
 pub mod register;
 pub mod report;
 pub mod safety;

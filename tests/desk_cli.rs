@@ -143,7 +143,7 @@ fn demo_accounts_serve_and_stop_on_ctrl_c() {
 
 #[test]
 fn a_non_loopback_address_is_warned_about() {
-    use dosewright::desk::cli::listen_warning;
+    use dosewright::desk::listen_warning;
     let any: SocketAddr = "0.0.0.0:8470".parse().unwrap();
     let w = listen_warning(any).unwrap();
     assert!(w.contains("reachable from the network"));

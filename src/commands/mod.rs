@@ -11,7 +11,6 @@ use crate::plan::{self, Plan};
 use crate::report::units::{EnergyUnit, UnitSystem, Units};
 use crate::report::{self, ScheduleReport};
 use crate::safety::{ScreeningOutcome, Warning};
-use crate::simulate::observed::Observed;
 use chrono::NaiveDate;
 use std::path::Path;
 
@@ -21,6 +20,7 @@ pub mod charts;
 pub mod check;
 pub mod cohort;
 pub mod compare;
+pub mod desk;
 pub mod fit;
 pub mod goal;
 pub mod init;
@@ -52,7 +52,7 @@ pub fn run(command: &Command) -> Result<Printed, Error> {
         } => log::run(args),
         Command::Cohort(args) => cohort::run(args),
         Command::Pilot(args) => pilot::run(args),
-        Command::Desk(args) => crate::desk::run(args),
+        Command::Desk(args) => desk::run(args),
         Command::Check(args) => check::run(args),
         Command::Init(args) => init::run(args),
         Command::Activities(args) => activities::run(args),
@@ -67,16 +67,7 @@ pub fn load(path: Option<&Path>) -> Result<Plan, Error> {
     }
 }
 
-/// What a log contributes: the measured data, its warnings and a summary for reports.
-#[derive(Debug, Clone, Default)]
-pub struct LogInput {
-    /// Measured data for the simulation.
-    pub observed: Option<Observed>,
-    /// The log's own warnings (e.g. implausible jumps).
-    pub warnings: Vec<Warning>,
-    /// Summary for reports.
-    pub summary: Option<report::LogSummary>,
-}
+pub use crate::planning::LogInput;
 
 /// Read the log named on the command line, if any, up to `as_of`.
 pub fn read_log(
@@ -90,30 +81,6 @@ pub fn read_log(
     check_as_of(plan, as_of)?;
     let (log, warnings) = crate::log::load_log(path, plan, as_of)?;
     Ok(LogInput::from_log(plan, &log, warnings, as_of))
-}
-
-impl LogInput {
-    /// A validated log (from a file or a register) as the simulation and the reports
-    /// take it, up to `as_of`: the one place a log becomes measured data.
-    pub fn from_log(
-        plan: &Plan,
-        log: &crate::log::Log,
-        warnings: Vec<Warning>,
-        as_of: Option<NaiveDate>,
-    ) -> LogInput {
-        let observed = Observed::from_log(plan, log, as_of);
-        let summary = report::LogSummary {
-            path: log.path.clone(),
-            as_of: observed.as_of,
-            weigh_ins: observed.weigh_ins.len(),
-            sessions: observed.sessions.len(),
-        };
-        LogInput {
-            observed: Some(observed),
-            warnings,
-            summary: Some(summary),
-        }
-    }
 }
 
 /// Refuse, before any work, an output path that names one of the command's inputs

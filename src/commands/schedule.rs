@@ -1,44 +1,15 @@
 //! `schedule`: the week-by-week schedule and projected outcome of a plan.
 
 use super::{
-    LogInput, Printed, check_outputs, deliver, display_units, load, read_log, refuse_display_units,
+    Printed, check_outputs, deliver, display_units, load, read_log, refuse_display_units,
     side_notes,
 };
 use crate::cli::{FormatArg, ScheduleArgs};
 use crate::error::Error;
-use crate::plan::Plan;
-use crate::report::{self, ScheduleReport};
-use crate::simulate::band::projection_band;
-use crate::simulate::observed::Observed;
-use crate::simulate::{simulate, simulate_observed};
+use crate::report::{self};
 use std::path::Path;
 
-/// Validate, simulate and assemble the schedule report of a plan.
-pub fn schedule_report(plan: &Plan) -> Result<ScheduleReport, Error> {
-    let sim = simulate(plan)?;
-    Ok(ScheduleReport::new(plan, sim))
-}
-
-/// The schedule report with the projection band, re-planned from measured data when
-/// there is any.
-pub fn schedule_report_with_band(
-    plan: &Plan,
-    observed: Option<&Observed>,
-) -> Result<ScheduleReport, Error> {
-    let sim = simulate_observed(plan, observed)?;
-    let band = projection_band(plan, &sim, observed)?;
-    let mut r = ScheduleReport::new(plan, sim);
-    r.projection_band = Some(band);
-    Ok(r)
-}
-
-/// The schedule report of a plan with its log (if any): band, log summary, log warnings.
-pub fn schedule_report_logged(plan: &Plan, log: &LogInput) -> Result<ScheduleReport, Error> {
-    let mut r = schedule_report_with_band(plan, log.observed.as_ref())?;
-    r.warnings.extend(log.warnings.iter().cloned());
-    r.log = log.summary.clone();
-    Ok(r)
-}
+pub use crate::planning::{schedule_report, schedule_report_logged, schedule_report_with_band};
 
 /// Run `schedule`.
 pub fn run(args: &ScheduleArgs) -> Result<Printed, Error> {

@@ -12,7 +12,6 @@
 //! and correction is stamped with the account's name and the current UTC time.
 
 pub mod accounts;
-pub mod cli;
 pub mod demo;
 mod pages;
 pub mod views;
@@ -30,8 +29,6 @@ use std::net::{IpAddr, SocketAddr};
 use std::path::PathBuf;
 use std::sync::{Arc, Mutex, MutexGuard};
 use std::time::{Duration, Instant};
-
-pub use cli::{DeskArgs, run};
 
 /// The name of the session cookie.
 pub const SESSION_COOKIE: &str = "dw_session";
@@ -89,7 +86,7 @@ struct WebSession {
 /// The server's state.
 #[derive(Debug)]
 pub struct Desk {
-    config: Config,
+    pub(crate) config: Config,
     sessions: Mutex<HashMap<[u8; 32], WebSession>>,
     failures: Mutex<HashMap<String, Vec<Instant>>>,
     cache: views::Cache,
@@ -502,4 +499,13 @@ pub(crate) fn now() -> chrono::DateTime<chrono::Utc> {
 /// Today's date at the site (the machine's local date).
 pub(crate) fn today() -> chrono::NaiveDate {
     chrono::Local::now().date_naive()
+}
+
+/// The warning printed when the desk listens on anything but loopback.
+pub fn listen_warning(addr: SocketAddr) -> Option<String> {
+    (!addr.ip().is_loopback()).then(|| {
+        format!(
+            "warning: the desk listens on {addr}, reachable from the network. Protect it: a firewall limited to the site's machines, and HTTPS through a reverse proxy (then use --behind-tls)."
+        )
+    })
 }

@@ -1164,7 +1164,7 @@ async fn fit(
             }
         };
         let plan = &r.log.plan;
-        let schedule = crate::commands::schedule::schedule_report(plan)?;
+        let schedule = crate::planning::schedule_report(plan)?;
         let observed = r
             .input
             .observed

@@ -5,14 +5,13 @@
 //! A participant is re-planned exactly as `schedule --log` does it: the register's
 //! rows read back as the CSV log ([`crate::register::participant_log`]), the
 //! measured data taken from that log, then
-//! [`crate::commands::schedule::schedule_report_logged`]. The result is kept in a cache keyed by
+//! [`crate::planning::schedule_report_logged`]. The result is kept in a cache keyed by
 //! the participant's plan text and current rows, so a page shown again after no
 //! change does not simulate again, and any change (by this server or another
 //! process) is seen at once.
 
-use crate::commands::LogInput;
-use crate::commands::schedule::schedule_report_logged;
 use crate::error::Error;
+use crate::planning::{LogInput, schedule_report_logged};
 use crate::register::{self, Participant, Row, Store, Which};
 use crate::report::ScheduleReport;
 use crate::report::sessions::{PlannedSession, SessionPlan, session_plan};

@@ -1,110 +1,15 @@
-//! The `desk` command: serve the desk, create the demo register, manage accounts.
+//! `desk`: serve the desk, create the demo register, manage accounts. The command
+//! layer of the desk: the clock, the OS user and the password prompt are read here.
 
-use super::accounts::{self, Role};
-use super::{Config, DEFAULT_PORT};
-use crate::commands::Printed;
+use super::Printed;
+use crate::cli::{AccountAction, DeskAction, DeskArgs};
+use crate::desk::accounts::{self, Role};
+use crate::desk::{Config, DEFAULT_PORT, listen_warning};
 use crate::error::Error;
 use crate::register::{SqliteStore, Stamp};
-use clap::{Args, Subcommand};
 use std::io::BufRead;
 use std::net::SocketAddr;
-use std::path::PathBuf;
 use std::time::Duration;
-
-/// `dosewright desk ...`
-#[derive(Debug, Clone, Args)]
-pub struct DeskArgs {
-    /// What to do.
-    #[command(subcommand)]
-    pub action: DeskAction,
-}
-
-/// The desk's actions.
-#[derive(Debug, Clone, Subcommand)]
-pub enum DeskAction {
-    /// Serve the desk over a register until Ctrl-C (on 127.0.0.1 unless --listen says otherwise).
-    Serve {
-        /// The register (SQLite file).
-        register: PathBuf,
-        /// Listen on this address and port instead of 127.0.0.1:8470 (anything but loopback prints a warning).
-        #[arg(long, value_name = "ADDR:PORT")]
-        listen: Option<SocketAddr>,
-        /// Listen on this port of 127.0.0.1.
-        #[arg(long, value_name = "PORT", conflicts_with = "listen")]
-        port: Option<u16>,
-        /// End a session after this many minutes without a request.
-        #[arg(long, value_name = "MINUTES", default_value_t = 30)]
-        idle_minutes: u64,
-        /// The desk is reached over HTTPS through a proxy that terminates TLS: mark cookies Secure.
-        #[arg(long)]
-        behind_tls: bool,
-    },
-    /// Create the demo register from the built-in example study and roster (invented participants).
-    Demo {
-        /// The new register (must not exist).
-        register: PathBuf,
-        /// The protocol's first day (default: this week's Monday).
-        #[arg(long, value_name = "DATE")]
-        start: Option<chrono::NaiveDate>,
-    },
-    /// Manage accounts.
-    Account {
-        /// What to do.
-        #[command(subcommand)]
-        action: AccountAction,
-    },
-}
-
-/// Account actions.
-#[derive(Debug, Clone, Subcommand)]
-pub enum AccountAction {
-    /// Create an account (the password is asked for without echo, or read from standard input).
-    Add {
-        /// The register.
-        register: PathBuf,
-        /// The sign-in name (letters, digits, '.', '_', '-').
-        #[arg(long)]
-        name: String,
-        /// trainer (record, correct, print), dietitian (read, fit), designer (read, export) or admin (accounts).
-        #[arg(long)]
-        role: String,
-        /// Read the password from the first line of standard input instead of asking.
-        #[arg(long)]
-        password_stdin: bool,
-    },
-    /// Set a new password.
-    Password {
-        /// The register.
-        register: PathBuf,
-        /// The account.
-        #[arg(long)]
-        name: String,
-        /// Read the password from the first line of standard input instead of asking.
-        #[arg(long)]
-        password_stdin: bool,
-    },
-    /// Disable an account (its sessions end at their next request).
-    Disable {
-        /// The register.
-        register: PathBuf,
-        /// The account.
-        #[arg(long)]
-        name: String,
-    },
-    /// Enable a disabled account.
-    Enable {
-        /// The register.
-        register: PathBuf,
-        /// The account.
-        #[arg(long)]
-        name: String,
-    },
-    /// List the accounts.
-    List {
-        /// The register.
-        register: PathBuf,
-    },
-}
 
 /// Who runs the command: the OS user (read here, in the command layer).
 fn os_user() -> String {
@@ -173,8 +78,8 @@ pub fn run(args: &DeskArgs) -> Result<Printed, Error> {
             Ok(Printed::default())
         }
         DeskAction::Demo { register, start } => {
-            let start = start.unwrap_or_else(|| super::demo::monday_of(super::today()));
-            let codes = super::demo::create(register, start, None, 0, &stamp()?)?;
+            let start = start.unwrap_or_else(|| crate::desk::demo::monday_of(crate::desk::today()));
+            let codes = crate::desk::demo::create(register, start, None, 0, &stamp()?)?;
             Ok(Printed {
                 stdout: format!(
                     "{}: created with {} participants ({}), protocol from {start}\nnext: dosewright desk account add {} --name trainer1 --role trainer\n      dosewright desk serve {}\n",
@@ -271,7 +176,7 @@ fn serve_blocking(config: Config) -> Result<(), Error> {
         let addr = listener
             .local_addr()
             .map_err(|e| Error::Internal(e.to_string()))?;
-        let st = super::state(config)?;
+        let st = crate::desk::state(config)?;
         if let Some(w) = listen_warning(addr) {
             eprintln!("{w}");
         }
@@ -283,18 +188,9 @@ fn serve_blocking(config: Config) -> Result<(), Error> {
         // does not wait for it (a failure here shows on the page when asked for).
         let warm = st.clone();
         tokio::task::spawn_blocking(move || warm.warm_up());
-        super::serve_on(listener, st, shutdown_signal()).await?;
+        crate::desk::serve_on(listener, st, shutdown_signal()).await?;
         eprintln!("desk: stopped");
         Ok(())
-    })
-}
-
-/// The warning printed when the desk listens on anything but loopback.
-pub fn listen_warning(addr: SocketAddr) -> Option<String> {
-    (!addr.ip().is_loopback()).then(|| {
-        format!(
-            "warning: the desk listens on {addr}, reachable from the network. Protect it: a firewall limited to the site's machines, and HTTPS through a reverse proxy (then use --behind-tls)."
-        )
     })
 }
 
