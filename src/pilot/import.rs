@@ -30,18 +30,8 @@ pub const COLUMNS: [&str; 13] = [
     "note",
 ];
 
-/// One row of a measurement CSV.
-#[derive(Debug, Clone, PartialEq)]
-pub struct Imported {
-    /// Participant code.
-    pub participant: String,
-    /// The values.
-    pub measurement: Measurement,
-    /// Note.
-    pub note: String,
-    /// File and line.
-    pub at: Location,
-}
+/// One row of a measurement CSV (the register's type, which it imports).
+pub use crate::register::ImportedMeasurement as Imported;
 
 fn err(at: &Location, key: &str, message: String) -> Error {
     Error::Input(InputError {

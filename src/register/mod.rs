@@ -17,7 +17,7 @@ mod measured;
 mod schema;
 mod sqlite;
 
-pub use measured::{Measurement, MeasurementChange, MeasurementRow};
+pub use measured::{ImportedMeasurement, Measurement, MeasurementChange, MeasurementRow};
 
 pub use schema::{APPLICATION_ID, SCHEMA_VERSION};
 pub use sqlite::{CheckReport, SqliteStore};
