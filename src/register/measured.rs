@@ -7,7 +7,7 @@
 //! [`crate::measure::check_rmr`], [`crate::measure::check_tee`]), the same ones
 //! the pilot analysis calls, before anything is written.
 
-use super::sqlite::{db_error, find_participant, parse_date, parse_time};
+use super::sql::{db_error, find_participant, parse_date, parse_time};
 use super::{SqliteStore, Stamp, Status, Store, Which, one_line, reason_text};
 use crate::error::{Error, Location};
 use crate::measure::{RmrMeasure, TeeMeasure, Visit, check_rmr, check_tee, check_visit};

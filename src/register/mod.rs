@@ -15,6 +15,7 @@
 
 mod measured;
 mod schema;
+mod sql;
 mod sqlite;
 
 pub use measured::{ImportedMeasurement, Measurement, MeasurementChange, MeasurementRow};
