@@ -514,29 +514,7 @@ pub fn analyse_interval(
             p.visits.len()
         )));
     }
-    let fat: Vec<Lin> = p
-        .visits
-        .iter()
-        .enumerate()
-        .map(|(k, v)| {
-            let (df, _) = precision::composition(&v.method);
-            Lin::measured(v.fat_kg, fat_id(k), v.fat_sd_kg.unwrap_or(df.cv * v.fat_kg))
-        })
-        .collect();
-    let lean: Vec<Lin> = p
-        .visits
-        .iter()
-        .enumerate()
-        .map(|(k, v)| {
-            let (_, dl) = precision::composition(&v.method);
-            Lin::measured(
-                v.fat_free_kg,
-                lean_id(k),
-                v.fat_free_sd_kg.unwrap_or(dl.cv * v.fat_free_kg),
-            )
-        })
-        .collect();
-    let m = Measured { p, c, fat, lean };
+    let m = measured(p, c);
     let beta = c.tef_fraction;
     let va = &p.visits[a];
     let vb = &p.visits[b];
@@ -582,27 +560,7 @@ pub fn analyse_interval(
         .map(|ad| ad.div(&loss));
 
     // Resting term: baseline RMR minus the mean measured RMR over the interval.
-    let with_rmr: Vec<(usize, Lin)> = (a..=b)
-        .filter_map(|k| m.rmr_at(k).map(|r| (k, r)))
-        .collect();
-    let ends = with_rmr.first().map(|x| x.0) == Some(a) && with_rmr.last().map(|x| x.0) == Some(b);
-    let (resting, resting_explained) = match (&rmr0, ends) {
-        (Some(r0), true) => {
-            let measured: Vec<(NaiveDate, Lin)> = with_rmr
-                .iter()
-                .map(|(k, r)| (p.visits[*k].date, r.clone()))
-                .collect();
-            let pred: Vec<(NaiveDate, Lin)> = with_rmr
-                .iter()
-                .map(|(k, _)| (p.visits[*k].date, predicted(*k, r0)))
-                .collect();
-            (
-                Some(r0.sub(&trapezoid(&measured))),
-                Some(r0.sub(&trapezoid(&pred))),
-            )
-        }
-        _ => (None, None),
-    };
+    let (resting, resting_explained) = resting_terms(&m, a, b, &rmr0, predicted);
     let resting_adaptation = match (&resting, &resting_explained) {
         (Some(r), Some(e)) => Some(r.sub(e)),
         _ => None,
@@ -616,53 +574,30 @@ pub fn analyse_interval(
         rest = rest.sub(r);
     }
     // Non-exercise activity at baseline from the balance: AE0 = (1 - beta) EI0 - RMR0.
-    let masses: Vec<(NaiveDate, Lin)> = (a..=b).map(|k| (p.visits[k].date, m.mass(k))).collect();
-    let mean_mass = trapezoid(&masses);
-    let rest_explained = match (&ei0, &rmr0) {
-        (Some(ei0), Some(r0)) => {
-            let ae0 = ei0.combine(1.0 - beta, r0, -1.0);
-            let delta = ae0.div(&m0);
-            Some(Lin::map(&[&delta, &m0, &mean_mass], 1e-3, |x| {
-                x[0] * (x[1] - x[2])
-            }))
-        }
-        _ => None,
-    };
+    let rest_explained = rest_explained(&m, a, b, &ei0, &rmr0, beta);
     let activity_fraction = match (&intake_term, &resting, &rest_explained) {
         (Some(_), Some(_), Some(ex)) => frac(&rest.sub(ex)),
         _ => None,
     };
-    let cannot_separate = match (intake_term.is_some(), resting.is_some()) {
-        (false, false) => "Without a TEE and a measured RMR the data show only the gap: eating more, a lower resting metabolism and less other movement cannot be told apart (the rest is the whole gap).".to_string(),
-        (true, false) => "The TEE separates intake; without a measured RMR at both visits a lower resting metabolism cannot be told from less other movement (both are in the rest).".to_string(),
-        (false, true) => "The measured RMR separates resting metabolism; without a TEE eating more cannot be told from less other movement (both are in the rest).".to_string(),
-        (true, true) => "Intake (by the TEE) and resting metabolism (measured RMR) are separated; the rest holds less other movement together with every measurement's error, and one participant's rest cannot tell the two apart (only the arm's average can).".to_string(),
-    };
-    let cannot_separate = match &intake {
-        Some((_, false)) => format!(
-            "{cannot_separate} The TEE covers only part of the interval: the intake found there is taken to hold for the whole interval."
-        ),
-        _ => cannot_separate,
-    };
+    let cannot_separate = cannot_separate(intake_term.is_some(), resting.is_some(), &intake);
 
-    let mut terms = vec![
-        (Term::Delivered, Lin::exact(delivered)),
-        (Term::Achieved, achieved.clone()),
-        (Term::Gap, gap.clone()),
-        (Term::Rest, rest.clone()),
-    ];
-    let mut push = |t: Term, l: &Option<Lin>| {
-        if let Some(l) = l {
-            terms.push((t, l.clone()));
-        }
-    };
-    push(Term::Share, &share);
-    push(Term::IntakeChange, &intake_change);
-    push(Term::IntakeFraction, &intake_fraction);
-    push(Term::Resting, &resting);
-    push(Term::RmrAdaptation, &rmr_adaptation);
-    push(Term::RmrAdaptationPerKg, &rmr_adaptation_per_kg);
-    push(Term::ActivityFraction, &activity_fraction);
+    let terms = term_list(
+        [
+            (Term::Delivered, Lin::exact(delivered)),
+            (Term::Achieved, achieved.clone()),
+            (Term::Gap, gap.clone()),
+            (Term::Rest, rest.clone()),
+        ],
+        [
+            (Term::Share, &share),
+            (Term::IntakeChange, &intake_change),
+            (Term::IntakeFraction, &intake_fraction),
+            (Term::Resting, &resting),
+            (Term::RmrAdaptation, &rmr_adaptation),
+            (Term::RmrAdaptationPerKg, &rmr_adaptation_per_kg),
+            (Term::ActivityFraction, &activity_fraction),
+        ],
+    );
     let est = |l: &Option<Lin>| l.as_ref().map(Estimate::of);
     Ok(IntervalAnalysis {
         code: p.code.clone(),
@@ -697,6 +632,118 @@ pub fn analyse_interval(
         },
         terms,
     })
+}
+
+/// Every visit's fat and fat-free mass with its measurement error.
+fn measured<'a>(p: &'a PilotParticipant, c: &'a Constants) -> Measured<'a> {
+    let fat: Vec<Lin> = p
+        .visits
+        .iter()
+        .enumerate()
+        .map(|(k, v)| {
+            let (df, _) = precision::composition(&v.method);
+            Lin::measured(v.fat_kg, fat_id(k), v.fat_sd_kg.unwrap_or(df.cv * v.fat_kg))
+        })
+        .collect();
+    let lean: Vec<Lin> = p
+        .visits
+        .iter()
+        .enumerate()
+        .map(|(k, v)| {
+            let (_, dl) = precision::composition(&v.method);
+            Lin::measured(
+                v.fat_free_kg,
+                lean_id(k),
+                v.fat_free_sd_kg.unwrap_or(dl.cv * v.fat_free_kg),
+            )
+        })
+        .collect();
+    Measured { p, c, fat, lean }
+}
+
+/// The resting term (baseline RMR minus the mean measured RMR over visits `a` to
+/// `b`) and the part of it the equation explains, when RMR was measured at both ends.
+fn resting_terms(
+    m: &Measured,
+    a: usize,
+    b: usize,
+    rmr0: &Option<Lin>,
+    predicted: impl Fn(usize, &Lin) -> Lin,
+) -> (Option<Lin>, Option<Lin>) {
+    let with_rmr: Vec<(usize, Lin)> = (a..=b)
+        .filter_map(|k| m.rmr_at(k).map(|r| (k, r)))
+        .collect();
+    let ends = with_rmr.first().map(|x| x.0) == Some(a) && with_rmr.last().map(|x| x.0) == Some(b);
+    match (rmr0, ends) {
+        (Some(r0), true) => {
+            let measured: Vec<(NaiveDate, Lin)> = with_rmr
+                .iter()
+                .map(|(k, r)| (m.p.visits[*k].date, r.clone()))
+                .collect();
+            let pred: Vec<(NaiveDate, Lin)> = with_rmr
+                .iter()
+                .map(|(k, _)| (m.p.visits[*k].date, predicted(*k, r0)))
+                .collect();
+            (
+                Some(r0.sub(&trapezoid(&measured))),
+                Some(r0.sub(&trapezoid(&pred))),
+            )
+        }
+        _ => (None, None),
+    }
+}
+
+/// The rest the balance explains: non-exercise activity at baseline,
+/// `AE0 = (1 - beta) EI0 - RMR0`, per kg, times the mass lost on average over visits
+/// `a` to `b`.
+fn rest_explained(
+    m: &Measured,
+    a: usize,
+    b: usize,
+    ei0: &Option<Lin>,
+    rmr0: &Option<Lin>,
+    beta: f64,
+) -> Option<Lin> {
+    let m0 = m.mass(0);
+    let masses: Vec<(NaiveDate, Lin)> = (a..=b).map(|k| (m.p.visits[k].date, m.mass(k))).collect();
+    let mean_mass = trapezoid(&masses);
+    match (ei0, rmr0) {
+        (Some(ei0), Some(r0)) => {
+            let ae0 = ei0.combine(1.0 - beta, r0, -1.0);
+            let delta = ae0.div(&m0);
+            Some(Lin::map(&[&delta, &m0, &mean_mass], 1e-3, |x| {
+                x[0] * (x[1] - x[2])
+            }))
+        }
+        _ => None,
+    }
+}
+
+/// What the measurements available cannot tell apart, in words.
+fn cannot_separate(intake_term: bool, resting: bool, intake: &Option<(Lin, bool)>) -> String {
+    let cannot_separate = match (intake_term, resting) {
+        (false, false) => "Without a TEE and a measured RMR the data show only the gap: eating more, a lower resting metabolism and less other movement cannot be told apart (the rest is the whole gap).".to_string(),
+        (true, false) => "The TEE separates intake; without a measured RMR at both visits a lower resting metabolism cannot be told from less other movement (both are in the rest).".to_string(),
+        (false, true) => "The measured RMR separates resting metabolism; without a TEE eating more cannot be told from less other movement (both are in the rest).".to_string(),
+        (true, true) => "Intake (by the TEE) and resting metabolism (measured RMR) are separated; the rest holds less other movement together with every measurement's error, and one participant's rest cannot tell the two apart (only the arm's average can).".to_string(),
+    };
+    match intake {
+        Some((_, false)) => format!(
+            "{cannot_separate} The TEE covers only part of the interval: the intake found there is taken to hold for the whole interval."
+        ),
+        _ => cannot_separate,
+    }
+}
+
+/// The terms always estimated, then those estimated here, in this order.
+fn term_list(always: [(Term, Lin); 4], optional: [(Term, &Option<Lin>); 7]) -> Vec<(Term, Lin)> {
+    let mut terms = always.to_vec();
+    for (t, l) in optional {
+        if let Some(l) = l {
+            terms.push((t, l.clone()));
+        }
+    }
+    terms
 }
 
 impl IntervalAnalysis {
