@@ -507,13 +507,7 @@ pub fn analyse_interval(
     a: usize,
     b: usize,
 ) -> Result<IntervalAnalysis, Error> {
-    if !(a < b && b < p.visits.len()) {
-        return Err(Error::Usage(format!(
-            "participant {}: visits {a} and {b} do not make an interval (there are {} visits)",
-            p.code,
-            p.visits.len()
-        )));
-    }
+    check_interval(p, a, b)?;
     let m = measured(p, c);
     let beta = c.tef_fraction;
     let va = &p.visits[a];
@@ -554,10 +548,7 @@ pub fn analyse_interval(
         _ => None,
     };
     let loss = m0.sub(&m.mass(b));
-    let rmr_adaptation_per_kg = rmr_adaptation
-        .as_ref()
-        .filter(|_| loss.value >= MIN_LOSS_FOR_PER_KG)
-        .map(|ad| ad.div(&loss));
+    let rmr_adaptation_per_kg = per_kg(&rmr_adaptation, &loss);
 
     // Resting term: baseline RMR minus the mean measured RMR over the interval.
     let (resting, resting_explained) = resting_terms(&m, a, b, &rmr0, predicted);
@@ -566,13 +557,7 @@ pub fn analyse_interval(
         _ => None,
     };
     let intake_term = intake_change.as_ref().map(|d| d.scale(1.0 - beta));
-    let mut rest = gap.clone();
-    if let Some(t) = &intake_term {
-        rest = rest.sub(t);
-    }
-    if let Some(r) = &resting {
-        rest = rest.sub(r);
-    }
+    let rest = rest_of(&gap, &intake_term, &resting);
     // Non-exercise activity at baseline from the balance: AE0 = (1 - beta) EI0 - RMR0.
     let rest_explained = rest_explained(&m, a, b, &ei0, &rmr0, beta);
     let activity_fraction = match (&intake_term, &resting, &rest_explained) {
@@ -632,6 +617,39 @@ pub fn analyse_interval(
         },
         terms,
     })
+}
+
+/// Refuse visit indices that do not make an interval.
+fn check_interval(p: &PilotParticipant, a: usize, b: usize) -> Result<(), Error> {
+    if !(a < b && b < p.visits.len()) {
+        return Err(Error::Usage(format!(
+            "participant {}: visits {a} and {b} do not make an interval (there are {} visits)",
+            p.code,
+            p.visits.len()
+        )));
+    }
+    Ok(())
+}
+
+/// The gap less the intake and resting terms that were estimated.
+fn rest_of(gap: &Lin, intake_term: &Option<Lin>, resting: &Option<Lin>) -> Lin {
+    let mut rest = gap.clone();
+    if let Some(t) = &intake_term {
+        rest = rest.sub(t);
+    }
+    if let Some(r) = &resting {
+        rest = rest.sub(r);
+    }
+    rest
+}
+
+/// The RMR adaptation per kg lost, when enough mass was lost
+/// ([`MIN_LOSS_FOR_PER_KG`]).
+fn per_kg(rmr_adaptation: &Option<Lin>, loss: &Lin) -> Option<Lin> {
+    rmr_adaptation
+        .as_ref()
+        .filter(|_| loss.value >= MIN_LOSS_FOR_PER_KG)
+        .map(|ad| ad.div(loss))
 }
 
 /// Every visit's fat and fat-free mass with its measurement error.
