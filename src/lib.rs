@@ -17,6 +17,7 @@ pub mod desk;
 pub mod error;
 pub mod input;
 pub mod log;
+pub mod measure;
 pub mod model;
 pub mod output;
 pub mod pilot;

@@ -29,10 +29,15 @@ pub mod precision;
 pub mod report;
 pub mod scenario;
 
+pub use crate::measure::{
+    KCAL_PER_MJ, MASS_REFUSE_KG, MASS_WARN_KG, RmrMeasure, TeeMeasure, Visit, check_rmr, check_tee,
+    check_visit,
+};
+use crate::measure::{input_error, place, warn};
 pub use arm::{ArmSummary, PilotAnalysis, TermSummary, analyse};
 use lin::Lin;
 
-use crate::error::{Error, InputError, Location};
+use crate::error::{Error, Location};
 use crate::model::{Constants, Sex};
 use crate::safety::Warning;
 use chrono::NaiveDate;
@@ -44,13 +49,6 @@ pub const Z95: f64 = 1.959_963_985;
 /// Largest distance of a TEE or RMR measurement from a visit for it to count as
 /// at that visit, days (common practice, no source).
 pub const MATCH_DAYS: i64 = 7;
-
-/// Fat plus fat-free mass may differ from the weighed mass by this much before a
-/// warning, kg (common practice, no source: scale and DXA totals usually agree
-/// within about 1 kg).
-pub const MASS_WARN_KG: f64 = 1.5;
-/// ... and by this much before it is refused as a wrong unit or a typing error, kg.
-pub const MASS_REFUSE_KG: f64 = 5.0;
 
 /// Smallest mass lost between baseline and a visit for the adaptation per kg to be
 /// estimated, kg (below it the ratio is dominated by noise; common practice).
@@ -65,67 +63,6 @@ pub struct Body {
     pub age_years: f64,
     /// Height, cm.
     pub height_cm: f64,
-}
-
-/// A body-composition visit: the state at 00:00 of its date.
-#[derive(Debug, Clone, PartialEq, Serialize)]
-pub struct Visit {
-    /// Date.
-    pub date: NaiveDate,
-    /// Fat mass, kg.
-    pub fat_kg: f64,
-    /// Fat-free mass, kg.
-    pub fat_free_kg: f64,
-    /// Body mass on the scale at the same visit, kg, if weighed.
-    pub weighed_kg: Option<f64>,
-    /// Method (`DXA`, `BIA`, ...).
-    pub method: String,
-    /// Precision (SD) of the fat mass, kg; None = the method's default.
-    pub fat_sd_kg: Option<f64>,
-    /// Precision (SD) of the fat-free mass, kg; None = the method's default.
-    pub fat_free_sd_kg: Option<f64>,
-    /// Where the row came from (file and row), for messages.
-    #[serde(skip)]
-    pub at: Location,
-}
-
-/// A measured RMR.
-#[derive(Debug, Clone, PartialEq, Serialize)]
-pub struct RmrMeasure {
-    /// Date.
-    pub date: NaiveDate,
-    /// kcal/day.
-    pub kcal_per_day: f64,
-    /// Precision (SD), kcal/day; None = the default CV.
-    pub sd: Option<f64>,
-    /// Where the row came from.
-    #[serde(skip)]
-    pub at: Location,
-}
-
-/// Total energy expenditure over a period.
-#[derive(Debug, Clone, PartialEq, Serialize)]
-pub struct TeeMeasure {
-    /// First day of the period.
-    pub first: NaiveDate,
-    /// Last day of the period (inclusive).
-    pub last: NaiveDate,
-    /// Average over the period, kcal/day.
-    pub kcal_per_day: f64,
-    /// Method (`DLW`, ...).
-    pub method: String,
-    /// Precision (SD), kcal/day; None = the method's default CV.
-    pub sd: Option<f64>,
-    /// Where the row came from.
-    #[serde(skip)]
-    pub at: Location,
-}
-
-impl TeeMeasure {
-    /// The period's start (00:00 of `first`) and end (00:00 of the day after `last`).
-    fn span(&self) -> (NaiveDate, NaiveDate) {
-        (self.first, self.last + chrono::Days::new(1))
-    }
 }
 
 /// The net exercise energy of one delivered session (above the participant's rest,
@@ -328,22 +265,6 @@ impl Term {
     }
 }
 
-fn input_error(at: &Location, key: &str, message: String) -> Error {
-    Error::Input(InputError {
-        location: at.clone(),
-        key: Some(key.to_string()),
-        message,
-    })
-}
-
-fn warn(code: &'static str, message: String) -> Warning {
-    Warning { code, message }
-}
-
-fn place(at: &Location) -> String {
-    at.to_string()
-}
-
 /// Check one participant's measurements: units, ranges, date order, composition
 /// against the weighed mass, TEE periods between visits. Errors name the
 /// participant, the row and the value; warnings are returned.
@@ -448,180 +369,6 @@ pub fn check(p: &PilotParticipant) -> Result<Vec<Warning>, Error> {
         }
     }
     Ok(warnings)
-}
-
-/// Check one visit's values: kg not grams, ranges, precision, and fat plus
-/// fat-free mass against the weighed mass.
-pub fn check_visit(who: &str, v: &Visit) -> Result<Vec<Warning>, Error> {
-    let mut warnings = Vec::new();
-    for (key, x, lo, hi) in [
-        ("fat_kg", v.fat_kg, 1.0, 300.0),
-        ("fat_free_kg", v.fat_free_kg, 15.0, 250.0),
-    ] {
-        if !x.is_finite() || x > 500.0 {
-            return Err(input_error(
-                &v.at,
-                key,
-                format!(
-                    "participant {who}, visit of {}: {x} looks like grams, not kg; give kilograms (e.g. {:.1})",
-                    v.date,
-                    x / 1000.0
-                ),
-            ));
-        }
-        if !(lo..=hi).contains(&x) {
-            return Err(input_error(
-                &v.at,
-                key,
-                format!(
-                    "participant {who}, visit of {}: {x} kg is out of range; allowed {lo} to {hi} kg",
-                    v.date
-                ),
-            ));
-        }
-    }
-    for (key, sd) in [
-        ("fat_sd_kg", v.fat_sd_kg),
-        ("fat_free_sd_kg", v.fat_free_sd_kg),
-    ] {
-        if let Some(sd) = sd
-            && !(sd.is_finite() && (0.0..=10.0).contains(&sd))
-        {
-            return Err(input_error(
-                &v.at,
-                key,
-                format!(
-                    "participant {who}, visit of {}: precision {sd} kg is out of range; allowed 0 to 10 kg",
-                    v.date
-                ),
-            ));
-        }
-    }
-    if let Some(w) = v.weighed_kg {
-        if !w.is_finite() || w > 500.0 {
-            return Err(input_error(
-                &v.at,
-                "mass_kg",
-                format!(
-                    "participant {who}, visit of {}: {w} looks like grams, not kg; give kilograms",
-                    v.date
-                ),
-            ));
-        }
-        let diff = v.fat_kg + v.fat_free_kg - w;
-        if diff.abs() > MASS_REFUSE_KG {
-            return Err(input_error(
-                &v.at,
-                "mass_kg",
-                format!(
-                    "participant {who}, visit of {}: fat {} + fat-free {} = {:.1} kg is {:.1} kg from the weighed {w} kg; allowed within {MASS_REFUSE_KG} kg (check the units and columns)",
-                    v.date,
-                    v.fat_kg,
-                    v.fat_free_kg,
-                    v.fat_kg + v.fat_free_kg,
-                    diff.abs()
-                ),
-            ));
-        }
-        if diff.abs() > MASS_WARN_KG {
-            warnings.push(warn(
-                "pilot-mass-mismatch",
-                format!(
-                    "{}: participant {who}, visit of {}: fat + fat-free = {:.1} kg differs from the weighed {w} kg by {:.1} kg (more than {MASS_WARN_KG} kg)",
-                    place(&v.at),
-                    v.date,
-                    v.fat_kg + v.fat_free_kg,
-                    diff.abs()
-                ),
-            ));
-        }
-    }
-    Ok(warnings)
-}
-
-/// Check one RMR's values: kcal/day not MJ/day, range, precision.
-pub fn check_rmr(who: &str, r: &RmrMeasure) -> Result<(), Error> {
-    let x = r.kcal_per_day;
-    if x.is_finite() && x > 0.0 && x < 30.0 {
-        return Err(input_error(
-            &r.at,
-            "rmr_kcal_per_day",
-            format!(
-                "participant {who}, RMR of {}: {x} looks like MJ/day; give kcal/day ({x} MJ = {:.0} kcal)",
-                r.date,
-                x * KCAL_PER_MJ
-            ),
-        ));
-    }
-    if !(x.is_finite() && (500.0..=5000.0).contains(&x)) {
-        return Err(input_error(
-            &r.at,
-            "rmr_kcal_per_day",
-            format!(
-                "participant {who}, RMR of {}: {x} kcal/day is out of range; allowed 500 to 5000",
-                r.date
-            ),
-        ));
-    }
-    check_sd(&r.at, who, "rmr_sd", r.sd, 500.0)?;
-    Ok(())
-}
-
-/// Check one TEE's values: kcal/day not MJ/day, range, precision, period order.
-pub fn check_tee(who: &str, t: &TeeMeasure) -> Result<(), Error> {
-    let x = t.kcal_per_day;
-    if x.is_finite() && x > 0.0 && x < 40.0 {
-        return Err(input_error(
-            &t.at,
-            "tee_kcal_per_day",
-            format!(
-                "participant {who}, TEE {} to {}: {x} looks like MJ/day; give kcal/day ({x} MJ = {:.0} kcal)",
-                t.first,
-                t.last,
-                x * KCAL_PER_MJ
-            ),
-        ));
-    }
-    if !(x.is_finite() && (800.0..=8000.0).contains(&x)) {
-        return Err(input_error(
-            &t.at,
-            "tee_kcal_per_day",
-            format!(
-                "participant {who}, TEE {} to {}: {x} kcal/day is out of range; allowed 800 to 8000",
-                t.first, t.last
-            ),
-        ));
-    }
-    check_sd(&t.at, who, "tee_sd", t.sd, 1500.0)?;
-    if t.last < t.first {
-        return Err(input_error(
-            &t.at,
-            "last",
-            format!(
-                "participant {who}: TEE period ends ({}) before it begins ({})",
-                t.last, t.first
-            ),
-        ));
-    }
-    Ok(())
-}
-
-/// kcal in one MJ (1 kcal = 4.184 kJ, the thermochemical calorie).
-pub const KCAL_PER_MJ: f64 = 1000.0 / 4.184;
-
-fn check_sd(at: &Location, who: &str, key: &str, sd: Option<f64>, max: f64) -> Result<(), Error> {
-    if let Some(sd) = sd
-        && !(sd.is_finite() && (0.0..=max).contains(&sd))
-    {
-        return Err(input_error(
-            at,
-            key,
-            format!(
-                "participant {who}: precision {sd} kcal/day is out of range; allowed 0 to {max}"
-            ),
-        ));
-    }
-    Ok(())
 }
 
 /// Error-source ids within one participant.
@@ -760,36 +507,8 @@ pub fn analyse_interval(
     a: usize,
     b: usize,
 ) -> Result<IntervalAnalysis, Error> {
-    if !(a < b && b < p.visits.len()) {
-        return Err(Error::Usage(format!(
-            "participant {}: visits {a} and {b} do not make an interval (there are {} visits)",
-            p.code,
-            p.visits.len()
-        )));
-    }
-    let fat: Vec<Lin> = p
-        .visits
-        .iter()
-        .enumerate()
-        .map(|(k, v)| {
-            let (df, _) = precision::composition(&v.method);
-            Lin::measured(v.fat_kg, fat_id(k), v.fat_sd_kg.unwrap_or(df.cv * v.fat_kg))
-        })
-        .collect();
-    let lean: Vec<Lin> = p
-        .visits
-        .iter()
-        .enumerate()
-        .map(|(k, v)| {
-            let (_, dl) = precision::composition(&v.method);
-            Lin::measured(
-                v.fat_free_kg,
-                lean_id(k),
-                v.fat_free_sd_kg.unwrap_or(dl.cv * v.fat_free_kg),
-            )
-        })
-        .collect();
-    let m = Measured { p, c, fat, lean };
+    check_interval(p, a, b)?;
+    let m = measured(p, c);
     let beta = c.tef_fraction;
     let va = &p.visits[a];
     let vb = &p.visits[b];
@@ -829,93 +548,41 @@ pub fn analyse_interval(
         _ => None,
     };
     let loss = m0.sub(&m.mass(b));
-    let rmr_adaptation_per_kg = rmr_adaptation
-        .as_ref()
-        .filter(|_| loss.value >= MIN_LOSS_FOR_PER_KG)
-        .map(|ad| ad.div(&loss));
+    let rmr_adaptation_per_kg = per_kg(&rmr_adaptation, &loss);
 
     // Resting term: baseline RMR minus the mean measured RMR over the interval.
-    let with_rmr: Vec<(usize, Lin)> = (a..=b)
-        .filter_map(|k| m.rmr_at(k).map(|r| (k, r)))
-        .collect();
-    let ends = with_rmr.first().map(|x| x.0) == Some(a) && with_rmr.last().map(|x| x.0) == Some(b);
-    let (resting, resting_explained) = match (&rmr0, ends) {
-        (Some(r0), true) => {
-            let measured: Vec<(NaiveDate, Lin)> = with_rmr
-                .iter()
-                .map(|(k, r)| (p.visits[*k].date, r.clone()))
-                .collect();
-            let pred: Vec<(NaiveDate, Lin)> = with_rmr
-                .iter()
-                .map(|(k, _)| (p.visits[*k].date, predicted(*k, r0)))
-                .collect();
-            (
-                Some(r0.sub(&trapezoid(&measured))),
-                Some(r0.sub(&trapezoid(&pred))),
-            )
-        }
-        _ => (None, None),
-    };
+    let (resting, resting_explained) = resting_terms(&m, a, b, &rmr0, predicted);
     let resting_adaptation = match (&resting, &resting_explained) {
         (Some(r), Some(e)) => Some(r.sub(e)),
         _ => None,
     };
     let intake_term = intake_change.as_ref().map(|d| d.scale(1.0 - beta));
-    let mut rest = gap.clone();
-    if let Some(t) = &intake_term {
-        rest = rest.sub(t);
-    }
-    if let Some(r) = &resting {
-        rest = rest.sub(r);
-    }
+    let rest = rest_of(&gap, &intake_term, &resting);
     // Non-exercise activity at baseline from the balance: AE0 = (1 - beta) EI0 - RMR0.
-    let masses: Vec<(NaiveDate, Lin)> = (a..=b).map(|k| (p.visits[k].date, m.mass(k))).collect();
-    let mean_mass = trapezoid(&masses);
-    let rest_explained = match (&ei0, &rmr0) {
-        (Some(ei0), Some(r0)) => {
-            let ae0 = ei0.combine(1.0 - beta, r0, -1.0);
-            let delta = ae0.div(&m0);
-            Some(Lin::map(&[&delta, &m0, &mean_mass], 1e-3, |x| {
-                x[0] * (x[1] - x[2])
-            }))
-        }
-        _ => None,
-    };
+    let rest_explained = rest_explained(&m, a, b, &ei0, &rmr0, beta);
     let activity_fraction = match (&intake_term, &resting, &rest_explained) {
         (Some(_), Some(_), Some(ex)) => frac(&rest.sub(ex)),
         _ => None,
     };
-    let cannot_separate = match (intake_term.is_some(), resting.is_some()) {
-        (false, false) => "Without a TEE and a measured RMR the data show only the gap: eating more, a lower resting metabolism and less other movement cannot be told apart (the rest is the whole gap).".to_string(),
-        (true, false) => "The TEE separates intake; without a measured RMR at both visits a lower resting metabolism cannot be told from less other movement (both are in the rest).".to_string(),
-        (false, true) => "The measured RMR separates resting metabolism; without a TEE eating more cannot be told from less other movement (both are in the rest).".to_string(),
-        (true, true) => "Intake (by the TEE) and resting metabolism (measured RMR) are separated; the rest holds less other movement together with every measurement's error, and one participant's rest cannot tell the two apart (only the arm's average can).".to_string(),
-    };
-    let cannot_separate = match &intake {
-        Some((_, false)) => format!(
-            "{cannot_separate} The TEE covers only part of the interval: the intake found there is taken to hold for the whole interval."
-        ),
-        _ => cannot_separate,
-    };
+    let cannot_separate = cannot_separate(intake_term.is_some(), resting.is_some(), &intake);
 
-    let mut terms = vec![
-        (Term::Delivered, Lin::exact(delivered)),
-        (Term::Achieved, achieved.clone()),
-        (Term::Gap, gap.clone()),
-        (Term::Rest, rest.clone()),
-    ];
-    let mut push = |t: Term, l: &Option<Lin>| {
-        if let Some(l) = l {
-            terms.push((t, l.clone()));
-        }
-    };
-    push(Term::Share, &share);
-    push(Term::IntakeChange, &intake_change);
-    push(Term::IntakeFraction, &intake_fraction);
-    push(Term::Resting, &resting);
-    push(Term::RmrAdaptation, &rmr_adaptation);
-    push(Term::RmrAdaptationPerKg, &rmr_adaptation_per_kg);
-    push(Term::ActivityFraction, &activity_fraction);
+    let terms = term_list(
+        [
+            (Term::Delivered, Lin::exact(delivered)),
+            (Term::Achieved, achieved.clone()),
+            (Term::Gap, gap.clone()),
+            (Term::Rest, rest.clone()),
+        ],
+        [
+            (Term::Share, &share),
+            (Term::IntakeChange, &intake_change),
+            (Term::IntakeFraction, &intake_fraction),
+            (Term::Resting, &resting),
+            (Term::RmrAdaptation, &rmr_adaptation),
+            (Term::RmrAdaptationPerKg, &rmr_adaptation_per_kg),
+            (Term::ActivityFraction, &activity_fraction),
+        ],
+    );
     let est = |l: &Option<Lin>| l.as_ref().map(Estimate::of);
     Ok(IntervalAnalysis {
         code: p.code.clone(),
@@ -950,6 +617,151 @@ pub fn analyse_interval(
         },
         terms,
     })
+}
+
+/// Refuse visit indices that do not make an interval.
+fn check_interval(p: &PilotParticipant, a: usize, b: usize) -> Result<(), Error> {
+    if !(a < b && b < p.visits.len()) {
+        return Err(Error::Usage(format!(
+            "participant {}: visits {a} and {b} do not make an interval (there are {} visits)",
+            p.code,
+            p.visits.len()
+        )));
+    }
+    Ok(())
+}
+
+/// The gap less the intake and resting terms that were estimated.
+fn rest_of(gap: &Lin, intake_term: &Option<Lin>, resting: &Option<Lin>) -> Lin {
+    let mut rest = gap.clone();
+    if let Some(t) = &intake_term {
+        rest = rest.sub(t);
+    }
+    if let Some(r) = &resting {
+        rest = rest.sub(r);
+    }
+    rest
+}
+
+/// The RMR adaptation per kg lost, when enough mass was lost
+/// ([`MIN_LOSS_FOR_PER_KG`]).
+fn per_kg(rmr_adaptation: &Option<Lin>, loss: &Lin) -> Option<Lin> {
+    rmr_adaptation
+        .as_ref()
+        .filter(|_| loss.value >= MIN_LOSS_FOR_PER_KG)
+        .map(|ad| ad.div(loss))
+}
+
+/// Every visit's fat and fat-free mass with its measurement error.
+fn measured<'a>(p: &'a PilotParticipant, c: &'a Constants) -> Measured<'a> {
+    let fat: Vec<Lin> = p
+        .visits
+        .iter()
+        .enumerate()
+        .map(|(k, v)| {
+            let (df, _) = precision::composition(&v.method);
+            Lin::measured(v.fat_kg, fat_id(k), v.fat_sd_kg.unwrap_or(df.cv * v.fat_kg))
+        })
+        .collect();
+    let lean: Vec<Lin> = p
+        .visits
+        .iter()
+        .enumerate()
+        .map(|(k, v)| {
+            let (_, dl) = precision::composition(&v.method);
+            Lin::measured(
+                v.fat_free_kg,
+                lean_id(k),
+                v.fat_free_sd_kg.unwrap_or(dl.cv * v.fat_free_kg),
+            )
+        })
+        .collect();
+    Measured { p, c, fat, lean }
+}
+
+/// The resting term (baseline RMR minus the mean measured RMR over visits `a` to
+/// `b`) and the part of it the equation explains, when RMR was measured at both ends.
+fn resting_terms(
+    m: &Measured,
+    a: usize,
+    b: usize,
+    rmr0: &Option<Lin>,
+    predicted: impl Fn(usize, &Lin) -> Lin,
+) -> (Option<Lin>, Option<Lin>) {
+    let with_rmr: Vec<(usize, Lin)> = (a..=b)
+        .filter_map(|k| m.rmr_at(k).map(|r| (k, r)))
+        .collect();
+    let ends = with_rmr.first().map(|x| x.0) == Some(a) && with_rmr.last().map(|x| x.0) == Some(b);
+    match (rmr0, ends) {
+        (Some(r0), true) => {
+            let measured: Vec<(NaiveDate, Lin)> = with_rmr
+                .iter()
+                .map(|(k, r)| (m.p.visits[*k].date, r.clone()))
+                .collect();
+            let pred: Vec<(NaiveDate, Lin)> = with_rmr
+                .iter()
+                .map(|(k, _)| (m.p.visits[*k].date, predicted(*k, r0)))
+                .collect();
+            (
+                Some(r0.sub(&trapezoid(&measured))),
+                Some(r0.sub(&trapezoid(&pred))),
+            )
+        }
+        _ => (None, None),
+    }
+}
+
+/// The rest the balance explains: non-exercise activity at baseline,
+/// `AE0 = (1 - beta) EI0 - RMR0`, per kg, times the mass lost on average over visits
+/// `a` to `b`.
+fn rest_explained(
+    m: &Measured,
+    a: usize,
+    b: usize,
+    ei0: &Option<Lin>,
+    rmr0: &Option<Lin>,
+    beta: f64,
+) -> Option<Lin> {
+    let m0 = m.mass(0);
+    let masses: Vec<(NaiveDate, Lin)> = (a..=b).map(|k| (m.p.visits[k].date, m.mass(k))).collect();
+    let mean_mass = trapezoid(&masses);
+    match (ei0, rmr0) {
+        (Some(ei0), Some(r0)) => {
+            let ae0 = ei0.combine(1.0 - beta, r0, -1.0);
+            let delta = ae0.div(&m0);
+            Some(Lin::map(&[&delta, &m0, &mean_mass], 1e-3, |x| {
+                x[0] * (x[1] - x[2])
+            }))
+        }
+        _ => None,
+    }
+}
+
+/// What the measurements available cannot tell apart, in words.
+fn cannot_separate(intake_term: bool, resting: bool, intake: &Option<(Lin, bool)>) -> String {
+    let cannot_separate = match (intake_term, resting) {
+        (false, false) => "Without a TEE and a measured RMR the data show only the gap: eating more, a lower resting metabolism and less other movement cannot be told apart (the rest is the whole gap).".to_string(),
+        (true, false) => "The TEE separates intake; without a measured RMR at both visits a lower resting metabolism cannot be told from less other movement (both are in the rest).".to_string(),
+        (false, true) => "The measured RMR separates resting metabolism; without a TEE eating more cannot be told from less other movement (both are in the rest).".to_string(),
+        (true, true) => "Intake (by the TEE) and resting metabolism (measured RMR) are separated; the rest holds less other movement together with every measurement's error, and one participant's rest cannot tell the two apart (only the arm's average can).".to_string(),
+    };
+    match intake {
+        Some((_, false)) => format!(
+            "{cannot_separate} The TEE covers only part of the interval: the intake found there is taken to hold for the whole interval."
+        ),
+        _ => cannot_separate,
+    }
+}
+
+/// The terms always estimated, then those estimated here, in this order.
+fn term_list(always: [(Term, Lin); 4], optional: [(Term, &Option<Lin>); 7]) -> Vec<(Term, Lin)> {
+    let mut terms = always.to_vec();
+    for (t, l) in optional {
+        if let Some(l) = l {
+            terms.push((t, l.clone()));
+        }
+    }
+    terms
 }
 
 impl IntervalAnalysis {

@@ -218,43 +218,7 @@ pub fn chart_svg(a: &PilotAnalysis, pilot: &str) -> String {
         escape(&format!("Achieved against delivered energy: {pilot}"))
     );
     // Axes and ticks.
-    let step = nice_step((hi - lo) / 6.0);
-    let mut t = (lo / step).ceil() * step;
-    while t <= hi {
-        // No "-0" label.
-        let t0 = if t.abs() < 1e-9 * step { 0.0 } else { t };
-        let _ = writeln!(
-            s,
-            "<line x1=\"{:.1}\" y1=\"{:.1}\" x2=\"{:.1}\" y2=\"{:.1}\" stroke=\"#e3e3e3\"/>",
-            x(t),
-            top,
-            x(t),
-            top + ph
-        );
-        let _ = writeln!(
-            s,
-            "<line x1=\"{:.1}\" y1=\"{:.1}\" x2=\"{:.1}\" y2=\"{:.1}\" stroke=\"#e3e3e3\"/>",
-            left,
-            y(t),
-            left + pw,
-            y(t)
-        );
-        let _ = writeln!(
-            s,
-            "<text x=\"{:.1}\" y=\"{:.1}\" font-size=\"12\" text-anchor=\"middle\">{}</text>",
-            x(t),
-            top + ph + 18.0,
-            f(t0, 0)
-        );
-        let _ = writeln!(
-            s,
-            "<text x=\"{:.1}\" y=\"{:.1}\" font-size=\"12\" text-anchor=\"end\">{}</text>",
-            left - 6.0,
-            y(t) + 4.0,
-            f(t0, 0)
-        );
-        t += step;
-    }
+    grid_lines(&mut s, lo, hi, x, y, (left, top, pw, ph));
     let _ = writeln!(
         s,
         "<rect x=\"{left:.1}\" y=\"{top:.1}\" width=\"{pw:.1}\" height=\"{ph:.1}\" fill=\"none\" stroke=\"#222222\"/>"
@@ -326,6 +290,55 @@ pub fn chart_svg(a: &PilotAnalysis, pilot: &str) -> String {
     );
     s.push_str("</svg>\n");
     s
+}
+
+/// The grid lines and tick labels of both axes, from `lo` to `hi` (the same scale on
+/// both), in the plot area `(left, top, width, height)`.
+fn grid_lines(
+    s: &mut String,
+    lo: f64,
+    hi: f64,
+    x: impl Fn(f64) -> f64,
+    y: impl Fn(f64) -> f64,
+    (left, top, pw, ph): (f64, f64, f64, f64),
+) {
+    let step = nice_step((hi - lo) / 6.0);
+    let mut t = (lo / step).ceil() * step;
+    while t <= hi {
+        // No "-0" label.
+        let t0 = if t.abs() < 1e-9 * step { 0.0 } else { t };
+        let _ = writeln!(
+            s,
+            "<line x1=\"{:.1}\" y1=\"{:.1}\" x2=\"{:.1}\" y2=\"{:.1}\" stroke=\"#e3e3e3\"/>",
+            x(t),
+            top,
+            x(t),
+            top + ph
+        );
+        let _ = writeln!(
+            s,
+            "<line x1=\"{:.1}\" y1=\"{:.1}\" x2=\"{:.1}\" y2=\"{:.1}\" stroke=\"#e3e3e3\"/>",
+            left,
+            y(t),
+            left + pw,
+            y(t)
+        );
+        let _ = writeln!(
+            s,
+            "<text x=\"{:.1}\" y=\"{:.1}\" font-size=\"12\" text-anchor=\"middle\">{}</text>",
+            x(t),
+            top + ph + 18.0,
+            f(t0, 0)
+        );
+        let _ = writeln!(
+            s,
+            "<text x=\"{:.1}\" y=\"{:.1}\" font-size=\"12\" text-anchor=\"end\">{}</text>",
+            left - 6.0,
+            y(t) + 4.0,
+            f(t0, 0)
+        );
+        t += step;
+    }
 }
 
 fn marker(k: usize, cx: f64, cy: f64, colour: &str, title: &str) -> String {

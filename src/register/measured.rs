@@ -2,14 +2,15 @@
 //! composition, measured RMR and total energy expenditure, with the same audit
 //! rules as weigh-ins and sessions (docs/register.md): every write takes a
 //! [`Stamp`], appends a row to `measurement_changes`, corrections supersede and
-//! voids mark, nothing is deleted. Values are checked by the pilot analysis's own
-//! row checks ([`crate::pilot::check_visit`], [`crate::pilot::check_rmr`],
-//! [`crate::pilot::check_tee`]) before anything is written.
+//! voids mark, nothing is deleted. Values are checked by the row checks in
+//! [`crate::measure`] ([`crate::measure::check_visit`],
+//! [`crate::measure::check_rmr`], [`crate::measure::check_tee`]), the same ones
+//! the pilot analysis calls, before anything is written.
 
-use super::sqlite::{db_error, find_participant, parse_date, parse_time};
+use super::sql::{db_error, find_participant, parse_date, parse_time};
 use super::{SqliteStore, Stamp, Status, Store, Which, one_line, reason_text};
 use crate::error::{Error, Location};
-use crate::pilot::{RmrMeasure, TeeMeasure, Visit, check_rmr, check_tee, check_visit};
+use crate::measure::{RmrMeasure, TeeMeasure, Visit, check_rmr, check_tee, check_visit};
 use crate::safety::Warning;
 use chrono::NaiveDate;
 use rusqlite::{OptionalExtension, Transaction, params};
@@ -58,6 +59,20 @@ pub enum Measurement {
         /// Precision, kcal/day (SD).
         sd_kcal_per_day: Option<f64>,
     },
+}
+
+/// One row of a measurement CSV: a participant code, the values, a note and where
+/// the row came from.
+#[derive(Debug, Clone, PartialEq)]
+pub struct ImportedMeasurement {
+    /// Participant code.
+    pub participant: String,
+    /// The values.
+    pub measurement: Measurement,
+    /// Note.
+    pub note: String,
+    /// File and line.
+    pub at: Location,
 }
 
 impl Measurement {
@@ -432,7 +447,7 @@ impl SqliteStore {
     /// enrolled.
     pub fn import_measurements(
         &mut self,
-        rows: &[crate::pilot::import::Imported],
+        rows: &[ImportedMeasurement],
         stamp: &Stamp,
     ) -> Result<(Vec<i64>, Vec<Warning>), Error> {
         let mut warnings = Vec::new();

@@ -15,9 +15,10 @@
 
 mod measured;
 mod schema;
+mod sql;
 mod sqlite;
 
-pub use measured::{Measurement, MeasurementChange, MeasurementRow};
+pub use measured::{ImportedMeasurement, Measurement, MeasurementChange, MeasurementRow};
 
 pub use schema::{APPLICATION_ID, SCHEMA_VERSION};
 pub use sqlite::{CheckReport, SqliteStore};
