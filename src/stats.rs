@@ -12,8 +12,11 @@
 //!
 //! Percentiles: linear interpolation between order statistics, Hyndman RJ, Fan Y
 //! 1996, Am Stat 50:361, definition 7.
+//!
+//! Student's t and chi-squared quantiles (`statrs`), for the pilot analysis's
+//! intervals (docs/pilot-analysis.md, "Per arm").
 
-use statrs::distribution::{ContinuousCDF, Normal};
+use statrs::distribution::{ChiSquared, ContinuousCDF, Normal, StudentsT};
 
 /// The standard normal distribution.
 fn standard_normal() -> Normal {
@@ -29,6 +32,28 @@ pub fn normal_cdf(z: f64) -> f64 {
 /// (the callers pass fixed probabilities; outside [0, 1] it panics).
 pub fn normal_quantile(p: f64) -> f64 {
     standard_normal().inverse_cdf(p)
+}
+
+/// `z` for a two-sided 95 % normal interval, `z_0.975` (the value of
+/// [`normal_quantile`]`(0.975)` to ten digits; pinned against it in the tests).
+pub const Z95: f64 = 1.959_963_985;
+
+/// The quantile of Student's t with `df` degrees of freedom (`df > 0`, fractional
+/// allowed, as Welch's test needs): the `t` with `P(T <= t) = p`. NaN when `df` is
+/// not positive and finite.
+pub fn t_quantile(df: f64, p: f64) -> f64 {
+    StudentsT::new(0.0, 1.0, df)
+        .map(|t| t.inverse_cdf(p))
+        .unwrap_or(f64::NAN)
+}
+
+/// The quantile of the chi-squared distribution with `df` degrees of freedom
+/// (`df > 0`): the `x` with `P(X <= x) = p`. NaN when `df` is not positive and
+/// finite.
+pub fn chi2_quantile(df: f64, p: f64) -> f64 {
+    ChiSquared::new(df)
+        .map(|c| c.inverse_cdf(p))
+        .unwrap_or(f64::NAN)
 }
 
 /// Two-sided significance level of the sample-size and power calculations.
@@ -157,5 +182,62 @@ mod tests {
         assert_eq!(recruit(tiny, 1.0), 2.0);
         assert_eq!(recruit(tiny, 0.8), 3.0);
         assert_eq!(recruit(2.5, 1.0), 3.0);
+    }
+
+    #[test]
+    fn z95_is_the_normal_quantile() {
+        // z_0.975 = 1.959964 (standard normal table, Kirkwood and Sterne 2003,
+        // Table A2); the constant is the library's quantile to ten digits.
+        assert!((Z95 - normal_quantile(0.975)).abs() < 1e-9);
+        assert!((Z95 - 1.959_964).abs() < 1e-6);
+    }
+
+    #[test]
+    fn t_and_chi_squared_quantiles_match_tables() {
+        // Student's t, upper 2.5 % points (Fisher RA, Yates F 1963, Statistical
+        // Tables for Biological, Agricultural and Medical Research, 6th ed., Table
+        // III; the same values in Abramowitz and Stegun 1964, Table 26.10; table
+        // numbers from memory): 12.706 (1 df), 2.776 (4), 2.228 (10), 2.045 (29),
+        // 1.980 (120).
+        for (df, t) in [
+            (1.0, 12.706),
+            (4.0, 2.776),
+            (10.0, 2.228),
+            (29.0, 2.045),
+            (120.0, 1.980),
+        ] {
+            assert!((t_quantile(df, 0.975) - t).abs() < 5e-4, "t_0.975,{df}");
+            assert!((t_quantile(df, 0.025) + t).abs() < 5e-4, "symmetry at {df}");
+        }
+        // As the degrees of freedom grow, t approaches the normal (1.960 in the
+        // tables' last row); at 1000 df 1.962 (one more term of the Cornish-Fisher
+        // expansion, z + (z^3 + z) / (4 df) = 1.9623).
+        assert!((t_quantile(1000.0, 0.975) - 1.9623).abs() < 5e-4);
+        // Chi-squared, lower and upper 2.5 % points (Fisher and Yates 1963, Table
+        // IV; Abramowitz and Stegun 1964, Table 26.8; table numbers from memory):
+        // 2.700 and 19.023 at 9 df,
+        // 3.247 and 20.483 at 10 df, 0.0506 and 7.378 at 2 df.
+        for (df, lo, hi) in [
+            (2.0, 0.0506, 7.378),
+            (9.0, 2.700, 19.023),
+            (10.0, 3.247, 20.483),
+        ] {
+            assert!(
+                (chi2_quantile(df, 0.025) - lo).abs() < 5e-4,
+                "chi2_0.025,{df}"
+            );
+            assert!(
+                (chi2_quantile(df, 0.975) - hi).abs() < 5e-4,
+                "chi2_0.975,{df}"
+            );
+        }
+        // Closed form at 2 df: the chi-squared with 2 df is exponential with mean 2,
+        // so its p quantile is -2 ln(1 - p).
+        for p in [0.025, 0.5, 0.975] {
+            assert!((chi2_quantile(2.0, p) + 2.0 * (1.0 - p as f64).ln()).abs() < 1e-9);
+        }
+        // Not a distribution: NaN, never a panic.
+        assert!(t_quantile(0.0, 0.975).is_nan());
+        assert!(chi2_quantile(-1.0, 0.975).is_nan());
     }
 }

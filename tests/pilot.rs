@@ -236,6 +236,8 @@ fn measure(
         sessions,
         baseline_intake: None,
         protocol: None,
+        constants: None,
+        screening: None,
     }
 }
 

@@ -100,6 +100,8 @@ fn hand_case() -> PilotParticipant {
             .collect(),
         baseline_intake: None,
         protocol: None,
+        constants: None,
+        screening: None,
     }
 }
 

@@ -50,6 +50,8 @@ pub fn run(args: &PilotArgs) -> Result<Printed, Error> {
             args.register.display()
         )));
     }
+    // Each participant is analysed with their own plan's `[model]` constants
+    // (gathered with them); the defaults only stand in for a participant without.
     let analysis = crate::pilot::analyse(&participants, &Constants::default())?;
     for w in &analysis.warnings {
         stderr.push_str(&format!("warning: {}\n", w.message));
@@ -67,6 +69,7 @@ pub fn run(args: &PilotArgs) -> Result<Printed, Error> {
     let text = match args.format {
         PilotFormat::Markdown => report::markdown(&analysis, &args.name),
         PilotFormat::Json => {
+            stderr.push_str(&report::side_notes(&analysis));
             let mut s = serde_json::to_string_pretty(&analysis)
                 .map_err(|e| Error::Internal(format!("pilot JSON: {e}")))?;
             s.push('\n');

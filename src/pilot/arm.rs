@@ -15,8 +15,8 @@ use super::{IntervalAnalysis, PilotParticipant, Term, analyse_interval, check};
 use crate::error::Error;
 use crate::model::Constants;
 use crate::safety::Warning;
+use crate::stats::{chi2_quantile, t_quantile};
 use serde::Serialize;
-use statrs::distribution::{ChiSquared, ContinuousCDF, StudentsT};
 
 /// Fewest participants for a between-participant SD (two degrees of freedom).
 pub const MIN_FOR_SPREAD: usize = 3;
@@ -80,20 +80,12 @@ pub struct PilotAnalysis {
     pub warnings: Vec<Warning>,
     /// The control arm the differences are taken from, if any.
     pub control: Option<String>,
-    /// The model's thermic effect of food, as used.
+    /// The model's thermic effect of food, as used: the participants' plans' own
+    /// (their mean, with a warning, when the plans differ).
     pub tef_fraction: f64,
-}
-
-fn t_quantile(df: f64, p: f64) -> f64 {
-    StudentsT::new(0.0, 1.0, df)
-        .map(|t| t.inverse_cdf(p))
-        .unwrap_or(f64::NAN)
-}
-
-fn chi2_quantile(df: f64, p: f64) -> f64 {
-    ChiSquared::new(df)
-        .map(|c| c.inverse_cdf(p))
-        .unwrap_or(f64::NAN)
+    /// The standing cautions ([`crate::safety::CAUTIONS`]); each participant's
+    /// screening result is in their row (`participants[].screening`).
+    pub cautions: Vec<&'static str>,
 }
 
 /// Summarise values `y` with measurement variances `v`.
@@ -251,30 +243,46 @@ pub fn analyse(participants: &[PilotParticipant], c: &Constants) -> Result<Pilot
             });
         }
     }
+    let tef_fraction = shared_tef(&each, &mut warnings);
     Ok(PilotAnalysis {
         participants: each,
         between_visits: between,
         arms,
         warnings,
         control,
-        tef_fraction: c.tef_fraction,
+        tef_fraction,
+        cautions: crate::safety::CAUTIONS.to_vec(),
     })
+}
+
+/// The thermic effect of food the participants' analyses used: their common value,
+/// or their mean with a warning naming the values when their plans differ.
+fn shared_tef(each: &[IntervalAnalysis], warnings: &mut Vec<Warning>) -> f64 {
+    let first = each[0].constants.tef_fraction;
+    if each.iter().all(|a| a.constants.tef_fraction == first) {
+        return first;
+    }
+    let mean = each.iter().map(|a| a.constants.tef_fraction).sum::<f64>() / each.len() as f64;
+    let mut values: Vec<String> = Vec::new();
+    for a in each {
+        let v = format!("{} ({})", a.constants.tef_fraction, a.code);
+        if values.len() < 8 {
+            values.push(v);
+        }
+    }
+    warnings.push(Warning {
+        code: "pilot-mixed-model-constants",
+        message: format!(
+            "the participants' plans give different tef_fraction values ({}); each participant is analysed with their own, and the scenario block's effective intake_fraction uses their mean {mean:.4}",
+            values.join(", ")
+        ),
+    });
+    mean
 }
 
 #[cfg(test)]
 mod tests {
     use super::*;
-
-    #[test]
-    fn quantiles_match_tables() {
-        // Student's t, 0.975 quantile: 2.776 at 4 df, 2.045 at 29 df; chi-square
-        // 0.025 and 0.975 quantiles at 9 df: 2.700 and 19.023 (any statistics table,
-        // e.g. Abramowitz and Stegun 1964, tables 26.7 and 26.8).
-        assert!((t_quantile(4.0, 0.975) - 2.776).abs() < 1e-3);
-        assert!((t_quantile(29.0, 0.975) - 2.045).abs() < 1e-3);
-        assert!((chi2_quantile(9.0, 0.025) - 2.700).abs() < 1e-3);
-        assert!((chi2_quantile(9.0, 0.975) - 19.023).abs() < 1e-3);
-    }
 
     #[test]
     fn moment_estimator_removes_measurement_variance() {

@@ -1,6 +1,9 @@
 //! A pilot's participants read from a register: their plan (sex, age, height,
-//! arm, protocol dates, stated intake), their current measurements, and their
-//! delivered sessions' net energy by the dose rule.
+//! arm, protocol dates, stated intake, `[model]` constants, screening answers),
+//! their current measurements, and their delivered sessions' net energy by the
+//! dose rule. The screening result is the plan's answers through the one
+//! screening function ([`crate::safety::screen`]), vigorous when a delivered
+//! session reached [`VIGOROUS_MET`].
 
 use super::{Body, Delivered, PilotParticipant, import::assemble};
 use crate::activity::compendium;
@@ -10,6 +13,8 @@ use crate::model::energy::calibrate;
 use crate::model::{Compensation, Physiology};
 use crate::plan::Plan;
 use crate::register::{Measurement, SqliteStore, Store, Which, participant_log};
+use crate::safety::screen;
+use crate::safety::screening::VIGOROUS_MET;
 use chrono::NaiveDate;
 
 /// Fat and fat-free mass at `date`, linear between the visits, held before the
@@ -76,6 +81,7 @@ pub fn from_register(store: &SqliteStore) -> Result<Vec<PilotParticipant>, Error
             .collect();
         let log = participant_log(store, &person.code, None)?;
         let mut sessions = Vec::new();
+        let mut vigorous = false;
         for row in &log.log.rows {
             if let Entry::Session {
                 minutes,
@@ -93,6 +99,7 @@ pub fn from_register(store: &SqliteStore) -> Result<Vec<PilotParticipant>, Error
                             .map(|e| e.met)
                     })
                     .unwrap_or_else(|| plan.activity.intensity.met_at(fat + lean));
+                vigorous |= met >= VIGOROUS_MET;
                 sessions.push(Delivered {
                     date: row.date,
                     net_kcal: session_net_kcal(&ph, *minutes, met, fat, lean),
@@ -116,6 +123,8 @@ pub fn from_register(store: &SqliteStore) -> Result<Vec<PilotParticipant>, Error
             Some((plan.protocol.start, plan.protocol.end_date())),
         );
         p.baseline_intake = s.intake_kcal_per_day.map(|ei| (ei, None));
+        p.constants = Some(plan.constants);
+        p.screening = Some(screen(plan.participant.screening.as_ref(), vigorous));
         out.push(p);
     }
     Ok(out)

@@ -227,6 +227,8 @@ pub fn assemble(
         sessions,
         baseline_intake: None,
         protocol,
+        constants: None,
+        screening: None,
     };
     for (m, at) in rows {
         match m {

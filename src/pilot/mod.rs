@@ -39,12 +39,12 @@ use lin::Lin;
 
 use crate::error::{Error, Location};
 use crate::model::{Constants, Sex};
-use crate::safety::Warning;
+use crate::safety::{ScreeningOutcome, Warning};
 use chrono::NaiveDate;
 use serde::Serialize;
 
-/// z for a two-sided 95 % normal interval.
-pub const Z95: f64 = 1.959_963_985;
+/// z for a two-sided 95 % normal interval (kept in [`crate::stats`]).
+pub use crate::stats::Z95;
 
 /// Largest distance of a TEE or RMR measurement from a visit for it to count as
 /// at that visit, days (common practice, no source).
@@ -97,6 +97,29 @@ pub struct PilotParticipant {
     pub baseline_intake: Option<(f64, Option<f64>)>,
     /// The protocol's first and last date, when known: visits outside are refused.
     pub protocol: Option<(NaiveDate, NaiveDate)>,
+    /// The model constants of the participant's plan (its `[model]` table: energy
+    /// densities, RMR equation, thermic effect of food); None: the constants given
+    /// to the analysis.
+    pub constants: Option<Constants>,
+    /// The participant's pre-participation screening result (from the plan's
+    /// answers, [`crate::safety::screen`]); None: not recorded.
+    pub screening: Option<ScreeningOutcome>,
+}
+
+impl PilotParticipant {
+    /// The constants the analysis uses for this participant: the plan's own, else
+    /// `default`.
+    pub fn constants_or<'a>(&'a self, default: &'a Constants) -> &'a Constants {
+        self.constants.as_ref().unwrap_or(default)
+    }
+
+    /// The screening result the reports show: the recorded one, else the
+    /// "screening not recorded" result of [`crate::safety::screen`].
+    pub fn screening_outcome(&self) -> ScreeningOutcome {
+        self.screening
+            .clone()
+            .unwrap_or_else(|| crate::safety::screen(None, false))
+    }
 }
 
 /// A value with its standard deviation and 95 % interval (normal, first order).
@@ -162,6 +185,11 @@ pub struct IntervalAnalysis {
     pub to: NaiveDate,
     /// Days between.
     pub days: f64,
+    /// The participant's screening result (ACSM 2015 grid, as the schedule shows
+    /// it; "screening not recorded" when the plan has no answers).
+    pub screening: ScreeningOutcome,
+    /// The model constants used (the participant's plan's `[model]`).
+    pub constants: Constants,
     /// Mass at the two visits (fat + fat-free), kg.
     pub mass_kg: (f64, f64),
     /// Rate of change of the energy stores, kcal/day (negative when they fall).
@@ -500,7 +528,8 @@ fn trapezoid(points: &[(NaiveDate, Lin)]) -> Lin {
 }
 
 /// Analyse one participant between visits `a` and `b` (indices into the visits,
-/// `a < b`). Call [`check`] first.
+/// `a < b`), with the participant's own model constants, or `c` when they have
+/// none ([`PilotParticipant::constants_or`]). Call [`check`] first.
 pub fn analyse_interval(
     p: &PilotParticipant,
     c: &Constants,
@@ -508,6 +537,7 @@ pub fn analyse_interval(
     b: usize,
 ) -> Result<IntervalAnalysis, Error> {
     check_interval(p, a, b)?;
+    let c = p.constants_or(c);
     let m = measured(p, c);
     let beta = c.tef_fraction;
     let va = &p.visits[a];
@@ -590,6 +620,8 @@ pub fn analyse_interval(
         from: va.date,
         to: vb.date,
         days,
+        screening: p.screening_outcome(),
+        constants: *c,
         mass_kg: (m.mass(a).value, m.mass(b).value),
         stores: Estimate::of(&stores),
         achieved: Estimate::of(&achieved),

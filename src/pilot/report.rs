@@ -6,7 +6,67 @@
 
 use super::arm::{PilotAnalysis, TermSummary};
 use super::{Estimate, Term, precision};
+use crate::safety::CAUTIONS;
 use std::fmt::Write as _;
+
+/// The participants' distinct screening results, in order of first appearance,
+/// each with the codes that have it (a result whose clearance is needed but not on
+/// file says so).
+pub fn screening_groups(a: &PilotAnalysis) -> Vec<(String, Vec<String>)> {
+    let mut out: Vec<(String, Vec<String>)> = Vec::new();
+    for p in &a.participants {
+        let mut r = p.screening.recommendation.clone();
+        if p.screening.clearance_missing {
+            r.push_str(" (medical clearance not on file)");
+        }
+        match out.iter_mut().find(|(k, _)| *k == r) {
+            Some((_, codes)) => codes.push(p.code.clone()),
+            None => out.push((r, vec![p.code.clone()])),
+        }
+    }
+    out
+}
+
+/// One line per distinct screening result: how many participants, which, and the
+/// result (at most 12 codes named).
+fn screening_lines(a: &PilotAnalysis) -> Vec<String> {
+    screening_groups(a)
+        .into_iter()
+        .map(|(r, codes)| {
+            format!(
+                "{} participant(s) ({}): {r}",
+                codes.len(),
+                codes_text(&codes)
+            )
+        })
+        .collect()
+}
+
+/// Participant codes, at most 12 named.
+fn codes_text(codes: &[String]) -> String {
+    let shown: Vec<&str> = codes.iter().take(12).map(String::as_str).collect();
+    let more = if codes.len() > 12 {
+        format!(" and {} more", codes.len() - 12)
+    } else {
+        String::new()
+    };
+    format!("{}{more}", shown.join(", "))
+}
+
+/// The participants' screening results (ACSM 2015 pre-participation algorithm,
+/// from each plan's answers) and the standing cautions, as plain text: standard
+/// error beside the JSON.
+pub fn side_notes(a: &PilotAnalysis) -> String {
+    let mut out = String::from("Screening (ACSM 2015 pre-participation algorithm)\n");
+    for l in screening_lines(a) {
+        let _ = writeln!(out, "  - {l}");
+    }
+    out.push_str("\nCautions\n");
+    for c in CAUTIONS {
+        let _ = writeln!(out, "  - {c}");
+    }
+    out
+}
 
 fn f(x: f64, d: usize) -> String {
     format!("{x:.d$}")
@@ -142,10 +202,10 @@ pub fn markdown(a: &PilotAnalysis, pilot: &str) -> String {
             let _ = writeln!(o, "- ({n} participant(s)) {s}");
         }
     }
-    let _ = writeln!(o, "\n## Assumptions and cautions\n");
+    let _ = writeln!(o, "\n## Assumptions\n");
     for line in [
         "The participant is taken as weight-stable at baseline: baseline intake equals the baseline TEE (or the stated intake).",
-        "The stores' energy uses the model's densities of fat and fat-free mass; the intake term deducts the extra food's own thermic effect at the model's TEF fraction.",
+        "The stores' energy uses the energy densities of fat and fat-free mass of each participant's plan (`[model]`); the intake term deducts the extra food's own thermic effect at the plan's TEF fraction; the RMR equation is the plan's.",
         "The resting and mass terms average the visits by the trapezoid rule: between visits the change is taken as linear.",
         "Delivered energy counts the recorded sessions by the dose rule, net of the participant's rest, and is taken as exact; unrecorded movement is in the rest.",
         "Measurement errors of fat and fat-free mass are taken as independent (by DXA they are negatively correlated, so the stated uncertainty of the stores is, if anything, too wide).",
@@ -153,6 +213,21 @@ pub fn markdown(a: &PilotAnalysis, pilot: &str) -> String {
         "A ratio (share, fractions, per kg) is unstable when its denominator is small: little delivered energy, or little mass lost.",
     ] {
         let _ = writeln!(o, "- {line}");
+    }
+    let _ = writeln!(
+        o,
+        "\nModel constants used (from the participants' plans):\n"
+    );
+    for (c, codes) in constant_groups(a) {
+        let _ = writeln!(
+            o,
+            "- {}: fat {} kcal/kg, fat-free {} kcal/kg, thermic effect of food {}, RMR equation {}",
+            codes_text(&codes),
+            f(c.fat_kcal_per_kg, 0),
+            f(c.lean_kcal_per_kg, 0),
+            f(c.tef_fraction, 3),
+            c.rmr_equation.name()
+        );
     }
     let _ = writeln!(o, "\nPrecision defaults used where a row gives none:\n");
     for d in precision::ALL {
@@ -170,7 +245,32 @@ pub fn markdown(a: &PilotAnalysis, pilot: &str) -> String {
             let _ = writeln!(o, "- {}", w.message);
         }
     }
+    let _ = writeln!(o, "\n## Screening and cautions\n");
+    let _ = writeln!(
+        o,
+        "Screening result (ACSM 2015 pre-participation algorithm, from each participant's plan):\n"
+    );
+    for l in screening_lines(a) {
+        let _ = writeln!(o, "- {l}");
+    }
+    let _ = writeln!(o, "\nCautions:\n");
+    for c in CAUTIONS {
+        let _ = writeln!(o, "- {c}");
+    }
     o
+}
+
+/// The distinct model constants the participants were analysed with, each with the
+/// codes that used them.
+fn constant_groups(a: &PilotAnalysis) -> Vec<(crate::model::Constants, Vec<String>)> {
+    let mut out: Vec<(crate::model::Constants, Vec<String>)> = Vec::new();
+    for p in &a.participants {
+        match out.iter_mut().find(|(c, _)| *c == p.constants) {
+            Some((_, codes)) => codes.push(p.code.clone()),
+            None => out.push((p.constants, vec![p.code.clone()])),
+        }
+    }
+    out
 }
 
 /// XML-escape text.
@@ -187,14 +287,47 @@ const COLOURS: [&str; 6] = [
     "#0072b2", "#d55e00", "#009e73", "#cc79a7", "#e69f00", "#56b4e9",
 ];
 
+/// Words wrapped into lines of at most `width` characters.
+fn wrap(text: &str, width: usize) -> Vec<String> {
+    let mut lines = Vec::new();
+    let mut line = String::new();
+    for word in text.split_whitespace() {
+        if !line.is_empty() && line.chars().count() + 1 + word.chars().count() > width {
+            lines.push(std::mem::take(&mut line));
+        }
+        if !line.is_empty() {
+            line.push(' ');
+        }
+        line.push_str(word);
+    }
+    if !line.is_empty() {
+        lines.push(line);
+    }
+    lines
+}
+
+/// The chart's caption: the participants' screening results and the standing
+/// cautions, wrapped to the chart's width.
+fn caption_lines(a: &PilotAnalysis) -> Vec<String> {
+    let mut parts = vec![format!(
+        "Screening (ACSM 2015): {}.",
+        screening_lines(a).join("; ")
+    )];
+    parts.extend(CAUTIONS.iter().map(|c| c.to_string()));
+    parts.iter().flat_map(|p| wrap(p, 125)).collect()
+}
+
 /// Achieved against delivered energy per participant (kcal/day), each with its
 /// 95 % interval as a vertical bar, coloured and shaped by arm, with the identity
-/// line (everything delivered reaches the stores).
+/// line (everything delivered reaches the stores); below it the participants'
+/// screening results and the standing cautions.
 pub fn chart_svg(a: &PilotAnalysis, pilot: &str) -> String {
-    let (w, h) = (880.0, 560.0);
-    let (left, right, top, bottom) = (80.0, 320.0, 60.0, 70.0);
-    let pw = w - left - right;
-    let ph = h - top - bottom;
+    let caption = caption_lines(a);
+    let (left, right, top) = (80.0, 320.0, 60.0);
+    let (pw, ph) = (480.0, 430.0);
+    let w = left + pw + right;
+    let label_y = top + ph + 48.0;
+    let h = label_y + 26.0 + 15.0 * caption.len() as f64;
     let mut lo = 0.0f64;
     let mut hi = 1.0f64;
     for p in &a.participants {
@@ -225,10 +358,17 @@ pub fn chart_svg(a: &PilotAnalysis, pilot: &str) -> String {
     );
     let _ = writeln!(
         s,
-        "<text x=\"{:.1}\" y=\"{:.1}\" font-size=\"14\" text-anchor=\"middle\">delivered net exercise energy, kcal/day</text>",
+        "<text x=\"{:.1}\" y=\"{label_y:.1}\" font-size=\"14\" text-anchor=\"middle\">delivered net exercise energy, kcal/day</text>",
         left + pw / 2.0,
-        h - 22.0
     );
+    for (k, line) in caption.iter().enumerate() {
+        let _ = writeln!(
+            s,
+            "<text x=\"20\" y=\"{:.1}\" font-size=\"11\">{}</text>",
+            label_y + 28.0 + 15.0 * k as f64,
+            escape(line)
+        );
+    }
     let _ = writeln!(
         s,
         "<text transform=\"translate(22 {:.1}) rotate(-90)\" font-size=\"14\" text-anchor=\"middle\">achieved deficit (energy stores), kcal/day</text>",
