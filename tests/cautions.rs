@@ -657,6 +657,20 @@ const AUDIT: &[Audited] = &[
         Screen::Call,
     ),
     audited(
+        "pilot report",
+        ("pilot", "markdown"),
+        &["pilot", PILOT_REGISTER],
+        Where::Stdout,
+        Screen::Outcome,
+    ),
+    audited(
+        "pilot chart",
+        ("pilot", "chart"),
+        &["pilot", PILOT_REGISTER, "--chart", "pilot.svg"],
+        Where::File("pilot.svg"),
+        Screen::Outcome,
+    ),
+    audited(
         "init starter on stdout",
         ("init", ""),
         &["init"],
@@ -681,20 +695,6 @@ const NOT_REPORTS: &[((&str, &str), &str)] = &[
     (
         ("log add", DISPLAY_UNITS),
         "--units is the unit of the weigh-in typed in (stored as kg); the confirmation names both",
-    ),
-    // The pilot analysis reads measurements already taken and is addressed to the
-    // trial team planning the next study; it prescribes no session to anyone.
-    (
-        ("pilot", "markdown"),
-        "an analysis of a finished pilot's measurements for the trial team; it prescribes nothing",
-    ),
-    (
-        ("pilot", "json"),
-        "the same analysis as numbers; it prescribes nothing",
-    ),
-    (
-        ("pilot", "chart"),
-        "achieved against delivered energy of a finished pilot; it prescribes nothing",
     ),
     (
         ("desk serve", ""),
@@ -891,6 +891,9 @@ fn audited_text(a: &Audited, plan: &str, roster: &str) -> String {
     let dir = fresh("cautions");
     dir.write("plan.toml", plan);
     dir.write("roster.csv", roster);
+    if a.args[0] == "pilot" {
+        pilot_register_with(dir.path(), plan);
+    }
     let r = run(dir.cmd().args(a.args));
     assert_eq!(r.code, Some(0), "{}: {}", a.name, r.stderr);
     match a.at {
@@ -1136,6 +1139,7 @@ const JSON_OUTPUTS: &[(&str, &[&str])] = &[
             "json",
         ],
     ),
+    ("pilot", &["pilot", PILOT_REGISTER, "--format", "json"]),
 ];
 
 /// Every string value in a JSON document.
@@ -1162,6 +1166,9 @@ fn json_findings() -> BTreeSet<(String, String)> {
             let dir = fresh("json-cautions");
             dir.write("plan.toml", &plan);
             dir.write("roster.csv", roster);
+            if *cmd == "pilot" {
+                pilot_register_with(dir.path(), &plan);
+            }
             let r = run(dir.cmd().args(*args));
             assert_eq!(r.code, Some(0), "{name}: {}", r.stderr);
             let j: serde_json::Value = serde_json::from_str(&r.stdout).unwrap();
@@ -1176,6 +1183,16 @@ fn json_findings() -> BTreeSet<(String, String)> {
                     strings.iter().any(|s| s.contains(o.as_str()))
                         || (*o == not_recorded() && codes.contains(&"screening-not-recorded"))
                 })
+            } else if *cmd == "pilot" {
+                // Many participants: each row carries its own screening result.
+                let rows = array(&j, "participants");
+                !rows.is_empty()
+                    && rows.iter().all(|p| {
+                        p.get("screening")
+                            .and_then(|s| s.get("recommendation"))
+                            .and_then(|r| r.as_str())
+                            == Some(outcome.as_str())
+                    })
             } else {
                 j.get("screening")
                     .and_then(|s| s.get("recommendation"))

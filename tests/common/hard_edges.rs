@@ -646,6 +646,12 @@ pub const PILOT_REGISTER: &str = "pilot.register";
 /// A register with the demo plan's participant enrolled, two DXA visits, RMR and
 /// DLW TEE, and the demo log's sessions, all stamped at a fixed time.
 pub fn pilot_register(dir: &Path) {
+    pilot_register_with(dir, DEMO_PLAN);
+}
+
+/// [`pilot_register`] with the participant's plan given (the same participant code
+/// as the demo's, so the demo log fits).
+pub fn pilot_register_with(dir: &Path, plan_text: &str) {
     use dosewright::register::{Enrolment, SqliteStore, Stamp, Store};
     let stamp = Stamp::new(
         "desk",
@@ -659,7 +665,7 @@ pub fn pilot_register(dir: &Path) {
         .enrol(
             &Enrolment {
                 plan_name: "plan.toml".into(),
-                plan_text: DEMO_PLAN.to_string(),
+                plan_text: plan_text.to_string(),
                 arm: Some("exercise".into()),
             },
             &stamp,
