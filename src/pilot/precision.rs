@@ -1,8 +1,11 @@
 //! Default measurement precision, used where a row does not state its own. Each
 //! figure is a repeat-measurement (short-term, in vivo) standard deviation or
-//! coefficient of variation, named with its source. Values marked "from memory"
-//! could not be read in a stored copy of the source when this was written; a site
-//! should replace them with its own precision study (docs/pilot-analysis.md).
+//! coefficient of variation, named with its source (author, year, journal). Values
+//! marked "from memory" could not be read in a stored copy of the source when this
+//! was written: the citations are the best known, the ranges are as remembered,
+//! and each default is chosen inside its range (tests/pilot_published.rs pins
+//! them); a site should replace them with its own precision study
+//! (docs/pilot-analysis.md, docs/references.md section 5.1).
 
 use serde::Serialize;
 
@@ -18,18 +21,18 @@ pub struct Precision {
 }
 
 /// DXA whole-body fat mass, repeat scans on the same day with repositioning: CV
-/// about 1-2 %; 1.5 % used.
+/// about 1-2 % across the instruments reviewed; 1.5 % (the middle) used.
 pub const DXA_FAT: Precision = Precision {
     what: "DXA fat mass",
     cv: 0.015,
-    source: "Toombs RJ, Ducher G, Shepherd JA, De Souza MJ 2012, Obesity 20:30 (in vivo precision of whole-body DXA, review); figure from memory, unconfirmed",
+    source: "Toombs RJ, Ducher G, Shepherd JA, De Souza MJ 2012, Obesity 20(1):30-39 (review of the trueness and precision of DXA body composition; in vivo CV of whole-body fat mass about 1-2 %); range from memory, unconfirmed",
 };
 
 /// DXA whole-body lean (fat-free) mass: CV about 0.5-1 %; 0.8 % used.
 pub const DXA_LEAN: Precision = Precision {
     what: "DXA fat-free mass",
     cv: 0.008,
-    source: "Toombs RJ et al. 2012, Obesity 20:30; figure from memory, unconfirmed",
+    source: "Toombs RJ et al. 2012, Obesity 20(1):30-39 (in vivo CV of whole-body lean mass about 0.5-1 %); range from memory, unconfirmed",
 };
 
 /// Other methods of body composition (bioimpedance, air displacement,
@@ -45,16 +48,16 @@ pub const OTHER_COMPOSITION: Precision = Precision {
 pub const RMR_INDIRECT_CALORIMETRY: Precision = Precision {
     what: "RMR by indirect calorimetry (day to day)",
     cv: 0.04,
-    source: "Compher C, Frankenfield D, Keim N, Roth-Yousey L 2006, J Am Diet Assoc 106:881 (best-practice review of RMR measurement); figure from memory, unconfirmed",
+    source: "Compher C, Frankenfield D, Keim N, Roth-Yousey L 2006, J Am Diet Assoc 106(6):881-903 (systematic review of best practice in measuring RMR); Roffey DM, Byrne NM, Hills AP 2006, JPEN 30(5):426-432 (day-to-day variation by ventilated hood and mouthpiece); day-to-day CV about 3-5 %, range from memory, unconfirmed",
 };
 
-/// Total energy expenditure by doubly labelled water over 1-3 weeks: analytical
-/// precision about 2-8 %; with the within-person variation of free living about
-/// 8 %; 6 % used.
+/// Total energy expenditure by doubly labelled water over 1-3 weeks: precision
+/// about 2-8 %; repeated in the same person months apart (free-living variation
+/// included) about 8 %; 6 % used (the interval's own TEE, not a habitual one).
 pub const TEE_DOUBLY_LABELLED_WATER: Precision = Precision {
     what: "TEE by doubly labelled water",
     cv: 0.06,
-    source: "Schoeller DA 1988, J Nutr 118:1278 (precision 2-8 %); Black AE, Cole TJ 2000, Eur J Clin Nutr 54:386 (within-person CV about 8 %); figures from memory, unconfirmed",
+    source: "Schoeller DA 1988, J Nutr 118(11):1278-1289 (precision 2-8 %); Schoeller DA, Hnilicka JM 1996, J Nutr 126(1 Suppl):348S-354S (reproducibility in free-living people); Black AE, Cole TJ 2000, Eur J Clin Nutr 54(5):386-394 (within-person CV about 8 %); figures from memory, unconfirmed",
 };
 
 /// TEE by another method (accelerometry plus an equation, heart rate): 15 %.
