@@ -314,7 +314,7 @@ fn caption_lines(a: &PilotAnalysis) -> Vec<String> {
         screening_lines(a).join("; ")
     )];
     parts.extend(CAUTIONS.iter().map(|c| c.to_string()));
-    parts.iter().flat_map(|p| wrap(p, 125)).collect()
+    parts.iter().flat_map(|p| wrap(p, 140)).collect()
 }
 
 /// Achieved against delivered energy per participant (kcal/day), each with its
