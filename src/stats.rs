@@ -233,8 +233,8 @@ mod tests {
         }
         // Closed form at 2 df: the chi-squared with 2 df is exponential with mean 2,
         // so its p quantile is -2 ln(1 - p).
-        for p in [0.025, 0.5, 0.975] {
-            assert!((chi2_quantile(2.0, p) + 2.0 * (1.0 - p as f64).ln()).abs() < 1e-9);
+        for p in [0.025f64, 0.5, 0.975] {
+            assert!((chi2_quantile(2.0, p) + 2.0 * (1.0 - p).ln()).abs() < 1e-9);
         }
         // Not a distribution: NaN, never a panic.
         assert!(t_quantile(0.0, 0.975).is_nan());
