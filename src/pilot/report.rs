@@ -202,6 +202,19 @@ pub fn markdown(a: &PilotAnalysis, pilot: &str) -> String {
             let _ = writeln!(o, "- ({n} participant(s)) {s}");
         }
     }
+    assumptions(&mut o, a);
+    if !a.warnings.is_empty() {
+        let _ = writeln!(o, "\n## Warnings\n");
+        for w in &a.warnings {
+            let _ = writeln!(o, "- {}", w.message);
+        }
+    }
+    screening_and_cautions(&mut o, a);
+    o
+}
+
+/// The assumptions, the model constants used and the precision defaults.
+fn assumptions(o: &mut String, a: &PilotAnalysis) {
     let _ = writeln!(o, "\n## Assumptions\n");
     for line in [
         "The participant is taken as weight-stable at baseline: baseline intake equals the baseline TEE (or the stated intake).",
@@ -239,12 +252,10 @@ pub fn markdown(a: &PilotAnalysis, pilot: &str) -> String {
             d.source
         );
     }
-    if !a.warnings.is_empty() {
-        let _ = writeln!(o, "\n## Warnings\n");
-        for w in &a.warnings {
-            let _ = writeln!(o, "- {}", w.message);
-        }
-    }
+}
+
+/// The participants' screening results and the standing cautions.
+fn screening_and_cautions(o: &mut String, a: &PilotAnalysis) {
     let _ = writeln!(o, "\n## Screening and cautions\n");
     let _ = writeln!(
         o,
@@ -257,7 +268,6 @@ pub fn markdown(a: &PilotAnalysis, pilot: &str) -> String {
     for c in CAUTIONS {
         let _ = writeln!(o, "- {c}");
     }
-    o
 }
 
 /// The distinct model constants the participants were analysed with, each with the
