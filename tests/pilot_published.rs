@@ -361,3 +361,65 @@ fn the_plan_s_model_table_reaches_the_analysis_through_the_register() {
             .starts_with("screening not recorded")
     );
 }
+
+// ---------------------------------------------------------------------------
+// Several participants: every distinct screening result, with the cautions.
+// ---------------------------------------------------------------------------
+
+#[test]
+fn the_report_and_chart_show_every_participant_s_screening_result() {
+    use dosewright::plan::Screening;
+    use dosewright::safety::{CAUTIONS, screen};
+    // H-1: known disease, not exercising regularly, no clearance on file (the grid
+    // asks for clearance before any exercise); H-2: no answers recorded.
+    let mut ill = hand_case(None);
+    ill.screening = Some(screen(
+        Some(&Screening {
+            exercises_regularly: false,
+            known_disease: true,
+            signs_or_symptoms: false,
+            medical_clearance: false,
+        }),
+        false,
+    ));
+    let mut unscreened = hand_case(None);
+    unscreened.code = "H-2".into();
+    let a = analyse(&[ill.clone(), unscreened], &Constants::default()).unwrap();
+    let ill_text = ill.screening.as_ref().unwrap().recommendation.clone();
+    assert!(ill_text.contains("medical clearance recommended before any exercise"));
+    let none_text = screen(None, false).recommendation;
+    let md = report::markdown(&a, "t");
+    assert!(
+        md.contains(&format!(
+            "1 participant(s) (H-1): {ill_text} (medical clearance not on file)"
+        )),
+        "{md}"
+    );
+    assert!(
+        md.contains(&format!("1 participant(s) (H-2): {none_text}")),
+        "{md}"
+    );
+    for c in CAUTIONS {
+        assert!(md.contains(c), "{c}");
+    }
+    // The chart's caption wraps the same words over its lines.
+    let svg = report::chart_svg(&a, "t");
+    let words: String = svg
+        .split("<text")
+        .skip(1)
+        .filter_map(|t| Some(&t[t.find('>')? + 1..t.find("</text>")?]))
+        .collect::<Vec<_>>()
+        .join(" ");
+    for needle in [
+        ill_text.as_str(),
+        none_text.as_str(),
+        CAUTIONS[2],
+        CAUTIONS[3],
+    ] {
+        assert!(words.contains(needle), "{needle}\n{words}");
+    }
+    // The JSON's standard-error notes hold both results and the cautions.
+    let notes = report::side_notes(&a);
+    assert!(notes.contains(&ill_text) && notes.contains(&none_text));
+    assert!(CAUTIONS.iter().all(|c| notes.contains(c)));
+}
