@@ -102,6 +102,14 @@ pub fn run(args: &CohortArgs) -> Result<Printed, Error> {
     use crate::simulate::cohort::{CohortRequest, run_cohort, summarise};
     use crate::simulate::integrate::Integrator;
     let units = display_units(&args.display);
+    if args.csv_table != crate::cli::CohortCsvTable::Participants
+        && args.format != CohortFormat::Csv
+    {
+        return Err(Error::Usage(
+            "--csv-table: only with --format csv; add --format csv or leave --csv-table out"
+                .to_string(),
+        ));
+    }
     match args.format {
         CohortFormat::Table => {}
         CohortFormat::Csv => refuse_display_units(units, "csv")?,
@@ -179,6 +187,12 @@ pub fn run(args: &CohortArgs) -> Result<Printed, Error> {
         max_session_minutes: study.protocol.max_session_minutes,
         arms: Vec::new(),
         staff_hours: summary.staff_hours.clone(),
+        staffing: crate::study::staffing::site_need(
+            &study,
+            results.tally.site(),
+            args.draws,
+            summary.staff_hours.total,
+        ),
         comparisons: Vec::new(),
         screening: report::cohort::screening_counts(
             &members,
@@ -187,7 +201,9 @@ pub fn run(args: &CohortArgs) -> Result<Printed, Error> {
         warnings: crate::simulate::warnings::cohort_warnings(&study, &members, &summary),
         cautions: crate::safety::CAUTIONS.to_vec(),
         // One row per run, for the CSV only.
-        rows: if args.format == CohortFormat::Csv {
+        rows: if args.format == CohortFormat::Csv
+            && args.csv_table == crate::cli::CohortCsvTable::Participants
+        {
             report::cohort::participant_rows(&study, &members, &results.members)
         } else {
             Vec::new()
@@ -207,7 +223,13 @@ pub fn run(args: &CohortArgs) -> Result<Printed, Error> {
         CohortFormat::Csv => {
             printed.stderr = report::table::warnings_text(&r.warnings);
             printed.stderr.push_str(&report::cohort::side_notes(&r));
-            report::cohort::csv(&r)
+            match args.csv_table {
+                crate::cli::CohortCsvTable::Participants => report::cohort::csv(&r),
+                crate::cli::CohortCsvTable::Comparisons => {
+                    report::cohort_csv::comparisons_csv(&r)
+                }
+                crate::cli::CohortCsvTable::Staffing => report::cohort_csv::staffing_csv(&r),
+            }
         }
     };
     if let Some(dir) = &args.chart {
