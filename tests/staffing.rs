@@ -141,7 +141,10 @@ fn attendance_scales_the_hours_and_the_peak_by_hand() {
         .map(|x| x.as_str().unwrap())
         .collect();
     assert_eq!(problems.len(), 2, "{problems:?}");
-    assert!(problems.iter().any(|p| p.contains("4 stations")), "{problems:?}");
+    assert!(
+        problems.iter().any(|p| p.contains("4 stations")),
+        "{problems:?}"
+    );
     assert!(
         problems
             .iter()
@@ -198,7 +201,12 @@ fn without_a_session_time_the_sessions_spread_over_the_opening_hours() {
     assert_eq!(p["stations_needed"], 2);
     let problems = array(&j["staffing"], "problems");
     assert_eq!(problems.len(), 2, "{problems:?}");
-    assert!(problems[1].as_str().unwrap().starts_with("mon: 176 participant-minutes"));
+    assert!(
+        problems[1]
+            .as_str()
+            .unwrap()
+            .starts_with("mon: 176 participant-minutes")
+    );
 }
 
 #[test]
@@ -227,7 +235,11 @@ fn drop_out_and_attendance_by_hand_over_many_draws() {
         .collect();
     assert!((probs.iter().sum::<f64>() - 1.0).abs() < 1e-12);
     let ek: f64 = probs.iter().enumerate().map(|(k, p)| k as f64 * p).sum();
-    let ek2: f64 = probs.iter().enumerate().map(|(k, p)| (k * k) as f64 * p).sum();
+    let ek2: f64 = probs
+        .iter()
+        .enumerate()
+        .map(|(k, p)| (k * k) as f64 * p)
+        .sum();
     let closed: f64 = (1..=WEEKS).map(|w| q.powi(w as i32)).sum();
     assert!((ek - closed).abs() < 1e-12);
     let per_week = a * SESSIONS * SESSION_MIN / 60.0;
@@ -244,7 +256,12 @@ fn drop_out_and_attendance_by_hand_over_many_draws() {
     // and week 1 is the busiest (the expectation falls week by week).
     let p = &j["staffing"]["peak"];
     let se1 = a * WALKERS * (q * h / runs).sqrt();
-    close("peak at once", num(p, "participants"), WALKERS * q * a, 4.0 * se1 + 0.05);
+    close(
+        "peak at once",
+        num(p, "participants"),
+        WALKERS * q * a,
+        4.0 * se1 + 0.05,
+    );
     assert_eq!(p["week"], 1);
     close(
         "supervisor-hours",
@@ -303,9 +320,21 @@ fn bad_staffing_tables_name_the_key() {
             "staffing.opening_hours.tue",
             "closes before it opens",
         ),
-        ("[staffing]\ngroup_size = 0", "staffing.group_size", "1 to 100"),
-        ("[staffing]\nstations = 2.5", "staffing.stations", "whole number"),
-        ("[staffing]\nopening_hours = { monday = \"07:00-08:00\" }", "monday", "unknown"),
+        (
+            "[staffing]\ngroup_size = 0",
+            "staffing.group_size",
+            "1 to 100",
+        ),
+        (
+            "[staffing]\nstations = 2.5",
+            "staffing.stations",
+            "whole number",
+        ),
+        (
+            "[staffing]\nopening_hours = { monday = \"07:00-08:00\" }",
+            "monday",
+            "unknown",
+        ),
     ] {
         let r = cohort(&dir, &study("", staffing, ""), &[]);
         assert_eq!(r.code, Some(2), "{staffing}: {}", r.stderr);

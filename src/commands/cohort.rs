@@ -225,9 +225,7 @@ pub fn run(args: &CohortArgs) -> Result<Printed, Error> {
             printed.stderr.push_str(&report::cohort::side_notes(&r));
             match args.csv_table {
                 crate::cli::CohortCsvTable::Participants => report::cohort::csv(&r),
-                crate::cli::CohortCsvTable::Comparisons => {
-                    report::cohort_csv::comparisons_csv(&r)
-                }
+                crate::cli::CohortCsvTable::Comparisons => report::cohort_csv::comparisons_csv(&r),
                 crate::cli::CohortCsvTable::Staffing => report::cohort_csv::staffing_csv(&r),
             }
         }

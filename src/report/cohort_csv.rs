@@ -128,29 +128,34 @@ fn r4(v: f64) -> f64 {
 pub fn staffing_csv(r: &CohortReport) -> String {
     let n = &r.staffing;
     let mut w = csv::Writer::from_writer(Vec::new());
-    let arm = |name: String, participants: Option<usize>, h: &crate::simulate::cohort::StaffHours| {
-        StaffRow {
-            row: name,
-            participants,
-            expected_session_hours: r4(h.total),
-            peak_hours_per_week: r4(h.peak_per_week),
-            peak_hours_week: h.peak_week,
-            attendance: n.attendance,
-            dropout_per_week: n.dropout_per_week,
-            supervisor_hours: None,
-            peak_week: None,
-            peak_date: None,
-            peak_time: None,
-            peak_participants: None,
-            stations_needed: None,
-            supervisors_needed: None,
-            opening_hours_hold: None,
-            problems: String::new(),
-        }
-    };
+    let arm =
+        |name: String, participants: Option<usize>, h: &crate::simulate::cohort::StaffHours| {
+            StaffRow {
+                row: name,
+                participants,
+                expected_session_hours: r4(h.total),
+                peak_hours_per_week: r4(h.peak_per_week),
+                peak_hours_week: h.peak_week,
+                attendance: n.attendance,
+                dropout_per_week: n.dropout_per_week,
+                supervisor_hours: None,
+                peak_week: None,
+                peak_date: None,
+                peak_time: None,
+                peak_participants: None,
+                stations_needed: None,
+                supervisors_needed: None,
+                opening_hours_hold: None,
+                problems: String::new(),
+            }
+        };
     for a in &r.arms {
-        w.serialize(arm(format!("arm {}", a.name), Some(a.participants), &a.staff_hours))
-            .expect("rows serialize");
+        w.serialize(arm(
+            format!("arm {}", a.name),
+            Some(a.participants),
+            &a.staff_hours,
+        ))
+        .expect("rows serialize");
     }
     let p = n.peak.as_ref();
     let trial = StaffRow {

@@ -124,7 +124,11 @@ impl SiteTally {
 
     /// Count one run's whole-session minutes of every protocol week.
     pub fn add(&mut self, session_minutes_by_week: &[u32]) {
-        for (w, m) in session_minutes_by_week.iter().enumerate().take(self.days.len()) {
+        for (w, m) in session_minutes_by_week
+            .iter()
+            .enumerate()
+            .take(self.days.len())
+        {
             if *m > 0 {
                 self.people[w] += 1;
                 self.minutes[w] += u64::from(*m);
@@ -230,9 +234,7 @@ pub fn site_need(study: &Study, tally: &SiteTally, draws: u32, session_hours: f6
         time: time.map(|t| t.format("%H:%M").to_string()),
         participants,
         stations_needed: whole_up(participants),
-        supervisors_needed: st
-            .group_size
-            .map(|g| whole_up(participants / f64::from(g))),
+        supervisors_needed: st.group_size.map(|g| whole_up(participants / f64::from(g))),
     });
     let problems = problems(study, &st, tally, draws, peak.as_ref());
     let checked = !st.opening_hours.is_empty() || st.stations.is_some();

@@ -78,11 +78,7 @@ fn study(cx: &Cx, raw: RawStudy) -> Result<Study, Error> {
         .as_ref()
         .map(|u| uncertainty(cx, u))
         .transpose()?;
-    let staffing = raw
-        .staffing
-        .as_ref()
-        .map(|s| staffing(cx, s))
-        .transpose()?;
+    let staffing = raw.staffing.as_ref().map(|s| staffing(cx, s)).transpose()?;
     let population = raw
         .synthetic
         .as_ref()
@@ -162,9 +158,8 @@ fn staffing(cx: &Cx, rs: &S<RawStaffing>) -> Result<super::staffing::Staffing, E
         ];
         for (weekday, v, name) in days {
             if let Some(v) = v {
-                let (open, close) = super::staffing::parse_hours(v.get_ref()).map_err(|m| {
-                    cx.err(&v.span(), &format!("staffing.opening_hours.{name}"), m)
-                })?;
+                let (open, close) = super::staffing::parse_hours(v.get_ref())
+                    .map_err(|m| cx.err(&v.span(), &format!("staffing.opening_hours.{name}"), m))?;
                 opening_hours.push(super::staffing::OpeningHours {
                     weekday,
                     open,
