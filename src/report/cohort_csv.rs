@@ -31,8 +31,8 @@ struct ComparisonRow {
     completers_n_per_arm_power90: Option<f64>,
 }
 
-/// The comparisons CSV table (only the header when the cohort has no comparisons:
-/// they need `--draws` with something uncertain).
+/// The comparisons CSV table (only the header when the cohort has no pair of arms
+/// with participants to compare).
 pub fn comparisons_csv(r: &CohortReport) -> String {
     use crate::simulate::arm_comparison::{Basis, Multiplicity};
     let mut w = csv::Writer::from_writer(Vec::new());
