@@ -239,6 +239,17 @@ pub enum CohortFormat {
     Json,
 }
 
+/// The tables of `cohort --format csv`.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, ValueEnum)]
+pub enum CohortCsvTable {
+    /// One row per participant, arm, scenario and draw.
+    Participants,
+    /// One row per pair of arms, scenario and endpoint week (the sample sizes).
+    Comparisons,
+    /// One row per arm and one for the trial as allocated (hours and the site's need).
+    Staffing,
+}
+
 /// The basis of `cohort`'s sample sizes.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, ValueEnum)]
 pub enum BasisArg {
@@ -312,6 +323,9 @@ pub struct CohortArgs {
     /// Output format.
     #[arg(long, value_enum, default_value_t = CohortFormat::Table)]
     pub format: CohortFormat,
+    /// With --format csv: which table (participants: one row per run; comparisons: one row per pair of arms, scenario and week; staffing: one row per arm and the trial's site need).
+    #[arg(long = "csv-table", value_enum, default_value_t = CohortCsvTable::Participants)]
+    pub csv_table: CohortCsvTable,
     /// Write the output to this file (atomically) instead of standard output.
     #[arg(long, value_name = "FILE")]
     pub out: Option<PathBuf>,

@@ -401,6 +401,22 @@ const AUDIT: &[Audited] = &[
         Screen::Roster,
     ),
     audited(
+        "cohort staffing csv side notes",
+        ("cohort", "csv"),
+        &[
+            "cohort",
+            "study.toml",
+            "--roster",
+            "roster.csv",
+            "--format",
+            "csv",
+            "--csv-table",
+            "staffing",
+        ],
+        Where::Stderr,
+        Screen::Roster,
+    ),
+    audited(
         "cohort mass-change chart",
         ("cohort", "chart"),
         COHORT_CHART_ARGS,

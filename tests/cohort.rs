@@ -1928,7 +1928,7 @@ fn a_participant_out_of_balance_before_exercise_earns_the_drift_warning() {
 /// (docs/speed.md, "What each cohort optimisation bought": weekly minutes counted as each participant finishes). The streamed summaries must equal
 /// those computed from every run kept whole: percentiles of the sorted minutes
 /// (Hyndman and Fan 1996, definition 7, as `percentile`), the maximum, and staff
-/// hours as the sum of whole-session minutes over 60 and the draws. Checked with
+/// hours as the sum of whole-session minutes times the attendance over 60 and the draws. Checked with
 /// draws, attendance and drop-out (the benchmark study), every member in every
 /// arm, once unallocated and once allocated (where the trial's hours count the
 /// allocated runs only).
@@ -1937,6 +1937,9 @@ fn streamed_minute_summaries_equal_the_summaries_of_every_run_kept() {
     let text = repo_file("plans/benchmark-study.toml").replace("weeks = 52", "weeks = 20");
     let study = parse_study("benchmark-study.toml", &text).unwrap();
     let draws = 4;
+    // Staff hours count the expected attended sessions: planned minutes x attendance.
+    let attended = study.uncertainty.unwrap().attendance;
+    assert!(attended < 1.0);
     let req = CohortRequest {
         all_arms: true,
         integrator: Integrator::Rk4,
@@ -2014,13 +2017,13 @@ fn streamed_minute_summaries_equal_the_summaries_of_every_run_kept() {
             }
             let hours: Vec<f64> = by_week
                 .iter()
-                .map(|m| *m as f64 / 60.0 / f64::from(draws))
+                .map(|m| *m as f64 / 60.0 / (f64::from(draws) / attended))
                 .collect();
             assert_eq!(arm.staff_hours.by_week, hours, "arm {ai}");
         }
         let hours: Vec<f64> = staff_trial
             .iter()
-            .map(|m| *m as f64 / 60.0 / f64::from(draws))
+            .map(|m| *m as f64 / 60.0 / (f64::from(draws) / attended))
             .collect();
         assert_eq!(summary.staff_hours.by_week, hours, "allocated {allocated}");
         // The dosed arms do have sessions, so the comparison is not of zeros.

@@ -1,10 +1,11 @@
 //! `cohort`: a study's cohort simulated in parallel and summarised per arm.
 
 use super::{Printed, check_outputs, deliver, display_units, refuse_display_units};
-use crate::cli::{BasisArg, CohortArgs, MultiplicityArg};
+use crate::cli::{BasisArg, CohortArgs, CohortCsvTable, MultiplicityArg};
 use crate::error::Error;
 use crate::report;
 use crate::simulate::arm_comparison::{Basis, Multiplicity};
+use crate::study::staffing::site_need;
 
 /// Checkpoint weeks of a cohort: those asked for, the end of the protocol and of
 /// follow-up, sorted and distinct.
@@ -96,17 +97,55 @@ pub fn cohort_members(
     Ok((members, source, allocation))
 }
 
+/// Display units are for the table only; `--csv-table` is for `--format csv` only.
+fn check_format(args: &CohortArgs, units: report::units::Units) -> Result<(), Error> {
+    use crate::cli::CohortFormat;
+    match args.format {
+        CohortFormat::Table => {}
+        CohortFormat::Csv => refuse_display_units(units, "csv")?,
+        CohortFormat::Json => refuse_display_units(units, "json")?,
+    }
+    if args.csv_table != CohortCsvTable::Participants && args.format != CohortFormat::Csv {
+        return Err(Error::Usage(
+            "--csv-table: only with --format csv; add --format csv or leave --csv-table out"
+                .to_string(),
+        ));
+    }
+    Ok(())
+}
+
+/// The comparisons' basis, multiplicity adjustment and endpoint weeks asked for.
+fn comparison_options(args: &CohortArgs) -> crate::simulate::arm_comparison::ComparisonOptions {
+    crate::simulate::arm_comparison::ComparisonOptions {
+        basis: match args.basis {
+            BasisArg::IntentionToTreat => Basis::IntentionToTreat,
+            BasisArg::Completers => Basis::Completers,
+        },
+        multiplicity: match args.multiplicity {
+            MultiplicityArg::None => Multiplicity::None,
+            MultiplicityArg::Bonferroni => Multiplicity::Bonferroni,
+            MultiplicityArg::Holm => Multiplicity::Holm,
+        },
+        at_weeks: args.at_week.clone(),
+    }
+}
+
+/// The cohort CSV table asked for (docs/file-formats.md, "Cohort CSV").
+fn csv_table(table: CohortCsvTable, r: &report::cohort::CohortReport) -> String {
+    match table {
+        CohortCsvTable::Participants => report::cohort::csv(r),
+        CohortCsvTable::Comparisons => report::cohort_csv::comparisons_csv(r),
+        CohortCsvTable::Staffing => report::cohort_csv::staffing_csv(r),
+    }
+}
+
 /// Run `cohort`: load, allocate, simulate in parallel, summarise, render.
 pub fn run(args: &CohortArgs) -> Result<Printed, Error> {
     use crate::cli::{CohortFormat, IntegratorArg};
     use crate::simulate::cohort::{CohortRequest, run_cohort, summarise};
     use crate::simulate::integrate::Integrator;
     let units = display_units(&args.display);
-    match args.format {
-        CohortFormat::Table => {}
-        CohortFormat::Csv => refuse_display_units(units, "csv")?,
-        CohortFormat::Json => refuse_display_units(units, "json")?,
-    }
+    check_format(args, units)?;
     let mut inputs = vec![args.study.as_path()];
     inputs.extend(args.roster.as_deref());
     check_outputs(args.out.as_deref(), args.chart.as_deref(), &inputs)?;
@@ -145,18 +184,7 @@ pub fn run(args: &CohortArgs) -> Result<Printed, Error> {
     bar.finish_and_clear();
     let results = results?;
     let summary = pool.install(|| summarise(&study, &results, &req));
-    let options = crate::simulate::arm_comparison::ComparisonOptions {
-        basis: match args.basis {
-            BasisArg::IntentionToTreat => Basis::IntentionToTreat,
-            BasisArg::Completers => Basis::Completers,
-        },
-        multiplicity: match args.multiplicity {
-            MultiplicityArg::None => Multiplicity::None,
-            MultiplicityArg::Bonferroni => Multiplicity::Bonferroni,
-            MultiplicityArg::Holm => Multiplicity::Holm,
-        },
-        at_weeks: args.at_week.clone(),
-    };
+    let options = comparison_options(args);
     let comparisons = crate::simulate::arm_comparison::comparisons_with(
         &summary.arms,
         study.protocol.weeks,
@@ -179,6 +207,12 @@ pub fn run(args: &CohortArgs) -> Result<Printed, Error> {
         max_session_minutes: study.protocol.max_session_minutes,
         arms: Vec::new(),
         staff_hours: summary.staff_hours.clone(),
+        staffing: site_need(
+            &study,
+            results.tally.site(),
+            args.draws,
+            summary.staff_hours.total,
+        ),
         comparisons: Vec::new(),
         screening: report::cohort::screening_counts(
             &members,
@@ -187,7 +221,8 @@ pub fn run(args: &CohortArgs) -> Result<Printed, Error> {
         warnings: crate::simulate::warnings::cohort_warnings(&study, &members, &summary),
         cautions: crate::safety::CAUTIONS.to_vec(),
         // One row per run, for the CSV only.
-        rows: if args.format == CohortFormat::Csv {
+        rows: if args.format == CohortFormat::Csv && args.csv_table == CohortCsvTable::Participants
+        {
             report::cohort::participant_rows(&study, &members, &results.members)
         } else {
             Vec::new()
@@ -207,7 +242,7 @@ pub fn run(args: &CohortArgs) -> Result<Printed, Error> {
         CohortFormat::Csv => {
             printed.stderr = report::table::warnings_text(&r.warnings);
             printed.stderr.push_str(&report::cohort::side_notes(&r));
-            report::cohort::csv(&r)
+            csv_table(args.csv_table, &r)
         }
     };
     if let Some(dir) = &args.chart {

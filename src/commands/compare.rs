@@ -105,6 +105,13 @@ pub fn run(args: &CompareArgs) -> Result<Printed, Error> {
     let mut printed = Printed::default();
     if matches!(args.format, CompareFormat::Csv) {
         printed.stderr = side_notes_of(&r.warnings, &r.screening);
+        if let Some(d) = &r.dose_response {
+            printed.stderr.push_str(&report::compare::dose_notes(
+                &r,
+                d,
+                report::units::Units::default(),
+            ));
+        }
     }
     if let Some(dir) = &args.chart {
         let schedule = schedule_report_logged(&plan, &log)?;

@@ -48,6 +48,9 @@ pub struct CohortReport {
     pub arms: Vec<ArmSpread>,
     /// Supervised session-hours (allocated runs; every run with `--all-arms` and no allocation).
     pub staff_hours: StaffHours,
+    /// The site's need: expected attended sessions, the busiest hour, the opening
+    /// hours (docs/file-formats.md, Cohort JSON).
+    pub staffing: crate::study::staffing::SiteNeed,
     /// Arm pairs (with uncertainty).
     pub comparisons: Vec<Comparison>,
     /// Screening results over the participants: how many have each.
@@ -410,10 +413,17 @@ fn table_staffing(r: &CohortReport, out: &mut String) {
             format!("{:.1}", a.staff_hours.total),
         ]);
     }
+    let n = &r.staffing;
     out.push_str(&format!(
-        "Supervised session-hours (warm-up, time at target and cool-down; one participant per session; first scenario)\n{st}\nTrial as allocated: peak {:.1} h/week (week {}), {:.1} h in all\n\n",
-        r.staff_hours.peak_per_week, r.staff_hours.peak_week, r.staff_hours.total
+        "Supervised session-hours of the sessions expected to be attended (warm-up, time at target and cool-down; one participant per session; first scenario; attendance {:.0}% of planned sessions, drop-out {:.1}% a week as drawn)\n{st}\nTrial as allocated: peak {:.1} h/week (week {}), {:.1} h in all\n",
+        n.attendance * 100.0,
+        n.dropout_per_week * 100.0,
+        r.staff_hours.peak_per_week,
+        r.staff_hours.peak_week,
+        r.staff_hours.total
     ));
+    out.push_str(&super::cohort_site::site_lines(n));
+    out.push('\n');
 }
 
 /// The screening results and the cautions (the end of the table; standard error

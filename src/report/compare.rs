@@ -294,10 +294,19 @@ fn dose_table(
     let mut t = new_table(&refs);
     t.load_style(style);
     for row in &d.doses {
+        if row.out_of_range.is_some() {
+            let mut cells = vec![
+                dose_amount_text(u, r.dose.kind, row.dose),
+                "out of the model's range".to_string(),
+            ];
+            cells.extend(r.checkpoints.iter().map(|_| "-".to_string()));
+            t.add_row(cells);
+        }
         for (i, s) in row.scenarios.iter().enumerate() {
             let mut cells = vec![
                 if i == 0 {
-                    dose_amount_text(u, r.dose.kind, row.dose)
+                    let flag = if row.over_max { " *" } else { "" };
+                    format!("{}{flag}", dose_amount_text(u, r.dose.kind, row.dose))
                 } else {
                     String::new()
                 },
@@ -384,7 +393,9 @@ fn text(r: &CompareReport, markdown: bool, u: Units) -> String {
         if markdown {
             s.push('\n');
         }
-        s.push_str(&format!("{}\n\n", dose_table(r, d, style, u)));
+        s.push_str(&format!("{}\n", dose_table(r, d, style, u)));
+        s.push_str(&dose_notes(r, d, u));
+        s.push('\n');
     }
     let warn = warnings_text(&r.warnings);
     let cautions = cautions_text(&r.screening);
@@ -402,6 +413,40 @@ fn text(r: &CompareReport, markdown: bool, u: Units) -> String {
 /// The table for a terminal, in units `u`.
 pub fn render_table(r: &CompareReport, u: Units) -> String {
     text(r, false, u)
+}
+
+/// The notes under the dose-response table: the doses out of the model's range with
+/// the reason, and the doses whose sessions exceed the maximum (marked `*`).
+pub fn dose_notes(r: &CompareReport, d: &DoseResponse, u: Units) -> String {
+    let mut s = String::new();
+    let label = u.dose_label(r.dose.kind);
+    for row in &d.doses {
+        if let Some(why) = &row.out_of_range {
+            s.push_str(&format!(
+                "Dose {} {label}: out of the model's valid range in {why}; the other doses are shown\n",
+                dose_amount_text(u, r.dose.kind, row.dose)
+            ));
+        }
+    }
+    let over: Vec<String> = d
+        .doses
+        .iter()
+        .filter(|x| x.over_max)
+        .map(|x| {
+            format!(
+                "{} {label} (longest {} min)",
+                dose_amount_text(u, r.dose.kind, x.dose),
+                x.longest_session_minutes.unwrap_or(0)
+            )
+        })
+        .collect();
+    if let (false, Some(max)) = (over.is_empty(), d.max_session_minutes) {
+        s.push_str(&format!(
+            "* Sessions over the maximum of {max} min in some week (before the over-maximum policy acts): {}\n",
+            over.join(", ")
+        ));
+    }
+    s
 }
 
 /// Markdown for documents, in units `u`.
@@ -458,6 +503,13 @@ pub fn render_csv(r: &CompareReport) -> String {
     }
     if let Some(d) = &r.dose_response {
         for row in &d.doses {
+            if row.out_of_range.is_some() {
+                let mut cells = vec![String::new(); 15];
+                cells[1] = format!("{}", row.dose);
+                cells[4] = "out-of-range".to_string();
+                w.write_record(cells).expect("writing to memory");
+            }
+            let phase = if row.over_max { "over-max" } else { "" };
             for sc in &row.scenarios {
                 for p in &sc.rows {
                     let date = r.scenarios[0]
@@ -471,7 +523,7 @@ pub fn render_csv(r: &CompareReport) -> String {
                         format!("{}", row.dose),
                         p.week.to_string(),
                         date,
-                        String::new(),
+                        phase.to_string(),
                         String::new(),
                         String::new(),
                         String::new(),

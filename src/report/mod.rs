@@ -6,6 +6,8 @@ pub mod calendar;
 pub mod chart;
 pub mod check;
 pub mod cohort;
+pub mod cohort_csv;
+pub mod cohort_site;
 pub mod compare;
 pub mod csv;
 pub mod fit;

@@ -12,6 +12,7 @@ pub mod dist;
 pub mod randomise;
 pub mod raw;
 pub mod roster;
+pub mod staffing;
 pub mod synthetic;
 mod validate;
 
@@ -91,6 +92,8 @@ pub struct Study {
     pub scenario_dists: Vec<[Option<Dist>; 5]>,
     /// Individual variation, attendance and drop-out (None: none).
     pub uncertainty: Option<Uncertainty>,
+    /// `[staffing]`: group size, stations and opening hours (None: not stated).
+    pub staffing: Option<staffing::Staffing>,
 }
 
 /// How the RMR equation's own error is drawn.

@@ -21,6 +21,29 @@ pub struct RawStudy {
     pub arm: Option<Vec<S<RawArm>>>,
     pub synthetic: Option<S<RawSynthetic>>,
     pub uncertainty: Option<S<RawUncertainty>>,
+    pub staffing: Option<S<RawStaffing>>,
+}
+
+/// `[staffing]`: the site's supervision model and opening hours.
+#[derive(Debug, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct RawStaffing {
+    pub group_size: Option<Num>,
+    pub stations: Option<Num>,
+    pub opening_hours: Option<S<RawOpeningHours>>,
+}
+
+/// `opening_hours = { mon = "07:00-12:00", ... }`.
+#[derive(Debug, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct RawOpeningHours {
+    pub mon: Option<S<String>>,
+    pub tue: Option<S<String>>,
+    pub wed: Option<S<String>>,
+    pub thu: Option<S<String>>,
+    pub fri: Option<S<String>>,
+    pub sat: Option<S<String>>,
+    pub sun: Option<S<String>>,
 }
 
 /// `[[scenario]]` of a study: each value fixed or a distribution.

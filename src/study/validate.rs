@@ -78,6 +78,7 @@ fn study(cx: &Cx, raw: RawStudy) -> Result<Study, Error> {
         .as_ref()
         .map(|u| uncertainty(cx, u))
         .transpose()?;
+    let staffing = raw.staffing.as_ref().map(|s| staffing(cx, s)).transpose()?;
     let population = raw
         .synthetic
         .as_ref()
@@ -130,6 +131,47 @@ fn study(cx: &Cx, raw: RawStudy) -> Result<Study, Error> {
         block_size,
         scenario_dists,
         uncertainty,
+        staffing,
+    })
+}
+
+/// `[staffing]`: group size and stations as whole numbers, opening hours per weekday.
+fn staffing(cx: &Cx, rs: &S<RawStaffing>) -> Result<super::staffing::Staffing, Error> {
+    use chrono::Weekday;
+    let s = rs.get_ref();
+    let whole = |v: &Option<crate::plan::raw::Num>, key: &str, hi: u32| {
+        v.as_ref()
+            .map(|v| cx.whole(v, &format!("staffing.{key}"), 1, hi))
+            .transpose()
+    };
+    let mut opening_hours = Vec::new();
+    if let Some(h) = &s.opening_hours {
+        let h = h.get_ref();
+        let days = [
+            (Weekday::Mon, &h.mon, "mon"),
+            (Weekday::Tue, &h.tue, "tue"),
+            (Weekday::Wed, &h.wed, "wed"),
+            (Weekday::Thu, &h.thu, "thu"),
+            (Weekday::Fri, &h.fri, "fri"),
+            (Weekday::Sat, &h.sat, "sat"),
+            (Weekday::Sun, &h.sun, "sun"),
+        ];
+        for (weekday, v, name) in days {
+            if let Some(v) = v {
+                let (open, close) = super::staffing::parse_hours(v.get_ref())
+                    .map_err(|m| cx.err(&v.span(), &format!("staffing.opening_hours.{name}"), m))?;
+                opening_hours.push(super::staffing::OpeningHours {
+                    weekday,
+                    open,
+                    close,
+                });
+            }
+        }
+    }
+    Ok(super::staffing::Staffing {
+        group_size: whole(&s.group_size, "group_size", 100)?,
+        stations: whole(&s.stations, "stations", 10_000)?,
+        opening_hours,
     })
 }
 

@@ -45,6 +45,8 @@ pub struct MinuteTally {
     staff: Vec<Vec<u64>>,
     /// `[week]`: the same over the allocated runs only (every run when none is allocated).
     staff_allocated: Vec<u64>,
+    /// The allocated runs' weeks for the site's need (`study::staffing`).
+    site: crate::study::staffing::SiteTally,
 }
 
 impl MinuteTally {
@@ -55,6 +57,7 @@ impl MinuteTally {
             minutes: vec![vec![vec![MinuteCounts::default(); weeks]; study.scenarios.len()]; arms],
             staff: vec![vec![0; weeks]; arms],
             staff_allocated: vec![0; weeks],
+            site: crate::study::staffing::SiteTally::new(&study.protocol),
         }
     }
 
@@ -69,6 +72,9 @@ impl MinuteTally {
             }
             if run.scenario == 0 {
                 let allocated = counts_all || m.arm == Some(run.arm);
+                if allocated {
+                    self.site.add(&run.session_minutes_by_week);
+                }
                 for (w, v) in run.session_minutes_by_week.iter().enumerate() {
                     self.staff[run.arm][w] += u64::from(*v);
                     if allocated {
@@ -95,7 +101,13 @@ impl MinuteTally {
         for (x, y) in self.staff_allocated.iter_mut().zip(other.staff_allocated) {
             *x += y;
         }
+        self.site = self.site.merge(other.site);
         self
+    }
+
+    /// The allocated runs' weeks for the site's need.
+    pub fn site(&self) -> &crate::study::staffing::SiteTally {
+        &self.site
     }
 }
 
@@ -243,7 +255,8 @@ pub struct WeekMinutes {
     pub p95: f64,
 }
 
-/// Supervised session-hours per week (one participant per supervised session).
+/// Supervised session-hours per week of the sessions participants are expected to
+/// attend (one participant per supervised session).
 #[derive(Debug, Clone, PartialEq, Serialize)]
 pub struct StaffHours {
     /// The busiest week's hours.
@@ -363,6 +376,8 @@ pub fn summarise(study: &Study, runs: &CohortRuns, req: &CohortRequest) -> Cohor
             let participants = first.clone().filter(|(_, r)| r.draw == 0).count();
             let completed = first.filter(|(_, r)| r.completed).count();
             let draws = f64::from(req.draws.max(1));
+            // Expected attended sessions (docs/design.md): planned minutes x attendance.
+            let per = draws / crate::study::staffing::attendance(study);
             // An arm nobody is in has nothing to summarise: no scenario rows (not zeros).
             let ns = if participants == 0 { 0 } else { ns };
             let scenarios = (0..ns)
@@ -438,13 +453,16 @@ pub fn summarise(study: &Study, runs: &CohortRuns, req: &CohortRequest) -> Cohor
                 participants,
                 completing: completed as f64 / draws,
                 scenarios,
-                staff_hours: StaffHours::of(&tally.staff[ai], draws),
+                staff_hours: StaffHours::of(&tally.staff[ai], per),
             }
         })
         .collect();
     CohortSummary {
         comparisons: crate::simulate::arm_comparison::comparisons(&arms),
         arms,
-        staff_hours: StaffHours::of(&tally.staff_allocated, f64::from(req.draws.max(1))),
+        staff_hours: StaffHours::of(
+            &tally.staff_allocated,
+            f64::from(req.draws.max(1)) / crate::study::staffing::attendance(study),
+        ),
     }
 }
