@@ -1,11 +1,15 @@
-//! `cohort`: a study's cohort simulated in parallel and summarised per arm.
+//! `cohort`: a study's cohort simulated in parallel and summarised per arm; with
+//! `--shard K/N` one part of its streams written as a shard file (docs/cluster.md).
 
 use super::{Printed, check_outputs, deliver, display_units, refuse_display_units};
-use crate::cli::{BasisArg, CohortArgs, MultiplicityArg};
+use crate::cli::{BasisArg, CohortArgs, CohortFormat, MultiplicityArg};
 use crate::error::Error;
+use crate::input::TextFile;
 use crate::report;
 use crate::simulate::arm_comparison::{Basis, Multiplicity};
-
+use crate::simulate::cohort::{CohortRequest, CohortRuns, Member};
+use crate::study::Study;
+use serde::{Deserialize, Serialize};
 /// Checkpoint weeks of a cohort: those asked for, the end of the protocol and of
 /// follow-up, sorted and distinct.
 fn cohort_checkpoints(study: &crate::study::Study, at: &[u32]) -> Result<Vec<u32>, Error> {
@@ -24,16 +28,16 @@ fn cohort_checkpoints(study: &crate::study::Study, at: &[u32]) -> Result<Vec<u32
 }
 
 /// The members of a cohort and words for where they and their arms came from.
-pub fn cohort_members(
-    study: &crate::study::Study,
-    args: &CohortArgs,
-) -> Result<(Vec<crate::simulate::cohort::Member>, String, String), Error> {
-    use crate::simulate::cohort::Member;
+pub(crate) fn cohort_members(
+    study: &Study,
+    args: &CohortOptions,
+    roster_file: Option<&TextFile>,
+) -> Result<(Vec<Member>, String, String), Error> {
     use crate::study::allocation::{Allocation, allocate};
     use crate::study::{roster, synthetic};
-    let (mut members, source) = match (&args.roster, args.synthetic) {
-        (Some(path), None) => {
-            let rows = roster::load_roster(path, study)?;
+    let (mut members, source) = match (roster_file, args.synthetic) {
+        (Some(f), None) => {
+            let rows = roster::parse_roster(&f.name, &f.raw, study)?;
             (
                 rows.into_iter()
                     .map(|r| Member {
@@ -41,7 +45,7 @@ pub fn cohort_members(
                         arm: r.arm,
                     })
                     .collect::<Vec<_>>(),
-                format!("roster {}", path.display()),
+                format!("roster {}", f.name),
             )
         }
         (None, Some(n)) => {
@@ -96,44 +100,151 @@ pub fn cohort_members(
     Ok((members, source, allocation))
 }
 
-/// Run `cohort`: load, allocate, simulate in parallel, summarise, render.
-pub fn run(args: &CohortArgs) -> Result<Printed, Error> {
-    use crate::cli::{CohortFormat, IntegratorArg};
-    use crate::simulate::cohort::{CohortRequest, run_cohort, summarise};
+/// The options of a cohort that shape its runs and its report (the command line
+/// without the files and the output), as a shard file records them.
+#[derive(Debug, Clone, PartialEq, Eq, Serialize, Deserialize)]
+pub(crate) struct CohortOptions {
+    pub synthetic: Option<usize>,
+    pub randomise: bool,
+    pub seed: u64,
+    pub all_arms: bool,
+    pub draws: u32,
+    pub integrator: String,
+    pub at_week: Vec<u32>,
+    pub basis: String,
+    pub multiplicity: String,
+}
+
+/// The command-line name of a value.
+fn name_of<T: clap::ValueEnum>(v: T) -> String {
+    v.to_possible_value()
+        .map(|p| p.get_name().to_string())
+        .unwrap_or_default()
+}
+
+/// The value of a command-line name (a shard file's options).
+pub(crate) fn value_of<T: clap::ValueEnum>(s: &str) -> Result<T, Error> {
+    T::from_str(s, false).map_err(|_| Error::Usage(format!("unknown option value \"{s}\"")))
+}
+
+impl CohortOptions {
+    fn of(args: &CohortArgs) -> CohortOptions {
+        CohortOptions {
+            synthetic: args.synthetic,
+            randomise: args.randomise,
+            seed: args.seed,
+            all_arms: args.all_arms,
+            draws: args.draws,
+            integrator: name_of(args.integrator),
+            at_week: args.at_week.clone(),
+            basis: name_of(args.basis),
+            multiplicity: name_of(args.multiplicity),
+        }
+    }
+}
+
+/// A cohort ready to run or to report: the study, its members and where they came
+/// from, the request and the options.
+pub(crate) struct Loaded {
+    pub study: Study,
+    pub members: Vec<Member>,
+    pub source: String,
+    pub allocation: String,
+    pub req: CohortRequest,
+    pub options: CohortOptions,
+}
+
+/// Parse the study, read the roster (if any), draw or read the members, allocate.
+pub(crate) fn load(
+    options: &CohortOptions,
+    study_file: &(String, String),
+    roster: &dyn Fn(&Study) -> Result<Option<TextFile>, Error>,
+) -> Result<(Loaded, Option<TextFile>), Error> {
+    use crate::cli::IntegratorArg;
     use crate::simulate::integrate::Integrator;
+    let study = crate::study::parse_study(&study_file.0, &study_file.1)?;
+    let roster = roster(&study)?;
+    let (members, source, allocation) = cohort_members(&study, options, roster.as_ref())?;
+    let req = CohortRequest {
+        all_arms: options.all_arms,
+        integrator: match value_of(&options.integrator)? {
+            IntegratorArg::Rk4 => Integrator::Rk4,
+            IntegratorArg::Dopri5 => Integrator::Dopri5,
+        },
+        checkpoints: cohort_checkpoints(&study, &options.at_week)?,
+        draws: options.draws,
+        seed: options.seed,
+    };
+    let loaded = Loaded {
+        study,
+        members,
+        source,
+        allocation,
+        req,
+        options: options.clone(),
+    };
+    Ok((loaded, roster))
+}
+
+/// A worker pool of `threads` threads (default: RAYON_NUM_THREADS, else one per core).
+pub(crate) fn pool(threads: Option<usize>) -> Result<rayon::ThreadPool, Error> {
+    let mut b = rayon::ThreadPoolBuilder::new();
+    if let Some(n) = threads {
+        b = b.num_threads(n);
+    }
+    b.build()
+        .map_err(|e| Error::Internal(format!("cannot start worker threads: {e}")))
+}
+
+/// Where and how a cohort's report goes.
+pub(crate) struct Outputs<'a> {
+    pub format: CohortFormat,
+    pub out: Option<&'a std::path::Path>,
+    pub chart: Option<&'a std::path::Path>,
+    pub units: crate::report::units::Units,
+}
+
+/// Refuse display units with a machine-readable format.
+pub(crate) fn check_format(
+    format: CohortFormat,
+    units: crate::report::units::Units,
+) -> Result<(), Error> {
+    match format {
+        CohortFormat::Table => Ok(()),
+        CohortFormat::Csv => refuse_display_units(units, "csv"),
+        CohortFormat::Json => refuse_display_units(units, "json"),
+    }
+}
+
+/// Run `cohort`: load, allocate, simulate in parallel, summarise, render; with
+/// `--shard K/N` simulate only that part of the streams and write a shard file.
+pub fn run(args: &CohortArgs) -> Result<Printed, Error> {
     let units = display_units(&args.display);
-    match args.format {
-        CohortFormat::Table => {}
-        CohortFormat::Csv => refuse_display_units(units, "csv")?,
-        CohortFormat::Json => refuse_display_units(units, "json")?,
+    check_format(args.format, units)?;
+    if args.shard.is_some() && args.chart.is_some() {
+        return Err(Error::Usage(
+            "--chart: a shard writes no charts; give --chart to cohort-merge".to_string(),
+        ));
     }
     let mut inputs = vec![args.study.as_path()];
     inputs.extend(args.roster.as_deref());
     check_outputs(args.out.as_deref(), args.chart.as_deref(), &inputs)?;
-    let study = crate::study::load_study(&args.study)?;
-    let (members, source, allocation) = cohort_members(&study, args)?;
-    let req = CohortRequest {
-        all_arms: args.all_arms,
-        integrator: match args.integrator {
-            IntegratorArg::Rk4 => Integrator::Rk4,
-            IntegratorArg::Dopri5 => Integrator::Dopri5,
-        },
-        checkpoints: cohort_checkpoints(&study, &args.at_week)?,
-        draws: args.draws,
-        seed: args.seed,
-    };
-    let pool = {
-        let mut b = rayon::ThreadPoolBuilder::new();
-        if let Some(n) = args.threads {
-            b = b.num_threads(n);
+    let study_file = crate::input::read_text(&args.study)?;
+    let roster = |_: &Study| args.roster.as_deref().map(crate::input::read).transpose();
+    let (l, roster_file) = load(&CohortOptions::of(args), &study_file, &roster)?;
+    super::cohort_shard::check_size(&l, args.shard, args.format)?;
+    let pool = pool(args.threads)?;
+    let (streams, touched) = match args.shard {
+        Some(s) => super::cohort_shard::streams_of(&l, s),
+        None => {
+            let all = crate::simulate::cohort::stream_count(l.members.len(), l.req.draws);
+            (0..all, l.members.len())
         }
-        b.build()
-            .map_err(|e| Error::Internal(format!("cannot start worker threads: {e}")))?
     };
     let bar = if args.quiet {
         indicatif::ProgressBar::hidden()
     } else {
-        let b = indicatif::ProgressBar::new(members.len() as u64);
+        let b = indicatif::ProgressBar::new(touched as u64);
         if let Ok(style) = indicatif::ProgressStyle::with_template(
             "{spinner} [{elapsed_precise}] {wide_bar} {pos}/{len} participants ({eta})",
         ) {
@@ -141,21 +252,55 @@ pub fn run(args: &CohortArgs) -> Result<Printed, Error> {
         }
         b
     };
-    let results = pool.install(|| run_cohort(&study, &members, &req, &|| bar.inc(1)));
+    // Every run's scalars are kept for the per-participant CSV and for a shard file.
+    let keep = args.format == CohortFormat::Csv || args.shard.is_some();
+    let runs = pool.install(|| {
+        crate::simulate::cohort::run_cohort_streams(
+            &l.study,
+            &l.members,
+            &l.req,
+            streams.clone(),
+            keep,
+            &|| bar.inc(1),
+        )
+    });
     bar.finish_and_clear();
-    let results = results?;
-    let summary = pool.install(|| summarise(&study, &results, &req));
+    let runs = runs?;
+    if let Some(s) = args.shard {
+        let text =
+            super::cohort_shard::write(&l, &study_file, roster_file.as_ref(), s, streams, &runs);
+        return deliver(Printed::default(), text, args.out.as_deref());
+    }
+    let outputs = Outputs {
+        format: args.format,
+        out: args.out.as_deref(),
+        chart: args.chart.as_deref(),
+        units,
+    };
+    report_cohort(&l, &runs, &pool, &outputs)
+}
+
+/// Summarise a cohort's runs, render the report and deliver it (`cohort` and
+/// `cohort-merge` alike).
+pub(crate) fn report_cohort(
+    l: &Loaded,
+    runs: &CohortRuns,
+    pool: &rayon::ThreadPool,
+    o: &Outputs,
+) -> Result<Printed, Error> {
+    let (study, members, req) = (&l.study, &l.members, &l.req);
+    let summary = pool.install(|| crate::simulate::cohort::summarise(study, runs, req));
     let options = crate::simulate::arm_comparison::ComparisonOptions {
-        basis: match args.basis {
+        basis: match value_of(&l.options.basis)? {
             BasisArg::IntentionToTreat => Basis::IntentionToTreat,
             BasisArg::Completers => Basis::Completers,
         },
-        multiplicity: match args.multiplicity {
+        multiplicity: match value_of(&l.options.multiplicity)? {
             MultiplicityArg::None => Multiplicity::None,
             MultiplicityArg::Bonferroni => Multiplicity::Bonferroni,
             MultiplicityArg::Holm => Multiplicity::Holm,
         },
-        at_weeks: args.at_week.clone(),
+        at_weeks: l.options.at_week.clone(),
     };
     let comparisons = crate::simulate::arm_comparison::comparisons_with(
         &summary.arms,
@@ -166,11 +311,11 @@ pub fn run(args: &CohortArgs) -> Result<Printed, Error> {
         tool: format!("dosewright {}", env!("CARGO_PKG_VERSION")),
         study: study.source_name.clone(),
         name: study.name.clone(),
-        source,
-        allocation,
-        all_arms: args.all_arms,
-        seed: args.seed,
-        draws: args.draws,
+        source: l.source.clone(),
+        allocation: l.allocation.clone(),
+        all_arms: req.all_arms,
+        seed: req.seed,
+        draws: req.draws,
         participants: members.len(),
         integrator: req.integrator.name(),
         checkpoints: req.checkpoints.clone(),
@@ -181,14 +326,14 @@ pub fn run(args: &CohortArgs) -> Result<Printed, Error> {
         staff_hours: summary.staff_hours.clone(),
         comparisons: Vec::new(),
         screening: report::cohort::screening_counts(
-            &members,
-            crate::simulate::warnings::study_is_vigorous(&study),
+            members,
+            crate::simulate::warnings::study_is_vigorous(study),
         ),
-        warnings: crate::simulate::warnings::cohort_warnings(&study, &members, &summary),
+        warnings: crate::simulate::warnings::cohort_warnings(study, members, &summary),
         cautions: crate::safety::CAUTIONS.to_vec(),
         // One row per run, for the CSV only.
-        rows: if args.format == CohortFormat::Csv {
-            report::cohort::participant_rows(&study, &members, &results.members)
+        rows: if o.format == CohortFormat::Csv {
+            report::cohort::participant_rows(study, members, &runs.members(req))
         } else {
             Vec::new()
         },
@@ -198,8 +343,8 @@ pub fn run(args: &CohortArgs) -> Result<Printed, Error> {
         r.comparisons = comparisons;
     }
     let mut printed = Printed::default();
-    let text = match args.format {
-        CohortFormat::Table => report::cohort::table(&r, units),
+    let text = match o.format {
+        CohortFormat::Table => report::cohort::table(&r, o.units),
         CohortFormat::Json => {
             printed.stderr = report::cohort::side_notes(&r);
             report::json::render(&r)
@@ -210,10 +355,10 @@ pub fn run(args: &CohortArgs) -> Result<Printed, Error> {
             report::cohort::csv(&r)
         }
     };
-    if let Some(dir) = &args.chart {
+    if let Some(dir) = o.chart {
         printed
             .stderr
-            .push_str(&super::charts::write_cohort_charts(dir, &r, units)?);
+            .push_str(&super::charts::write_cohort_charts(dir, &r, o.units)?);
     }
-    deliver(printed, text, args.out.as_deref())
+    deliver(printed, text, o.out)
 }
