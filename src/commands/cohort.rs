@@ -9,7 +9,8 @@ use crate::report;
 use crate::simulate::arm_comparison::{Basis, Multiplicity};
 use crate::simulate::cohort::{CohortRequest, CohortRuns, Member};
 use crate::study::Study;
-use serde::{Deserialize, Serialize};
+
+pub(crate) use super::cohort_shard::CohortOptions;
 /// Checkpoint weeks of a cohort: those asked for, the end of the protocol and of
 /// follow-up, sorted and distinct.
 fn cohort_checkpoints(study: &crate::study::Study, at: &[u32]) -> Result<Vec<u32>, Error> {
@@ -98,21 +99,6 @@ pub(crate) fn cohort_members(
         }
     };
     Ok((members, source, allocation))
-}
-
-/// The options of a cohort that shape its runs and its report (the command line
-/// without the files and the output), as a shard file records them.
-#[derive(Debug, Clone, PartialEq, Eq, Serialize, Deserialize)]
-pub(crate) struct CohortOptions {
-    pub synthetic: Option<usize>,
-    pub randomise: bool,
-    pub seed: u64,
-    pub all_arms: bool,
-    pub draws: u32,
-    pub integrator: String,
-    pub at_week: Vec<u32>,
-    pub basis: String,
-    pub multiplicity: String,
 }
 
 /// The command-line name of a value.
@@ -232,10 +218,10 @@ pub fn run(args: &CohortArgs) -> Result<Printed, Error> {
     let study_file = crate::input::read_text(&args.study)?;
     let roster = |_: &Study| args.roster.as_deref().map(crate::input::read).transpose();
     let (l, roster_file) = load(&CohortOptions::of(args), &study_file, &roster)?;
-    super::cohort_shard::check_size(&l, args.shard, args.format)?;
+    super::cohort_shard::check_size((&l.study, &l.members, &l.req), args.shard, args.format)?;
     let pool = pool(args.threads)?;
     let (streams, touched) = match args.shard {
-        Some(s) => super::cohort_shard::streams_of(&l, s),
+        Some(s) => super::cohort_shard::streams_of(l.members.len(), l.req.draws, s),
         None => {
             let all = crate::simulate::cohort::stream_count(l.members.len(), l.req.draws);
             (0..all, l.members.len())
@@ -267,8 +253,14 @@ pub fn run(args: &CohortArgs) -> Result<Printed, Error> {
     bar.finish_and_clear();
     let runs = runs?;
     if let Some(s) = args.shard {
-        let text =
-            super::cohort_shard::write(&l, &study_file, roster_file.as_ref(), s, streams, &runs);
+        let text = super::cohort_shard::write(
+            (&l.options, l.members.len()),
+            &study_file,
+            roster_file.as_ref(),
+            s,
+            streams,
+            &runs,
+        );
         return deliver(Printed::default(), text, args.out.as_deref());
     }
     let outputs = Outputs {

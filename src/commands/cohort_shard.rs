@@ -7,17 +7,32 @@
 //! weekly-minute counts and every run's scalars as base64 columns of little-endian
 //! numbers, and a SHA-256 checksum of those.
 
-use super::cohort::{CohortOptions, Loaded, Outputs, check_format, load, pool, report_cohort};
-use super::{Printed, check_outputs, display_units};
-use crate::cli::{CohortFormat, CohortMergeArgs, Shard};
+use crate::cli::{CohortFormat, Shard};
 use crate::error::Error;
 use crate::input::TextFile;
-use crate::simulate::cohort::{CohortRuns, MinuteTally, RunTable, shard_streams, stream_count};
+use crate::simulate::cohort::{CohortRequest, CohortRuns, Member, MinuteTally, RunTable};
+use crate::simulate::cohort::{shard_streams, stream_count};
+use crate::study::Study;
 use base64::Engine;
 use base64::engine::general_purpose::STANDARD;
 use serde::{Deserialize, Serialize};
 use sha2::{Digest, Sha256};
 use std::ops::Range;
+
+/// The options of a cohort that shape its runs and its report (the command line
+/// without the files and the output), as a shard file records them.
+#[derive(Debug, Clone, PartialEq, Eq, Serialize, Deserialize)]
+pub(crate) struct CohortOptions {
+    pub synthetic: Option<usize>,
+    pub randomise: bool,
+    pub seed: u64,
+    pub all_arms: bool,
+    pub draws: u32,
+    pub integrator: String,
+    pub at_week: Vec<u32>,
+    pub basis: String,
+    pub multiplicity: String,
+}
 
 /// What a shard file says it is.
 const FORMAT: &str = "dosewright cohort shard";
@@ -31,63 +46,63 @@ fn tool() -> String {
 
 /// The first keys of a shard file, read alone when the rest does not parse.
 #[derive(Deserialize)]
-struct Head {
+pub(crate) struct Head {
     format: String,
     format_version: u32,
 }
 
 /// A study or roster file as the shard carries it.
 #[derive(Debug, Clone, PartialEq, Eq, Serialize, Deserialize)]
-struct Carried {
-    name: String,
-    text: String,
+pub(crate) struct Carried {
+    pub(crate) name: String,
+    pub(crate) text: String,
 }
 
 /// Which part of the streams a shard holds.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, Deserialize)]
-struct Part {
-    k: u32,
-    n: u32,
-    members: usize,
-    streams_start: u64,
-    streams_end: u64,
+pub(crate) struct Part {
+    pub(crate) k: u32,
+    pub(crate) n: u32,
+    pub(crate) members: usize,
+    pub(crate) streams_start: u64,
+    pub(crate) streams_end: u64,
 }
 
 /// A shard file.
 #[derive(Serialize, Deserialize)]
-struct ShardFile {
-    format: String,
-    format_version: u32,
-    tool: String,
-    identity: String,
-    study: Carried,
-    roster: Option<Carried>,
-    options: CohortOptions,
-    shard: Part,
-    tally: MinuteTally,
-    runs: Columns,
-    checksum: String,
+pub(crate) struct ShardFile {
+    pub(crate) format: String,
+    pub(crate) format_version: u32,
+    pub(crate) tool: String,
+    pub(crate) identity: String,
+    pub(crate) study: Carried,
+    pub(crate) roster: Option<Carried>,
+    pub(crate) options: CohortOptions,
+    pub(crate) shard: Part,
+    pub(crate) tally: MinuteTally,
+    pub(crate) runs: Columns,
+    pub(crate) checksum: String,
 }
 
 /// [`RunTable`] with every column as base64 of little-endian numbers.
 #[derive(Serialize, Deserialize)]
-struct Columns {
-    count: usize,
-    member: String,
-    baseline_mass_kg: String,
-    draw: String,
-    arm: String,
-    scenario: String,
-    flags: String,
-    end_mass_kg: String,
-    end_fat_kg: String,
-    dose_share: String,
-    prescribed_net_kcal: String,
-    minutes_week1: String,
-    minutes_last_week: String,
-    session_minutes_total: String,
-    checkpoint_mass_kg: String,
-    checkpoint_fat_kg: String,
+pub(crate) struct Columns {
+    pub(crate) count: usize,
+    pub(crate) member: String,
+    pub(crate) baseline_mass_kg: String,
+    pub(crate) draw: String,
+    pub(crate) arm: String,
+    pub(crate) scenario: String,
+    pub(crate) flags: String,
+    pub(crate) end_mass_kg: String,
+    pub(crate) end_fat_kg: String,
+    pub(crate) dose_share: String,
+    pub(crate) prescribed_net_kcal: String,
+    pub(crate) minutes_week1: String,
+    pub(crate) minutes_last_week: String,
+    pub(crate) session_minutes_total: String,
+    pub(crate) checkpoint_mass_kg: String,
+    pub(crate) checkpoint_fat_kg: String,
 }
 
 fn enc_f64(v: &[f64]) -> String {
@@ -138,7 +153,7 @@ impl Columns {
         }
     }
 
-    fn table(&self) -> Option<RunTable> {
+    pub(crate) fn table(&self) -> Option<RunTable> {
         let f = |s: &str| dec(s, f64::from_le_bytes);
         let u = |s: &str| dec(s, u32::from_le_bytes);
         let h = |s: &str| dec(s, u16::from_le_bytes);
@@ -186,10 +201,10 @@ fn checksum(tally: &MinuteTally, runs: &Columns) -> String {
 }
 
 /// The streams of shard `s` of a loaded cohort and the members they touch.
-pub(crate) fn streams_of(l: &Loaded, s: Shard) -> (Range<u64>, usize) {
-    let total = stream_count(l.members.len(), l.req.draws);
+pub(crate) fn streams_of(members: usize, draws: u32, s: Shard) -> (Range<u64>, usize) {
+    let total = stream_count(members, draws);
     let r = shard_streams(total, s.k, s.n);
-    let d = u64::from(l.req.draws.max(1));
+    let d = u64::from(draws.max(1));
     let touched = if r.is_empty() {
         0
     } else {
@@ -200,7 +215,7 @@ pub(crate) fn streams_of(l: &Loaded, s: Shard) -> (Range<u64>, usize) {
 
 /// The text of a shard file for the runs of shard `s`.
 pub(crate) fn write(
-    l: &Loaded,
+    (options, members): (&CohortOptions, usize),
     study: &(String, String),
     roster: Option<&TextFile>,
     s: Shard,
@@ -224,11 +239,11 @@ pub(crate) fn write(
         checksum: checksum(&runs.tally, &columns),
         study,
         roster,
-        options: l.options.clone(),
+        options: options.clone(),
         shard: Part {
             k: s.k,
             n: s.n,
-            members: l.members.len(),
+            members,
             streams_start: streams.start,
             streams_end: streams.end,
         },
@@ -243,17 +258,17 @@ pub(crate) fn write(
 /// Refuse a request whose memory or time would be unreasonable, with the estimate
 /// and the shards that would bring each part within bounds (docs/speed.md).
 pub(crate) fn check_size(
-    l: &Loaded,
+    (study, members, req): (&Study, &[Member], &CohortRequest),
     shard: Option<Shard>,
     format: CohortFormat,
 ) -> Result<(), Error> {
     use crate::simulate::cohort::{Estimate, estimate};
-    let total = stream_count(l.members.len(), l.req.draws);
+    let total = stream_count(members.len(), req.draws);
     let streams = shard.map_or(0..total, |s| shard_streams(total, s.k, s.n));
     let e: Estimate = estimate(
-        &l.study,
-        &l.members,
-        &l.req,
+        study,
+        members,
+        req,
         streams.clone(),
         format == CohortFormat::Csv,
         shard.is_some(),
@@ -289,110 +304,14 @@ const MAX_BYTES: u64 = 4_000_000_000;
 /// within a night, and within the usual wall-time limits of batch queues).
 const MAX_CPU_SECONDS: f64 = 12.0 * 3600.0;
 
-/// Run `cohort-merge`: read every shard, check that they belong together and form
-/// a complete set, then report the cohort exactly as the unsharded run does.
-pub fn run(args: &CohortMergeArgs) -> Result<Printed, Error> {
-    let units = display_units(&args.display);
-    check_format(args.format, units)?;
-    let inputs: Vec<&std::path::Path> = args.shards.iter().map(|p| p.as_path()).collect();
-    check_outputs(args.out.as_deref(), args.chart.as_deref(), &inputs)?;
-    // First pass: every file's header and checksum (the runs are dropped again).
-    let mut seen: Vec<(Part, String)> = Vec::new();
-    let mut first: Option<(ShardFile, String)> = None;
-    for path in &args.shards {
-        let (f, name) = read_shard(path)?;
-        if let Some((a, a_name)) = &first {
-            same_cohort(a, a_name, &f, &name)?;
-        }
-        if let Some((_, other)) = seen.iter().find(|(p, _)| p.k == f.shard.k) {
-            return Err(Error::Usage(format!(
-                "{name}: shard {}/{} is given twice (also {other}); give each shard once",
-                f.shard.k, f.shard.n
-            )));
-        }
-        seen.push((f.shard, name.clone()));
-        if first.is_none() {
-            first = Some((f, name));
-        }
-    }
-    let (head, head_name) = first.expect("clap requires one shard file");
-    let n = head.shard.n;
-    let missing: Vec<String> = (1..=n)
-        .filter(|k| !seen.iter().any(|(p, _)| p.k == *k))
-        .map(|k| format!("{k}/{n}"))
-        .collect();
-    if !missing.is_empty() {
-        return Err(Error::Usage(format!(
-            "the shards are incomplete: missing {} (of {n}); run those with cohort --shard and merge every shard",
-            missing.join(", ")
-        )));
-    }
-    let study = (head.study.name.clone(), head.study.text.clone());
-    let roster = head.roster.clone().map(|r| TextFile {
-        name: r.name,
-        raw: r.text,
-    });
-    let (l, _) = load(&head.options, &study, &|_| Ok(roster.clone())).map_err(|e| {
-        Error::Usage(format!(
-            "{head_name}: the study it carries does not load: {e}"
-        ))
-    })?;
-    drop(head);
-    // Second pass: the runs, shard by shard in stream order.
-    seen.sort_by_key(|(p, _)| p.k);
-    let mut runs = CohortRuns::empty(&l.study, &l.req, args.format == CohortFormat::Csv);
-    let total = stream_count(l.members.len(), l.req.draws);
-    for (part, path) in &seen {
-        let (f, name) = read_shard(std::path::Path::new(path))?;
-        let expected = shard_streams(total, part.k, part.n);
-        let table = f
-            .runs
-            .table()
-            .filter(|t| t.len() == f.runs.count && t.is_consistent(l.req.checkpoints.len()))
-            .filter(|t| fits(t, &l, expected.clone()))
-            .filter(|_| f.shard.members == l.members.len() && f.tally.fits(&l.study))
-            .filter(|_| {
-                f.shard.streams_start == expected.start && f.shard.streams_end == expected.end
-            })
-            .ok_or_else(|| corrupt(&name, "its runs do not match its study and shard"))?;
-        runs.merge_tally(f.tally);
-        runs.push_table(table, l.req.checkpoints.len());
-    }
-    let pool = pool(args.threads)?;
-    let outputs = Outputs {
-        format: args.format,
-        out: args.out.as_deref(),
-        chart: args.chart.as_deref(),
-        units,
-    };
-    report_cohort(&l, &runs, &pool, &outputs)
-}
-
-/// True when every run of `t` is of a member and draw of `streams`, in stream order,
-/// in an arm and scenario of the study.
-fn fits(t: &RunTable, l: &Loaded, streams: Range<u64>) -> bool {
-    let d = u64::from(l.req.draws.max(1));
-    let mut last = streams.start;
-    (0..t.len()).all(|j| {
-        let s = u64::from(t.member[j]) * d + u64::from(t.draw[j]);
-        let ok = t.draw[j] < l.req.draws
-            && s >= last
-            && s < streams.end
-            && usize::from(t.arm[j]) < l.study.arms.len()
-            && usize::from(t.scenario[j]) < l.study.scenarios.len();
-        last = s;
-        ok
-    })
-}
-
-fn corrupt(name: &str, why: &str) -> Error {
+pub(crate) fn corrupt(name: &str, why: &str) -> Error {
     Error::Usage(format!(
         "{name}: not a complete cohort shard file ({why}); it may be truncated or damaged: run that shard again"
     ))
 }
 
 /// Read one shard file and check its format, version, program and checksum.
-fn read_shard(path: &std::path::Path) -> Result<(ShardFile, String), Error> {
+pub(crate) fn read_shard(path: &std::path::Path) -> Result<(ShardFile, String), Error> {
     let f = crate::input::read_limited(path, crate::input::MAX_SHARD_BYTES)?;
     let name = f.name.clone();
     let file: ShardFile = match serde_json::from_str(&f.raw) {
@@ -444,7 +363,12 @@ fn version(name: &str, v: u32) -> Error {
 }
 
 /// Refuse a shard of another cohort than the first file's.
-fn same_cohort(a: &ShardFile, a_name: &str, b: &ShardFile, b_name: &str) -> Result<(), Error> {
+pub(crate) fn same_cohort(
+    a: &ShardFile,
+    a_name: &str,
+    b: &ShardFile,
+    b_name: &str,
+) -> Result<(), Error> {
     let differs = |what: String| {
         Err(Error::Usage(format!(
             "{b_name}: not a shard of the same cohort as {a_name}: {what}; merge only the shards of one cohort run"
