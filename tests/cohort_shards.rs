@@ -345,3 +345,24 @@ fn a_request_too_large_for_one_run_is_refused_up_front_with_the_shards_to_use() 
         o.stderr
     );
 }
+
+#[test]
+fn the_shards_tile_the_streams_without_gap_or_overlap() {
+    use dosewright::simulate::cohort::{shard_streams, stream_count};
+    for (members, draws) in [(1, 1), (7, 3), (40, 5), (1000, 100), (3, 10_000)] {
+        let total = stream_count(members, draws);
+        assert_eq!(total, members as u64 * u64::from(draws));
+        for n in [1, 2, 3, 7, 16, 1000] {
+            let parts: Vec<_> = (1..=n).map(|k| shard_streams(total, k, n)).collect();
+            assert_eq!(parts[0].start, 0);
+            assert_eq!(parts[n as usize - 1].end, total);
+            for w in parts.windows(2) {
+                assert_eq!(w[0].end, w[1].start, "{members} x {draws} in {n}");
+            }
+            // Nearly equal: sizes differ by at most one stream.
+            let sizes: Vec<u64> = parts.iter().map(|p| p.end - p.start).collect();
+            let (lo, hi) = (sizes.iter().min().unwrap(), sizes.iter().max().unwrap());
+            assert!(hi - lo <= 1, "{members} x {draws} in {n}: {sizes:?}");
+        }
+    }
+}
