@@ -340,7 +340,56 @@ fn a_request_too_large_for_one_run_is_refused_up_front_with_the_shards_to_use() 
         o.stderr
     );
     assert!(
-        o.stderr.contains("split it with --shard K/N"),
+        o.stderr
+            .contains("split it with --shard K/N for K = 1 to 188"),
+        "{}",
+        o.stderr
+    );
+    // Too few shards: each shard is itself refused, with the same split.
+    let o = run(
+        &dir,
+        &[
+            "cohort",
+            "bench.toml",
+            "--synthetic",
+            "100000",
+            "--all-arms",
+            "--draws",
+            "10000",
+            "--quiet",
+            "--shard",
+            "1/100",
+        ],
+    );
+    assert_eq!(o.code, 2, "{}", o.stderr);
+    assert!(o.stderr.contains(": 30000000 runs"), "{}", o.stderr);
+    assert!(o.stderr.contains("K = 1 to 188"), "{}", o.stderr);
+    // A CSV too large whose JSON would fit: the JSON or the table is the advice.
+    let o = run(
+        &dir,
+        &[
+            "cohort",
+            "bench.toml",
+            "--synthetic",
+            "1000",
+            "--all-arms",
+            "--draws",
+            "10000",
+            "--quiet",
+            "--format",
+            "csv",
+        ],
+    );
+    assert_eq!(o.code, 2, "{}", o.stderr);
+    assert!(
+        o.stderr.contains(
+            "--format csv: the per-participant CSV of this cohort is too large: 30000000 runs"
+        ),
+        "{}",
+        o.stderr
+    );
+    assert!(
+        o.stderr.contains("use --format json or table"),
         "{}",
         o.stderr
     );

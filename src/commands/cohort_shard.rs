@@ -269,7 +269,7 @@ pub(crate) fn check_size(
         study,
         members,
         req,
-        streams.clone(),
+        streams,
         format == CohortFormat::Csv,
         shard.is_some(),
     );
@@ -278,22 +278,42 @@ pub(crate) fn check_size(
     if mem <= max_mem && cpu <= max_cpu {
         return Ok(());
     }
-    let parts = (mem / max_mem).max(cpu / max_cpu).ceil() as u64;
-    let n = shard.map_or(1, |s| u64::from(s.n)) * parts.max(2);
+    if format == CohortFormat::Csv {
+        let plain = estimate(study, members, req, 0..total, false, false);
+        if (plain.bytes as f64) <= max_mem && cpu <= max_cpu {
+            return Err(Error::Usage(format!(
+                "--format csv: the per-participant CSV of this cohort is too large: {} runs, an estimated {:.1} GB of memory, over the {} GB one run may take (a row per run); its JSON or table needs about {:.1} GB: use --format json or table, or fewer participants or draws",
+                e.runs,
+                mem / 1e9,
+                max_mem / 1e9,
+                plain.bytes as f64 / 1e9
+            )));
+        }
+    }
+    // The shards of the whole cohort that bring each within bounds, estimated as
+    // shards (a shard keeps its runs' scalars and writes them).
+    let whole = estimate(study, members, req, 0..total, false, true);
+    let fixed = estimate(study, members, req, 0..0, false, true).bytes as f64;
+    let runs_bytes = whole.bytes as f64 - fixed;
+    let n = (runs_bytes / (max_mem - fixed).max(1.0))
+        .max(whole.cpu_seconds / max_cpu)
+        .ceil()
+        .max(2.0)
+        .min(total.max(2) as f64) as u64;
     let csv = if format == CohortFormat::Csv {
         " (a per-participant CSV holds a row per run: JSON or a table needs far less)"
     } else {
         ""
     };
     Err(Error::Usage(format!(
-        "this cohort is too large for one run: {} runs, an estimated {:.1} GB of memory and {:.1} CPU hours{csv}, over the {} GB and {} hours one run may take; split it with --shard K/N for K = 1 to {n} (each part needs about {:.1} GB and {:.1} CPU hours, and can run on its own machine) and combine the shard files with cohort-merge (docs/cluster.md)",
+        "this cohort is too large for one run: {} runs, an estimated {:.1} GB of memory and {:.1} CPU hours{csv}, over the {} GB and {} hours one run may take; split it with --shard K/N for K = 1 to {n} (each shard about {:.1} GB and {:.1} CPU hours, and each can run on its own machine) and combine the shard files with cohort-merge (docs/cluster.md)",
         e.runs,
         mem / 1e9,
         cpu / 3600.0,
         max_mem / 1e9,
         max_cpu / 3600.0,
-        mem / n as f64 * shard.map_or(1.0, |s| f64::from(s.n)) / 1e9,
-        cpu / n as f64 * shard.map_or(1.0, |s| f64::from(s.n)) / 3600.0,
+        (fixed + runs_bytes / n as f64) / 1e9,
+        whole.cpu_seconds / n as f64 / 3600.0,
     )))
 }
 
