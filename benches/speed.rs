@@ -178,6 +178,35 @@ fn main() {
         3,
         &cohort("100"),
     );
+    // Peak memory (maximum resident set, from /usr/bin/time) with 1,000 draws: goal
+    // 150 MB; and the time per participant-week against the 100-draw run's (linear).
+    if Path::new("/usr/bin/time").exists() {
+        let start = std::time::Instant::now();
+        let out = Command::new("/usr/bin/time")
+            .args(["-f", "%M"])
+            .arg(exe)
+            .args(cohort("1000"))
+            .output()
+            .expect("/usr/bin/time runs");
+        let wall = start.elapsed().as_secs_f64();
+        assert!(
+            out.status.success(),
+            "{}",
+            String::from_utf8_lossy(&out.stderr)
+        );
+        let err = String::from_utf8_lossy(&out.stderr);
+        let kb: f64 = err
+            .lines()
+            .rev()
+            .find_map(|l| l.trim().parse().ok())
+            .expect("/usr/bin/time prints the maximum resident set in KB");
+        let mb = kb / 1024.0;
+        println!(
+            "dosewright cohort 1000 x 3 arms x 52 weeks, 1000 draws: wall {wall:.2} s ({:.4} us per participant-week), peak memory {mb:.0} MB   goal < 150 MB: {}",
+            wall * 1e6 / (1000.0 * 3.0 * 52.0 * 1000.0),
+            if mb < 150.0 { "meets" } else { "MISSES" }
+        );
+    }
     // Per participant-week on one core against the yardstick, in the same process:
     // the cohort on one thread (15.6 million participant-weeks), the best of 3 runs.
     let yard = yardstick().min(yardstick());

@@ -279,6 +279,55 @@ pub enum IntegratorArg {
     Dopri5,
 }
 
+/// One part of a cohort's streams: shard `k` of `n` (1-based).
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub struct Shard {
+    /// This shard, 1 to `n`.
+    pub k: u32,
+    /// Shards in all, 1 to 100000.
+    pub n: u32,
+}
+
+/// `--shard K/N`: two whole numbers with 1 <= K <= N <= 100000.
+fn parse_shard(s: &str) -> Result<Shard, String> {
+    let bad = || {
+        format!("\"{s}\" is not K/N; give two whole numbers with 1 <= K <= N <= 100000, as in 2/8")
+    };
+    let (k, n) = s.split_once('/').ok_or_else(bad)?;
+    let k: u32 = k.trim().parse().map_err(|_| bad())?;
+    let n: u32 = n.trim().parse().map_err(|_| bad())?;
+    if k == 0 || k > n || n > 100_000 {
+        return Err(bad());
+    }
+    Ok(Shard { k, n })
+}
+
+/// The options of `cohort-merge`.
+#[derive(Debug, Clone, Args)]
+pub struct CohortMergeArgs {
+    /// The shard files written by `cohort --shard K/N` (every K of one N, in any order).
+    #[arg(required = true, value_name = "SHARD")]
+    pub shards: Vec<PathBuf>,
+    /// Output format.
+    #[arg(long, value_enum, default_value_t = CohortFormat::Table)]
+    pub format: CohortFormat,
+    /// With --format csv: which table (participants, comparisons or staffing; as `cohort`).
+    #[arg(long = "csv-table", value_enum, default_value_t = CohortCsvTable::Participants)]
+    pub csv_table: CohortCsvTable,
+    /// Write the output to FILE instead of standard output.
+    #[arg(long, value_name = "FILE")]
+    pub out: Option<PathBuf>,
+    /// Write the cohort's SVG charts into DIR.
+    #[arg(long, value_name = "DIR")]
+    pub chart: Option<PathBuf>,
+    /// Worker threads for the summaries, 1 to 256.
+    #[arg(long, value_name = "N", value_parser = RangedU64ValueParser::<usize>::new().range(1..=256))]
+    pub threads: Option<usize>,
+    /// Display units.
+    #[command(flatten)]
+    pub display: DisplayArgs,
+}
+
 /// The seed `cohort` uses when none is given.
 pub const DEFAULT_SEED: u64 = 20_270_101;
 
@@ -335,6 +384,10 @@ pub struct CohortArgs {
     /// No progress bar.
     #[arg(long)]
     pub quiet: bool,
+    /// Run only part K of N of the (participant, draw) streams and write a shard file
+    /// (JSON) instead of the report; `cohort-merge` combines the shards (docs/cluster.md).
+    #[arg(long, value_name = "K/N", value_parser = parse_shard)]
+    pub shard: Option<Shard>,
     /// Display units.
     #[command(flatten)]
     pub display: DisplayArgs,
@@ -368,6 +421,8 @@ pub enum Command {
     /// Simulate a study's cohort: every participant in its arm (or every arm), summarised per arm.
     #[command(group = clap::ArgGroup::new("who").required(true).args(["roster", "synthetic"]))]
     Cohort(CohortArgs),
+    /// Combine the shard files of `cohort --shard K/N` into the report of the whole cohort (the same bytes).
+    CohortMerge(CohortMergeArgs),
     /// Analyse a pilot in a register: achieved against delivered energy, intake balance, the gap's causes; scenarios for the next study.
     Pilot(PilotArgs),
     /// The trainer's desk: a local web server over a register, its accounts, and a demo register.

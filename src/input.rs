@@ -73,6 +73,15 @@ fn open(path: &Path) -> std::io::Result<std::fs::File> {
 /// that is not a regular file, one over the size limit and one that is not UTF-8 are
 /// all [`Error::Unreadable`] (exit 2).
 pub fn read(path: &Path) -> Result<TextFile, Error> {
+    read_limited(path, MAX_INPUT_BYTES)
+}
+
+/// The largest cohort shard file read, in bytes (4 GiB): a shard holds every run's
+/// scalars of its part of the streams (docs/cluster.md).
+pub const MAX_SHARD_BYTES: u64 = 4 * 1024 * 1024 * 1024;
+
+/// Read the input file at `path` as [`read`] does, with `limit` bytes at most.
+pub fn read_limited(path: &Path, limit: u64) -> Result<TextFile, Error> {
     let name = path.display().to_string();
     let file = open(path).map_err(|e| unreadable(&name, io_reason(&e)))?;
     let meta = file
@@ -94,18 +103,18 @@ pub fn read(path: &Path) -> Result<TextFile, Error> {
             &name,
             format!(
                 "larger than {} MiB, the limit for an input file; check the path",
-                MAX_INPUT_BYTES / (1024 * 1024)
+                limit / (1024 * 1024)
             ),
         )
     };
-    if meta.len() > MAX_INPUT_BYTES {
+    if meta.len() > limit {
         return Err(too_big());
     }
     let mut bytes = Vec::with_capacity(meta.len() as usize);
-    file.take(MAX_INPUT_BYTES + 1)
+    file.take(limit + 1)
         .read_to_end(&mut bytes)
         .map_err(|e| unreadable(&name, io_reason(&e)))?;
-    if bytes.len() as u64 > MAX_INPUT_BYTES {
+    if bytes.len() as u64 > limit {
         return Err(too_big());
     }
     let raw = utf8(&name, bytes)?;

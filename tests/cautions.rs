@@ -118,6 +118,43 @@ const COMPARE_CHART_US_KJ_ARGS: &[&str] = &[
 ];
 
 const AUDIT: &[Audited] = &[
+    // cohort-merge renders what cohort renders, from a shard file of the roster
+    // (`merge_shard` writes it first).
+    audited(
+        "cohort-merge table",
+        ("cohort-merge", "table"),
+        &["cohort-merge", "shard.json"],
+        Where::Stdout,
+        Screen::Roster,
+    ),
+    audited(
+        "cohort-merge csv side notes",
+        ("cohort-merge", "csv"),
+        &["cohort-merge", "shard.json", "--format", "csv"],
+        Where::Stderr,
+        Screen::Roster,
+    ),
+    audited(
+        "cohort-merge mass-change chart",
+        ("cohort-merge", "chart"),
+        &["cohort-merge", "shard.json", "--chart", "charts"],
+        Where::File(COHORT_CHARTS[0]),
+        Screen::Roster,
+    ),
+    audited(
+        "cohort-merge table in US units and kJ",
+        ("cohort-merge", DISPLAY_UNITS),
+        &[
+            "cohort-merge",
+            "shard.json",
+            "--units",
+            "us",
+            "--energy",
+            "kj",
+        ],
+        Where::Stdout,
+        Screen::Roster,
+    ),
     audited(
         "schedule table",
         ("schedule", "table"),
@@ -880,11 +917,12 @@ fn cohort_outcomes(args: &[&str], roster: &str) -> Vec<String> {
     if args.contains(&"--synthetic") {
         return vec![not_recorded()];
     }
-    let at = args
-        .iter()
-        .position(|a| *a == "--roster")
-        .expect("a roster");
-    let text = match args[at + 1] {
+    let name = match args.iter().position(|a| *a == "--roster") {
+        Some(at) => args[at + 1],
+        None if args[0] == "cohort-merge" => "roster.csv",
+        None => panic!("a roster"),
+    };
+    let text = match name {
         "roster.csv" => roster,
         "roster-no-arms.csv" => ROSTER_NO_ARMS,
         other => panic!("no roster text for {other}"),
@@ -902,6 +940,23 @@ fn cohort_outcomes(args: &[&str], roster: &str) -> Vec<String> {
     out
 }
 
+/// For `cohort-merge`: the one shard of the roster's cohort, `shard.json`.
+fn merge_shard(dir: &Scratch, args: &[&str]) {
+    if args[0] == "cohort-merge" {
+        let r = run(dir.cmd().args([
+            "cohort",
+            "study.toml",
+            "--roster",
+            "roster.csv",
+            "--shard",
+            "1/1",
+            "--out",
+            "shard.json",
+        ]));
+        assert_eq!(r.code, Some(0), "the shard: {}", r.stderr);
+    }
+}
+
 /// The text of one audited output for `plan` and `roster`.
 fn audited_text(a: &Audited, plan: &str, roster: &str) -> String {
     let dir = fresh("cautions");
@@ -910,6 +965,7 @@ fn audited_text(a: &Audited, plan: &str, roster: &str) -> String {
     if a.args[0] == "pilot" {
         pilot_register_with(dir.path(), plan);
     }
+    merge_shard(&dir, a.args);
     let r = run(dir.cmd().args(a.args));
     assert_eq!(r.code, Some(0), "{}: {}", a.name, r.stderr);
     match a.at {
@@ -1156,6 +1212,10 @@ const JSON_OUTPUTS: &[(&str, &[&str])] = &[
         ],
     ),
     ("pilot", &["pilot", PILOT_REGISTER, "--format", "json"]),
+    (
+        "cohort-merge",
+        &["cohort-merge", "shard.json", "--format", "json"],
+    ),
 ];
 
 /// Every string value in a JSON document.
@@ -1185,10 +1245,11 @@ fn json_findings() -> BTreeSet<(String, String)> {
             if *cmd == "pilot" {
                 pilot_register_with(dir.path(), &plan);
             }
+            merge_shard(&dir, args);
             let r = run(dir.cmd().args(*args));
             assert_eq!(r.code, Some(0), "{name}: {}", r.stderr);
             let j: serde_json::Value = serde_json::from_str(&r.stdout).unwrap();
-            let screened = if *cmd == "cohort" {
+            let screened = if cmd.starts_with("cohort") {
                 let mut strings = Vec::new();
                 json_strings(&j, &mut strings);
                 let codes: Vec<&str> = array(&j, "warnings")

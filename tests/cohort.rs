@@ -1959,7 +1959,7 @@ fn streamed_minute_summaries_equal_the_summaries_of_every_run_kept() {
             .collect();
         let runs = run_cohort(&study, &members, &req, &|| {}).unwrap();
         assert!(
-            runs.members
+            runs.members(&req)
                 .iter()
                 .flat_map(|m| &m.runs)
                 .all(|r| r.minutes_by_week.is_empty() && r.session_minutes_by_week.is_empty()),

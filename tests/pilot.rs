@@ -507,7 +507,7 @@ pal = 1.6
     };
     let runs = run_cohort(&study, &members, &req, &|| {}).unwrap();
     let shares: Vec<f64> = runs
-        .members
+        .members(&req)
         .iter()
         .flat_map(|m| m.runs.iter().filter_map(|r| r.dose_share))
         .collect();

@@ -1,12 +1,17 @@
-//! `cohort`: a study's cohort simulated in parallel and summarised per arm.
+//! `cohort`: a study's cohort simulated in parallel and summarised per arm; with
+//! `--shard K/N` one part of its streams written as a shard file (docs/cluster.md).
 
 use super::{Printed, check_outputs, deliver, display_units, refuse_display_units};
-use crate::cli::{BasisArg, CohortArgs, CohortCsvTable, MultiplicityArg};
+use crate::cli::{BasisArg, CohortArgs, CohortCsvTable, CohortFormat, MultiplicityArg};
 use crate::error::Error;
+use crate::input::TextFile;
 use crate::report;
 use crate::simulate::arm_comparison::{Basis, Multiplicity};
+use crate::simulate::cohort::{CohortRequest, CohortRuns, Member};
+use crate::study::Study;
 use crate::study::staffing::site_need;
 
+pub(crate) use super::cohort_shard::CohortOptions;
 /// Checkpoint weeks of a cohort: those asked for, the end of the protocol and of
 /// follow-up, sorted and distinct.
 fn cohort_checkpoints(study: &crate::study::Study, at: &[u32]) -> Result<Vec<u32>, Error> {
@@ -25,16 +30,16 @@ fn cohort_checkpoints(study: &crate::study::Study, at: &[u32]) -> Result<Vec<u32
 }
 
 /// The members of a cohort and words for where they and their arms came from.
-pub fn cohort_members(
-    study: &crate::study::Study,
-    args: &CohortArgs,
-) -> Result<(Vec<crate::simulate::cohort::Member>, String, String), Error> {
-    use crate::simulate::cohort::Member;
+pub(crate) fn cohort_members(
+    study: &Study,
+    args: &CohortOptions,
+    roster_file: Option<&TextFile>,
+) -> Result<(Vec<Member>, String, String), Error> {
     use crate::study::allocation::{Allocation, allocate};
     use crate::study::{roster, synthetic};
-    let (mut members, source) = match (&args.roster, args.synthetic) {
-        (Some(path), None) => {
-            let rows = roster::load_roster(path, study)?;
+    let (mut members, source) = match (roster_file, args.synthetic) {
+        (Some(f), None) => {
+            let rows = roster::parse_roster(&f.name, &f.raw, study)?;
             (
                 rows.into_iter()
                     .map(|r| Member {
@@ -42,7 +47,7 @@ pub fn cohort_members(
                         arm: r.arm,
                     })
                     .collect::<Vec<_>>(),
-                format!("roster {}", path.display()),
+                format!("roster {}", f.name),
             )
         }
         (None, Some(n)) => {
@@ -97,39 +102,6 @@ pub fn cohort_members(
     Ok((members, source, allocation))
 }
 
-/// Display units are for the table only; `--csv-table` is for `--format csv` only.
-fn check_format(args: &CohortArgs, units: report::units::Units) -> Result<(), Error> {
-    use crate::cli::CohortFormat;
-    match args.format {
-        CohortFormat::Table => {}
-        CohortFormat::Csv => refuse_display_units(units, "csv")?,
-        CohortFormat::Json => refuse_display_units(units, "json")?,
-    }
-    if args.csv_table != CohortCsvTable::Participants && args.format != CohortFormat::Csv {
-        return Err(Error::Usage(
-            "--csv-table: only with --format csv; add --format csv or leave --csv-table out"
-                .to_string(),
-        ));
-    }
-    Ok(())
-}
-
-/// The comparisons' basis, multiplicity adjustment and endpoint weeks asked for.
-fn comparison_options(args: &CohortArgs) -> crate::simulate::arm_comparison::ComparisonOptions {
-    crate::simulate::arm_comparison::ComparisonOptions {
-        basis: match args.basis {
-            BasisArg::IntentionToTreat => Basis::IntentionToTreat,
-            BasisArg::Completers => Basis::Completers,
-        },
-        multiplicity: match args.multiplicity {
-            MultiplicityArg::None => Multiplicity::None,
-            MultiplicityArg::Bonferroni => Multiplicity::Bonferroni,
-            MultiplicityArg::Holm => Multiplicity::Holm,
-        },
-        at_weeks: args.at_week.clone(),
-    }
-}
-
 /// The cohort CSV table asked for (docs/file-formats.md, "Cohort CSV").
 fn csv_table(table: CohortCsvTable, r: &report::cohort::CohortReport) -> String {
     match table {
@@ -139,40 +111,146 @@ fn csv_table(table: CohortCsvTable, r: &report::cohort::CohortReport) -> String 
     }
 }
 
-/// Run `cohort`: load, allocate, simulate in parallel, summarise, render.
-pub fn run(args: &CohortArgs) -> Result<Printed, Error> {
-    use crate::cli::{CohortFormat, IntegratorArg};
-    use crate::simulate::cohort::{CohortRequest, run_cohort, summarise};
+/// The command-line name of a value.
+fn name_of<T: clap::ValueEnum>(v: T) -> String {
+    v.to_possible_value()
+        .map(|p| p.get_name().to_string())
+        .unwrap_or_default()
+}
+
+/// The value of a command-line name (a shard file's options).
+pub(crate) fn value_of<T: clap::ValueEnum>(s: &str) -> Result<T, Error> {
+    T::from_str(s, false).map_err(|_| Error::Usage(format!("unknown option value \"{s}\"")))
+}
+
+impl CohortOptions {
+    fn of(args: &CohortArgs) -> CohortOptions {
+        CohortOptions {
+            synthetic: args.synthetic,
+            randomise: args.randomise,
+            seed: args.seed,
+            all_arms: args.all_arms,
+            draws: args.draws,
+            integrator: name_of(args.integrator),
+            at_week: args.at_week.clone(),
+            basis: name_of(args.basis),
+            multiplicity: name_of(args.multiplicity),
+        }
+    }
+}
+
+/// A cohort ready to run or to report: the study, its members and where they came
+/// from, the request and the options.
+pub(crate) struct Loaded {
+    pub study: Study,
+    pub members: Vec<Member>,
+    pub source: String,
+    pub allocation: String,
+    pub req: CohortRequest,
+    pub options: CohortOptions,
+}
+
+/// Parse the study, read the roster (if any), draw or read the members, allocate.
+pub(crate) fn load(
+    options: &CohortOptions,
+    study_file: &(String, String),
+    roster: &dyn Fn(&Study) -> Result<Option<TextFile>, Error>,
+) -> Result<(Loaded, Option<TextFile>), Error> {
+    use crate::cli::IntegratorArg;
     use crate::simulate::integrate::Integrator;
-    let units = display_units(&args.display);
-    check_format(args, units)?;
-    let mut inputs = vec![args.study.as_path()];
-    inputs.extend(args.roster.as_deref());
-    check_outputs(args.out.as_deref(), args.chart.as_deref(), &inputs)?;
-    let study = crate::study::load_study(&args.study)?;
-    let (members, source, allocation) = cohort_members(&study, args)?;
+    let study = crate::study::parse_study(&study_file.0, &study_file.1)?;
+    let roster = roster(&study)?;
+    let (members, source, allocation) = cohort_members(&study, options, roster.as_ref())?;
     let req = CohortRequest {
-        all_arms: args.all_arms,
-        integrator: match args.integrator {
+        all_arms: options.all_arms,
+        integrator: match value_of(&options.integrator)? {
             IntegratorArg::Rk4 => Integrator::Rk4,
             IntegratorArg::Dopri5 => Integrator::Dopri5,
         },
-        checkpoints: cohort_checkpoints(&study, &args.at_week)?,
-        draws: args.draws,
-        seed: args.seed,
+        checkpoints: cohort_checkpoints(&study, &options.at_week)?,
+        draws: options.draws,
+        seed: options.seed,
     };
-    let pool = {
-        let mut b = rayon::ThreadPoolBuilder::new();
-        if let Some(n) = args.threads {
-            b = b.num_threads(n);
+    let loaded = Loaded {
+        study,
+        members,
+        source,
+        allocation,
+        req,
+        options: options.clone(),
+    };
+    Ok((loaded, roster))
+}
+
+/// A worker pool of `threads` threads (default: RAYON_NUM_THREADS, else one per core).
+pub(crate) fn pool(threads: Option<usize>) -> Result<rayon::ThreadPool, Error> {
+    let mut b = rayon::ThreadPoolBuilder::new();
+    if let Some(n) = threads {
+        b = b.num_threads(n);
+    }
+    b.build()
+        .map_err(|e| Error::Internal(format!("cannot start worker threads: {e}")))
+}
+
+/// Where and how a cohort's report goes.
+pub(crate) struct Outputs<'a> {
+    pub format: CohortFormat,
+    pub csv_table: CohortCsvTable,
+    pub out: Option<&'a std::path::Path>,
+    pub chart: Option<&'a std::path::Path>,
+    pub units: crate::report::units::Units,
+}
+
+/// Refuse display units with a machine-readable format, and `--csv-table` without
+/// `--format csv`.
+pub(crate) fn check_format(
+    format: CohortFormat,
+    table: CohortCsvTable,
+    units: crate::report::units::Units,
+) -> Result<(), Error> {
+    match format {
+        CohortFormat::Table => {}
+        CohortFormat::Csv => refuse_display_units(units, "csv")?,
+        CohortFormat::Json => refuse_display_units(units, "json")?,
+    }
+    if table != CohortCsvTable::Participants && format != CohortFormat::Csv {
+        return Err(Error::Usage(
+            "--csv-table: only with --format csv; add --format csv or leave --csv-table out"
+                .to_string(),
+        ));
+    }
+    Ok(())
+}
+
+/// Run `cohort`: load, allocate, simulate in parallel, summarise, render; with
+/// `--shard K/N` simulate only that part of the streams and write a shard file.
+pub fn run(args: &CohortArgs) -> Result<Printed, Error> {
+    let units = display_units(&args.display);
+    check_format(args.format, args.csv_table, units)?;
+    if args.shard.is_some() && args.chart.is_some() {
+        return Err(Error::Usage(
+            "--chart: a shard writes no charts; give --chart to cohort-merge".to_string(),
+        ));
+    }
+    let mut inputs = vec![args.study.as_path()];
+    inputs.extend(args.roster.as_deref());
+    check_outputs(args.out.as_deref(), args.chart.as_deref(), &inputs)?;
+    let study_file = crate::input::read_text(&args.study)?;
+    let roster = |_: &Study| args.roster.as_deref().map(crate::input::read).transpose();
+    let (l, roster_file) = load(&CohortOptions::of(args), &study_file, &roster)?;
+    super::cohort_shard::check_size((&l.study, &l.members, &l.req), args.shard, args.format)?;
+    let pool = pool(args.threads)?;
+    let (streams, touched) = match args.shard {
+        Some(s) => super::cohort_shard::streams_of(l.members.len(), l.req.draws, s),
+        None => {
+            let all = crate::simulate::cohort::stream_count(l.members.len(), l.req.draws);
+            (0..all, l.members.len())
         }
-        b.build()
-            .map_err(|e| Error::Internal(format!("cannot start worker threads: {e}")))?
     };
     let bar = if args.quiet {
         indicatif::ProgressBar::hidden()
     } else {
-        let b = indicatif::ProgressBar::new(members.len() as u64);
+        let b = indicatif::ProgressBar::new(touched as u64);
         if let Ok(style) = indicatif::ProgressStyle::with_template(
             "{spinner} [{elapsed_precise}] {wide_bar} {pos}/{len} participants ({eta})",
         ) {
@@ -180,11 +258,63 @@ pub fn run(args: &CohortArgs) -> Result<Printed, Error> {
         }
         b
     };
-    let results = pool.install(|| run_cohort(&study, &members, &req, &|| bar.inc(1)));
+    // Every run's scalars are kept for the per-participant CSV and for a shard file.
+    let keep = args.format == CohortFormat::Csv || args.shard.is_some();
+    let runs = pool.install(|| {
+        crate::simulate::cohort::run_cohort_streams(
+            &l.study,
+            &l.members,
+            &l.req,
+            streams.clone(),
+            keep,
+            &|| bar.inc(1),
+        )
+    });
     bar.finish_and_clear();
-    let results = results?;
-    let summary = pool.install(|| summarise(&study, &results, &req));
-    let options = comparison_options(args);
+    let runs = runs?;
+    if let Some(s) = args.shard {
+        let text = super::cohort_shard::write(
+            (&l.options, l.members.len()),
+            &study_file,
+            roster_file.as_ref(),
+            s,
+            streams,
+            &runs,
+        );
+        return deliver(Printed::default(), text, args.out.as_deref());
+    }
+    let outputs = Outputs {
+        format: args.format,
+        csv_table: args.csv_table,
+        out: args.out.as_deref(),
+        chart: args.chart.as_deref(),
+        units,
+    };
+    report_cohort(&l, &runs, &pool, &outputs)
+}
+
+/// Summarise a cohort's runs, render the report and deliver it (`cohort` and
+/// `cohort-merge` alike).
+pub(crate) fn report_cohort(
+    l: &Loaded,
+    runs: &CohortRuns,
+    pool: &rayon::ThreadPool,
+    o: &Outputs,
+) -> Result<Printed, Error> {
+    let (study, members, req) = (&l.study, &l.members, &l.req);
+    let summary = pool.install(|| crate::simulate::cohort::summarise(study, runs, req));
+    let options = crate::simulate::arm_comparison::ComparisonOptions {
+        basis: match value_of(&l.options.basis)? {
+            BasisArg::IntentionToTreat => Basis::IntentionToTreat,
+            BasisArg::Completers => Basis::Completers,
+        },
+        multiplicity: match value_of(&l.options.multiplicity)? {
+            MultiplicityArg::None => Multiplicity::None,
+            MultiplicityArg::Bonferroni => Multiplicity::Bonferroni,
+            MultiplicityArg::Holm => Multiplicity::Holm,
+        },
+        at_weeks: l.options.at_week.clone(),
+    };
     let comparisons = crate::simulate::arm_comparison::comparisons_with(
         &summary.arms,
         study.protocol.weeks,
@@ -194,11 +324,11 @@ pub fn run(args: &CohortArgs) -> Result<Printed, Error> {
         tool: format!("dosewright {}", env!("CARGO_PKG_VERSION")),
         study: study.source_name.clone(),
         name: study.name.clone(),
-        source,
-        allocation,
-        all_arms: args.all_arms,
-        seed: args.seed,
-        draws: args.draws,
+        source: l.source.clone(),
+        allocation: l.allocation.clone(),
+        all_arms: req.all_arms,
+        seed: req.seed,
+        draws: req.draws,
         participants: members.len(),
         integrator: req.integrator.name(),
         checkpoints: req.checkpoints.clone(),
@@ -208,22 +338,21 @@ pub fn run(args: &CohortArgs) -> Result<Printed, Error> {
         arms: Vec::new(),
         staff_hours: summary.staff_hours.clone(),
         staffing: site_need(
-            &study,
-            results.tally.site(),
-            args.draws,
+            study,
+            runs.tally.site(),
+            req.draws,
             summary.staff_hours.total,
         ),
         comparisons: Vec::new(),
         screening: report::cohort::screening_counts(
-            &members,
-            crate::simulate::warnings::study_is_vigorous(&study),
+            members,
+            crate::simulate::warnings::study_is_vigorous(study),
         ),
-        warnings: crate::simulate::warnings::cohort_warnings(&study, &members, &summary),
+        warnings: crate::simulate::warnings::cohort_warnings(study, members, &summary),
         cautions: crate::safety::CAUTIONS.to_vec(),
         // One row per run, for the CSV only.
-        rows: if args.format == CohortFormat::Csv && args.csv_table == CohortCsvTable::Participants
-        {
-            report::cohort::participant_rows(&study, &members, &results.members)
+        rows: if o.format == CohortFormat::Csv && o.csv_table == CohortCsvTable::Participants {
+            report::cohort::participant_rows(study, members, &runs.members(req))
         } else {
             Vec::new()
         },
@@ -233,8 +362,8 @@ pub fn run(args: &CohortArgs) -> Result<Printed, Error> {
         r.comparisons = comparisons;
     }
     let mut printed = Printed::default();
-    let text = match args.format {
-        CohortFormat::Table => report::cohort::table(&r, units),
+    let text = match o.format {
+        CohortFormat::Table => report::cohort::table(&r, o.units),
         CohortFormat::Json => {
             printed.stderr = report::cohort::side_notes(&r);
             report::json::render(&r)
@@ -242,13 +371,13 @@ pub fn run(args: &CohortArgs) -> Result<Printed, Error> {
         CohortFormat::Csv => {
             printed.stderr = report::table::warnings_text(&r.warnings);
             printed.stderr.push_str(&report::cohort::side_notes(&r));
-            csv_table(args.csv_table, &r)
+            csv_table(o.csv_table, &r)
         }
     };
-    if let Some(dir) = &args.chart {
+    if let Some(dir) = o.chart {
         printed
             .stderr
-            .push_str(&super::charts::write_cohort_charts(dir, &r, units)?);
+            .push_str(&super::charts::write_cohort_charts(dir, &r, o.units)?);
     }
-    deliver(printed, text, args.out.as_deref())
+    deliver(printed, text, o.out)
 }

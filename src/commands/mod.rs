@@ -19,6 +19,8 @@ pub mod calendar;
 pub mod charts;
 pub mod check;
 pub mod cohort;
+pub mod cohort_merge;
+pub mod cohort_shard;
 pub mod compare;
 pub mod desk;
 pub mod fit;
@@ -51,6 +53,7 @@ pub fn run(command: &Command) -> Result<Printed, Error> {
             action: LogAction::Add(args),
         } => log::run(args),
         Command::Cohort(args) => cohort::run(args),
+        Command::CohortMerge(args) => cohort_merge::run(args),
         Command::Pilot(args) => pilot::run(args),
         Command::Desk(args) => desk::run(args),
         Command::Check(args) => check::run(args),

@@ -97,7 +97,7 @@ pub fn session_dates(p: &Protocol) -> Vec<Vec<NaiveDate>> {
 /// exercising, their whole-session minutes, and the longest visit (a run's minutes of
 /// the week over the week's open session days). Whole numbers and a maximum, so they
 /// add up alike in any order and on any number of threads.
-#[derive(Debug, Clone, PartialEq, Default)]
+#[derive(Debug, Clone, PartialEq, Default, Serialize, serde::Deserialize)]
 pub struct SiteTally {
     /// Open session days of each week.
     days: Vec<u32>,
@@ -135,6 +135,17 @@ impl SiteTally {
                 self.longest[w] = self.longest[w].max(m.div_ceil(self.days[w].max(1)));
             }
         }
+    }
+
+    /// True when the tally has `p`'s weeks and open days (one read from a shard file
+    /// is checked with it).
+    pub fn fits(&self, p: &Protocol) -> bool {
+        let days: Vec<u32> = session_dates(p).iter().map(|d| d.len() as u32).collect();
+        let n = days.len();
+        self.days == days
+            && self.people.len() == n
+            && self.minutes.len() == n
+            && self.longest.len() == n
     }
 
     /// Two tallies together.

@@ -459,6 +459,34 @@ pub fn outputs() -> Vec<OutputRun> {
                 "csv",
             ],
         ),
+        (
+            "cohort-merge table + charts",
+            &[("cohort-merge", "table"), ("cohort-merge", "chart")],
+            vec!["cohort-merge", "s2.json", "s1.json", "--chart", "charts"],
+        ),
+        (
+            "cohort-merge json",
+            &[("cohort-merge", "json")],
+            vec!["cohort-merge", "s1.json", "s2.json", "--format", "json"],
+        ),
+        (
+            "cohort-merge csv",
+            &[("cohort-merge", "csv")],
+            vec!["cohort-merge", "s1.json", "s2.json", "--format", "csv"],
+        ),
+        (
+            "cohort-merge table in US units and kJ",
+            &[("cohort-merge", DISPLAY_UNITS)],
+            vec![
+                "cohort-merge",
+                "s1.json",
+                "s2.json",
+                "--units",
+                "us",
+                "--energy",
+                "kj",
+            ],
+        ),
         ("check", &[("check", "")], vec!["check", "plan.toml"]),
         ("activities", &[("activities", "")], vec!["activities"]),
         (
@@ -698,6 +726,25 @@ pub fn outcome(args: &[&str], env: &[(&str, &str)]) -> Outcome {
     let dir = fresh("determinism");
     if args.first() == Some(&"pilot") {
         pilot_register(dir.path());
+    }
+    if args.first() == Some(&"cohort-merge") {
+        // Two shards of a synthetic cohort in every arm with two draws.
+        for k in ["1", "2"] {
+            let r = run(dir.cmd().args([
+                "cohort",
+                "study.toml",
+                "--synthetic",
+                "24",
+                "--all-arms",
+                "--draws",
+                "2",
+                "--shard",
+                &format!("{k}/2"),
+                "--out",
+                &format!("s{k}.json"),
+            ]));
+            assert_eq!(r.code, Some(0), "shard {k}: {}", r.stderr);
+        }
     }
     let mut cmd = dir.cmd();
     cmd.env_remove("LC_ALL").env_remove("LANG").env_remove("TZ");

@@ -26,10 +26,12 @@ use serde::Serialize;
 mod draws;
 mod runs;
 mod summaries;
+mod table;
 
 pub use draws::draw_rng;
-pub use runs::simulate_member;
+pub use runs::{simulate_member, simulate_member_draws};
 pub use summaries::*;
+pub use table::{RunTable, SlotRuns, Slots};
 
 /// One participant of a cohort and the arm it is allocated to.
 #[derive(Debug, Clone, PartialEq)]
@@ -103,61 +105,241 @@ pub struct MemberResult {
     pub runs: Vec<RunSummary>,
 }
 
-/// A cohort's runs: every member's scalars, in member order, and the week-by-week
-/// minutes counted as they were simulated (no run keeps its weeks).
+/// A cohort's runs, compactly (docs/speed.md, "Bounded memory"): per arm and
+/// scenario the columns the summaries need, the week-by-week minutes counted as
+/// the runs were simulated (no run keeps its weeks), and, when asked for (the
+/// per-participant CSV, shard files), every run's scalars.
 #[derive(Debug, Clone, PartialEq)]
 pub struct CohortRuns {
-    /// Every member's runs, in member order, with `minutes_by_week` and
-    /// `session_minutes_by_week` emptied once counted in `tally`.
-    pub members: Vec<MemberResult>,
+    /// Per arm and scenario, in stream order.
+    pub slots: Slots,
     /// The weekly minutes of every run.
     pub tally: MinuteTally,
+    /// Every run's scalars in stream order, when kept.
+    pub table: Option<RunTable>,
 }
 
-/// Simulate every member in parallel; `tick` is called once per member done. Each
-/// member's weekly minutes go into the tally as soon as it is done and are then
-/// dropped, so memory grows with the runs' scalars only. The first error in member
-/// order is returned.
+impl CohortRuns {
+    /// Every member's runs, in member order (from the kept table; empty without one).
+    pub fn members(&self, req: &CohortRequest) -> Vec<MemberResult> {
+        self.table.as_ref().map_or_else(Vec::new, |t| {
+            t.member_results(req.checkpoints.len())
+                .into_iter()
+                .map(|(_, r)| r)
+                .collect()
+        })
+    }
+
+    /// An empty collection for `study`, to be filled in stream order.
+    pub fn empty(study: &Study, req: &CohortRequest, keep: bool) -> CohortRuns {
+        CohortRuns {
+            slots: Slots::new(study, req),
+            tally: MinuteTally::new(study),
+            table: keep.then(RunTable::default),
+        }
+    }
+
+    /// Add one member's runs (the next in stream order).
+    pub fn push_member(&mut self, index: usize, r: &MemberResult) {
+        for run in &r.runs {
+            self.slots.push(run);
+            if let Some(t) = &mut self.table {
+                t.push(index, r.baseline_mass_kg, run);
+            }
+        }
+    }
+
+    /// Add the weekly-minute counts of another group of runs (or a shard's).
+    pub fn merge_tally(&mut self, t: MinuteTally) {
+        self.tally = std::mem::take(&mut self.tally).merge(t);
+    }
+
+    /// Add the runs of a table (a shard's), in its order.
+    pub fn push_table(&mut self, t: RunTable, checkpoints: usize) {
+        for j in 0..t.len() {
+            let run = t.run(j, checkpoints);
+            self.slots.push(&run);
+        }
+        if let Some(own) = &mut self.table {
+            own.extend(t);
+        }
+    }
+}
+
+/// The (member, draw) streams of a cohort, numbered member by member:
+/// stream `member * draws + draw`.
+pub fn stream_count(members: usize, draws: u32) -> u64 {
+    members as u64 * u64::from(draws)
+}
+
+/// The streams of shard `k` of `n` (1-based): the k-th of n contiguous, disjoint
+/// parts of nearly equal size that together cover every stream.
+pub fn shard_streams(total: u64, k: u32, n: u32) -> std::ops::Range<u64> {
+    let at = |i: u32| (u128::from(total) * u128::from(i) / u128::from(n)) as u64;
+    at(k - 1)..at(k)
+}
+
+/// Simulate every member in parallel; `tick` is called once per member done. The
+/// first error in member order is returned. Keeps every run's scalars (the table).
 pub fn run_cohort(
     study: &Study,
     members: &[Member],
     req: &CohortRequest,
     tick: &(dyn Fn() + Sync),
 ) -> Result<CohortRuns, Error> {
-    let counts_all = !members.iter().all(|m| m.arm.is_some());
-    type Part = (Vec<(usize, Result<MemberResult, Error>)>, MinuteTally);
-    let (mut results, tally): Part = members
-        .par_iter()
-        .enumerate()
-        .fold(
-            || (Vec::new(), MinuteTally::new(study)),
-            |(mut done, mut tally), (i, m)| {
-                let r = simulate_member(study, m, i, req).map(|mut r| {
-                    tally.add(m, &r, counts_all);
-                    for run in &mut r.runs {
-                        run.minutes_by_week = Vec::new();
-                        run.session_minutes_by_week = Vec::new();
-                    }
-                    r
-                });
-                tick();
-                done.push((i, r));
-                (done, tally)
-            },
-        )
-        .reduce(
-            || (Vec::new(), MinuteTally::new(study)),
-            |(mut a, ta), (b, tb)| {
-                a.extend(b);
-                (a, ta.merge(tb))
-            },
-        );
-    results.sort_by_key(|(i, _)| *i);
-    Ok(CohortRuns {
-        members: results
-            .into_iter()
-            .map(|(_, r)| r)
-            .collect::<Result<_, _>>()?,
-        tally,
-    })
+    let all = 0..stream_count(members.len(), req.draws);
+    run_cohort_streams(study, members, req, all, true, tick)
 }
+
+/// Runs kept in flight at once, at most (members are simulated in groups of about
+/// this many runs, then added in member order and dropped).
+const RUNS_IN_FLIGHT: usize = 40_000;
+
+/// Simulate the streams `streams` (see [`stream_count`]) of the members in parallel,
+/// in groups, adding each group's runs in stream order; `keep` keeps every run's
+/// scalars (the table). Each member's weekly minutes go into the tally as soon as
+/// it is done and are then dropped. The first error in member order is returned.
+pub fn run_cohort_streams(
+    study: &Study,
+    members: &[Member],
+    req: &CohortRequest,
+    streams: std::ops::Range<u64>,
+    keep: bool,
+    tick: &(dyn Fn() + Sync),
+) -> Result<CohortRuns, Error> {
+    let counts_all = !members.iter().all(|m| m.arm.is_some());
+    let draws = u64::from(req.draws.max(1));
+    let mut out = CohortRuns::empty(study, req, keep);
+    // Room for every run of each arm, reserved up front (no doubling).
+    let mut per_arm = vec![0usize; study.arms.len()];
+    let draws_of = |i: usize| {
+        let first = i as u64 * draws;
+        let lo = streams.start.max(first) - first;
+        let hi = streams.end.min(first + draws).saturating_sub(first);
+        lo as u32..(hi.max(lo)) as u32
+    };
+    let wanted: Vec<usize> = (0..members.len())
+        .filter(|i| !draws_of(*i).is_empty())
+        .collect();
+    for i in &wanted {
+        for a in runs::arms_of(study, &members[*i], req.all_arms) {
+            per_arm[a] += draws_of(*i).len();
+        }
+    }
+    out.slots.reserve(&per_arm);
+    let runs_per_member = (draws as usize * study.arms.len() * study.scenarios.len()).max(1);
+    let group = (RUNS_IN_FLIGHT / runs_per_member).max(1);
+    type Part = (Vec<(usize, Result<MemberResult, Error>)>, MinuteTally);
+    for chunk in wanted.chunks(group) {
+        let (mut results, tally): Part = chunk
+            .par_iter()
+            .fold(
+                || (Vec::new(), MinuteTally::new(study)),
+                |(mut done, mut tally), &i| {
+                    let m = &members[i];
+                    let r = simulate_member_draws(study, m, i, req, draws_of(i)).map(|mut r| {
+                        tally.add(m, &r, counts_all);
+                        for run in &mut r.runs {
+                            run.minutes_by_week = Vec::new();
+                            run.session_minutes_by_week = Vec::new();
+                        }
+                        r
+                    });
+                    tick();
+                    done.push((i, r));
+                    (done, tally)
+                },
+            )
+            .reduce(
+                || (Vec::new(), MinuteTally::new(study)),
+                |(mut a, ta), (b, tb)| {
+                    a.extend(b);
+                    (a, ta.merge(tb))
+                },
+            );
+        results.sort_by_key(|(i, _)| *i);
+        for (i, r) in results {
+            out.push_member(i, &r?);
+        }
+        out.merge_tally(tally);
+    }
+    Ok(out)
+}
+
+/// What a cohort request would take, estimated before it runs (docs/speed.md,
+/// "Bounded memory").
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct Estimate {
+    /// Runs (participant x draw x arm x scenario).
+    pub runs: u64,
+    /// Peak memory, bytes.
+    pub bytes: u64,
+    /// Processor time, seconds (all threads together).
+    pub cpu_seconds: f64,
+}
+
+/// Memory of the program and its inputs besides the runs, bytes (measured: about
+/// 7 MB at 1,000 participants and one draw, rounded up).
+const BASE_BYTES: u64 = 16_000_000;
+/// Memory per member (the participant, its plans while it runs), bytes (an upper
+/// estimate of the structures' sizes).
+const MEMBER_BYTES: u64 = 4_096;
+/// Memory per run of the per-participant CSV (its row and its text), bytes (measured
+/// row lengths of the benchmark study's CSV, about 130 bytes of text, and the row's
+/// strings).
+const CSV_ROW_BYTES: u64 = 400;
+
+/// Estimate the runs, peak memory and processor time of the streams `streams` of a
+/// cohort; `csv` for the per-participant CSV, `shard` for a shard file.
+pub fn estimate(
+    study: &Study,
+    members: &[Member],
+    req: &CohortRequest,
+    streams: std::ops::Range<u64>,
+    csv: bool,
+    shard: bool,
+) -> Estimate {
+    let d = u64::from(req.draws.max(1));
+    let per_member = study.scenarios.len() as u64;
+    let runs: u64 = members
+        .iter()
+        .enumerate()
+        .map(|(i, m)| {
+            let first = i as u64 * d;
+            let lo = streams.start.max(first);
+            let hi = streams.end.min(first + d);
+            hi.saturating_sub(lo) * runs::arms_of(study, m, req.all_arms).len() as u64 * per_member
+        })
+        .sum();
+    let c = req.checkpoints.len() as u64;
+    let end_kept = if req.checkpoints.contains(&study.protocol.weeks) {
+        0
+    } else {
+        16
+    };
+    // The summaries' columns, their sorted copies and the charts' copy.
+    let summaries = 16 * c + end_kept + 1 + 16;
+    let table = 65 + 16 * c;
+    let per_run = summaries
+        + if csv || shard { table } else { 0 }
+        + if csv { CSV_ROW_BYTES } else { 0 }
+        // A shard file's text: base64 (4 characters per 3 bytes) of the table.
+        + if shard { table * 4 / 3 + 1 } else { 0 };
+    let us_per_week = match req.integrator {
+        Integrator::Rk4 => RK4_US_PER_RUN_WEEK,
+        Integrator::Dopri5 => DOPRI5_US_PER_RUN_WEEK,
+    };
+    Estimate {
+        runs,
+        bytes: BASE_BYTES + members.len() as u64 * MEMBER_BYTES + runs * per_run,
+        cpu_seconds: runs as f64 * f64::from(study.protocol.total_weeks()) * us_per_week * 1e-6,
+    }
+}
+
+/// Processor time per run and week with RK4 in the lane loop, microseconds: about
+/// 0.12 measured on this project's machine (docs/speed.md), doubled for slower
+/// processors and the general driver's plans.
+const RK4_US_PER_RUN_WEEK: f64 = 0.25;
+/// Processor time per run and week with Dormand-Prince (the general driver),
+/// microseconds (measured on this project's machine, docs/speed.md, rounded up).
+const DOPRI5_US_PER_RUN_WEEK: f64 = 10.0;

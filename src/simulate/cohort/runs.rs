@@ -5,7 +5,7 @@ use super::draws::{Draw, draw};
 use super::*;
 
 /// The arms a member is simulated in.
-fn arms_of(study: &Study, m: &Member, all_arms: bool) -> Vec<usize> {
+pub(super) fn arms_of(study: &Study, m: &Member, all_arms: bool) -> Vec<usize> {
     match (all_arms, m.arm) {
         (false, Some(a)) => vec![a],
         _ => (0..study.arms.len()).collect(),
@@ -205,9 +205,22 @@ pub fn simulate_member(
     index: usize,
     req: &CohortRequest,
 ) -> Result<MemberResult, Error> {
+    simulate_member_draws(study, m, index, req, 0..req.draws)
+}
+
+/// Simulate one member (at position `index`) in its arms, every scenario, for the
+/// draws `draws` (each from its own stream, so any range gives the same runs as
+/// the whole).
+pub fn simulate_member_draws(
+    study: &Study,
+    m: &Member,
+    index: usize,
+    req: &CohortRequest,
+    draws: std::ops::Range<u32>,
+) -> Result<MemberResult, Error> {
     let arms = arms_of(study, m, req.all_arms);
     let random = study.has_uncertainty();
-    let mut runs = Vec::with_capacity(arms.len() * study.scenarios.len() * req.draws as usize);
+    let mut runs = Vec::with_capacity(arms.len() * study.scenarios.len() * draws.len());
     let mut baseline_mass_kg = m.participant.subject.mass_kg;
     // The plans differ between draws only in the participant's calibration and the
     // scenarios, which the runs take from the draw.
@@ -215,8 +228,9 @@ pub fn simulate_member(
         .iter()
         .map(|a| study.plan_for(&m.participant, *a))
         .collect();
-    for d in 0..req.draws {
-        if d > 0 && !random {
+    let first_draw = draws.start;
+    for d in draws {
+        if d > first_draw && !random {
             // Nothing varies: every draw is the first.
             let first: Vec<RunSummary> = runs[..arms.len() * study.scenarios.len()].to_vec();
             runs.extend(first.into_iter().map(|r| RunSummary { draw: d, ..r }));
@@ -226,7 +240,7 @@ pub fn simulate_member(
         let plans = &base_plans;
         let (baseline, physiology) = crate::model::energy::calibrate(&dr.participant.subject, &study.constants)
             .map_err(|e| Error::Usage(format!("{}: participant {} (draw {}) cannot be calibrated: {e:?}; narrow the [uncertainty] errors", study.source_name, m.participant.id, d + 1)))?;
-        if d == 0 {
+        if d == first_draw {
             baseline_mass_kg = baseline.mass_kg;
         }
         let mut per_scenario: Vec<Vec<RunSummary>> = Vec::new();

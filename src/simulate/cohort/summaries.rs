@@ -20,15 +20,16 @@ pub struct RiskShares {
 }
 
 impl RiskShares {
-    fn of(rs: &[&RunSummary]) -> RiskShares {
-        let n = rs.len().max(1) as f64;
-        let share = |f: fn(&RunRisks) -> bool| rs.iter().filter(|r| f(&r.risks)).count() as f64 / n;
+    fn of(s: &SlotRuns) -> RiskShares {
+        use super::table::flag;
+        let n = s.len().max(1) as f64;
+        let share = |bit: u8| s.count(bit) as f64 / n;
         RiskShares {
-            loss_rate_over_1_percent: share(|r| r.loss_rate_over_1_percent),
-            weekly_minutes_over_300: share(|r| r.weekly_minutes_over_300),
-            intake_below_rmr: share(|r| r.intake_below_rmr),
-            intake_below_floor: share(|r| r.intake_below_floor),
-            bmi_below_18_5: share(|r| r.bmi_below_18_5),
+            loss_rate_over_1_percent: share(flag::LOSS),
+            weekly_minutes_over_300: share(flag::MINUTES_300),
+            intake_below_rmr: share(flag::BELOW_RMR),
+            intake_below_floor: share(flag::BELOW_FLOOR),
+            bmi_below_18_5: share(flag::BMI),
         }
     }
 }
@@ -37,16 +38,16 @@ impl RiskShares {
 /// and scenario a count of each week's session minutes, and per arm the whole-session
 /// minutes of the first scenario (staff hours). All counts are whole numbers, so
 /// they add up the same in any order and on any number of threads.
-#[derive(Debug, Clone, PartialEq)]
+#[derive(Debug, Clone, Default, PartialEq, Serialize, serde::Deserialize)]
 pub struct MinuteTally {
     /// `[arm][scenario][week]`: how many runs had each minutes per session.
-    minutes: Vec<Vec<Vec<MinuteCounts>>>,
+    pub(super) minutes: Vec<Vec<Vec<MinuteCounts>>>,
     /// `[arm][week]`: whole-session minutes of every run of the first scenario.
-    staff: Vec<Vec<u64>>,
+    pub(super) staff: Vec<Vec<u64>>,
     /// `[week]`: the same over the allocated runs only (every run when none is allocated).
-    staff_allocated: Vec<u64>,
+    pub(super) staff_allocated: Vec<u64>,
     /// The allocated runs' weeks for the site's need (`study::staffing`).
-    site: crate::study::staffing::SiteTally,
+    pub(super) site: crate::study::staffing::SiteTally,
 }
 
 impl MinuteTally {
@@ -85,7 +86,29 @@ impl MinuteTally {
         }
     }
 
-    pub(super) fn merge(mut self, other: MinuteTally) -> MinuteTally {
+    /// True when the tally has the study's arms, scenarios and weeks (one read from
+    /// a shard file is checked with it).
+    pub fn fits(&self, study: &Study) -> bool {
+        let weeks = study.protocol.weeks as usize;
+        self.minutes.len() == study.arms.len()
+            && self
+                .minutes
+                .iter()
+                .all(|a| a.len() == study.scenarios.len() && a.iter().all(|s| s.len() == weeks))
+            && self
+                .minutes
+                .iter()
+                .flatten()
+                .flatten()
+                .all(|c| c.n == c.counts.iter().sum::<u64>())
+            && self.staff.len() == study.arms.len()
+            && self.staff.iter().all(|s| s.len() == weeks)
+            && self.staff_allocated.len() == weeks
+            && self.site.fits(&study.protocol)
+    }
+
+    /// Add another tally's counts (another group's or shard's runs).
+    pub fn merge(mut self, other: MinuteTally) -> MinuteTally {
         for (a, b) in self.minutes.iter_mut().zip(other.minutes) {
             for (x, y) in a.iter_mut().zip(b) {
                 for (c, d) in x.iter_mut().zip(y) {
@@ -116,8 +139,8 @@ impl MinuteTally {
 // ---------------------------------------------------------------------------
 
 /// Whole minutes counted by value: the percentiles of [`percentile`] without sorting.
-#[derive(Debug, Clone, Default, PartialEq)]
-struct MinuteCounts {
+#[derive(Debug, Clone, Default, PartialEq, Serialize, serde::Deserialize)]
+pub(super) struct MinuteCounts {
     counts: Vec<u64>,
     n: u64,
 }
@@ -351,101 +374,27 @@ pub struct CohortSummary {
     pub comparisons: Vec<crate::simulate::arm_comparison::Comparison>,
 }
 
-/// Summarise member results per arm and scenario. Arms are summarised in parallel;
-/// each summary is computed in member order, so the result does not depend on threads.
+/// Summarise a cohort's runs per arm and scenario. Arms are summarised in parallel;
+/// each summary is computed in stream order, so the result does not depend on threads.
 pub fn summarise(study: &Study, runs: &CohortRuns, req: &CohortRequest) -> CohortSummary {
-    let results = &runs.members;
     let tally = &runs.tally;
-    let ns = study.scenarios.len();
+    let draws = f64::from(req.draws.max(1));
+    // Expected attended sessions (docs/design.md): planned minutes x attendance.
+    let per = draws / crate::study::staffing::attendance(study);
     let arms: Vec<ArmSpread> = study
         .arms
         .par_iter()
         .enumerate()
         .map(|(ai, arm)| {
-            let runs: Vec<(usize, &RunSummary)> = results
-                .iter()
-                .enumerate()
-                .flat_map(|(mi, r)| {
-                    r.runs
-                        .iter()
-                        .filter(move |x| x.arm == ai)
-                        .map(move |x| (mi, x))
-                })
-                .collect();
-            let first = runs.iter().filter(|(_, r)| r.scenario == 0);
-            let participants = first.clone().filter(|(_, r)| r.draw == 0).count();
-            let completed = first.filter(|(_, r)| r.completed).count();
-            let draws = f64::from(req.draws.max(1));
-            // Expected attended sessions (docs/design.md): planned minutes x attendance.
-            let per = draws / crate::study::staffing::attendance(study);
+            let slots = &runs.slots.slots[ai];
+            let participants = slots.first().map_or(0, |s| s.first_draws);
+            let completed = slots
+                .first()
+                .map_or(0, |s| s.count(super::table::flag::COMPLETED));
             // An arm nobody is in has nothing to summarise: no scenario rows (not zeros).
-            let ns = if participants == 0 { 0 } else { ns };
+            let ns = if participants == 0 { 0 } else { slots.len() };
             let scenarios = (0..ns)
-                .map(|si| {
-                    let counts = &tally.minutes[ai][si];
-                    let rs: Vec<&RunSummary> = runs
-                        .iter()
-                        .filter(|(_, r)| r.scenario == si)
-                        .map(|(_, r)| *r)
-                        .collect();
-                    let f =
-                        |g: fn(&RunSummary) -> f64| rs.iter().map(|r| g(r)).collect::<Vec<f64>>();
-                    let mass = f(|r| r.protocol_end_mass_change_kg);
-                    let completers: Vec<f64> = rs
-                        .iter()
-                        .filter(|r| r.completed)
-                        .map(|r| r.protocol_end_mass_change_kg)
-                        .collect();
-                    let n = rs.len().max(1) as f64;
-                    ScenarioSpread {
-                        name: study.scenarios[si].name.clone(),
-                        mass_change_kg: Spread::of(&mass),
-                        mass_change_completers_kg: (!completers.is_empty())
-                            .then(|| Spread::of(&completers)),
-                        fat_mass_change_kg: Spread::of(&f(|r| r.protocol_end_fat_mass_change_kg)),
-                        checkpoints: req
-                            .checkpoints
-                            .iter()
-                            .enumerate()
-                            .map(|(ci, week)| CheckpointSpread {
-                                week: *week,
-                                mass_change_kg: Spread::of(
-                                    &rs.iter().map(|r| r.mass_change_kg[ci]).collect::<Vec<_>>(),
-                                ),
-                                fat_mass_change_kg: Spread::of(
-                                    &rs.iter()
-                                        .map(|r| r.fat_mass_change_kg[ci])
-                                        .collect::<Vec<_>>(),
-                                ),
-                            })
-                            .collect(),
-                        minutes_week1: MinutesSpread::of(counts.first()),
-                        minutes_last_week: MinutesSpread::of(counts.last()),
-                        minutes_by_week: counts
-                            .iter()
-                            .enumerate()
-                            .map(|(w, h)| WeekMinutes {
-                                week: w as u32 + 1,
-                                median: h.percentile(0.5),
-                                p5: h.percentile(0.05),
-                                p95: h.percentile(0.95),
-                            })
-                            .collect(),
-                        over_max_share: rs.iter().filter(|r| r.over_max).count() as f64 / n,
-                        risk_shares: RiskShares::of(&rs),
-                        dose_share_mean: (!arm.is_control()).then(|| {
-                            rs.iter()
-                                .map(|r| r.dose_share.unwrap_or(0.0))
-                                .fold(0.0, |a, b| a + b)
-                                / n
-                        }),
-                        prescribed_net_kcal_mean: f(|r| r.prescribed_net_kcal)
-                            .iter()
-                            .fold(0.0, |a, b| a + b)
-                            / n,
-                        mass_changes: mass,
-                    }
-                })
+                .map(|si| scenario_spread(study, runs, req, (ai, si)))
                 .collect();
             ArmSpread {
                 name: arm.name.clone(),
@@ -460,9 +409,59 @@ pub fn summarise(study: &Study, runs: &CohortRuns, req: &CohortRequest) -> Cohor
     CohortSummary {
         comparisons: crate::simulate::arm_comparison::comparisons(&arms),
         arms,
-        staff_hours: StaffHours::of(
-            &tally.staff_allocated,
-            f64::from(req.draws.max(1)) / crate::study::staffing::attendance(study),
-        ),
+        staff_hours: StaffHours::of(&tally.staff_allocated, per),
+    }
+}
+
+/// One arm and scenario over its runs.
+fn scenario_spread(
+    study: &Study,
+    runs: &CohortRuns,
+    req: &CohortRequest,
+    (ai, si): (usize, usize),
+) -> ScenarioSpread {
+    use super::table::flag;
+    let s = &runs.slots.slots[ai][si];
+    let counts = &runs.tally.minutes[ai][si];
+    let mass = s.end_mass(&runs.slots);
+    let completers: Vec<f64> = mass
+        .iter()
+        .zip(&s.flags)
+        .filter(|(_, f)| *f & flag::COMPLETED != 0)
+        .map(|(m, _)| *m)
+        .collect();
+    let n = s.len().max(1) as f64;
+    ScenarioSpread {
+        name: study.scenarios[si].name.clone(),
+        mass_change_kg: Spread::of(mass),
+        mass_change_completers_kg: (!completers.is_empty()).then(|| Spread::of(&completers)),
+        fat_mass_change_kg: Spread::of(s.end_fat(&runs.slots)),
+        checkpoints: req
+            .checkpoints
+            .iter()
+            .enumerate()
+            .map(|(ci, week)| CheckpointSpread {
+                week: *week,
+                mass_change_kg: Spread::of(&s.mass_kg[ci]),
+                fat_mass_change_kg: Spread::of(&s.fat_kg[ci]),
+            })
+            .collect(),
+        minutes_week1: MinutesSpread::of(counts.first()),
+        minutes_last_week: MinutesSpread::of(counts.last()),
+        minutes_by_week: counts
+            .iter()
+            .enumerate()
+            .map(|(w, h)| WeekMinutes {
+                week: w as u32 + 1,
+                median: h.percentile(0.5),
+                p5: h.percentile(0.05),
+                p95: h.percentile(0.95),
+            })
+            .collect(),
+        over_max_share: s.count(flag::OVER_MAX) as f64 / n,
+        risk_shares: RiskShares::of(s),
+        dose_share_mean: (!study.arms[ai].is_control()).then(|| s.dose_share_sum / n),
+        prescribed_net_kcal_mean: s.prescribed_sum / n,
+        mass_changes: mass.to_vec(),
     }
 }
