@@ -303,6 +303,9 @@ fn description(
     if let Some(o) = &w.over_max {
         lines.push(format!("Over the maximum: {o}."));
     }
+    if let Some(d) = &w.step_down {
+        lines.push(format!("After an absence: {d}."));
+    }
     lines.push(caution_line(screening));
     lines.join("\n")
 }

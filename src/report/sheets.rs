@@ -330,6 +330,23 @@ fn over_max_words(w: &PlannedWeek) -> Option<String> {
         .map(|o| format!("Maximum session length: {o}."))
 }
 
+fn step_down_words(w: &PlannedWeek) -> Option<String> {
+    w.step_down.as_ref().map(|d| {
+        format!(
+            "After an absence: {d}; the dose rises back over two weeks (docs/model.md section 4)."
+        )
+    })
+}
+
+/// The week's notes: make-up, maximum length, step-down after an absence.
+fn week_notes(w: &PlannedWeek) -> Vec<String> {
+    make_up_words(w)
+        .into_iter()
+        .chain(over_max_words(w))
+        .chain(step_down_words(w))
+        .collect()
+}
+
 // ---------------------------------------------------------------------------
 // HTML
 // ---------------------------------------------------------------------------
@@ -545,10 +562,7 @@ fn html_page(h: &mut String, input: &SheetInput, w: &PlannedWeek) {
         }
     }
     h.push_str("</table>\n");
-    let notes: Vec<String> = make_up_words(w)
-        .into_iter()
-        .chain(over_max_words(w))
-        .collect();
+    let notes = week_notes(w);
     if !notes.is_empty() {
         let _ = writeln!(
             h,
@@ -644,7 +658,7 @@ fn text_page(t: &mut String, input: &SheetInput, w: &PlannedWeek) {
             }
         }
     }
-    for n in make_up_words(w).into_iter().chain(over_max_words(w)) {
+    for n in week_notes(w) {
         let _ = writeln!(t, "{n}");
     }
     let _ = writeln!(
