@@ -4,8 +4,9 @@ use super::{
     LogInput, Printed, check_outputs, display_units, load, read_log, warning_lines, write_output,
 };
 use crate::cli::CalendarArgs;
-use crate::error::Error;
+use crate::error::{Error, InputError, Location};
 use crate::plan::Plan;
+use crate::report::calendar::Previous;
 use crate::report::units::Units;
 use crate::report::{self, ScheduleReport};
 use crate::safety::Warning;
@@ -18,8 +19,11 @@ use std::path::Path;
 pub struct CalendarRequest {
     /// Whose sessions (None: the first scenario).
     pub scenario: Option<String>,
-    /// DTSTAMP (None: the protocol start at 00:00 UTC).
-    pub stamp: Option<DateTime<Utc>>,
+    /// DTSTAMP: the time of writing, read from the clock by [`run`], or `--stamp`.
+    pub stamp: DateTime<Utc>,
+    /// The events of the calendar written before at `--out` (empty: none), whose
+    /// SEQUENCE each event keeps or raises (docs/commands.md, `calendar`).
+    pub previous: Previous,
     /// First date to include.
     pub from: Option<NaiveDate>,
     /// Last date to include.
@@ -92,16 +96,10 @@ pub fn calendar_file(
     };
     let span = (*first, *last);
     report::calendar::check_times(&chosen, &plan.calendar)?;
-    let stamp = request.stamp.unwrap_or_else(|| {
-        plan.protocol
-            .start
-            .and_time(chrono::NaiveTime::MIN)
-            .and_utc()
-    });
     let text = report::calendar::render(
         &chosen,
         &plan.calendar,
-        stamp,
+        (request.stamp, &request.previous),
         &r.screening,
         &r.warnings,
         request.units,
@@ -127,15 +125,22 @@ pub fn run(args: &CalendarArgs) -> Result<Printed, Error> {
     check_outputs(Some(&args.out), None, &inputs)?;
     let plan = load(args.plan.as_deref())?;
     let log = read_log(&plan, args.logged.log.as_deref(), args.logged.as_of)?;
+    let to_stdout = crate::output::is_stdout(&args.out);
+    let previous = if to_stdout {
+        Previous::new()
+    } else {
+        previous_calendar(&args.out)?
+    };
     let request = CalendarRequest {
         scenario: args.scenario.clone(),
-        stamp,
+        // DTSTAMP: the time of writing (whole seconds, 3.8.7.2), unless --stamp fixes it.
+        stamp: stamp.unwrap_or_else(clock_stamp),
+        previous,
         from: args.from,
         to: args.to,
         units: display_units(&args.display),
     };
     let cal = calendar_file(&plan, &log, &request)?;
-    let to_stdout = crate::output::is_stdout(&args.out);
     let stdout = if to_stdout {
         cal.text.clone()
     } else {
@@ -155,6 +160,31 @@ pub fn run(args: &CalendarArgs) -> Result<Printed, Error> {
     );
     stderr.push_str(&warning_lines(&cal.warnings));
     Ok(Printed { stdout, stderr })
+}
+
+/// The clock's time in whole seconds (DTSTAMP has no fraction, RFC 5545 3.8.7.2).
+fn clock_stamp() -> DateTime<Utc> {
+    let now = Utc::now();
+    DateTime::from_timestamp(now.timestamp(), 0).unwrap_or(now)
+}
+
+/// The events of the calendar already at `out` (none when there is no file): read
+/// through the one reader and the icalendar crate's parser. A file that is there but
+/// is not a calendar is refused rather than overwritten.
+pub fn previous_calendar(out: &Path) -> Result<Previous, Error> {
+    if std::fs::symlink_metadata(out).is_err() {
+        return Ok(Previous::new());
+    }
+    let file = crate::input::read(out)?;
+    report::calendar::previous_events(&file.raw).map_err(|why| {
+        Error::Input(InputError {
+            location: Location::file(&file.name),
+            key: None,
+            message: format!(
+                "{why}; calendar reads the calendar it wrote before at --out to keep each event's SEQUENCE, so it does not write over another file: remove it or give another --out"
+            ),
+        })
+    })
 }
 
 /// Parse `--stamp`: an RFC 3339 date-time (`2027-03-01T08:00:00Z`, or with an
