@@ -8,6 +8,7 @@ pub mod check;
 pub mod cohort;
 pub mod compare;
 pub mod csv;
+pub mod delivered;
 pub mod fit;
 pub mod goal;
 pub mod json;
