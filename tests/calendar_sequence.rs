@@ -232,28 +232,21 @@ fn dtstamp_is_the_time_of_writing() {
 }
 
 #[test]
-fn a_file_at_out_that_is_not_a_calendar_is_left_alone() {
+fn a_file_at_out_that_is_not_a_calendar_is_written_over_with_a_note() {
     let dir = scratch();
     dir.write("notes.txt", "my notes\n");
     let r = run(dir
         .cmd()
         .args(["calendar", "plan.toml", "--out", "notes.txt"]));
-    assert_eq!(r.code, Some(2), "{}", r.stderr);
+    assert_eq!(r.code, Some(0), "{}", r.stderr);
     assert!(
-        r.stderr
-            .starts_with("error: notes.txt: not an iCalendar file"),
+        r.stderr.contains("note: notes.txt: not an iCalendar file"),
         "{}",
         r.stderr
     );
-    assert!(
-        r.stderr.contains("remove it or give another --out"),
-        "{}",
-        r.stderr
-    );
-    assert_eq!(
-        std::fs::read_to_string(dir.path().join("notes.txt")).unwrap(),
-        "my notes\n"
-    );
+    let cal = events(&dir.path().join("notes.txt"));
+    assert_eq!(cal.len(), 24);
+    assert!(cal.values().all(|e| e.sequence == 0));
 }
 
 /// The same re-plan read by Python icalendar through scripts/check-ics.py --previous.

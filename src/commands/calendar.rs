@@ -4,7 +4,7 @@ use super::{
     LogInput, Printed, check_outputs, display_units, load, read_log, warning_lines, write_output,
 };
 use crate::cli::CalendarArgs;
-use crate::error::{Error, InputError, Location};
+use crate::error::Error;
 use crate::plan::Plan;
 use crate::report::calendar::Previous;
 use crate::report::units::Units;
@@ -126,8 +126,8 @@ pub fn run(args: &CalendarArgs) -> Result<Printed, Error> {
     let plan = load(args.plan.as_deref())?;
     let log = read_log(&plan, args.logged.log.as_deref(), args.logged.as_of)?;
     let to_stdout = crate::output::is_stdout(&args.out);
-    let previous = if to_stdout {
-        Previous::new()
+    let (previous, note) = if to_stdout {
+        (Previous::new(), None)
     } else {
         previous_calendar(&args.out)?
     };
@@ -158,6 +158,7 @@ pub fn run(args: &CalendarArgs) -> Result<Printed, Error> {
         cal.span.0,
         cal.span.1
     );
+    stderr.push_str(&note.unwrap_or_default());
     stderr.push_str(&warning_lines(&cal.warnings));
     Ok(Printed { stdout, stderr })
 }
@@ -169,21 +170,23 @@ fn clock_stamp() -> DateTime<Utc> {
 }
 
 /// The events of the calendar already at `out` (none when there is no file): read
-/// through the one reader and the icalendar crate's parser. A file that is there but
-/// is not a calendar is refused rather than overwritten.
-pub fn previous_calendar(out: &Path) -> Result<Previous, Error> {
-    if std::fs::symlink_metadata(out).is_err() {
-        return Ok(Previous::new());
+/// through the one reader and the icalendar crate's parser. A file there that is not
+/// a calendar gives no events and a note for standard error: it is written over, as
+/// `--out` always is, with every SEQUENCE 0.
+pub fn previous_calendar(out: &Path) -> Result<(Previous, Option<String>), Error> {
+    if std::fs::metadata(out).is_err() {
+        return Ok((Previous::new(), None));
     }
     let file = crate::input::read(out)?;
-    report::calendar::previous_events(&file.raw).map_err(|why| {
-        Error::Input(InputError {
-            location: Location::file(&file.name),
-            key: None,
-            message: format!(
-                "{why}; calendar reads the calendar it wrote before at --out to keep each event's SEQUENCE, so it does not write over another file: remove it or give another --out"
-            ),
-        })
+    Ok(match report::calendar::previous_events(&file.raw) {
+        Ok(events) => (events, None),
+        Err(why) => (
+            Previous::new(),
+            Some(format!(
+                "note: {}: {why}, so no event keeps a SEQUENCE from it (each is 0); it is written over\n",
+                file.name
+            )),
+        ),
     })
 }
 
