@@ -2,7 +2,7 @@
 """Check a dosewright calendar with the Python icalendar package (Debian
 python3-icalendar), a reader independent of the Rust crate that wrote it.
 
-Usage: check-ics.py CALENDAR.ics SCHEDULE.json [SCENARIO]
+Usage: check-ics.py CALENDAR.ics SCHEDULE.json [SCENARIO] [--previous OLD.ics]
 
 SCHEDULE.json is `dosewright schedule PLAN --format json` of the same plan (and log);
 SCENARIO is the name given to `calendar --scenario` (default: the first scenario).
@@ -10,6 +10,10 @@ Checks (RFC 5545): VERSION 2.0 and PRODID once each (3.6); every VEVENT has UID,
 DTSTAMP (in UTC, 3.8.7.2), DTSTART and DTEND (3.6.1) and reads without errors; UIDs
 are unique (3.8.4.7); one event per planned session, in date order; a timed event
 lasts the whole session, an all-day event one day (DTEND exclusive, 3.8.2.2).
+With --previous OLD.ics (the calendar written before a re-plan, at the same --out):
+the same UIDs in both; an event whose content (SUMMARY, DESCRIPTION, DTSTART, DTEND,
+LOCATION) is unchanged keeps its SEQUENCE, a changed one has the old SEQUENCE plus
+one (3.8.7.4; no SEQUENCE reads as 0); DTSTAMP not earlier than before.
 Prints "check-ics: ... ok" and exits 0, or lists the problems and exits 1.
 """
 
@@ -37,7 +41,56 @@ def planned_sessions(schedule, name):
     ]
 
 
+CONTENT = ("SUMMARY", "DESCRIPTION", "DTSTART", "DTEND", "LOCATION")
+
+
+def sequence(ev):
+    return int(ev.get("SEQUENCE", 0))
+
+
+def content(ev):
+    return tuple(
+        ev.decoded(k) if k in ("DTSTART", "DTEND") and k in ev else str(ev.get(k, ""))
+        for k in CONTENT
+    )
+
+
+def compare_previous(path, events, problems):
+    """The re-plan checks of --previous against the events of the new calendar."""
+    with open(path, "rb") as f:
+        old = {str(e["UID"]): e for e in icalendar.Calendar.from_ical(f.read()).walk("VEVENT")}
+    new = {str(e["UID"]): e for e in events}
+    if set(old) != set(new):
+        problems.append(
+            "UIDs differ from %s: %d only before, %d only after"
+            % (path, len(set(old) - set(new)), len(set(new) - set(old)))
+        )
+    changed = 0
+    for uid in sorted(set(old) & set(new)):
+        o, n = old[uid], new[uid]
+        if content(o) == content(n):
+            want = sequence(o)
+        else:
+            want = sequence(o) + 1
+            changed += 1
+        if sequence(n) != want:
+            problems.append(
+                "%s: SEQUENCE %d, want %d (before %d, %s)"
+                % (uid, sequence(n), want, sequence(o), "changed" if want > sequence(o) else "unchanged")
+            )
+        if "DTSTAMP" in o and "DTSTAMP" in n and n.decoded("DTSTAMP") < o.decoded("DTSTAMP"):
+            problems.append("%s: DTSTAMP earlier than before" % uid)
+    return changed
+
+
 def main(argv):
+    previous = None
+    if "--previous" in argv:
+        i = argv.index("--previous")
+        if i + 1 >= len(argv):
+            sys.exit(__doc__)
+        previous = argv[i + 1]
+        argv = argv[:i] + argv[i + 2 :]
     if len(argv) not in (3, 4):
         sys.exit(__doc__)
     with open(argv[1], "rb") as f:
@@ -100,14 +153,22 @@ def main(argv):
             if end - start != datetime.timedelta(days=1):
                 problems.append("%s: all-day event of %s" % (label, end - start))
 
+    replan = ""
+    if previous is not None:
+        changed = compare_previous(previous, events, problems)
+        replan = ", against %s: same UIDs, SEQUENCE raised on %d changed event(s) and kept on the others" % (
+            previous,
+            changed,
+        )
+
     if problems:
         print("check-ics: %s: %d problem(s)" % (argv[1], len(problems)))
         for p in problems:
             print("  - " + p)
         return 1
     print(
-        "check-ics: %s: %d events for %d planned sessions, unique UIDs, durations match: ok"
-        % (argv[1], len(events), len(sessions))
+        "check-ics: %s: %d events for %d planned sessions, unique UIDs, durations match%s: ok"
+        % (argv[1], len(events), len(sessions), replan)
     )
     return 0
 

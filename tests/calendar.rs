@@ -353,10 +353,19 @@ fn run_in(dir: &Scratch, args: &[&str]) -> Run {
     run(dir.cmd().args(args))
 }
 
+/// The DTSTAMP [`calendar`] fixes with `--stamp` when the test gives none (the
+/// default is the clock's time of writing; tests/calendar_sequence.rs checks it).
+const STAMP: &str = "2027-01-02T03:04:05Z";
+/// [`STAMP`] as iCalendar writes it.
+const STAMPED: &str = "20270102T030405Z";
+
 /// `calendar ARGS --out cal.ics` in `dir`, which must succeed; the file's bytes.
 fn calendar(dir: &Scratch, args: &[&str]) -> Vec<u8> {
     let mut all: Vec<&str> = vec!["calendar"];
     all.extend(args);
+    if !args.contains(&"--stamp") {
+        all.extend(["--stamp", STAMP]);
+    }
     all.extend(["--out", "cal.ics"]);
     let r = run_in(dir, &all);
     assert_eq!(r.code, Some(0), "{all:?}: {}", r.stderr);
@@ -470,8 +479,7 @@ fn the_example_plan_gives_one_timed_event_per_session() {
 fn the_demo_plan_gives_all_day_events_with_the_minutes_in_the_title() {
     let dir = Scratch::new("calendar-demo");
     let bytes = calendar(&dir, &[]);
-    // Default DTSTAMP: the protocol start (2027-01-11) at 00:00 UTC.
-    let cal = check_rfc5545(&bytes, "20270111T000000Z");
+    let cal = check_rfc5545(&bytes, STAMPED);
     let sessions = planned(&schedule(&dir, &[]), 0);
     assert_eq!(sessions.len(), 72, "24 weeks of 3 sessions");
     assert_events_match(&cal, &sessions, None);
@@ -585,7 +593,7 @@ fn a_label_with_a_comma_and_a_semicolon_is_escaped_and_round_trips() {
     dir.write("plan.toml", &plan);
     let bytes = calendar(&dir, &["plan.toml"]);
     let text = String::from_utf8(bytes.clone()).unwrap();
-    let cal = check_rfc5545(&bytes, "20270104T000000Z");
+    let cal = check_rfc5545(&bytes, STAMPED);
     let e = cal.events()[0];
     let raw = &e.one("SUMMARY").raw;
     assert!(raw.contains(r"walk\, brisk\; hills \\ flats"), "{raw}");
@@ -610,7 +618,7 @@ fn split_bouts_start_at_the_second_bout_time_or_six_hours_later() {
         let mut plan = std::fs::read_to_string(dir.path().join("split.toml")).unwrap();
         plan.push_str(&format!("\n[calendar]\nsession_time = \"07:15\"\n{extra}"));
         dir.write("split.toml", &plan);
-        let cal = check_rfc5545(&calendar(&dir, &["split.toml"]), "20270201T000000Z");
+        let cal = check_rfc5545(&calendar(&dir, &["split.toml"]), STAMPED);
         let sessions = planned(&schedule(&dir, &["split.toml"]), 0);
         assert!(
             sessions.iter().any(|s| s.bout == Some(2)),
@@ -669,7 +677,7 @@ fn from_and_to_limit_the_span_and_keep_the_uids() {
             &dir,
             &["ex-206.toml", "--from", "2027-03-24", "--to", "2027-04-07"],
         ),
-        "20270301T000000Z",
+        STAMPED,
     );
     let want: Vec<Planned> = planned(&schedule(&dir, &["ex-206.toml"]), 0)
         .into_iter()
@@ -720,7 +728,7 @@ fn another_scenario_and_a_log_give_their_own_minutes() {
     let other = planned(&json, 1);
     let cal = check_rfc5545(
         &calendar(&dir, &["ex-206.toml", "--scenario", "eats back 30%"]),
-        "20270301T000000Z",
+        STAMPED,
     );
     assert_events_match(&cal, &other, Some("09:30"));
     assert!(
@@ -737,7 +745,7 @@ fn another_scenario_and_a_log_give_their_own_minutes() {
     let logged = planned(&schedule(&dir, &["--log", "log.csv"]), 0);
     let unlogged = planned(&schedule(&dir, &[]), 0);
     assert_ne!(logged, unlogged, "the log changes the prescription");
-    let cal = check_rfc5545(&calendar(&dir, &["--log", "log.csv"]), "20270111T000000Z");
+    let cal = check_rfc5545(&calendar(&dir, &["--log", "log.csv"]), STAMPED);
     assert_events_match(&cal, &logged, None);
     let minutes: Vec<String> = cal.events().iter().map(|e| e.text("SUMMARY")).collect();
     let want: Vec<String> = logged

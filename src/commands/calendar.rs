@@ -6,6 +6,7 @@ use super::{
 use crate::cli::CalendarArgs;
 use crate::error::Error;
 use crate::plan::Plan;
+use crate::report::calendar::Previous;
 use crate::report::units::Units;
 use crate::report::{self, ScheduleReport};
 use crate::safety::Warning;
@@ -18,8 +19,11 @@ use std::path::Path;
 pub struct CalendarRequest {
     /// Whose sessions (None: the first scenario).
     pub scenario: Option<String>,
-    /// DTSTAMP (None: the protocol start at 00:00 UTC).
-    pub stamp: Option<DateTime<Utc>>,
+    /// DTSTAMP: the time of writing, read from the clock by [`run`], or `--stamp`.
+    pub stamp: DateTime<Utc>,
+    /// The events of the calendar written before at `--out` (empty: none), whose
+    /// SEQUENCE each event keeps or raises (docs/commands.md, `calendar`).
+    pub previous: Previous,
     /// First date to include.
     pub from: Option<NaiveDate>,
     /// Last date to include.
@@ -92,16 +96,10 @@ pub fn calendar_file(
     };
     let span = (*first, *last);
     report::calendar::check_times(&chosen, &plan.calendar)?;
-    let stamp = request.stamp.unwrap_or_else(|| {
-        plan.protocol
-            .start
-            .and_time(chrono::NaiveTime::MIN)
-            .and_utc()
-    });
     let text = report::calendar::render(
         &chosen,
         &plan.calendar,
-        stamp,
+        (request.stamp, &request.previous),
         &r.screening,
         &r.warnings,
         request.units,
@@ -127,15 +125,22 @@ pub fn run(args: &CalendarArgs) -> Result<Printed, Error> {
     check_outputs(Some(&args.out), None, &inputs)?;
     let plan = load(args.plan.as_deref())?;
     let log = read_log(&plan, args.logged.log.as_deref(), args.logged.as_of)?;
+    let to_stdout = crate::output::is_stdout(&args.out);
+    let (previous, note) = if to_stdout {
+        (Previous::new(), None)
+    } else {
+        previous_calendar(&args.out)?
+    };
     let request = CalendarRequest {
         scenario: args.scenario.clone(),
-        stamp,
+        // DTSTAMP: the time of writing (whole seconds, 3.8.7.2), unless --stamp fixes it.
+        stamp: stamp.unwrap_or_else(clock_stamp),
+        previous,
         from: args.from,
         to: args.to,
         units: display_units(&args.display),
     };
     let cal = calendar_file(&plan, &log, &request)?;
-    let to_stdout = crate::output::is_stdout(&args.out);
     let stdout = if to_stdout {
         cal.text.clone()
     } else {
@@ -153,8 +158,36 @@ pub fn run(args: &CalendarArgs) -> Result<Printed, Error> {
         cal.span.0,
         cal.span.1
     );
+    stderr.push_str(&note.unwrap_or_default());
     stderr.push_str(&warning_lines(&cal.warnings));
     Ok(Printed { stdout, stderr })
+}
+
+/// The clock's time in whole seconds (DTSTAMP has no fraction, RFC 5545 3.8.7.2).
+fn clock_stamp() -> DateTime<Utc> {
+    let now = Utc::now();
+    DateTime::from_timestamp(now.timestamp(), 0).unwrap_or(now)
+}
+
+/// The events of the calendar already at `out` (none when there is no file): read
+/// through the one reader and the icalendar crate's parser. A file there that is not
+/// a calendar gives no events and a note for standard error: it is written over, as
+/// `--out` always is, with every SEQUENCE 0.
+pub fn previous_calendar(out: &Path) -> Result<(Previous, Option<String>), Error> {
+    if std::fs::metadata(out).is_err() {
+        return Ok((Previous::new(), None));
+    }
+    let file = crate::input::read(out)?;
+    Ok(match report::calendar::previous_events(&file.raw) {
+        Ok(events) => (events, None),
+        Err(why) => (
+            Previous::new(),
+            Some(format!(
+                "note: {}: {why}, so no event keeps a SEQUENCE from it (each is 0); it is written over\n",
+                file.name
+            )),
+        ),
+    })
 }
 
 /// Parse `--stamp`: an RFC 3339 date-time (`2027-03-01T08:00:00Z`, or with an

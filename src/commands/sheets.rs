@@ -84,6 +84,10 @@ pub fn sheet_input(
         screening: r.screening,
         log: log.summary.clone(),
         units: Units::default(),
+        delivered: log
+            .observed
+            .as_ref()
+            .map(report::delivered::DeliveredLog::of),
     };
     Ok((input, r.warnings))
 }

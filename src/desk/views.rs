@@ -198,5 +198,10 @@ pub fn sheet_input(replan: &Replan, weeks: Vec<u32>) -> crate::report::sheets::S
         screening: replan.report.screening.clone(),
         log: replan.report.log.clone(),
         units: crate::report::units::Units::default(),
+        delivered: replan
+            .input
+            .observed
+            .as_ref()
+            .map(crate::report::delivered::DeliveredLog::of),
     }
 }

@@ -13,10 +13,17 @@
 //! cool-down). Without a session time each event is all-day (VALUE=DATE, DTEND the
 //! next day: DTEND is exclusive, 3.6.1 and 3.8.2.2).
 //!
+//! Updates: every event's UID comes from the participant and the session ([`uid`]),
+//! DTSTAMP is the time of writing (passed in; the command reads the clock or
+//! `--stamp`), and SEQUENCE (3.8.7.4) starts at 0 and grows by one each time the
+//! calendar is written again over an earlier one whose event of the same UID had
+//! other content ([`sequences`]), so calendar programs replace changed events.
+//!
 //! Reference: RFC 5545, Internet Calendaring and Scheduling Core Object Specification
 //! (iCalendar), B. Desruisseaux (ed.), IETF 2009: 3.1 content lines and folding,
 //! 3.3.4 DATE, 3.3.5 DATE-TIME, 3.3.11 TEXT, 3.4 the iCalendar object, 3.6.1 VEVENT,
-//! 3.7.3 PRODID, 3.7.4 VERSION, 3.8.2.2 DTEND, 3.8.4.7 UID, 3.8.7.2 DTSTAMP.
+//! 3.7.3 PRODID, 3.7.4 VERSION, 3.8.2.2 DTEND, 3.8.4.7 UID, 3.8.7.2 DTSTAMP,
+//! 3.8.7.4 SEQUENCE.
 
 use super::sessions::{PlannedSession, PlannedWeek, SessionPlan};
 use super::units::Units;
@@ -26,6 +33,7 @@ use crate::safety::{CAUTIONS, ScreeningOutcome, Warning};
 use crate::simulate::MassSource;
 use chrono::{DateTime, NaiveDate, NaiveDateTime, TimeDelta, Utc};
 use icalendar::{Calendar, Component, Event, EventLike};
+use std::collections::BTreeMap;
 use std::path::Path;
 
 /// Hours from the first bout's start to the second's when the plan gives no
@@ -303,6 +311,9 @@ fn description(
     if let Some(o) = &w.over_max {
         lines.push(format!("Over the maximum: {o}."));
     }
+    if let Some(d) = &w.step_down {
+        lines.push(format!("After an absence: {d}."));
+    }
     lines.push(caution_line(screening));
     lines.join("\n")
 }
@@ -358,14 +369,118 @@ fn calendar_description(
     s.trim_end().to_string()
 }
 
-/// The iCalendar file of `plan`: one VEVENT per session, stamped `stamp`.
+/// An event of a calendar written before: its SEQUENCE and its content.
+#[derive(Debug, Clone, PartialEq, Eq)]
+pub struct PreviousEvent {
+    /// SEQUENCE (0 when the event has none, RFC 5545 3.8.7.4).
+    pub sequence: u32,
+    /// Every property but DTSTAMP and SEQUENCE, one `NAME;PARAMS:VALUE` a line, in
+    /// file order, as the icalendar crate's parser reads them.
+    pub content: String,
+}
+
+/// The events of a calendar written before, by UID.
+pub type Previous = BTreeMap<String, PreviousEvent>;
+
+/// The events of the iCalendar text `text`, read with the icalendar crate's parser:
+/// each VEVENT's UID, SEQUENCE and content. An error in words when the text is not an
+/// iCalendar object, or an event has no UID or a SEQUENCE that is not a whole number.
+pub fn previous_events(text: &str) -> Result<Previous, String> {
+    let unfolded = icalendar::parser::unfold(text);
+    let cal = icalendar::parser::read_calendar(&unfolded)
+        .map_err(|_| "not an iCalendar file (the icalendar parser cannot read it)".to_string())?;
+    let has_calendar = cal.properties.iter().any(|p| p.name.as_str() == "VERSION");
+    if !has_calendar {
+        return Err("not an iCalendar file (no VCALENDAR with a VERSION)".to_string());
+    }
+    let mut out = Previous::new();
+    for c in cal
+        .components
+        .iter()
+        .filter(|c| c.name.as_str() == "VEVENT")
+    {
+        let Some(uid) = c.find_prop("UID") else {
+            return Err("an event has no UID".to_string());
+        };
+        let uid = uid.val.as_str().to_string();
+        let sequence = match c.find_prop("SEQUENCE") {
+            None => 0,
+            Some(p) => p.val.as_str().trim().parse::<u32>().map_err(|_| {
+                format!(
+                    "event {uid}: SEQUENCE {:?} is not a whole number",
+                    p.val.as_str()
+                )
+            })?,
+        };
+        let mut content = String::new();
+        for p in c
+            .properties
+            .iter()
+            .filter(|p| !matches!(p.name.as_str(), "DTSTAMP" | "SEQUENCE"))
+        {
+            content.push_str(p.name.as_str());
+            for param in &p.params {
+                content.push(';');
+                content.push_str(param.key.as_str());
+                if let Some(v) = &param.val {
+                    content.push('=');
+                    content.push_str(v.as_str());
+                }
+            }
+            content.push(':');
+            content.push_str(p.val.as_str());
+            content.push('\n');
+        }
+        out.insert(uid, PreviousEvent { sequence, content });
+    }
+    Ok(out)
+}
+
+/// The SEQUENCE of each event of the new calendar `fresh` (as written without one):
+/// an event the previous calendar has with the same content keeps its SEQUENCE, one
+/// whose content changed gets the previous SEQUENCE plus one, and a new event 0
+/// (RFC 5545 3.8.7.4: the sequence number is incremented each time the organizer
+/// makes a significant revision).
+pub fn sequences(fresh: &Previous, previous: &Previous) -> BTreeMap<String, u32> {
+    fresh
+        .iter()
+        .map(|(uid, new)| {
+            let seq = match previous.get(uid) {
+                Some(old) if old.content == new.content => old.sequence,
+                Some(old) => old.sequence.saturating_add(1),
+                None => 0,
+            };
+            (uid.clone(), seq)
+        })
+        .collect()
+}
+
+/// The iCalendar file of `plan`: one VEVENT per session, stamped `stamp`, each with
+/// the SEQUENCE that [`sequences`] gives against the `previous` calendar's events
+/// (an empty map: every SEQUENCE 0).
 pub fn render(
     plan: &SessionPlan,
     settings: &CalendarSettings,
-    stamp: DateTime<Utc>,
+    (stamp, previous): (DateTime<Utc>, &Previous),
     screening: &ScreeningOutcome,
     warnings: &[Warning],
     u: Units,
+) -> String {
+    let write = |seqs: Option<&BTreeMap<String, u32>>| {
+        render_with(plan, settings, stamp, (screening, warnings), u, seqs)
+    };
+    let fresh = previous_events(&write(None)).expect("the calendar written here reads back");
+    write(Some(&sequences(&fresh, previous)))
+}
+
+/// The calendar's text, with each event's SEQUENCE from `seqs` (None: no SEQUENCE).
+fn render_with(
+    plan: &SessionPlan,
+    settings: &CalendarSettings,
+    stamp: DateTime<Utc>,
+    (screening, warnings): (&ScreeningOutcome, &[Warning]),
+    u: Units,
+    seqs: Option<&BTreeMap<String, u32>>,
 ) -> String {
     let plan_file = plan_file_name(&plan.plan);
     let mut cal = Calendar::empty();
@@ -393,9 +508,12 @@ pub fn render(
     for w in &plan.weeks {
         for s in &w.sessions {
             let mut e = Event::new();
-            e.uid(&uid(&plan.participant_id, s.date, s.index_on_date))
-                .timestamp(stamp)
-                .summary(&summary(&plan.participant_id, w.week, s))
+            let id = uid(&plan.participant_id, s.date, s.index_on_date);
+            e.uid(&id).timestamp(stamp);
+            if let Some(seq) = seqs.and_then(|m| m.get(&id)) {
+                e.sequence(*seq);
+            }
+            e.summary(&summary(&plan.participant_id, w.week, s))
                 .description(&description(plan, w, s, screening, u));
             match when(s, settings) {
                 When::Timed(start, end) => {

@@ -10,6 +10,7 @@ pub mod cohort_csv;
 pub mod cohort_site;
 pub mod compare;
 pub mod csv;
+pub mod delivered;
 pub mod fit;
 pub mod goal;
 pub mod json;

@@ -71,6 +71,8 @@ pub struct PlannedWeek {
     pub make_up: Option<String>,
     /// The over-maximum note in words.
     pub over_max: Option<String>,
+    /// The step-down after an absence in words (docs/model.md section 4).
+    pub step_down: Option<String>,
 }
 
 /// A participant's planned sessions under one scenario.
@@ -162,6 +164,7 @@ pub fn session_plan(plan: &Plan, run: &ScenarioRun) -> SessionPlan {
                     }
                     t
                 }),
+                step_down: w.step_down.map(|n| n.to_string()),
             }
         })
         .collect();

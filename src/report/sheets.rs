@@ -22,6 +22,7 @@
 
 use super::LogSummary;
 use super::chart::escape;
+use super::delivered::{self, DeliveredLog, Record};
 use super::sessions::{PlannedSession, PlannedWeek, SessionPlan};
 use super::units::Units;
 use crate::activity::Intensity;
@@ -48,6 +49,9 @@ pub struct SheetInput {
     pub log: Option<LogSummary>,
     /// Display units (mass, speed, energy).
     pub units: Units,
+    /// What the log says was delivered (None without a log): a re-printed week shows
+    /// it beside the prescription on every date up to the log's as-of date.
+    pub delivered: Option<DeliveredLog>,
 }
 
 impl SheetInput {
@@ -330,6 +334,23 @@ fn over_max_words(w: &PlannedWeek) -> Option<String> {
         .map(|o| format!("Maximum session length: {o}."))
 }
 
+fn step_down_words(w: &PlannedWeek) -> Option<String> {
+    w.step_down.as_ref().map(|d| {
+        format!(
+            "After an absence: {d}; the dose rises back over two weeks (docs/model.md section 4)."
+        )
+    })
+}
+
+/// The week's notes: make-up, maximum length, step-down after an absence.
+fn week_notes(w: &PlannedWeek) -> Vec<String> {
+    make_up_words(w)
+        .into_iter()
+        .chain(over_max_words(w))
+        .chain(step_down_words(w))
+        .collect()
+}
+
 // ---------------------------------------------------------------------------
 // HTML
 // ---------------------------------------------------------------------------
@@ -374,6 +395,8 @@ th { background: #ececec; font-size: 8pt; font-weight: 600; overflow-wrap: norma
 .sessions td span.nw { display: inline; white-space: nowrap; }
 .sessions .sub { color: #444; }
 .sessions tr.closed td { background: #f4f4f4; }
+.sessions td.rec.logged { font-weight: 600; }
+.sessions td.rec.na { background: #f4f4f4; color: #666; text-align: center; }
 .notes { margin-top: 1.5mm; }
 .box { border: 0.4mm solid #111; margin-top: 3mm; padding: 1.5mm 2mm; }
 .weigh { display: flex; gap: 6mm; align-items: flex-end; }
@@ -443,18 +466,52 @@ fn html_targets(t: &RelativeTargets) -> String {
     )
 }
 
-/// The four blank cells of one delivered session, the first with its label.
-fn html_record(label: Option<String>) -> String {
+/// The record cells of one session: minutes at target (with the line's label), the
+/// setting used on equipment (in weeks with such a column), average HR, RPE and
+/// initials; blank, or the log's values on a re-printed date.
+fn html_record(cx: &Cx, s: &PlannedSession, label: Option<String>) -> String {
+    let e = escape;
     let label = label
-        .map(|l| format!("<span class=\"label\">{}</span>", escape(&l)))
+        .map(|l| format!("<span class=\"label\">{}</span>", e(&l)))
         .unwrap_or_default();
-    format!(
-        "<td class=\"rec\">{label}</td><td class=\"rec\"></td><td class=\"rec\"></td><td class=\"rec\"></td>"
-    )
+    let r = delivered::record(cx.log, s);
+    let [m, hr, rpe] = delivered::record_values(r);
+    let class = match r {
+        Record::Blank => "rec",
+        _ => "rec logged",
+    };
+    let mut t = format!("<td class=\"{class}\">{label}{}</td>", e(&m));
+    if cx.setting_column {
+        match delivered::setting_value(s, r, cx.mass_kg) {
+            Some(v) => {
+                let _ = write!(t, "<td class=\"{class}\">{}</td>", e(&v));
+            }
+            None => t.push_str("<td class=\"rec na\">-</td>"),
+        }
+    }
+    let initials = match r {
+        Record::Blank => "",
+        _ => "log",
+    };
+    let _ = write!(
+        t,
+        "<td class=\"{class}\">{}</td><td class=\"{class}\">{}</td><td class=\"{class}\">{initials}</td>",
+        e(&hr),
+        e(&rpe)
+    );
+    t
+}
+
+/// What the record cells of a page need: the log, whether the week has a setting
+/// column, and the week's reference mass (for a logged MET).
+struct Cx<'a> {
+    log: Option<&'a DeliveredLog>,
+    setting_column: bool,
+    mass_kg: f64,
 }
 
 /// One group of sessions: the prescription once, a line each to record.
-fn html_sessions(h: &mut String, group: &[&PlannedSession], u: Units) {
+fn html_sessions(h: &mut String, cx: &Cx, group: &[&PlannedSession], u: Units) {
     let e = escape;
     let s = group[0];
     let (class, span) = match group.len() {
@@ -484,12 +541,49 @@ fn html_sessions(h: &mut String, group: &[&PlannedSession], u: Units) {
         e(&s.activity),
         e(&intensity_words(s, u)),
         html_targets(&s.targets),
-        html_record(record_label(group, s)),
+        html_record(cx, s, record_label(group, s)),
     );
     for other in &group[1..] {
-        let _ = writeln!(h, "<tr>{}</tr>", html_record(record_label(group, other)));
+        let _ = writeln!(
+            h,
+            "<tr>{}</tr>",
+            html_record(cx, other, record_label(group, other))
+        );
     }
     h.push_str("</tbody>\n");
+}
+
+/// The table's columns and header: the prescription, then the record cells (with a
+/// column for the setting used when a session of the week is on equipment).
+fn html_table_head(h: &mut String, input: &SheetInput, w: &PlannedWeek, dense: bool) {
+    let setting = delivered::setting_header(w, input.units);
+    // Column widths, percent; a dense page gives the session column more, so that its
+    // lines do not wrap in the smaller type. A setting column takes its room from the
+    // others.
+    let widths: &[&str] = match (dense, setting.is_some()) {
+        (true, false) => &["10", "13", "22", "5.5", "25.5", "5.5", "6", "5.5", "7"],
+        (false, false) => &["11.5", "16", "17", "5.5", "26", "5.5", "6", "5.5", "7"],
+        (true, true) => &[
+            "9.5", "12.5", "20", "5.5", "23", "5.5", "7", "5.5", "5.5", "6",
+        ],
+        (false, true) => &[
+            "10.5", "15", "16", "5.5", "23", "5.5", "7", "5.5", "5.5", "6.5",
+        ],
+    };
+    h.push_str("<table class=\"sessions\">\n<colgroup>");
+    for width in widths {
+        let _ = write!(h, "<col style=\"width:{width}%\">");
+    }
+    let setting_th = setting
+        .map(|t| format!("<th class=\"rec\">{}</th>", escape(&t)))
+        .unwrap_or_default();
+    let _ = write!(
+        h,
+        "</colgroup>\n<thead><tr><th rowspan=\"2\">Date</th><th rowspan=\"2\">Activity and intensity</th><th rowspan=\"2\">Session</th><th rowspan=\"2\">{}</th><th rowspan=\"2\">Targets</th><th class=\"rec\" colspan=\"{}\">{}</th></tr>\n<tr><th class=\"rec\">min at target intensity</th>{setting_th}<th class=\"rec\">avg HR</th><th class=\"rec\">RPE</th><th class=\"rec\">initials</th></tr></thead>\n",
+        input.units.energy_label(),
+        if setting_th.is_empty() { 4 } else { 5 },
+        escape(&delivered::header(input.delivered.as_ref(), w)),
+    );
 }
 
 /// More table rows than this make a page dense (smaller type, less padding), so that
@@ -515,29 +609,20 @@ fn html_page(h: &mut String, input: &SheetInput, w: &PlannedWeek) {
     if let Some(c) = clearance_words(&input.screening) {
         let _ = writeln!(h, "<p class=\"alert\">{}</p>", e(c));
     }
-    // Column widths, percent; a dense page gives the session column more, so that its
-    // lines do not wrap in the smaller type.
-    let widths: [&str; 9] = if dense {
-        ["10", "13", "22", "5.5", "25.5", "5.5", "6", "5.5", "7"]
-    } else {
-        ["11.5", "16", "17", "5.5", "26", "5.5", "6", "5.5", "7"]
+    let cx = Cx {
+        log: input.delivered.as_ref(),
+        setting_column: delivered::setting_header(w, input.units).is_some(),
+        mass_kg: w.reference_mass_kg,
     };
-    h.push_str("<table class=\"sessions\">\n<colgroup>");
-    for width in widths {
-        let _ = write!(h, "<col style=\"width:{width}%\">");
-    }
-    h.push_str(&concat!(
-        "</colgroup>\n",
-        "<thead><tr><th rowspan=\"2\">Date</th><th rowspan=\"2\">Activity and intensity</th><th rowspan=\"2\">Session</th><th rowspan=\"2\">{ENERGY}</th><th rowspan=\"2\">Targets</th><th class=\"rec\" colspan=\"4\">Delivered (fill in)</th></tr>\n",
-        "<tr><th class=\"rec\">min at target</th><th class=\"rec\">avg HR</th><th class=\"rec\">RPE</th><th class=\"rec\">initials</th></tr></thead>\n",
-    ).replace("{ENERGY}", input.units.energy_label()));
+    html_table_head(h, input, w, dense);
+    let span = if cx.setting_column { 9 } else { 8 };
     for row in rows {
         match row {
-            Row::Sessions(group) => html_sessions(h, &group, input.units),
+            Row::Sessions(group) => html_sessions(h, &cx, &group, input.units),
             Row::Closed(d) => {
                 let _ = writeln!(
                     h,
-                    "<tbody><tr class=\"closed\"><td>{}</td><td colspan=\"8\">{}</td></tr></tbody>",
+                    "<tbody><tr class=\"closed\"><td>{}</td><td colspan=\"{span}\">{}</td></tr></tbody>",
                     html_day(d),
                     e(CLOSED)
                 );
@@ -545,10 +630,8 @@ fn html_page(h: &mut String, input: &SheetInput, w: &PlannedWeek) {
         }
     }
     h.push_str("</table>\n");
-    let notes: Vec<String> = make_up_words(w)
-        .into_iter()
-        .chain(over_max_words(w))
-        .collect();
+    let mut notes = week_notes(w);
+    notes.extend(delivered::also_logged(input.delivered.as_ref(), w));
     if !notes.is_empty() {
         let _ = writeln!(
             h,
@@ -602,6 +685,28 @@ pub fn text(inputs: &[SheetInput]) -> String {
     t
 }
 
+/// One record line of the text sheet: blanks to fill in, or the log's values.
+fn text_record(input: &SheetInput, w: &PlannedWeek, s: &PlannedSession) -> String {
+    let r = delivered::record(input.delivered.as_ref(), s);
+    match r {
+        Record::Blank => {
+            let setting = delivered::setting_blank(s, input.units, BLANK)
+                .map(|x| format!("  {x}"))
+                .unwrap_or_default();
+            format!(
+                "min at target intensity {BLANK}{setting}  avg HR {BLANK}  RPE {BLANK}  initials {BLANK}"
+            )
+        }
+        _ => {
+            let [m, hr, rpe] = delivered::record_values(r);
+            let setting = delivered::setting_value(s, r, w.reference_mass_kg)
+                .map(|x| format!("  setting {x}"))
+                .unwrap_or_default();
+            format!("(log) min at target intensity {m}{setting}  avg HR {hr}  RPE {rpe}")
+        }
+    }
+}
+
 fn text_page(t: &mut String, input: &SheetInput, w: &PlannedWeek) {
     let _ = writeln!(t, "{} ({})", title(input, w), dates(w));
     let _ = writeln!(t, "{}", mass_words(w, input.units));
@@ -633,10 +738,7 @@ fn text_page(t: &mut String, input: &SheetInput, w: &PlannedWeek) {
                     let label = record_label(&group, one)
                         .map(|l| format!("{l}: "))
                         .unwrap_or_default();
-                    let _ = writeln!(
-                        t,
-                        "  delivered  {label}min at target {BLANK}  avg HR {BLANK}  RPE {BLANK}  initials {BLANK}"
-                    );
+                    let _ = writeln!(t, "  delivered  {label}{}", text_record(input, w, one));
                 }
             }
             Row::Closed(d) => {
@@ -644,7 +746,11 @@ fn text_page(t: &mut String, input: &SheetInput, w: &PlannedWeek) {
             }
         }
     }
-    for n in make_up_words(w).into_iter().chain(over_max_words(w)) {
+    let log = input.delivered.as_ref();
+    for n in week_notes(w)
+        .into_iter()
+        .chain(delivered::also_logged(log, w))
+    {
         let _ = writeln!(t, "{n}");
     }
     let _ = writeln!(

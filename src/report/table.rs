@@ -271,6 +271,17 @@ pub fn adherence_text(r: &ScheduleReport, index: usize, u: Units) -> String {
     )
 }
 
+/// The weeks stepped down after an absence, one line each (empty when none was).
+pub fn step_down_text(r: &ScheduleReport, index: usize) -> String {
+    let mut s = String::new();
+    for w in &r.scenarios[index].weeks {
+        if let Some(n) = &w.step_down {
+            s.push_str(&format!("Week {}: {n}; docs/model.md section 4.\n", w.week));
+        }
+    }
+    s
+}
+
 /// The warnings block.
 pub fn warnings_text(warnings: &[Warning]) -> String {
     if warnings.is_empty() {
@@ -366,6 +377,7 @@ pub fn render(r: &ScheduleReport, index: usize, u: Units) -> String {
     }
     align_numbers(&mut t, 3);
     out.push_str(&format!("{t}\n"));
+    out.push_str(&step_down_text(r, index));
     out.push_str(&adherence_text(r, index, u));
     let follow = r.protocol.follow_up_weeks;
     if follow > 0 {

@@ -62,6 +62,7 @@ fn week_record(
         sessions,
         closed: rx.as_ref().map(|r| r.closed.clone()).unwrap_or_default(),
         make_up: rx.as_ref().and_then(|r| r.make_up.clone()),
+        step_down: rx.as_ref().and_then(|r| r.step_down),
         over_max: rx.and_then(|r| r.over_max),
         adherence,
         end,
@@ -134,6 +135,40 @@ fn week_bouts(
         }
     }
     bouts
+}
+
+/// The week's open planned sessions, and the sessions (or bouts) delivered: those
+/// logged on days up to the as-of date, and the planned ones still to come that the
+/// attendance keeps. What [`prescription::Resumption::after_week`] is told.
+fn week_delivery(
+    plan: &Plan,
+    rx: Option<&prescription::Prescription>,
+    mode: &RunMode<'_>,
+    start_day: u32,
+) -> (u32, u32) {
+    let Some(r) = rx else {
+        return (0, 0);
+    };
+    let p = &plan.protocol;
+    let planned = r.bouts.len() as u32 / r.bouts_per_session.max(1);
+    let obs = mode.observed;
+    let logged = obs.map_or(0, |o| {
+        o.sessions_in(start_day, start_day + 7)
+            .filter(|s| s.minutes > 0.0)
+            .count() as u32
+    });
+    let to_come = r
+        .bouts
+        .iter()
+        .filter(|b| {
+            let day = (b.date - p.start).num_days() as u32;
+            obs.is_none_or(|o| day > o.as_of_day)
+                && mode
+                    .attendance
+                    .is_none_or(|a| a.delivered(day, b.bout.unwrap_or(1)))
+        })
+        .count() as u32;
+    (planned, logged + to_come)
 }
 
 /// Integrate the week starting on day `start_day` from `y`, in segments split at
@@ -280,6 +315,7 @@ pub fn run(
             _ => Vec::new(),
         }
     };
+    let mut resume = prescription::Resumption::default();
     for w in 1..=total {
         let start_day = 7 * (w - 1);
         let week_start = p.start + chrono::Days::new(u64::from(start_day));
@@ -300,19 +336,15 @@ pub fn run(
         let in_protocol = w <= p.weeks;
         let exercising = in_protocol && mode.last_exercise_week.is_none_or(|last| w <= last);
         let rx = (mode.exercise && exercising).then(|| {
-            prescribe(
-                plan,
-                physiology,
-                w,
-                week_start,
-                baseline.mass_kg,
-                &reference,
-            )
+            let at = (w, week_start);
+            prescribe_resumed(plan, physiology, at, baseline.mass_kg, &reference, resume)
         });
         if let Some(r) = &rx {
             check_session_length(plan, scenario, r, w, start_day, &body)?;
         }
         let bouts = week_bouts(plan, rx.as_ref(), &mode, start_day);
+        let (planned, delivered) = week_delivery(plan, rx.as_ref(), &mode, start_day);
+        resume.after_week(planned, delivered);
         let ctx = (plan, physiology, scenario);
         integrate_week(ctx, &mode, &bouts, start_day, &body, &mut y, &mut daily)?;
         if comp.intake_lag_days == 0.0 {

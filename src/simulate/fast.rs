@@ -11,7 +11,7 @@
 
 use super::integrate::rk4_steps_per_week;
 use super::prescription::{
-    Reference, basis_kcal_per_min, cap_minutes, easy_kcal, round_up, session_dose,
+    Reference, Resumption, basis_kcal_per_min, cap_minutes, easy_kcal, round_up, session_dose,
 };
 use super::{Attendance, MIN_BMI, MIN_FAT_KG, MIN_MASS_KG};
 use crate::model::balance::Rhs;
@@ -113,6 +113,8 @@ struct Setup {
     easy_minutes: f64,
     easy_met_minutes: f64,
     offsets: Vec<u32>,
+    /// The step-down after an absence, carried from week to week.
+    resume: Resumption,
 }
 
 impl Setup {
@@ -135,6 +137,7 @@ impl Setup {
                     (7 + d.num_days_from_monday() - p.start.weekday().num_days_from_monday()) % 7
                 })
                 .collect(),
+            resume: Resumption::default(),
         }
     }
 }
@@ -145,7 +148,7 @@ impl Setup {
 #[allow(clippy::too_many_arguments)]
 fn week_exercise(
     lane: &Lane,
-    set: &Setup,
+    set: &mut Setup,
     ph: &Physiology,
     baseline: &Baseline,
     comp: &Compensation,
@@ -165,7 +168,7 @@ fn week_exercise(
             mass_kg: m_w,
             rmr_kcal_per_day: ph.rmr(comp, y[0], y[1]),
         };
-        let dose = session_dose(plan, w, baseline.mass_kg, m_w);
+        let dose = session_dose(plan, w, baseline.mass_kg, m_w, set.resume);
         let e = basis_kcal_per_min(plan, ph, &plan.activity.intensity, &r);
         let easy = if set.easy_empty || dose.target.is_none() {
             0.0
@@ -195,6 +198,7 @@ fn week_exercise(
     let mut planned = 0u32;
     if exercising {
         let start_day = 7 * (w - 1);
+        let mut delivered = 0;
         for off in &set.offsets {
             planned += minutes + set.easy_minutes as u32;
             if lane
@@ -203,8 +207,10 @@ fn week_exercise(
             {
                 a += per * set.met + set.easy_met_minutes;
                 b += per + set.easy_minutes;
+                delivered += 1;
             }
         }
+        set.resume.after_week(set.offsets.len() as u32, delivered);
     }
     out.minutes.push(minutes);
     out.session_minutes.push(planned);
@@ -262,7 +268,7 @@ fn chunk_run(chunk: &[Lane], rhs: &Rhs, baseline: &Baseline, total: u32) -> Opti
     let (ph, comp) = (rhs.ph, rhs.comp);
     let lanes: [&Lane; W] = std::array::from_fn(|i| &chunk[i.min(chunk.len() - 1)]);
     let (f0, l0) = (baseline.fat_mass_kg, baseline.fat_free_mass_kg);
-    let setups: [Setup; W] = std::array::from_fn(|i| Setup::of(lanes[i].plan, baseline));
+    let mut setups: [Setup; W] = std::array::from_fn(|i| Setup::of(lanes[i].plan, baseline));
     let mut outs: [FastRun; W] = std::array::from_fn(|i| {
         let weeks = lanes[i].plan.protocol.weeks as usize;
         FastRun {
@@ -288,7 +294,7 @@ fn chunk_run(chunk: &[Lane], rhs: &Rhs, baseline: &Baseline, total: u32) -> Opti
             let yi = [y[0][i], y[1][i], y[2][i], y[3][i]];
             (a[i], b[i]) = week_exercise(
                 lanes[i],
-                &setups[i],
+                &mut setups[i],
                 ph,
                 baseline,
                 comp,

@@ -27,7 +27,7 @@ use chrono::{Datelike, NaiveDate};
 pub use driver::run;
 use integrate::{State, body_of, integrate, state_of};
 use observed::Observed;
-use prescription::{OverMaxNote, Reference, prescribe};
+use prescription::{OverMaxNote, Reference, prescribe_resumed};
 use serde::Serialize;
 
 /// Lowest fat mass the model accepts, kg (docs/model.md section 6).
@@ -151,6 +151,9 @@ pub struct WeekRecord {
     /// What the make-up rule did in a week with closures.
     #[serde(skip_serializing_if = "Option::is_none")]
     pub make_up: Option<prescription::MakeUpNote>,
+    /// The step-down after an absence, in a week it lowered (docs/model.md section 4).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub step_down: Option<prescription::StepDownNote>,
     /// Sessions delivered against those planned, for weeks the log covers.
     #[serde(skip_serializing_if = "Option::is_none")]
     pub adherence: Option<adherence::WeekAdherence>,

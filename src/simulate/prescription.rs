@@ -89,6 +89,8 @@ pub struct Prescription {
     pub closed: Vec<NaiveDate>,
     /// What the make-up rule did, in weeks with closed sessions.
     pub make_up: Option<MakeUpNote>,
+    /// The step-down after an absence, in a week it lowered.
+    pub step_down: Option<StepDownNote>,
 }
 
 impl Prescription {
@@ -158,12 +160,73 @@ pub fn cap_minutes(max: f64, step: u32) -> u32 {
     (((max / s) + 1e-9).floor() * s).max(s) as u32
 }
 
+/// The step-down after an absence (docs/model.md section 4, "Resuming after an
+/// absence"): the share of the dose in the first and the second week back after a
+/// protocol week in which no planned session was delivered. Common practice: no
+/// published figure for these fractions was confirmed.
+pub const STEP_DOWN: [f64; 2] = [0.5, 0.75];
+
+/// The weeks since the last absence, carried from week to week by every path that
+/// prescribes minutes (the general driver and the cohort's lane loop): the one
+/// place that says which week steps down, and by how much ([`STEP_DOWN`]).
+#[derive(Debug, Clone, Copy, Default, PartialEq, Eq)]
+pub struct Resumption {
+    /// The coming week is week `k + 1` back after an absence (None: no step-down).
+    back: Option<usize>,
+}
+
+impl Resumption {
+    /// Record a finished protocol week with `planned` open sessions of which
+    /// `delivered` were done. A week with no planned session (every session closed,
+    /// no exercise, after a drop-out) changes nothing; a week with planned sessions
+    /// and none delivered is an absence, so the next week is the first back.
+    pub fn after_week(&mut self, planned: u32, delivered: u32) {
+        if planned == 0 {
+            return;
+        }
+        self.back = if delivered == 0 {
+            Some(0)
+        } else {
+            self.back.map(|k| k + 1).filter(|k| *k < STEP_DOWN.len())
+        };
+    }
+
+    /// The coming week's step-down: which week back it is (1 or 2) and the share of
+    /// the dose ([`STEP_DOWN`]); None when the week is not stepped down.
+    pub fn step(&self) -> Option<(u32, f64)> {
+        self.back.map(|k| (k as u32 + 1, STEP_DOWN[k]))
+    }
+}
+
+/// A week stepped down after an absence (docs/model.md section 4).
+#[derive(Debug, Clone, Copy, PartialEq, Serialize)]
+pub struct StepDownNote {
+    /// Which week back after the absence (1 or 2).
+    pub week_back: u32,
+    /// The share of the full dose given this week ([`STEP_DOWN`]).
+    pub fraction: f64,
+}
+
+impl std::fmt::Display for StepDownNote {
+    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+        write!(
+            f,
+            "stepped down to {:.0}% of the dose, week {} back after a week with no session delivered (common practice)",
+            self.fraction * 100.0,
+            self.week_back
+        )
+    }
+}
+
 /// The dose rule of one planned session in a protocol week: what every path that
 /// prescribes minutes (the general driver and the cohort's lane loop) calls.
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub struct SessionDose {
     /// `r_w`.
     pub ramp: f64,
+    /// The step-down after an absence, when it lowers the week below `r_w`; the dose
+    /// is then `min(r_w, s)` of the full dose.
+    pub step_down: Option<StepDownNote>,
     /// `E_w`, kcal per planned session on the plan's basis (None for a minutes dose).
     pub target: Option<f64>,
     /// The session's share of the week: `E_w`, or for a minutes dose its minutes at
@@ -172,29 +235,46 @@ pub struct SessionDose {
 }
 
 /// The dose of one of the planned sessions of protocol week `week` (1-based), with
-/// the plan's mass basis read from `baseline_mass_kg` or the week's `mass_kg`.
+/// the plan's mass basis read from `baseline_mass_kg` or the week's `mass_kg`, and
+/// stepped down after an absence as `resume` says: the week gets `min(r_w, s)` of
+/// the full dose, `r_w` the ramp and `s` the step-down ([`STEP_DOWN`]).
 #[inline(always)]
-pub fn session_dose(plan: &Plan, week: u32, baseline_mass_kg: f64, mass_kg: f64) -> SessionDose {
+pub fn session_dose(
+    plan: &Plan,
+    week: u32,
+    baseline_mass_kg: f64,
+    mass_kg: f64,
+    resume: Resumption,
+) -> SessionDose {
     let p = &plan.protocol;
     let n = p.session_days.len() as f64;
     let ramp = p.ramp_fraction(week);
+    let step_down = resume
+        .step()
+        .filter(|(_, s)| *s < ramp)
+        .map(|(week_back, fraction)| StepDownNote {
+            week_back,
+            fraction,
+        });
+    let applied = step_down.map_or(ramp, |s| s.fraction);
     let mass_basis = match p.dose.mass_basis {
         MassBasis::Baseline => baseline_mass_kg,
         MassBasis::Current => mass_kg,
     };
     let target = match p.dose.amount {
-        DoseAmount::KcalPerSession(v) => Some(v * ramp),
-        DoseAmount::KcalPerWeek(v) => Some(v / n * ramp),
-        DoseAmount::KcalPerKgWeek(v) => Some(v * mass_basis / n * ramp),
+        DoseAmount::KcalPerSession(v) => Some(v * applied),
+        DoseAmount::KcalPerWeek(v) => Some(v / n * applied),
+        DoseAmount::KcalPerKgWeek(v) => Some(v * mass_basis / n * applied),
         DoseAmount::MinutesPerWeek(_) => None,
     };
     let share = match (target, p.dose.amount) {
         (Some(t), _) => t,
-        (None, DoseAmount::MinutesPerWeek(v)) => ramp * v / n,
+        (None, DoseAmount::MinutesPerWeek(v)) => applied * v / n,
         (None, _) => unreachable!("only a minutes dose has no energy target"),
     };
     SessionDose {
         ramp,
+        step_down,
         target,
         share,
     }
@@ -270,12 +350,8 @@ struct Draft {
     minutes: f64,
 }
 
-/// Prescribe protocol week `week` (1-based) starting on `week_start` from reference `r`.
-///
-/// Each session's energy target `E_w` (the week's energy shared equally over the
-/// planned sessions) includes the warm-up and cool-down; the rest is delivered at the
-/// session's own activity, so `d = (E_w - E_easy) / e_activity`. A minutes dose gives
-/// the time at target, with warm-up and cool-down on top.
+/// Prescribe protocol week `week` (1-based) starting on `week_start` from reference
+/// `r`, with no absence before it: [`prescribe_resumed`] with no step-down.
 pub fn prescribe(
     plan: &Plan,
     physiology: &Physiology,
@@ -284,9 +360,35 @@ pub fn prescribe(
     baseline_mass_kg: f64,
     r: &Reference,
 ) -> Prescription {
+    let at = (week, week_start);
+    prescribe_resumed(
+        plan,
+        physiology,
+        at,
+        baseline_mass_kg,
+        r,
+        Resumption::default(),
+    )
+}
+
+/// Prescribe protocol week `week` (1-based) starting on `week_start` from reference
+/// `r`, stepped down after an absence as `resume` says (docs/model.md section 4).
+///
+/// Each session's energy target `E_w` (the week's energy shared equally over the
+/// planned sessions) includes the warm-up and cool-down; the rest is delivered at the
+/// session's own activity, so `d = (E_w - E_easy) / e_activity`. A minutes dose gives
+/// the time at target, with warm-up and cool-down on top.
+pub fn prescribe_resumed(
+    plan: &Plan,
+    physiology: &Physiology,
+    (week, week_start): (u32, NaiveDate),
+    baseline_mass_kg: f64,
+    r: &Reference,
+    resume: Resumption,
+) -> Prescription {
     let p = &plan.protocol;
     let n = p.session_days.len() as f64;
-    let dose = session_dose(plan, week, baseline_mass_kg, r.mass_kg);
+    let dose = session_dose(plan, week, baseline_mass_kg, r.mass_kg, resume);
     let (ramp, target, share) = (dose.ramp, dose.target, dose.share);
     let e_main = kcal_per_min(plan, physiology, r);
     let split = p.over_max == OverMax::Split;
@@ -391,6 +493,7 @@ pub fn prescribe(
         over_max,
         closed: closed.iter().map(|d| d.date).collect(),
         make_up,
+        step_down: dose.step_down,
     }
 }
 

@@ -210,6 +210,9 @@ pub fn outputs() -> Vec<OutputRun> {
                 "plan.toml",
                 "--log",
                 "log.csv",
+                // DTSTAMP is the clock's time of writing unless fixed.
+                "--stamp",
+                "2027-01-05T10:00:00Z",
                 "--out",
                 "cal.ics",
             ],
@@ -608,6 +611,8 @@ pub fn outputs() -> Vec<OutputRun> {
             vec![
                 "calendar",
                 "plan.toml",
+                "--stamp",
+                "2027-01-05T10:00:00Z",
                 "--out",
                 "cal.ics",
                 "--units",
