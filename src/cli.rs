@@ -462,8 +462,8 @@ pub struct SheetsArgs {
 /// Compare every scenario side by side at checkpoint weeks, optionally for several doses.
 #[derive(Debug, Clone, Args)]
 pub struct CompareArgs {
-    /// The plan file (TOML).
-    pub plan: PathBuf,
+    /// The plan file (TOML). Without one, the built-in demo plan runs.
+    pub plan: Option<PathBuf>,
     /// Add a checkpoint week (repeatable); weeks 4, 12, 26 and the ends are always shown.
     #[arg(long = "at-week", value_name = "N")]
     pub at_week: Vec<u32>,
@@ -494,8 +494,8 @@ pub struct CompareArgs {
 #[derive(Debug, Clone, Args)]
 #[command(group = clap::ArgGroup::new("loss").required(true).args(["lose_kg", "lose_percent"]))]
 pub struct GoalArgs {
-    /// The plan file (TOML).
-    pub plan: PathBuf,
+    /// The plan file (TOML). Without one, the built-in demo plan runs.
+    pub plan: Option<PathBuf>,
     /// Loss wanted, kg.
     #[arg(long, value_name = "KG", allow_negative_numbers = true)]
     pub lose_kg: Option<f64>,
@@ -525,8 +525,8 @@ pub struct GoalArgs {
 /// Estimate from the log's weigh-ins how much of the dose is not reaching the stores.
 #[derive(Debug, Clone, Args)]
 pub struct FitArgs {
-    /// The plan file (TOML).
-    pub plan: PathBuf,
+    /// The plan file (TOML). Without one, the built-in demo plan runs.
+    pub plan: Option<PathBuf>,
     /// The participant log (CSV).
     #[arg(long, value_name = "FILE")]
     pub log: PathBuf,
@@ -556,8 +556,8 @@ pub struct FitArgs {
 /// Validate a plan and print its resolved assumptions.
 #[derive(Debug, Clone, Args)]
 pub struct CheckArgs {
-    /// The plan file (TOML).
-    pub plan: PathBuf,
+    /// The plan file (TOML), or a study file (validated, with its arms and screening). Without one, the built-in demo plan is checked.
+    pub plan: Option<PathBuf>,
     /// Display units.
     #[command(flatten)]
     pub display: DisplayArgs,

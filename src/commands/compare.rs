@@ -90,10 +90,10 @@ pub fn run(args: &CompareArgs) -> Result<Printed, Error> {
         CompareFormat::Csv => refuse_display_units(units, "csv")?,
         CompareFormat::Json => refuse_display_units(units, "json")?,
     }
-    let mut inputs = vec![args.plan.as_path()];
+    let mut inputs: Vec<&std::path::Path> = args.plan.iter().map(|p| p.as_path()).collect();
     inputs.extend(args.logged.log.as_deref());
     check_outputs(args.out.as_deref(), args.chart.as_deref(), &inputs)?;
-    let plan = with_added_scenarios(load(Some(&args.plan))?, &args.add_scenario)?;
+    let plan = with_added_scenarios(load(args.plan.as_deref())?, &args.add_scenario)?;
     let log = read_log(&plan, args.logged.log.as_deref(), args.logged.as_of)?;
     let r = compare_report_logged(&plan, &log, &args.at_week, &args.doses)?;
     let text = match args.format {

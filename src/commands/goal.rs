@@ -16,10 +16,10 @@ pub fn run(args: &GoalArgs) -> Result<Printed, Error> {
     if args.format == GoalFormat::Json {
         refuse_display_units(units, "json")?;
     }
-    let mut inputs = vec![args.plan.as_path()];
+    let mut inputs: Vec<&std::path::Path> = args.plan.iter().map(|p| p.as_path()).collect();
     inputs.extend(args.logged.log.as_deref());
     check_outputs(args.out.as_deref(), None, &inputs)?;
-    let plan = with_added_scenarios(load(Some(&args.plan))?, &args.add_scenario)?;
+    let plan = with_added_scenarios(load(args.plan.as_deref())?, &args.add_scenario)?;
     let log = read_log(&plan, args.logged.log.as_deref(), args.logged.as_of)?;
     let m0 = plan.participant.subject.mass_kg;
     let lose = match (args.lose_kg, args.lose_percent) {

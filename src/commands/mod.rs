@@ -59,10 +59,15 @@ pub fn run(command: &Command) -> Result<Printed, Error> {
     }
 }
 
-/// Load a plan file, or the built-in demo when none is named.
+/// Load a plan file, or the built-in demo when none is named (every command that takes
+/// one plan: docs/commands.md section 1). A study file given instead is named as one,
+/// with the commands that take it.
 pub fn load(path: Option<&Path>) -> Result<Plan, Error> {
     match path {
-        Some(p) => plan::load_plan(p),
+        Some(p) => plan::load_plan(p).map_err(|e| match e {
+            Error::Input(_) => check::study_given_for_a_plan(p).unwrap_or(e),
+            other => other,
+        }),
         None => plan::parse_plan(plan::starter::DEMO_NAME, plan::starter::DEMO_PLAN),
     }
 }
