@@ -60,7 +60,8 @@ pub fn compare_report_logged(
         .find(|d| !d.is_finite() || **d < lo || **d > hi)
     {
         return Err(Error::Usage(format!(
-            "--doses: {bad} is out of range for {}; allowed {lo} to {hi} {}",
+            "--doses: {} is out of range for {}; allowed {lo} to {hi} {}",
+            crate::plan::participant::fmt_num(*bad),
             amount.key(),
             amount.unit()
         )));

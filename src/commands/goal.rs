@@ -37,7 +37,13 @@ pub fn run(args: &GoalArgs) -> Result<Printed, Error> {
                 "--by-week {week}: outside the protocol; allowed 1 to {weeks} (the plan's weeks)"
             )));
         }
-        Some(RequestProblem::Loss(_)) => check_request(&plan, &request)?,
+        Some(RequestProblem::Loss(_)) => {
+            check_request(&plan, &request).map_err(super::with_flag(if args.lose_kg.is_some() {
+                "--lose-kg"
+            } else {
+                "--lose-percent"
+            }))?
+        }
         None => {}
     }
     let mut schedule = schedule_report(&plan)?;

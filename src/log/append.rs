@@ -189,9 +189,14 @@ fn refuse_a_jump(name: &str, plan: &Plan, rows: &[LogRow], index: usize) -> Resu
     Ok(())
 }
 
-/// A number to two decimals, without trailing zeros.
+/// A number to two decimals, without trailing zeros; a huge one (never a valid value,
+/// refused by the row's check) in short exponent form rather than hundreds of digits.
 fn num(x: f64) -> String {
-    format!("{}", (x * 100.0).round() / 100.0)
+    if x.abs() >= 1e15 {
+        crate::plan::participant::fmt_num(x)
+    } else {
+        format!("{}", (x * 100.0).round() / 100.0)
+    }
 }
 
 /// The file's line ending: that of its first line, else `\n`.

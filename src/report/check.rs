@@ -10,11 +10,12 @@ pub fn render(plan: &Plan, r: &ScheduleReport, u: Units) -> String {
     let c = &plan.constants;
     let p = &plan.protocol;
     let mut s = format!(
-        "{}: the plan is valid.\n\nParticipant {}: {:?}, {:.0} years, {:.1} {}\n",
+        "{}: the plan is valid.\n\nParticipant {}: {:?}, {} years, {:.1} {}\n",
         r.plan,
         r.participant_id,
         plan.participant.subject.sex,
-        plan.participant.subject.age_years,
+        // The age as the plan gives it: 40.6 stays 40.6, never rounded to 41.
+        crate::plan::participant::fmt_num(plan.participant.subject.age_years),
         u.height(plan.participant.subject.height_cm),
         u.height_label()
     )
@@ -107,7 +108,9 @@ pub fn render_study(study: &crate::study::Study, vigorous: bool) -> String {
     let names: Vec<&str> = study.scenarios.iter().map(|c| c.name.as_str()).collect();
     s.push_str(&format!("Scenarios: {}\n", names.join(", ")));
     s.push_str(match study.population {
-        Some(_) => "Synthetic population: yes ([synthetic]; `cohort --synthetic N` draws from it)\n",
+        Some(_) => {
+            "Synthetic population: yes ([synthetic]; `cohort --synthetic N` draws from it)\n"
+        }
         None => "Synthetic population: none (`cohort` needs a --roster)\n",
     });
     s.push_str(match study.uncertainty {
