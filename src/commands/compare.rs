@@ -112,7 +112,11 @@ pub fn run(args: &CompareArgs) -> Result<Printed, Error> {
         printed
             .stderr
             .push_str(&super::charts::write_schedule_charts(
-                dir, &schedule, units,
+                dir,
+                &schedule,
+                &plan,
+                log.observed.as_ref(),
+                units,
             )?);
     }
     deliver(printed, text, args.out.as_deref())

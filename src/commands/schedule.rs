@@ -42,7 +42,13 @@ pub fn run(args: &ScheduleArgs) -> Result<Printed, Error> {
     if let Some(dir) = &args.chart {
         printed
             .stderr
-            .push_str(&super::charts::write_schedule_charts(dir, &r, units)?);
+            .push_str(&super::charts::write_schedule_charts(
+                dir,
+                &r,
+                &plan,
+                log.observed.as_ref(),
+                units,
+            )?);
     }
     deliver(printed, text, args.out.as_deref())
 }
