@@ -21,7 +21,10 @@ pub struct Cli {
 /// A number within `lo..=hi` (or, with `open`, strictly between them); `what` words
 /// the range for the message.
 fn float_within(s: &str, lo: f64, hi: f64, open: bool, what: &str) -> Result<f64, String> {
-    let x = values::number(s).map_err(|e| format!("{e}; {what}"))?;
+    let x: f64 = match s.trim().parse() {
+        Ok(x) => x,
+        Err(_) => values::number(s).map_err(|e| format!("{e}; {what}"))?,
+    };
     let inside = if open {
         x > lo && x < hi
     } else {

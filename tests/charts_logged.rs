@@ -13,6 +13,9 @@ use dosewright::report::chart::{LineChart, Series, WeighInPoint, logged_charts, 
 use dosewright::report::units::Units;
 use dosewright::simulate::{simulate_delivered, simulate_observed};
 
+/// Named charts, as `logged_charts` returns them.
+type Charts = Vec<(&'static str, LineChart)>;
+
 /// The demo log with every weigh-in's mass moved by `shift_kg` (sessions as they are).
 fn shifted_log(shift_kg: f64) -> String {
     DEMO_LOG
@@ -30,7 +33,7 @@ fn shifted_log(shift_kg: f64) -> String {
 
 /// The demo's logged charts with the weigh-ins moved by `shift_kg`, and the weigh-ins
 /// read from the log text by the test itself (date, kind, mass columns).
-fn logged(shift_kg: f64) -> (Vec<(&'static str, LineChart)>, Vec<(f64, f64)>) {
+fn logged(shift_kg: f64) -> (Charts, Vec<(f64, f64)>) {
     let dir = Scratch::new("logged-charts");
     let text = shifted_log(shift_kg);
     let log = dir.write("log.csv", &text);
