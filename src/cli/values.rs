@@ -71,13 +71,14 @@ pub fn number(s: &str) -> Result<f64, String> {
     Err("not a number; give a number with a decimal point, such as 82.5".to_string())
 }
 
-/// A number above zero (`goal --lose-kg`); a negative one or zero is refused.
+/// A number above zero (`goal --lose-kg`); zero, a negative number and a value that
+/// is not finite are refused, echoing the value as given.
 pub fn positive(s: &str) -> Result<f64, String> {
-    let x = number(s)?;
-    if x > 0.0 {
-        Ok(x)
-    } else {
-        Err("allowed a number above 0".to_string())
+    let t = s.trim();
+    match t.parse::<f64>() {
+        Ok(x) if x.is_finite() && x > 0.0 => Ok(x),
+        Ok(_) => Err(format!("must be a positive number (above 0); got {t}")),
+        Err(_) => number(t),
     }
 }
 
