@@ -37,7 +37,12 @@ pub fn run(args: &LogAddArgs) -> Result<Printed, Error> {
                 .to_string(),
         ));
     }
-    crate::output::check_log(&args.log)?;
+    let writable = crate::output::check_log(&args.log);
+    if crate::output::is_stdout(&args.log) {
+        writable.map_err(super::option_first("--log"))?;
+    } else {
+        writable?;
+    }
     let plan = load(Some(&args.plan))?;
     let entry = match (args.weigh_in, args.session) {
         (Some(mass), _) => NewEntry::WeighIn {

@@ -96,11 +96,11 @@ pub(crate) fn check_outputs(
     inputs: &[&Path],
 ) -> Result<(), Error> {
     if let Some(o) = out.filter(|o| !crate::output::is_stdout(o)) {
-        crate::output::refuse_overwriting_inputs(o, inputs)?;
+        crate::output::refuse_overwriting_inputs(o, inputs).map_err(option_first("--out"))?;
         crate::output::check_target(o, false)?;
     }
     if let Some(dir) = chart {
-        crate::output::check_chart_folder(dir)?;
+        crate::output::check_chart_folder(dir).map_err(option_first("--chart"))?;
     }
     Ok(())
 }
@@ -194,6 +194,15 @@ pub(crate) fn already_allocated() -> Error {
 pub(crate) fn with_flag(flag: &str) -> impl Fn(Error) -> Error + '_ {
     move |e| match e {
         Error::Usage(m) => Error::Usage(format!("{flag}: {m}")),
+        other => other,
+    }
+}
+
+/// A usage error of the writer (which knows no options) worded with the option whose
+/// value it is about: `FLAG message`, as in `--out plan.toml: that is an input file`.
+pub(crate) fn option_first(flag: &str) -> impl Fn(Error) -> Error + '_ {
+    move |e| match e {
+        Error::Usage(m) => Error::Usage(format!("{flag} {m}")),
         other => other,
     }
 }

@@ -32,7 +32,9 @@ pub fn run(args: &ScheduleArgs) -> Result<Printed, Error> {
     let index = super::scenario_index(&r, args.scenario.as_deref())?;
     let mut printed = Printed::default();
     let text = match args.format {
-        FormatArg::Table => report::table::render(&r, index, units),
+        FormatArg::Table => {
+            report::table::render_choosing(&r, index, units, Some("--scenario NAME shows another"))
+        }
         FormatArg::Json => report::json::render(&r),
         FormatArg::Csv => {
             printed.stderr = side_notes(&r);
