@@ -67,7 +67,15 @@ pub fn run(args: &LogAddArgs) -> Result<Printed, Error> {
         entry,
         note: args.note.clone(),
     };
-    let (mut said, warnings) = append_row_checked(&args.log, &plan, &row, args.accept_jump)?;
+    let (mut said, warnings) = append_row_checked(
+        &args.log,
+        &plan,
+        &row,
+        (!args.accept_jump).then_some(crate::log::JumpAdvice {
+            other_unit: "--units us takes pounds",
+            accept: "add it with --accept-jump",
+        }),
+    )?;
     if let (UnitsArg::Us, Some(lb)) = (args.units, args.weigh_in) {
         said.push_str(&format!(" (given as {lb} lb)"));
     }

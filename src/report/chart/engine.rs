@@ -233,7 +233,7 @@ impl LineChart {
         );
     }
 
-    /// The title's font size, px: [`TITLE_SIZE`], or smaller so that a long title
+    /// The title's font size, px: 18, or smaller so that a long title
     /// (a long scenario name) fits the canvas between the paddings instead of being
     /// cut off at its right edge.
     pub fn title_size(&self) -> f64 {
