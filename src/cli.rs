@@ -6,6 +6,8 @@ use clap::{Args, Parser, Subcommand, ValueEnum, value_parser};
 use std::net::SocketAddr;
 use std::path::PathBuf;
 
+pub mod values;
+
 /// Plan exercise as a dose of energy, re-prescribe session minutes as body mass
 /// falls, and project body composition under stated compensation assumptions.
 #[derive(Debug, Parser)]
@@ -19,7 +21,10 @@ pub struct Cli {
 /// A number within `lo..=hi` (or, with `open`, strictly between them); `what` words
 /// the range for the message.
 fn float_within(s: &str, lo: f64, hi: f64, open: bool, what: &str) -> Result<f64, String> {
-    let x: f64 = s.trim().parse().map_err(|e| format!("{e}; {what}"))?;
+    let x: f64 = match s.trim().parse() {
+        Ok(x) => x,
+        Err(_) => values::number(s).map_err(|e| format!("{e}; {what}"))?,
+    };
     let inside = if open {
         x > lo && x < hi
     } else {
@@ -127,10 +132,15 @@ pub struct LogAddArgs {
     #[arg(long, value_name = "FILE")]
     pub log: PathBuf,
     /// The row's date (YYYY-MM-DD; default: today). The row goes to its place by date.
-    #[arg(long, value_name = "DATE")]
+    #[arg(long, value_name = "DATE", value_parser = values::date)]
     pub date: Option<NaiveDate>,
     /// A weigh-in: the measured mass, kg (lb with --units us).
-    #[arg(long = "weigh-in", value_name = "MASS", allow_negative_numbers = true)]
+    #[arg(
+        long = "weigh-in",
+        value_name = "MASS",
+        allow_negative_numbers = true,
+        value_parser = values::number
+    )]
     pub weigh_in: Option<f64>,
     /// Units of --weigh-in: metric (kg) or us (lb, stored as kg).
     #[arg(long, value_enum, default_value_t = UnitsArg::Metric)]
@@ -144,11 +154,17 @@ pub struct LogAddArgs {
         long = "body-fat",
         value_name = "PERCENT",
         requires = "weigh_in",
-        allow_negative_numbers = true
+        allow_negative_numbers = true,
+        value_parser = values::number
     )]
     pub body_fat: Option<f64>,
     /// A delivered session: its minutes (0 for a missed session).
-    #[arg(long, value_name = "MINUTES", allow_negative_numbers = true)]
+    #[arg(
+        long,
+        value_name = "MINUTES",
+        allow_negative_numbers = true,
+        value_parser = values::number
+    )]
     pub session: Option<f64>,
     /// With --session: the activity's compendium code (default: the plan's activity).
     #[arg(
@@ -163,7 +179,8 @@ pub struct LogAddArgs {
         long,
         value_name = "MET",
         requires = "session",
-        allow_negative_numbers = true
+        allow_negative_numbers = true,
+        value_parser = values::number
     )]
     pub met: Option<f64>,
     /// With --session: average heart rate, beats/min.
@@ -171,7 +188,8 @@ pub struct LogAddArgs {
         long,
         value_name = "BPM",
         requires = "session",
-        allow_negative_numbers = true
+        allow_negative_numbers = true,
+        value_parser = values::number
     )]
     pub hr: Option<f64>,
     /// With --session: Borg RPE, 6-20.
@@ -179,7 +197,8 @@ pub struct LogAddArgs {
         long,
         value_name = "RPE",
         requires = "session",
-        allow_negative_numbers = true
+        allow_negative_numbers = true,
+        value_parser = values::number
     )]
     pub rpe: Option<f64>,
     /// A note (one line).
@@ -194,7 +213,7 @@ pub struct LogArgs {
     #[arg(long, value_name = "FILE")]
     pub log: Option<PathBuf>,
     /// Use the log up to this date (YYYY-MM-DD; default: the log's last date).
-    #[arg(long = "as-of", value_name = "DATE", requires = "log")]
+    #[arg(long = "as-of", value_name = "DATE", value_parser = values::date, requires = "log")]
     pub as_of: Option<NaiveDate>,
 }
 
@@ -361,7 +380,7 @@ pub struct CohortArgs {
     #[arg(long, value_enum, default_value_t = IntegratorArg::Rk4)]
     pub integrator: IntegratorArg,
     /// Add a checkpoint week (repeatable); the end of the protocol and of follow-up are always shown, and arms are also compared at each such week.
-    #[arg(long = "at-week", value_name = "N")]
+    #[arg(long = "at-week", value_name = "N", allow_negative_numbers = true, value_parser = values::week)]
     pub at_week: Vec<u32>,
     /// The difference the sample size rests on: intention to treat (drop-outs already in it) or completers (then divided by the completion rate).
     #[arg(long, value_enum, default_value_t = BasisArg::IntentionToTreat)]
@@ -471,10 +490,10 @@ pub struct CalendarArgs {
     #[arg(long, value_name = "DATETIME")]
     pub stamp: Option<String>,
     /// Only sessions on or after this date (YYYY-MM-DD).
-    #[arg(long, value_name = "DATE")]
+    #[arg(long, value_name = "DATE", value_parser = values::date)]
     pub from: Option<NaiveDate>,
     /// Only sessions on or before this date (YYYY-MM-DD).
-    #[arg(long, value_name = "DATE")]
+    #[arg(long, value_name = "DATE", value_parser = values::date)]
     pub to: Option<NaiveDate>,
     /// The participant log to re-plan from.
     #[command(flatten)]
@@ -491,13 +510,13 @@ pub struct SheetsArgs {
     /// The plan file (TOML). Without one, the built-in demo plan runs.
     pub plan: Option<PathBuf>,
     /// The protocol week to print.
-    #[arg(long, value_name = "N")]
+    #[arg(long, value_name = "N", allow_negative_numbers = true, value_parser = values::week)]
     pub week: Option<u32>,
     /// Print every protocol week that overlaps --from to --to (YYYY-MM-DD).
-    #[arg(long, value_name = "DATE", requires = "to")]
+    #[arg(long, value_name = "DATE", value_parser = values::date, requires = "to")]
     pub from: Option<NaiveDate>,
     /// The last date of the range (YYYY-MM-DD), with --from.
-    #[arg(long, value_name = "DATE", requires = "from")]
+    #[arg(long, value_name = "DATE", value_parser = values::date, requires = "from")]
     pub to: Option<NaiveDate>,
     /// Whose minutes the sheets show (default: the first scenario).
     #[arg(long)]
@@ -531,10 +550,10 @@ pub struct SheetsArgs {
 /// Compare every scenario side by side at checkpoint weeks, optionally for several doses.
 #[derive(Debug, Clone, Args)]
 pub struct CompareArgs {
-    /// The plan file (TOML).
-    pub plan: PathBuf,
+    /// The plan file (TOML). Without one, the built-in demo plan runs.
+    pub plan: Option<PathBuf>,
     /// Add a checkpoint week (repeatable); weeks 4, 12, 26 and the ends are always shown.
-    #[arg(long = "at-week", value_name = "N")]
+    #[arg(long = "at-week", value_name = "N", allow_negative_numbers = true, value_parser = values::week)]
     pub at_week: Vec<u32>,
     /// Add a scenario without editing the plan: "NAME:key=value,key=value" (repeatable).
     #[arg(long = "add-scenario", value_name = "SPEC")]
@@ -563,16 +582,16 @@ pub struct CompareArgs {
 #[derive(Debug, Clone, Args)]
 #[command(group = clap::ArgGroup::new("loss").required(true).args(["lose_kg", "lose_percent"]))]
 pub struct GoalArgs {
-    /// The plan file (TOML).
-    pub plan: PathBuf,
+    /// The plan file (TOML). Without one, the built-in demo plan runs.
+    pub plan: Option<PathBuf>,
     /// Loss wanted, kg.
-    #[arg(long, value_name = "KG", allow_negative_numbers = true)]
+    #[arg(long, value_name = "KG", allow_negative_numbers = true, value_parser = values::positive)]
     pub lose_kg: Option<f64>,
     /// Loss wanted, percent of baseline mass (above 0 and below 100).
     #[arg(long, value_name = "PERCENT", allow_negative_numbers = true, value_parser = loss_percent)]
     pub lose_percent: Option<f64>,
     /// By the end of this protocol week.
-    #[arg(long, value_name = "N")]
+    #[arg(long, value_name = "N", allow_negative_numbers = true, value_parser = values::week)]
     pub by_week: u32,
     /// Add a scenario without editing the plan: "NAME:key=value,key=value" (repeatable).
     #[arg(long = "add-scenario", value_name = "SPEC")]
@@ -594,13 +613,13 @@ pub struct GoalArgs {
 /// Estimate from the log's weigh-ins how much of the dose is not reaching the stores.
 #[derive(Debug, Clone, Args)]
 pub struct FitArgs {
-    /// The plan file (TOML).
-    pub plan: PathBuf,
+    /// The plan file (TOML). Without one, the built-in demo plan runs.
+    pub plan: Option<PathBuf>,
     /// The participant log (CSV).
     #[arg(long, value_name = "FILE")]
     pub log: PathBuf,
     /// Use the log up to this date (YYYY-MM-DD; default: the log's last date).
-    #[arg(long = "as-of", value_name = "DATE")]
+    #[arg(long = "as-of", value_name = "DATE", value_parser = values::date)]
     pub as_of: Option<NaiveDate>,
     /// Which scenario parameter to estimate.
     #[arg(long, value_enum, default_value_t = FitParameterArg::IntakeFraction)]
@@ -625,8 +644,8 @@ pub struct FitArgs {
 /// Validate a plan and print its resolved assumptions.
 #[derive(Debug, Clone, Args)]
 pub struct CheckArgs {
-    /// The plan file (TOML).
-    pub plan: PathBuf,
+    /// The plan file (TOML), or a study file (validated, with its arms and screening). Without one, the built-in demo plan is checked.
+    pub plan: Option<PathBuf>,
     /// Display units.
     #[command(flatten)]
     pub display: DisplayArgs,
@@ -727,7 +746,7 @@ pub enum DeskAction {
         /// The new register (must not exist).
         register: PathBuf,
         /// The protocol's first day (default: this week's Monday).
-        #[arg(long, value_name = "DATE")]
+        #[arg(long, value_name = "DATE", value_parser = values::date)]
         start: Option<chrono::NaiveDate>,
     },
     /// Manage accounts.

@@ -22,6 +22,16 @@ fn finish_renames_on_a_signal() {
 
 fn main() -> ExitCode {
     let cli = dosewright::cli::Cli::parse();
+    // rayon reads RAYON_NUM_THREADS itself when --threads is not given; a bad value
+    // is refused here, in the binary, before any work.
+    if let dosewright::cli::Command::Cohort(args) = &cli.command {
+        let value = std::env::var_os("RAYON_NUM_THREADS");
+        let problem = dosewright::cli::values::rayon_threads_problem(value.as_deref());
+        if let (None, Some(message)) = (args.threads, problem) {
+            eprintln!("error: {message}");
+            return ExitCode::from(2);
+        }
+    }
     // The desk's server stops gracefully on the same signals (src/desk/cli.rs) and
     // writes no output files, so it keeps its own handler.
     #[cfg(unix)]

@@ -54,7 +54,7 @@ pub fn refuse_overwriting_inputs(out: &Path, inputs: &[&Path]) -> Result<(), Err
         for i in inputs {
             if canon(i).as_ref() == Some(&o) {
                 return Err(Error::Usage(format!(
-                    "--out {}: that is an input file; refusing to overwrite it",
+                    "{}: that is an input file; refusing to overwrite it",
                     out.display()
                 )));
             }
@@ -133,8 +133,7 @@ pub fn check_target(path: &Path, create_new: bool) -> Result<(), Error> {
 pub fn check_log(path: &Path) -> Result<(), Error> {
     if is_stdout(path) {
         return Err(Error::Usage(
-            "--log -: a log is a file that keeps its rows; give the path of its CSV file"
-                .to_string(),
+            "-: a log is a file that keeps its rows; give the path of its CSV file".to_string(),
         ));
     }
     check_target(path, false)?;
@@ -187,7 +186,7 @@ pub fn check_chart_folder(dir: &Path) -> Result<(), Error> {
                     format!("{} is not a folder", d.display())
                 };
                 return Err(Error::Usage(format!(
-                    "--chart {}: {what}; choose a folder for the charts",
+                    "{}: {what}; choose a folder for the charts",
                     dir.display()
                 )));
             }

@@ -11,7 +11,7 @@ fn bad_arguments_exit_2_with_nothing_on_stdout() {
     for args in [
         &["schedule", "--format", "xml"][..],
         &["frobnicate"][..],
-        &["check"][..],
+        &["log", "add"][..],
         &["schedule", "--bogus"][..],
     ] {
         let r = run(dosewright().args(args));

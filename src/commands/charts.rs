@@ -2,9 +2,11 @@
 
 use crate::error::Error;
 use crate::output::write_charts;
+use crate::plan::Plan;
 use crate::report::ScheduleReport;
-use crate::report::chart::{Band, LineChart, standard_charts};
+use crate::report::chart::{Band, LineChart, WeighInPoint, logged_charts, standard_charts};
 use crate::report::units::Units;
+use crate::simulate::observed::Observed;
 use std::path::Path;
 
 /// The participant's screening outcome and the stop signs, for chart captions.
@@ -61,11 +63,48 @@ pub fn write_cohort_charts(
 }
 
 /// Write the four charts into `dir` in units `u`; returns the notes for standard
-/// error.
-pub fn write_schedule_charts(dir: &Path, r: &ScheduleReport, u: Units) -> Result<String, Error> {
+/// error. With a log (`observed`), the weigh-ins are drawn as points beside one
+/// projection per scenario with the delivered sessions, not re-anchored
+/// (docs/design.md, "Charts with a log"), and without the band.
+pub fn write_schedule_charts(
+    dir: &Path,
+    r: &ScheduleReport,
+    plan: &Plan,
+    observed: Option<&Observed>,
+    u: Units,
+) -> Result<String, Error> {
+    let mut charts = match observed {
+        Some(obs) => {
+            let delivered = crate::simulate::simulate_delivered(plan, obs)?;
+            let weigh_ins: Vec<WeighInPoint> = obs
+                .weigh_ins
+                .iter()
+                .filter(|w| w.day <= obs.as_of_day)
+                .map(|w| WeighInPoint {
+                    day: w.day,
+                    mass_kg: w.mass_kg,
+                })
+                .collect();
+            logged_charts(
+                &r.scenarios,
+                &delivered.scenarios,
+                &weigh_ins,
+                r.protocol.weeks,
+                u,
+            )
+        }
+        None => standard_charts(&r.scenarios, r.protocol.weeks, band(r).as_ref(), u),
+    };
+    for (_, c) in charts.iter_mut() {
+        c.caption.push_str(&screening_caption(&r.screening));
+    }
+    write(dir, &stem(&r.participant_id), &charts)
+}
+
+/// The sensitivity band of the first scenario, in kg, from the baseline.
+fn band(r: &ScheduleReport) -> Option<Band> {
     let m0 = r.baseline.mass_kg;
-    let band = r
-        .projection_band
+    r.projection_band
         .as_ref()
         .and_then(|b| b.scenarios.first())
         .map(|sb| Band {
@@ -77,10 +116,5 @@ pub fn write_schedule_charts(dir: &Path, r: &ScheduleReport, u: Units) -> Result
                         .map(|w| (f64::from(w.week), w.mass_low_kg, w.mass_high_kg)),
                 )
                 .collect(),
-        });
-    let mut charts = standard_charts(&r.scenarios, r.protocol.weeks, band.as_ref(), u);
-    for (_, c) in charts.iter_mut() {
-        c.caption.push_str(&screening_caption(&r.screening));
-    }
-    write(dir, &stem(&r.participant_id), &charts)
+        })
 }

@@ -60,7 +60,8 @@ pub fn compare_report_logged(
         .find(|d| !d.is_finite() || **d < lo || **d > hi)
     {
         return Err(Error::Usage(format!(
-            "--doses: {bad} is out of range for {}; allowed {lo} to {hi} {}",
+            "--doses: {} is out of range for {}; allowed {lo} to {hi} {}",
+            crate::plan::participant::fmt_num(*bad),
             amount.key(),
             amount.unit()
         )));
@@ -90,10 +91,10 @@ pub fn run(args: &CompareArgs) -> Result<Printed, Error> {
         CompareFormat::Csv => refuse_display_units(units, "csv")?,
         CompareFormat::Json => refuse_display_units(units, "json")?,
     }
-    let mut inputs = vec![args.plan.as_path()];
+    let mut inputs: Vec<&std::path::Path> = args.plan.iter().map(|p| p.as_path()).collect();
     inputs.extend(args.logged.log.as_deref());
     check_outputs(args.out.as_deref(), args.chart.as_deref(), &inputs)?;
-    let plan = with_added_scenarios(load(Some(&args.plan))?, &args.add_scenario)?;
+    let plan = with_added_scenarios(load(args.plan.as_deref())?, &args.add_scenario)?;
     let log = read_log(&plan, args.logged.log.as_deref(), args.logged.as_of)?;
     let r = compare_report_logged(&plan, &log, &args.at_week, &args.doses)?;
     let text = match args.format {
@@ -118,7 +119,11 @@ pub fn run(args: &CompareArgs) -> Result<Printed, Error> {
         printed
             .stderr
             .push_str(&super::charts::write_schedule_charts(
-                dir, &schedule, units,
+                dir,
+                &schedule,
+                &plan,
+                log.observed.as_ref(),
+                units,
             )?);
     }
     deliver(printed, text, args.out.as_deref())

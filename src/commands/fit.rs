@@ -16,9 +16,14 @@ pub fn run(args: &FitArgs) -> Result<Printed, Error> {
     check_outputs(
         args.out.as_deref(),
         args.chart.as_deref(),
-        &[args.plan.as_path(), args.log.as_path()],
+        &args
+            .plan
+            .iter()
+            .chain(std::iter::once(&args.log))
+            .map(|p| p.as_path())
+            .collect::<Vec<_>>(),
     )?;
-    let plan = load(Some(&args.plan))?;
+    let plan = load(args.plan.as_deref())?;
     let input = read_log(&plan, Some(&args.log), args.as_of)?;
     let schedule = schedule_report(&plan)?;
     let index = super::scenario_index(&schedule, args.scenario.as_deref())?;

@@ -16,10 +16,10 @@ pub fn run(args: &GoalArgs) -> Result<Printed, Error> {
     if args.format == GoalFormat::Json {
         refuse_display_units(units, "json")?;
     }
-    let mut inputs = vec![args.plan.as_path()];
+    let mut inputs: Vec<&std::path::Path> = args.plan.iter().map(|p| p.as_path()).collect();
     inputs.extend(args.logged.log.as_deref());
     check_outputs(args.out.as_deref(), None, &inputs)?;
-    let plan = with_added_scenarios(load(Some(&args.plan))?, &args.add_scenario)?;
+    let plan = with_added_scenarios(load(args.plan.as_deref())?, &args.add_scenario)?;
     let log = read_log(&plan, args.logged.log.as_deref(), args.logged.as_of)?;
     let m0 = plan.participant.subject.mass_kg;
     let lose = match (args.lose_kg, args.lose_percent) {
@@ -37,7 +37,13 @@ pub fn run(args: &GoalArgs) -> Result<Printed, Error> {
                 "--by-week {week}: outside the protocol; allowed 1 to {weeks} (the plan's weeks)"
             )));
         }
-        Some(RequestProblem::Loss(_)) => check_request(&plan, &request)?,
+        Some(RequestProblem::Loss(_)) => {
+            check_request(&plan, &request).map_err(super::with_flag(if args.lose_kg.is_some() {
+                "--lose-kg"
+            } else {
+                "--lose-percent"
+            }))?
+        }
         None => {}
     }
     let mut schedule = schedule_report(&plan)?;

@@ -37,7 +37,12 @@ pub fn run(args: &LogAddArgs) -> Result<Printed, Error> {
                 .to_string(),
         ));
     }
-    crate::output::check_log(&args.log)?;
+    let writable = crate::output::check_log(&args.log);
+    if crate::output::is_stdout(&args.log) {
+        writable.map_err(super::option_first("--log"))?;
+    } else {
+        writable?;
+    }
     let plan = load(Some(&args.plan))?;
     let entry = match (args.weigh_in, args.session) {
         (Some(mass), _) => NewEntry::WeighIn {
@@ -62,7 +67,15 @@ pub fn run(args: &LogAddArgs) -> Result<Printed, Error> {
         entry,
         note: args.note.clone(),
     };
-    let (mut said, warnings) = append_row_checked(&args.log, &plan, &row, args.accept_jump)?;
+    let (mut said, warnings) = append_row_checked(
+        &args.log,
+        &plan,
+        &row,
+        (!args.accept_jump).then_some(crate::log::JumpAdvice {
+            other_unit: "--units us takes pounds",
+            accept: "add it with --accept-jump",
+        }),
+    )?;
     if let (UnitsArg::Us, Some(lb)) = (args.units, args.weigh_in) {
         said.push_str(&format!(" (given as {lb} lb)"));
     }

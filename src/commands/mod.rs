@@ -62,10 +62,15 @@ pub fn run(command: &Command) -> Result<Printed, Error> {
     }
 }
 
-/// Load a plan file, or the built-in demo when none is named.
+/// Load a plan file, or the built-in demo when none is named (every command that takes
+/// one plan: docs/commands.md section 1). A study file given instead is named as one,
+/// with the commands that take it.
 pub fn load(path: Option<&Path>) -> Result<Plan, Error> {
     match path {
-        Some(p) => plan::load_plan(p),
+        Some(p) => plan::load_plan(p).map_err(|e| match e {
+            Error::Input(_) => check::study_given_for_a_plan(p).unwrap_or(e),
+            other => other,
+        }),
         None => plan::parse_plan(plan::starter::DEMO_NAME, plan::starter::DEMO_PLAN),
     }
 }
@@ -94,11 +99,11 @@ pub(crate) fn check_outputs(
     inputs: &[&Path],
 ) -> Result<(), Error> {
     if let Some(o) = out.filter(|o| !crate::output::is_stdout(o)) {
-        crate::output::refuse_overwriting_inputs(o, inputs)?;
+        crate::output::refuse_overwriting_inputs(o, inputs).map_err(option_first("--out"))?;
         crate::output::check_target(o, false)?;
     }
     if let Some(dir) = chart {
-        crate::output::check_chart_folder(dir)?;
+        crate::output::check_chart_folder(dir).map_err(option_first("--chart"))?;
     }
     Ok(())
 }
@@ -192,6 +197,15 @@ pub(crate) fn already_allocated() -> Error {
 pub(crate) fn with_flag(flag: &str) -> impl Fn(Error) -> Error + '_ {
     move |e| match e {
         Error::Usage(m) => Error::Usage(format!("{flag}: {m}")),
+        other => other,
+    }
+}
+
+/// A usage error of the writer (which knows no options) worded with the option whose
+/// value it is about: `FLAG message`, as in `--out plan.toml: that is an input file`.
+pub(crate) fn option_first(flag: &str) -> impl Fn(Error) -> Error + '_ {
+    move |e| match e {
+        Error::Usage(m) => Error::Usage(format!("{flag} {m}")),
         other => other,
     }
 }

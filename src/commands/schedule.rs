@@ -32,7 +32,9 @@ pub fn run(args: &ScheduleArgs) -> Result<Printed, Error> {
     let index = super::scenario_index(&r, args.scenario.as_deref())?;
     let mut printed = Printed::default();
     let text = match args.format {
-        FormatArg::Table => report::table::render(&r, index, units),
+        FormatArg::Table => {
+            report::table::render_choosing(&r, index, units, Some("--scenario NAME shows another"))
+        }
         FormatArg::Json => report::json::render(&r),
         FormatArg::Csv => {
             printed.stderr = side_notes(&r);
@@ -42,7 +44,13 @@ pub fn run(args: &ScheduleArgs) -> Result<Printed, Error> {
     if let Some(dir) = &args.chart {
         printed
             .stderr
-            .push_str(&super::charts::write_schedule_charts(dir, &r, units)?);
+            .push_str(&super::charts::write_schedule_charts(
+                dir,
+                &r,
+                &plan,
+                log.observed.as_ref(),
+                units,
+            )?);
     }
     deliver(printed, text, args.out.as_deref())
 }

@@ -12,13 +12,14 @@ use crate::plan::Plan;
 use crate::safety::Warning;
 use std::path::Path;
 
-/// See [`super::append_row`] and [`super::append_row_checked`]: `accept_jump` false
-/// refuses a weigh-in implausibly far from its neighbours or from the baseline.
+/// See [`super::append_row`] and [`super::append_row_checked`]: `refuse` refuses a
+/// weigh-in implausibly far from its neighbours or from the baseline, with the
+/// caller's advice.
 pub(super) fn append(
     path: &Path,
     plan: &Plan,
     row: &NewRow,
-    accept_jump: bool,
+    refuse: Option<super::JumpAdvice<'_>>,
 ) -> Result<(String, Vec<Warning>), Error> {
     let name = path.display().to_string();
     crate::output::check_log(path)?;
@@ -82,8 +83,8 @@ pub(super) fn append(
         )));
     };
     let added = &log.rows[index];
-    if !accept_jump {
-        refuse_a_jump(&name, plan, &log.rows, index)?;
+    if let Some(advice) = refuse {
+        refuse_a_jump(&name, plan, &log.rows, index, advice)?;
     }
     // The temporary file gets the log's own permissions before it replaces the log.
     crate::output::write_atomic(path, text.as_bytes(), false)?;
@@ -133,7 +134,13 @@ fn line_start(text: &str, line: usize) -> usize {
 /// Refuse the weigh-in at `rows[index]` when [`super::plausible::is_implausible`]
 /// against the previous weigh-in, the next one or the plan's baseline mass on the
 /// protocol start.
-fn refuse_a_jump(name: &str, plan: &Plan, rows: &[LogRow], index: usize) -> Result<(), Error> {
+fn refuse_a_jump(
+    name: &str,
+    plan: &Plan,
+    rows: &[LogRow],
+    index: usize,
+    advice: super::JumpAdvice<'_>,
+) -> Result<(), Error> {
     let mass = |r: &LogRow| match r.entry {
         Entry::WeighIn { mass_kg, .. } => Some(mass_kg),
         Entry::Session { .. } => None,
@@ -175,7 +182,7 @@ fn refuse_a_jump(name: &str, plan: &Plan, rows: &[LogRow], index: usize) -> Resu
             let allowed = super::plausible::allowed_change_kg(m, days);
             let change = kg - m;
             return Err(Error::Usage(format!(
-                "{name}: the weigh-in of {} ({} kg) is {} kg {} {what}, more than the {} kg allowed over {} {}; check the entry (a mass in the wrong unit: --units us takes pounds; another scale; a typing slip); if it is right, add it with --accept-jump. The file is unchanged",
+                "{name}: the weigh-in of {} ({} kg) is {} kg {} {what}, more than the {} kg allowed over {} {}; check the entry (a mass in the wrong unit: {}; another scale; a typing slip); if it is right, {}. The file is unchanged",
                 row.date,
                 num(kg),
                 num(change.abs()),
@@ -183,15 +190,22 @@ fn refuse_a_jump(name: &str, plan: &Plan, rows: &[LogRow], index: usize) -> Resu
                 num(allowed),
                 days.abs(),
                 if days.abs() == 1 { "day" } else { "days" },
+                advice.other_unit,
+                advice.accept,
             )));
         }
     }
     Ok(())
 }
 
-/// A number to two decimals, without trailing zeros.
+/// A number to two decimals, without trailing zeros; a huge one (never a valid value,
+/// refused by the row's check) in short exponent form rather than hundreds of digits.
 fn num(x: f64) -> String {
-    format!("{}", (x * 100.0).round() / 100.0)
+    if x.abs() >= 1e15 {
+        crate::plan::participant::fmt_num(x)
+    } else {
+        format!("{}", (x * 100.0).round() / 100.0)
+    }
 }
 
 /// The file's line ending: that of its first line, else `\n`.

@@ -190,19 +190,30 @@ pub fn parse_log(
 /// Returns a one-line confirmation and the warnings the new row earns (such as an
 /// implausible jump in mass).
 pub fn append_row(path: &Path, plan: &Plan, row: &NewRow) -> Result<(String, Vec<Warning>), Error> {
-    append::append(path, plan, row, true)
+    append::append(path, plan, row, None)
 }
 
-/// As [`append_row`], but a weigh-in implausibly far
+/// How the caller words the way out of a refused weigh-in: how a mass in the other
+/// unit is entered and how an implausible weigh-in is added anyway. The command line
+/// names its options (`--units us`, `--accept-jump`); the library knows none.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub struct JumpAdvice<'a> {
+    /// E.g. "--units us takes pounds".
+    pub other_unit: &'a str,
+    /// E.g. "add it with --accept-jump".
+    pub accept: &'a str,
+}
+
+/// As [`append_row`], but with `refuse` a weigh-in implausibly far
 /// ([`plausible::is_implausible`]) from the previous weigh-in, the next one or the
-/// plan's baseline is refused ([`Error::Usage`], naming `--accept-jump`) unless
-/// `accept_jump`. The row goes to its place by date: before the first row of a
-/// later date, after the rows of its own date.
+/// plan's baseline is refused ([`Error::Usage`], with the caller's advice); with
+/// None it is accepted. The row goes to its place by date: before the first row of
+/// a later date, after the rows of its own date.
 pub fn append_row_checked(
     path: &Path,
     plan: &Plan,
     row: &NewRow,
-    accept_jump: bool,
+    refuse: Option<JumpAdvice<'_>>,
 ) -> Result<(String, Vec<Warning>), Error> {
-    append::append(path, plan, row, accept_jump)
+    append::append(path, plan, row, refuse)
 }

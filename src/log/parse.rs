@@ -96,14 +96,7 @@ impl Limits {
     }
 }
 
-/// A number as a person would write it: no trailing ".0".
-fn fmt_num(v: f64) -> String {
-    if v.is_finite() && v == v.trunc() && v.abs() < 1e15 {
-        format!("{v:.0}")
-    } else {
-        format!("{v}")
-    }
-}
+use crate::plan::participant::fmt_num;
 
 /// A warning with the line it is about.
 pub(super) struct LineWarning {

@@ -10,11 +10,12 @@ pub fn render(plan: &Plan, r: &ScheduleReport, u: Units) -> String {
     let c = &plan.constants;
     let p = &plan.protocol;
     let mut s = format!(
-        "{}: the plan is valid.\n\nParticipant {}: {:?}, {:.0} years, {:.1} {}\n",
+        "{}: the plan is valid.\n\nParticipant {}: {:?}, {} years, {:.1} {}\n",
         r.plan,
         r.participant_id,
         plan.participant.subject.sex,
-        plan.participant.subject.age_years,
+        // The age as the plan gives it: 40.6 stays 40.6, never rounded to 41.
+        crate::plan::participant::fmt_num(plan.participant.subject.age_years),
         u.height(plan.participant.subject.height_cm),
         u.height_label()
     )
@@ -72,5 +73,56 @@ pub fn render(plan: &Plan, r: &ScheduleReport, u: Units) -> String {
     s.push_str(&warnings_text(&r.warnings));
     s.push('\n');
     s.push_str(&cautions_text(&r.screening));
+    s
+}
+
+/// Render a valid study file: its arms, protocol, scenarios and population, the
+/// screening summary and the standing cautions (`check STUDY`). A study names no
+/// participants, so the screening summary says where each is screened.
+pub fn render_study(study: &crate::study::Study, vigorous: bool) -> String {
+    let p = &study.protocol;
+    let mut s = format!(
+        "{}: the study is valid (study {}).\n\nArms\n",
+        study.source_name, study.name
+    );
+    for arm in &study.arms {
+        let dose = arm.dose.map_or("control, no exercise".to_string(), |d| {
+            format!(
+                "{} = {} {}",
+                d.amount.key(),
+                crate::plan::participant::fmt_num(d.amount.value()),
+                d.amount.unit()
+            )
+        });
+        s.push_str(&format!("  - {}: {dose}\n", arm.name));
+    }
+    s.push_str(&format!(
+        "\nProtocol: {} weeks from {}, {} weeks of follow-up; maximum session {}; block size {} for --randomise\n",
+        p.weeks,
+        p.start,
+        p.follow_up_weeks,
+        p.max_session_minutes
+            .map_or("none".to_string(), |m| format!("{} min", crate::plan::participant::fmt_num(m))),
+        study.block_size
+    ));
+    let names: Vec<&str> = study.scenarios.iter().map(|c| c.name.as_str()).collect();
+    s.push_str(&format!("Scenarios: {}\n", names.join(", ")));
+    s.push_str(match study.population {
+        Some(_) => {
+            "Synthetic population: yes ([synthetic]; `cohort --synthetic N` draws from it)\n"
+        }
+        None => "Synthetic population: none (`cohort` needs a --roster)\n",
+    });
+    s.push_str(match study.uncertainty {
+        Some(_) => "Uncertainty: yes ([uncertainty]; `cohort --draws K`)\n",
+        None => "Uncertainty: none (every draw the same)\n",
+    });
+    s.push_str(&format!(
+        "\nScreening (ACSM 2015 pre-participation algorithm)\n  - a study file names no participants: `cohort` screens each participant of the roster for {} intensity and counts the results; a participant without screening answers is counted as not screened\n\nCautions\n",
+        if vigorous { "vigorous" } else { "moderate" }
+    ));
+    for c in crate::safety::CAUTIONS {
+        s.push_str(&format!("  - {c}\n"));
+    }
     s
 }

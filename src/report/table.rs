@@ -296,6 +296,13 @@ pub fn warnings_text(warnings: &[Warning]) -> String {
 
 /// Render the schedule of scenario `index` and the outcome of all.
 pub fn render(r: &ScheduleReport, index: usize, u: Units) -> String {
+    render_choosing(r, index, u, None)
+}
+
+/// [`render`], saying after "(2 of 3" how the reader chooses another scenario
+/// (`choose`, worded by the caller: the command line names its option, the library
+/// knows no options).
+pub fn render_choosing(r: &ScheduleReport, index: usize, u: Units, choose: Option<&str>) -> String {
     let sc = &r.scenarios[index];
     let mut out = format!(
         "dosewright session schedule: participant {} ({})\n\n",
@@ -307,9 +314,10 @@ pub fn render(r: &ScheduleReport, index: usize, u: Units) -> String {
     out.push_str(&format!("Screening: {}\n\n", r.screening.recommendation));
     let which = if r.scenarios.len() > 1 {
         format!(
-            " ({} of {}; --scenario NAME shows another)",
+            " ({} of {}{})",
             index + 1,
-            r.scenarios.len()
+            r.scenarios.len(),
+            choose.map_or(String::new(), |c| format!("; {c}"))
         )
     } else {
         String::new()

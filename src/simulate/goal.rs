@@ -129,7 +129,7 @@ fn loss_without(plan: &Plan, scenario: &Scenario, by_week: u32) -> Result<f64, E
 /// names its options).
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub enum RequestProblem {
-    /// The loss is not a positive number of kg.
+    /// The loss is not a positive number of kg below the baseline mass.
     Loss(f64),
     /// The goal week is outside the protocol's weeks `1..=weeks`.
     Week {
@@ -142,7 +142,8 @@ pub enum RequestProblem {
 
 /// The first problem of the request against the plan, if any.
 pub fn request_problem(plan: &Plan, req: &GoalRequest) -> Option<RequestProblem> {
-    if !req.lose_kg.is_finite() || req.lose_kg <= 0.0 {
+    let m0 = plan.participant.subject.mass_kg;
+    if !req.lose_kg.is_finite() || req.lose_kg <= 0.0 || req.lose_kg >= m0 {
         return Some(RequestProblem::Loss(req.lose_kg));
     }
     if req.by_week < 1 || req.by_week > plan.protocol.weeks {
@@ -159,7 +160,9 @@ pub fn check_request(plan: &Plan, req: &GoalRequest) -> Result<(), Error> {
     match request_problem(plan, req) {
         None => Ok(()),
         Some(RequestProblem::Loss(kg)) => Err(Error::Usage(format!(
-            "the loss wanted must be a positive number of kg; got {kg}"
+            "the loss wanted must be above 0 kg and below the baseline mass ({} kg); got {} kg",
+            crate::plan::participant::fmt_num(plan.participant.subject.mass_kg),
+            crate::plan::participant::fmt_num(kg)
         ))),
         Some(RequestProblem::Week { week, weeks }) => Err(Error::Usage(format!(
             "the goal week {week} is outside the protocol; allowed 1 to {weeks} (the plan's weeks)"

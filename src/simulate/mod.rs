@@ -243,6 +243,23 @@ pub fn simulate(plan: &Plan) -> Result<Simulation, Error> {
 /// sessions of `observed` up to its `as_of` date (docs/model.md section 7). The no-exercise
 /// counterfactual behind `dose_share` is not re-anchored.
 pub fn simulate_observed(plan: &Plan, observed: Option<&Observed>) -> Result<Simulation, Error> {
+    simulate_runs(plan, observed, observed.is_some())
+}
+
+/// Simulate every scenario with the delivered sessions of `observed` up to its
+/// `as_of` date, from the baseline and never re-anchored at the weigh-ins: one
+/// continuous projection to set the weigh-ins beside (the charts with a log,
+/// docs/design.md), whose energy is the model's and never the scale's noise.
+pub fn simulate_delivered(plan: &Plan, observed: &Observed) -> Result<Simulation, Error> {
+    simulate_runs(plan, Some(observed), false)
+}
+
+/// [`simulate_observed`] with re-anchoring at the weigh-ins on (`anchor`) or off.
+fn simulate_runs(
+    plan: &Plan,
+    observed: Option<&Observed>,
+    anchor: bool,
+) -> Result<Simulation, Error> {
     let (baseline, physiology) = calibrated(plan)?;
     let start_body = BodyState {
         fat_kg: baseline.fat_mass_kg,
@@ -287,7 +304,7 @@ pub fn simulate_observed(plan: &Plan, observed: Option<&Observed>) -> Result<Sim
             sc,
             RunMode {
                 observed,
-                anchor: observed.is_some(),
+                anchor,
                 ..RunMode::projection(plan)
             },
             deficits.as_deref(),

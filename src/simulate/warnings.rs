@@ -106,7 +106,7 @@ pub fn warnings(plan: &Plan, sim: &Simulation, screening: &ScreeningOutcome) -> 
                 "the ACSM equations' MET (VO2 / 3.5) assumes 3.5 ml/kg/min at rest, which overstates the resting rate, so the cost above rest may be misjudged"
             }
         };
-        out.push(w("older-adult-met", format!("age {:.0}: {source} in adults aged 60 or more (the Older Adult Compendium uses 2.7 ml/kg/min; Willis et al. 2024, J Sport Health Sci 13:13), so minutes may be too few for the energy target", subject.age_years)));
+        out.push(w("older-adult-met", format!("age {}: {source} in adults aged 60 or more (the Older Adult Compendium uses 2.7 ml/kg/min; Willis et al. 2024, J Sport Health Sci 13:13), so minutes may be too few for the energy target", crate::plan::participant::fmt_num(subject.age_years))));
     }
     if let Some(first) = sim.scenarios.first() {
         let easy_only: Vec<u32> = first

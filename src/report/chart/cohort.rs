@@ -38,7 +38,7 @@ pub fn cohort_mass_chart(r: &crate::report::cohort::CohortReport, u: Units) -> L
         .map_or(String::new(), |s| s.name.clone());
     LineChart {
         title: format!(
-            "Mass change at week {} by arm, over participants (scenario \"{scenario}\")",
+            "Mass change at week {} by arm (scenario \"{scenario}\")",
             r.weeks
         ),
         x_label: format!("Mass change from baseline [{}]", u.mass_label()),
@@ -101,7 +101,7 @@ pub fn cohort_minutes_chart(r: &crate::report::cohort::CohortReport) -> LineChar
         band: None,
         marker: None,
         caption: caption(
-            "Solid: median over participants; dashed: 5th and 95th percentiles. Minutes rise as mass falls for an energy dose.",
+            "Solid: median over participants; dashed: 5th and 95th percentiles. A participant who has dropped out counts as 0 minutes in every week after the last one exercised, so the percentiles fall as drop-out accumulates. The dashed level line across the weeks: the maximum session length. Minutes rise as mass falls for an energy dose.",
         ),
         x_range: Some((1.0, f64::from(r.weeks.max(2)))),
         y_includes_zero: true,

@@ -227,10 +227,30 @@ impl LineChart {
             out,
             PAD,
             PAD + TITLE_SIZE,
-            TITLE_SIZE,
+            self.title_size(),
             r##" font-weight="bold" fill="#000000""##,
             &self.title,
         );
+    }
+
+    /// The title's font size, px: 18, or smaller so that a long title
+    /// (a long scenario name) fits the canvas between the paddings instead of being
+    /// cut off at its right edge.
+    pub fn title_size(&self) -> f64 {
+        let width_at_1px = text_width(&self.title, 1.0) * BOLD_WIDTH;
+        if width_at_1px <= 0.0 {
+            return TITLE_SIZE;
+        }
+        TITLE_SIZE.min((WIDTH - 2.0 * PAD) / width_at_1px)
+    }
+
+    /// The title's estimated width at [`LineChart::title_size`], px, and the width it
+    /// has (the canvas less the paddings).
+    pub fn title_width(&self) -> (f64, f64) {
+        (
+            text_width(&self.title, self.title_size()) * BOLD_WIDTH,
+            WIDTH - 2.0 * PAD,
+        )
     }
 
     /// The band and the lines, clipped to the plot.

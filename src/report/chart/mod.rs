@@ -14,11 +14,13 @@ mod axes;
 mod cohort;
 mod engine;
 mod legend;
+mod logged;
 mod standard;
 mod svg;
 
 pub use axes::{Ticks, nice_number, nice_ticks};
 pub use cohort::{cohort_mass_chart, cohort_minutes_chart, cohort_power_chart};
+pub use logged::{WeighInPoint, logged_charts};
 pub use standard::{composition_chart, energy_chart, mass_chart, minutes_chart, standard_charts};
 pub use svg::escape;
 
@@ -33,6 +35,9 @@ const PAD: f64 = 16.0;
 /// Font sizes, px: chosen to stay readable when the 900 px figure is printed at
 /// single-column width.
 const TITLE_SIZE: f64 = 18.0;
+/// How much wider bold text runs than regular in the sans-serif families asked for
+/// (DejaVu Sans Bold against Book, about 10 %; from memory), rounded up.
+const BOLD_WIDTH: f64 = 1.12;
 const LABEL_SIZE: f64 = 14.0;
 const TEXT_SIZE: f64 = 13.0;
 /// Baseline-to-baseline distance of the caption and legend lines, px.
