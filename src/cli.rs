@@ -6,6 +6,12 @@ use clap::{Args, Parser, Subcommand, ValueEnum, value_parser};
 use std::net::SocketAddr;
 use std::path::PathBuf;
 
+mod register;
+pub use register::{
+    ByArgs, CorrectArgs, DayArgs, DayFormat, FromRegisterArgs, ListFormat, RegisterAction,
+    RegisterArgs,
+};
+
 /// Plan exercise as a dose of energy, re-prescribe session minutes as body mass
 /// falls, and project body composition under stated compensation assumptions.
 #[derive(Debug, Parser)]
@@ -120,12 +126,20 @@ pub enum LogAction {
 /// Append one validated row (a weigh-in or a delivered session) to the log.
 #[derive(Debug, Clone, Args)]
 #[command(group = clap::ArgGroup::new("kind").required(true).args(["weigh_in", "session"]))]
+#[command(group = clap::ArgGroup::new("log_source").required(true).args(["log", "register"]))]
 pub struct LogAddArgs {
-    /// The plan the log belongs to.
-    pub plan: PathBuf,
+    /// The plan the log belongs to (not with --register: the register holds it).
+    #[arg(required_unless_present = "register")]
+    pub plan: Option<PathBuf>,
     /// The log file (created with its header if missing).
     #[arg(long, value_name = "FILE")]
-    pub log: PathBuf,
+    pub log: Option<PathBuf>,
+    /// Record in a trial register instead of a CSV log.
+    #[command(flatten)]
+    pub from: FromRegisterArgs,
+    /// With --register: who records.
+    #[command(flatten)]
+    pub by: ByArgs,
     /// The row's date (YYYY-MM-DD; default: today). The row goes to its place by date.
     #[arg(long, value_name = "DATE")]
     pub date: Option<NaiveDate>,
@@ -187,15 +201,20 @@ pub struct LogAddArgs {
     pub note: Option<String>,
 }
 
-/// The optional participant log of `schedule`, `calendar`, `compare` and `goal`.
+/// The optional participant log of `schedule`, `calendar`, `compare` and `goal`: a
+/// CSV log, or a participant in a register.
 #[derive(Debug, Clone, Args)]
+#[command(group = clap::ArgGroup::new("log_source").args(["log", "register"]))]
 pub struct LogArgs {
     /// A participant log (CSV): re-plan from its weigh-ins and delivered sessions.
     #[arg(long, value_name = "FILE")]
     pub log: Option<PathBuf>,
     /// Use the log up to this date (YYYY-MM-DD; default: the log's last date).
-    #[arg(long = "as-of", value_name = "DATE", requires = "log")]
+    #[arg(long = "as-of", value_name = "DATE", requires = "log_source")]
     pub as_of: Option<NaiveDate>,
+    /// Or a participant in a register.
+    #[command(flatten)]
+    pub from: FromRegisterArgs,
 }
 
 /// Units of mass, speed and height in human-facing output.
@@ -358,6 +377,8 @@ pub enum Command {
     Pilot(PilotArgs),
     /// The trainer's desk: a local web server over a register, its accounts, and a demo register.
     Desk(DeskArgs),
+    /// The site's trial register: participants, weigh-ins, sessions, corrections and their audit, the day view.
+    Register(RegisterArgs),
     /// List or search the built-in activity table and show the ACSM equations.
     Activities(ActivitiesArgs),
 }
@@ -446,7 +467,7 @@ pub struct SheetsArgs {
     #[command(flatten)]
     pub logged: LogArgs,
     /// PLAN is a study file: print every participant of this roster in its arm, in roster order.
-    #[arg(long, value_name = "FILE", requires = "plan", conflicts_with = "log")]
+    #[arg(long, value_name = "FILE", requires = "plan", conflicts_with_all = ["log", "register"])]
     pub roster: Option<PathBuf>,
     /// With --roster: assign arms by permuted blocks stratified by sex (as `cohort --randomise`).
     #[arg(long, requires = "roster")]
@@ -462,8 +483,9 @@ pub struct SheetsArgs {
 /// Compare every scenario side by side at checkpoint weeks, optionally for several doses.
 #[derive(Debug, Clone, Args)]
 pub struct CompareArgs {
-    /// The plan file (TOML).
-    pub plan: PathBuf,
+    /// The plan file (TOML; not with --register).
+    #[arg(required_unless_present = "register")]
+    pub plan: Option<PathBuf>,
     /// Add a checkpoint week (repeatable); weeks 4, 12, 26 and the ends are always shown.
     #[arg(long = "at-week", value_name = "N")]
     pub at_week: Vec<u32>,
@@ -494,8 +516,9 @@ pub struct CompareArgs {
 #[derive(Debug, Clone, Args)]
 #[command(group = clap::ArgGroup::new("loss").required(true).args(["lose_kg", "lose_percent"]))]
 pub struct GoalArgs {
-    /// The plan file (TOML).
-    pub plan: PathBuf,
+    /// The plan file (TOML; not with --register).
+    #[arg(required_unless_present = "register")]
+    pub plan: Option<PathBuf>,
     /// Loss wanted, kg.
     #[arg(long, value_name = "KG", allow_negative_numbers = true)]
     pub lose_kg: Option<f64>,
@@ -524,15 +547,20 @@ pub struct GoalArgs {
 
 /// Estimate from the log's weigh-ins how much of the dose is not reaching the stores.
 #[derive(Debug, Clone, Args)]
+#[command(group = clap::ArgGroup::new("log_source").required(true).args(["log", "register"]))]
 pub struct FitArgs {
-    /// The plan file (TOML).
-    pub plan: PathBuf,
+    /// The plan file (TOML; not with --register).
+    #[arg(required_unless_present = "register")]
+    pub plan: Option<PathBuf>,
     /// The participant log (CSV).
     #[arg(long, value_name = "FILE")]
-    pub log: PathBuf,
+    pub log: Option<PathBuf>,
     /// Use the log up to this date (YYYY-MM-DD; default: the log's last date).
     #[arg(long = "as-of", value_name = "DATE")]
     pub as_of: Option<NaiveDate>,
+    /// Or a participant in a register.
+    #[command(flatten)]
+    pub from: FromRegisterArgs,
     /// Which scenario parameter to estimate.
     #[arg(long, value_enum, default_value_t = FitParameterArg::IntakeFraction)]
     pub parameter: FitParameterArg,

@@ -1,8 +1,6 @@
 //! `calendar`: the planned sessions as an iCalendar file.
 
-use super::{
-    LogInput, Printed, check_outputs, display_units, load, read_log, warning_lines, write_output,
-};
+use super::{LogInput, Printed, check_outputs, display_units, warning_lines, write_output};
 use crate::cli::CalendarArgs;
 use crate::error::Error;
 use crate::plan::Plan;
@@ -11,7 +9,6 @@ use crate::report::{self, ScheduleReport};
 use crate::safety::Warning;
 use crate::simulate::simulate_observed;
 use chrono::{DateTime, NaiveDate, NaiveDateTime, Utc};
-use std::path::Path;
 
 /// What `calendar` asks for besides the plan and the log.
 #[derive(Debug, Clone, Default, PartialEq, Eq)]
@@ -118,15 +115,9 @@ pub fn calendar_file(
 pub fn run(args: &CalendarArgs) -> Result<Printed, Error> {
     let stamp = args.stamp.as_deref().map(parse_stamp).transpose()?;
     check_span(args.from, args.to)?;
-    let inputs: Vec<&Path> = args
-        .plan
-        .iter()
-        .chain(args.logged.log.iter())
-        .map(|p| p.as_path())
-        .collect();
+    let inputs = super::log_inputs(args.plan.as_deref(), &args.logged);
     check_outputs(Some(&args.out), None, &inputs)?;
-    let plan = load(args.plan.as_deref())?;
-    let log = read_log(&plan, args.logged.log.as_deref(), args.logged.as_of)?;
+    let (plan, log) = super::plan_and_logged(args.plan.as_deref(), &args.logged, Ok)?;
     let request = CalendarRequest {
         scenario: args.scenario.clone(),
         stamp,

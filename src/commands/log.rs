@@ -7,12 +7,14 @@ use crate::error::Error;
 use crate::log::{NewEntry, NewRow, append_row_checked};
 use crate::report::units::KG_PER_LB;
 
-/// Run `log add`.
+/// Run `log add`: on a CSV log, or (`--register`) on a participant in a register.
 pub fn run(args: &LogAddArgs) -> Result<Printed, Error> {
-    if same_file(&args.log, &args.plan) {
+    if let (Some(log), Some(plan)) = (&args.log, &args.plan)
+        && same_file(log, plan)
+    {
         return Err(Error::Usage(format!(
             "--log {}: that is the plan file; give the log's CSV file",
-            args.log.display()
+            log.display()
         )));
     }
     // clap lets `requires = "session"` be met by any member of the required
@@ -37,8 +39,19 @@ pub fn run(args: &LogAddArgs) -> Result<Printed, Error> {
                 .to_string(),
         ));
     }
-    crate::output::check_log(&args.log)?;
-    let plan = load(Some(&args.plan))?;
+    if let (Some(register), Some(code)) = (&args.from.register, &args.from.participant) {
+        return super::register::record(args, register, code);
+    }
+    let (Some(log), Some(plan)) = (&args.log, &args.plan) else {
+        unreachable!("clap requires PLAN and --log, or --register")
+    };
+    if args.by.by.is_some() {
+        return Err(Error::Usage(
+            "--by names who records in a register; a CSV log does not keep it. Leave out --by, or record with --register".to_string(),
+        ));
+    }
+    crate::output::check_log(log)?;
+    let plan = load(Some(plan))?;
     let entry = match (args.weigh_in, args.session) {
         (Some(mass), _) => NewEntry::WeighIn {
             mass_kg: to_kg(mass, args.units)?,
@@ -62,7 +75,7 @@ pub fn run(args: &LogAddArgs) -> Result<Printed, Error> {
         entry,
         note: args.note.clone(),
     };
-    let (mut said, warnings) = append_row_checked(&args.log, &plan, &row, args.accept_jump)?;
+    let (mut said, warnings) = append_row_checked(log, &plan, &row, args.accept_jump)?;
     if let (UnitsArg::Us, Some(lb)) = (args.units, args.weigh_in) {
         said.push_str(&format!(" (given as {lb} lb)"));
     }
@@ -75,7 +88,7 @@ pub fn run(args: &LogAddArgs) -> Result<Printed, Error> {
 /// A weigh-in given in `units`, in kg (the log always holds kg): a pound is
 /// 0.45359237 kg exactly. A value that is not a finite positive number is refused
 /// here, before any conversion could hide it.
-fn to_kg(mass: f64, units: UnitsArg) -> Result<f64, Error> {
+pub(crate) fn to_kg(mass: f64, units: UnitsArg) -> Result<f64, Error> {
     let unit = match units {
         UnitsArg::Metric => return Ok(mass),
         UnitsArg::Us => "lb",

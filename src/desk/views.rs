@@ -12,7 +12,7 @@
 
 use crate::error::Error;
 use crate::planning::{LogInput, schedule_report_logged};
-use crate::register::{self, Participant, Row, Store, Which};
+use crate::register::{self, Measure, Participant, Row, Store, Which};
 use crate::report::ScheduleReport;
 use crate::report::sessions::{PlannedSession, SessionPlan, session_plan};
 use chrono::NaiveDate;
@@ -133,6 +133,8 @@ pub struct DayLine {
     pub recorded: Vec<Row>,
     /// The screening result in words.
     pub screening: String,
+    /// Medical clearance is needed and not on file.
+    pub clearance_missing: bool,
     /// The number of warnings on the participant's schedule.
     pub warnings: usize,
 }
@@ -179,6 +181,7 @@ pub fn day_view(store: &dyn Store, cache: &Cache, date: NaiveDate) -> Result<Day
             due,
             recorded,
             screening: replan.report.screening.recommendation.clone(),
+            clearance_missing: replan.report.screening.clearance_missing,
             warnings: replan.report.warnings.len(),
         });
     }
@@ -198,5 +201,59 @@ pub fn sheet_input(replan: &Replan, weeks: Vec<u32>) -> crate::report::sheets::S
         screening: replan.report.screening.clone(),
         log: replan.report.log.clone(),
         units: crate::report::units::Units::default(),
+    }
+}
+
+/// A row's values in words (`80.2 kg, body fat 31%`, `27 min at target, HR 121`),
+/// as the desk and the command line show them.
+pub fn describe(m: &Measure) -> String {
+    match m {
+        Measure::WeighIn(w) => {
+            let mut s = format!("{} kg", round_text(w.mass_kg, 2));
+            if let Some(bf) = w.body_fat_percent {
+                s.push_str(&format!(", body fat {bf}%"));
+                if let Some(m) = &w.body_fat_method {
+                    s.push_str(&format!(" ({m})"));
+                }
+            }
+            s
+        }
+        Measure::Session(x) => {
+            let mut s = format!("{} min at target", x.minutes);
+            if let Some(c) = &x.compendium_code {
+                s.push_str(&format!(", code {c}"));
+            }
+            if let Some(m) = x.met {
+                s.push_str(&format!(", {m} MET"));
+            }
+            if let Some(w) = x.watts {
+                s.push_str(&format!(", {w} W"));
+            }
+            if let Some(v) = x.speed_kmh {
+                s.push_str(&format!(", {v} km/h"));
+            }
+            if let Some(h) = x.avg_hr_bpm {
+                s.push_str(&format!(", HR {h}"));
+            }
+            if let Some(r) = x.rpe {
+                s.push_str(&format!(", RPE {r}"));
+            }
+            s
+        }
+    }
+}
+
+/// `x` to `decimals` places without trailing zeros.
+pub fn round_text(x: f64, decimals: usize) -> String {
+    let s = format!("{x:.decimals$}");
+    let s = s.trim_end_matches('0').trim_end_matches('.');
+    s.to_string()
+}
+
+/// A session's target heart-rate range in words.
+pub fn hr_text(s: &crate::report::sessions::PlannedSession) -> String {
+    match &s.targets.heart_rate {
+        Some(h) => format!("{}-{} bpm", h.low_bpm, h.high_bpm),
+        None => "no resting HR on file".to_string(),
     }
 }

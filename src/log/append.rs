@@ -149,9 +149,8 @@ fn refuse_a_jump(name: &str, plan: &Plan, rows: &[LogRow], index: usize) -> Resu
     let after = rows[index + 1..]
         .iter()
         .find_map(|r| mass(r).map(|m| (r, m)));
-    let mut others: Vec<(String, chrono::NaiveDate, f64)> = Vec::new();
-    for (r, m) in before.into_iter().chain(after) {
-        others.push((
+    let words = |(r, m): (&LogRow, f64)| {
+        (
             format!(
                 "the weigh-in of {} ({} kg, line {})",
                 r.date,
@@ -160,33 +159,21 @@ fn refuse_a_jump(name: &str, plan: &Plan, rows: &[LogRow], index: usize) -> Resu
             ),
             r.date,
             m,
-        ));
-    }
-    let start = plan.protocol.start;
-    let base = plan.participant.subject.mass_kg;
-    others.push((
-        format!("the plan's baseline ({} kg on {start})", num(base)),
-        start,
-        base,
-    ));
-    for (what, date, m) in others {
-        let days = (row.date - date).num_days();
-        if super::plausible::is_implausible(m, days, kg) {
-            let allowed = super::plausible::allowed_change_kg(m, days);
-            let change = kg - m;
-            return Err(Error::Usage(format!(
-                "{name}: the weigh-in of {} ({} kg) is {} kg {} {what}, more than the {} kg allowed over {} {}; check the entry (a mass in the wrong unit: --units us takes pounds; another scale; a typing slip); if it is right, add it with --accept-jump. The file is unchanged",
+        )
+    };
+    let base = (plan.protocol.start, plan.participant.subject.mass_kg);
+    match super::plausible::first_jump(row.date, kg, before.map(words), after.map(words), base) {
+        Some(jump) => Err(Error::Usage(format!(
+            "{name}: {}",
+            jump.message(
                 row.date,
-                num(kg),
-                num(change.abs()),
-                if change > 0.0 { "above" } else { "below" },
-                num(allowed),
-                days.abs(),
-                if days.abs() == 1 { "day" } else { "days" },
-            )));
-        }
+                kg,
+                "add it with --accept-jump",
+                "The file is unchanged"
+            )
+        ))),
+        None => Ok(()),
     }
-    Ok(())
 }
 
 /// A number to two decimals, without trailing zeros.
