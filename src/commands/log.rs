@@ -5,7 +5,7 @@ use crate::cli::LogAddArgs;
 use crate::cli::UnitsArg;
 use crate::error::Error;
 use crate::log::{NewEntry, NewRow, append_row_checked};
-use crate::report::units::KG_PER_LB;
+use super::to_kg;
 
 /// Run `log add`: on a CSV log, or (`--register`) on a participant in a register.
 pub fn run(args: &LogAddArgs) -> Result<Printed, Error> {
@@ -83,20 +83,4 @@ pub fn run(args: &LogAddArgs) -> Result<Printed, Error> {
         stdout: String::new(),
         stderr: format!("{said}\n{}", warning_lines(&warnings)),
     })
-}
-
-/// A weigh-in given in `units`, in kg (the log always holds kg): a pound is
-/// 0.45359237 kg exactly. A value that is not a finite positive number is refused
-/// here, before any conversion could hide it.
-pub(crate) fn to_kg(mass: f64, units: UnitsArg) -> Result<f64, Error> {
-    let unit = match units {
-        UnitsArg::Metric => return Ok(mass),
-        UnitsArg::Us => "lb",
-    };
-    if !(mass.is_finite() && mass > 0.0) {
-        return Err(Error::Usage(format!(
-            "--weigh-in {mass}: give the measured mass in {unit}, a positive number"
-        )));
-    }
-    Ok(mass * KG_PER_LB)
 }

@@ -269,3 +269,19 @@ pub(crate) fn warning_lines(warnings: &[Warning]) -> String {
         .map(|w| format!("warning [{}]: {}\n", w.code, w.message))
         .collect()
 }
+
+/// A weigh-in given in `units`, in kg (the log always holds kg): a pound is
+/// 0.45359237 kg exactly. A value that is not a finite positive number is refused
+/// here, before any conversion could hide it.
+pub(crate) fn to_kg(mass: f64, units: UnitsArg) -> Result<f64, Error> {
+    let unit = match units {
+        UnitsArg::Metric => return Ok(mass),
+        UnitsArg::Us => "lb",
+    };
+    if !(mass.is_finite() && mass > 0.0) {
+        return Err(Error::Usage(format!(
+            "--weigh-in {mass}: give the measured mass in {unit}, a positive number"
+        )));
+    }
+    Ok(mass * crate::report::units::KG_PER_LB)
+}

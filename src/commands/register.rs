@@ -203,7 +203,7 @@ fn measure_of(args: &LogAddArgs, date: chrono::NaiveDate) -> Result<Measure, Err
     Ok(match (args.weigh_in, args.session) {
         (Some(mass), _) => Measure::WeighIn(WeighIn {
             date,
-            mass_kg: super::log::to_kg(mass, args.units)?,
+            mass_kg: super::to_kg(mass, args.units)?,
             body_fat_percent: args.body_fat,
             body_fat_method: None,
             note,
@@ -332,7 +332,7 @@ fn correct(c: &CorrectArgs) -> Result<Printed, Error> {
                 }
             }
             if let Some(mass) = c.weigh_in {
-                w.mass_kg = super::log::to_kg(mass, c.units)?;
+                w.mass_kg = super::to_kg(mass, c.units)?;
             }
             w.body_fat_percent = c.body_fat.or(w.body_fat_percent);
         }
