@@ -54,10 +54,17 @@ fn summary(v: &DayView) -> String {
     )
 }
 
-/// The standing cautions as text, after a line on where the screening results are.
-pub fn cautions_text() -> String {
+/// The screening result of each participant in the view, then the standing
+/// cautions, as text (after the table, and on standard error beside the CSV).
+pub fn cautions_text(v: &DayView) -> String {
     let mut s = String::from("Cautions\n");
-    s.push_str("  - Screening result: each participant's, in the Screening column above.\n");
+    for l in &v.lines {
+        s.push_str(&format!("  - Screening result of {}: {}.", l.code, l.screening));
+        if l.clearance_missing {
+            s.push_str(" Medical clearance is needed and not on file.");
+        }
+        s.push('\n');
+    }
     for c in CAUTIONS {
         s.push_str(&format!("  - {c}\n"));
     }
@@ -110,7 +117,7 @@ pub fn table(v: &DayView, register: &str) -> String {
         "Day view {} ({register})\n{}\n\n{body}\n{}",
         v.date.format("%A %Y-%m-%d"),
         summary(v),
-        cautions_text()
+        cautions_text(v)
     )
 }
 

@@ -21,7 +21,7 @@ pub fn run(args: &DayArgs) -> Result<Printed, Error> {
         DayFormat::Table => print::table(&view, &name),
         DayFormat::Html => print::html(&view, &name),
         DayFormat::Csv => {
-            printed.stderr = print::cautions_text();
+            printed.stderr = print::cautions_text(&view);
             print::csv(&view)?
         }
     };
