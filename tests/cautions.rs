@@ -753,10 +753,7 @@ const NOT_REPORTS: &[((&str, &str), &str)] = &[
         ("register create", ""),
         "one line naming the register created",
     ),
-    (
-        ("register enrol", ""),
-        "one line per participant enrolled",
-    ),
+    (("register enrol", ""), "one line per participant enrolled"),
     (
         ("register participants", "table"),
         "the participants' codes, arms and enrolment stamps",
@@ -1015,7 +1012,14 @@ fn audited_text(a: &Audited, plan: &str, roster: &str) -> String {
 fn day_register(dir: &Scratch) {
     for args in [
         &["register", "create", "day.register"][..],
-        &["register", "enrol", "day.register", "plan.toml", "--by", "audit"],
+        &[
+            "register",
+            "enrol",
+            "day.register",
+            "plan.toml",
+            "--by",
+            "audit",
+        ],
         &[
             "register",
             "import",

@@ -1,11 +1,11 @@
 //! `log add`: append one validated row to a participant log.
 
+use super::to_kg;
 use super::{Printed, load, same_file, warning_lines};
 use crate::cli::LogAddArgs;
 use crate::cli::UnitsArg;
 use crate::error::Error;
 use crate::log::{NewEntry, NewRow, append_row_checked};
-use super::to_kg;
 
 /// Run `log add`: on a CSV log, or (`--register`) on a participant in a register.
 pub fn run(args: &LogAddArgs) -> Result<Printed, Error> {

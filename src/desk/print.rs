@@ -59,7 +59,10 @@ fn summary(v: &DayView) -> String {
 pub fn cautions_text(v: &DayView) -> String {
     let mut s = String::from("Cautions\n");
     for l in &v.lines {
-        s.push_str(&format!("  - Screening result of {}: {}.", l.code, l.screening));
+        s.push_str(&format!(
+            "  - Screening result of {}: {}.",
+            l.code, l.screening
+        ));
         if l.clearance_missing {
             s.push_str(" Medical clearance is needed and not on file.");
         }
