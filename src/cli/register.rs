@@ -171,7 +171,7 @@ pub enum RegisterAction {
         /// The copy (must not exist).
         copy: PathBuf,
     },
-    /// Check the register's integrity and schema (exit 1 when anything is wrong).
+    /// Check the register's integrity and schema (exit 2 with the findings when anything is wrong).
     Check {
         /// The register.
         register: PathBuf,
