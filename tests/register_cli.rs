@@ -659,3 +659,45 @@ fn two_processes_recording_at_once_keep_every_row_once() {
 fn four_processes_recording_at_once_keep_every_row_once() {
     concurrent_writers(4, 25);
 }
+
+#[test]
+fn enrolling_a_study_and_roster_gives_each_dosed_participant_their_arm_and_values() {
+    use common::hard_edges::{ROSTER, STUDY};
+    let dir = Scratch::new("register-study");
+    dir.write("study.toml", STUDY);
+    dir.write("roster.csv", ROSTER);
+    ok(&dir, &["register", "create", "site.db"]);
+    let r = ok(
+        &dir,
+        &[
+            "register", "enrol", "site.db", "--study", "study.toml", "--roster", "roster.csv",
+        ],
+    );
+    let roster = csv_rows(ROSTER);
+    let listed = csv_rows(&ok(&dir, &["register", "participants", "site.db", "--format", "csv"]).stdout);
+    // Everyone outside the control arm (no dose), with the roster's arm.
+    let dosed: Vec<&BTreeMap<String, String>> =
+        roster.iter().filter(|r| r["arm"] != "control").collect();
+    assert_eq!(listed.len(), dosed.len(), "{}", r.stderr);
+    for (p, want) in listed.iter().zip(&dosed) {
+        assert_eq!(p["participant"], want["id"]);
+        assert_eq!(p["arm"], want["arm"]);
+        // The roster row's values are the plan's: the schedule's baseline mass.
+        let json: serde_json::Value = serde_json::from_str(
+            &ok(
+                &dir,
+                &[
+                    "schedule", "--register", "site.db", "--participant", &want["id"], "--format",
+                    "json",
+                ],
+            )
+            .stdout,
+        )
+        .unwrap();
+        let mass: f64 = want["mass_kg"].parse().unwrap();
+        assert_eq!(json["baseline"]["mass_kg"].as_f64(), Some(mass), "{}", want["id"]);
+    }
+    for control in roster.iter().filter(|r| r["arm"] == "control") {
+        assert!(r.stderr.contains(&format!("not enrolled: {}", control["id"])), "{}", r.stderr);
+    }
+}
