@@ -670,11 +670,23 @@ fn enrolling_a_study_and_roster_gives_each_dosed_participant_their_arm_and_value
     let r = ok(
         &dir,
         &[
-            "register", "enrol", "site.db", "--study", "study.toml", "--roster", "roster.csv",
+            "register",
+            "enrol",
+            "site.db",
+            "--study",
+            "study.toml",
+            "--roster",
+            "roster.csv",
         ],
     );
     let roster = csv_rows(ROSTER);
-    let listed = csv_rows(&ok(&dir, &["register", "participants", "site.db", "--format", "csv"]).stdout);
+    let listed = csv_rows(
+        &ok(
+            &dir,
+            &["register", "participants", "site.db", "--format", "csv"],
+        )
+        .stdout,
+    );
     // Everyone outside the control arm (no dose), with the roster's arm.
     let dosed: Vec<&BTreeMap<String, String>> =
         roster.iter().filter(|r| r["arm"] != "control").collect();
@@ -687,7 +699,12 @@ fn enrolling_a_study_and_roster_gives_each_dosed_participant_their_arm_and_value
             &ok(
                 &dir,
                 &[
-                    "schedule", "--register", "site.db", "--participant", &want["id"], "--format",
+                    "schedule",
+                    "--register",
+                    "site.db",
+                    "--participant",
+                    &want["id"],
+                    "--format",
                     "json",
                 ],
             )
@@ -695,9 +712,19 @@ fn enrolling_a_study_and_roster_gives_each_dosed_participant_their_arm_and_value
         )
         .unwrap();
         let mass: f64 = want["mass_kg"].parse().unwrap();
-        assert_eq!(json["baseline"]["mass_kg"].as_f64(), Some(mass), "{}", want["id"]);
+        assert_eq!(
+            json["baseline"]["mass_kg"].as_f64(),
+            Some(mass),
+            "{}",
+            want["id"]
+        );
     }
     for control in roster.iter().filter(|r| r["arm"] == "control") {
-        assert!(r.stderr.contains(&format!("not enrolled: {}", control["id"])), "{}", r.stderr);
+        assert!(
+            r.stderr
+                .contains(&format!("not enrolled: {}", control["id"])),
+            "{}",
+            r.stderr
+        );
     }
 }
