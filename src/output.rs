@@ -364,21 +364,28 @@ pub fn write_charts(
     stem: &str,
     charts: &[(&str, String)],
 ) -> Result<Vec<PathBuf>, Error> {
+    let files: Vec<(String, &str)> = charts
+        .iter()
+        .map(|(name, svg)| (format!("{stem}-{name}.svg"), svg.as_str()))
+        .collect();
+    write_files(dir, &files)
+}
+
+/// Write each `(file name, text)` into `dir` (creating `dir` if missing), all or
+/// nothing, as [`write_charts`] does. Returns the paths in the order given.
+pub fn write_files(dir: &Path, files: &[(String, &str)]) -> Result<Vec<PathBuf>, Error> {
     check_chart_folder(dir)?;
     std::fs::create_dir_all(dir).map_err(|e| output_error(dir, &e))?;
-    let paths: Vec<PathBuf> = charts
-        .iter()
-        .map(|(name, _)| dir.join(format!("{stem}-{name}.svg")))
-        .collect();
+    let paths: Vec<PathBuf> = files.iter().map(|(name, _)| dir.join(name)).collect();
     for p in &paths {
         check_target(p, false)?;
     }
-    // Write and sync every chart unnamed, then name them all, then rename them all:
-    // a failure before the renames leaves every old chart in place.
+    // Write and sync every file unnamed, then name them all, then rename them all:
+    // a failure before the renames leaves every old file in place.
     let mut staged = paths
         .iter()
-        .zip(charts)
-        .map(|(p, (_, svg))| stage(p, svg.as_bytes()))
+        .zip(files)
+        .map(|(p, (_, text))| stage(p, text.as_bytes()))
         .collect::<Result<Vec<_>, Error>>()?;
     let _guard = commit_guard();
     for s in &mut staged {

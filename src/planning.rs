@@ -69,7 +69,25 @@ pub fn schedule_report_with_band(
 /// The schedule report of a plan with its log (if any): band, log summary, log warnings.
 pub fn schedule_report_logged(plan: &Plan, log: &LogInput) -> Result<ScheduleReport, Error> {
     let mut r = schedule_report_with_band(plan, log.observed.as_ref())?;
+    add_log(&mut r, log);
+    Ok(r)
+}
+
+/// [`schedule_report_logged`] without the projection band (which re-runs the plan
+/// for every level of the RMR and body-fat errors): for views that need the
+/// re-planned sessions, the screening and the warnings only, such as the day view.
+pub fn schedule_report_logged_without_band(
+    plan: &Plan,
+    log: &LogInput,
+) -> Result<ScheduleReport, Error> {
+    let sim = simulate_observed(plan, log.observed.as_ref())?;
+    let mut r = ScheduleReport::new(plan, sim);
+    add_log(&mut r, log);
+    Ok(r)
+}
+
+/// The log's warnings and summary on a report.
+fn add_log(r: &mut ScheduleReport, log: &LogInput) {
     r.warnings.extend(log.warnings.iter().cloned());
     r.log = log.summary.clone();
-    Ok(r)
 }

@@ -156,6 +156,45 @@ const AUDIT: &[Audited] = &[
         Screen::Roster,
     ),
     audited(
+        "register day table",
+        ("register day", "table"),
+        &["register", "day", "day.register", "--date", "2027-03-22"],
+        Where::Stdout,
+        Screen::Outcome,
+    ),
+    audited(
+        "register day csv side notes",
+        ("register day", "csv"),
+        &[
+            "register",
+            "day",
+            "day.register",
+            "--date",
+            "2027-03-22",
+            "--format",
+            "csv",
+        ],
+        Where::Stderr,
+        Screen::Outcome,
+    ),
+    audited(
+        "register day html",
+        ("register day", "html"),
+        &[
+            "register",
+            "day",
+            "day.register",
+            "--date",
+            "2027-03-22",
+            "--format",
+            "html",
+            "--out",
+            "day.html",
+        ],
+        Where::File("day.html"),
+        Screen::Outcome,
+    ),
+    audited(
         "schedule table",
         ("schedule", "table"),
         &["schedule", "plan.toml"],
@@ -761,6 +800,59 @@ const NOT_REPORTS: &[((&str, &str), &str)] = &[
         ("desk account", ""),
         "one confirmation line per account action",
     ),
+    // The register's listings show what was measured and changed; they prescribe
+    // nothing (the day view, which does, is in AUDIT).
+    (
+        ("register create", ""),
+        "one line naming the register created",
+    ),
+    (("register enrol", ""), "one line per participant enrolled"),
+    (
+        ("register participants", "table"),
+        "the participants' codes, arms and enrolment stamps",
+    ),
+    (
+        ("register participants", "csv"),
+        "the participants' codes, arms and enrolment stamps",
+    ),
+    (("register list", "table"), "the measured rows as recorded"),
+    (("register list", "csv"), "the measured rows as recorded"),
+    (
+        ("register correct", ""),
+        "one confirmation line naming the row corrected, the new row and the row's warnings",
+    ),
+    (
+        ("register correct", DISPLAY_UNITS),
+        "--units is the unit of the weigh-in typed in (stored as kg)",
+    ),
+    (
+        ("register void", ""),
+        "one confirmation line naming the row voided",
+    ),
+    (
+        ("register audit", "table"),
+        "the audit trail: who changed what, when and why",
+    ),
+    (
+        ("register audit", "csv"),
+        "the audit trail: who changed what, when and why",
+    ),
+    (
+        ("register import", ""),
+        "one confirmation line and the imported rows' warnings",
+    ),
+    (
+        ("register export", ""),
+        "data tables for analysis software, one line per file written",
+    ),
+    (
+        ("register backup", ""),
+        "one confirmation line naming the copy",
+    ),
+    (
+        ("register check", ""),
+        "the register's integrity and schema",
+    ),
 ];
 
 /// Gaps in the cautions that exist today, found by this audit (reported; their
@@ -966,6 +1058,9 @@ fn audited_text(a: &Audited, plan: &str, roster: &str) -> String {
         pilot_register_with(dir.path(), plan);
     }
     merge_shard(&dir, a.args);
+    if a.args.first() == Some(&"register") {
+        day_register(&dir);
+    }
     let r = run(dir.cmd().args(a.args));
     assert_eq!(r.code, Some(0), "{}: {}", a.name, r.stderr);
     match a.at {
@@ -984,6 +1079,35 @@ fn audited_text(a: &Audited, plan: &str, roster: &str) -> String {
                 t
             }
         }
+    }
+}
+
+/// The register the day view reads (`day.register`): the folder's plan enrolled,
+/// its log imported, through the binary.
+fn day_register(dir: &Scratch) {
+    for args in [
+        &["register", "create", "day.register"][..],
+        &[
+            "register",
+            "enrol",
+            "day.register",
+            "plan.toml",
+            "--by",
+            "audit",
+        ],
+        &[
+            "register",
+            "import",
+            "day.register",
+            "log.csv",
+            "--participant",
+            "DEMO-017",
+            "--by",
+            "audit",
+        ],
+    ] {
+        let r = run(dir.cmd().args(args));
+        assert_eq!(r.code, Some(0), "{args:?}: {}", r.stderr);
     }
 }
 

@@ -64,13 +64,19 @@ fn every_plan_taking_command_runs_the_demo_without_a_plan() {
 #[test]
 fn every_plan_argument_is_optional_in_the_help_but_log_add() {
     // The rule of docs/commands.md: `[PLAN]` everywhere; `log add` writes a
-    // participant's log and needs that participant's plan.
+    // participant's log and needs that participant's plan, unless the participant is
+    // in a register (`--register`), which holds the plan.
     for (cmd, _) in COMMANDS {
         let r = run(dosewright().args(cmd).arg("--help"));
         assert!(r.stdout.contains("[PLAN]"), "{cmd:?}: {}", r.stdout);
     }
-    let r = run(dosewright().args(["log", "add", "--help"]));
-    assert!(r.stdout.contains("<PLAN>"), "{}", r.stdout);
+    let dir = fresh("alike-log-add");
+    let r = run(dir
+        .cmd()
+        .args(["log", "add", "--log", "new-log.csv", "--weigh-in", "80"]));
+    assert_eq!(r.code, Some(2), "{}", r.stderr);
+    assert!(r.stderr.contains("<PLAN>"), "{}", r.stderr);
+    assert!(!dir.path().join("new-log.csv").exists());
 }
 
 #[test]

@@ -1,8 +1,6 @@
 //! `calendar`: the planned sessions as an iCalendar file.
 
-use super::{
-    LogInput, Printed, check_outputs, display_units, load, read_log, warning_lines, write_output,
-};
+use super::{LogInput, Printed, check_outputs, display_units, warning_lines, write_output};
 use crate::cli::CalendarArgs;
 use crate::error::Error;
 use crate::plan::Plan;
@@ -12,7 +10,6 @@ use crate::report::{self, ScheduleReport};
 use crate::safety::Warning;
 use crate::simulate::simulate_observed;
 use chrono::{DateTime, NaiveDate, NaiveDateTime, Utc};
-use std::path::Path;
 
 /// What `calendar` asks for besides the plan and the log.
 #[derive(Debug, Clone, Default, PartialEq, Eq)]
@@ -116,15 +113,9 @@ pub fn calendar_file(
 pub fn run(args: &CalendarArgs) -> Result<Printed, Error> {
     let stamp = args.stamp.as_deref().map(parse_stamp).transpose()?;
     check_span(args.from, args.to)?;
-    let inputs: Vec<&Path> = args
-        .plan
-        .iter()
-        .chain(args.logged.log.iter())
-        .map(|p| p.as_path())
-        .collect();
+    let inputs = super::log_inputs(args.plan.as_deref(), &args.logged);
     check_outputs(Some(&args.out), None, &inputs)?;
-    let plan = load(args.plan.as_deref())?;
-    let log = read_log(&plan, args.logged.log.as_deref(), args.logged.as_of)?;
+    let (plan, log) = super::plan_and_logged(args.plan.as_deref(), &args.logged, Ok)?;
     let to_stdout = crate::output::is_stdout(&args.out);
     let (previous, note) = if to_stdout {
         (Previous::new(), None)
@@ -173,7 +164,7 @@ fn clock_stamp() -> DateTime<Utc> {
 /// through the one reader and the icalendar crate's parser. A file there that is not
 /// a calendar gives no events and a note for standard error: it is written over, as
 /// `--out` always is, with every SEQUENCE 0.
-pub fn previous_calendar(out: &Path) -> Result<(Previous, Option<String>), Error> {
+pub fn previous_calendar(out: &std::path::Path) -> Result<(Previous, Option<String>), Error> {
     if std::fs::metadata(out).is_err() {
         return Ok((Previous::new(), None));
     }

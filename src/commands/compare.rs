@@ -3,8 +3,7 @@
 
 use super::schedule::schedule_report_logged;
 use super::{
-    LogInput, Printed, check_outputs, deliver, display_units, load, read_log, refuse_display_units,
-    side_notes_of,
+    LogInput, Printed, check_outputs, deliver, display_units, refuse_display_units, side_notes_of,
 };
 use crate::cli::{CompareArgs, CompareFormat};
 use crate::error::Error;
@@ -91,11 +90,11 @@ pub fn run(args: &CompareArgs) -> Result<Printed, Error> {
         CompareFormat::Csv => refuse_display_units(units, "csv")?,
         CompareFormat::Json => refuse_display_units(units, "json")?,
     }
-    let mut inputs: Vec<&std::path::Path> = args.plan.iter().map(|p| p.as_path()).collect();
-    inputs.extend(args.logged.log.as_deref());
+    let inputs = super::log_inputs(args.plan.as_deref(), &args.logged);
     check_outputs(args.out.as_deref(), args.chart.as_deref(), &inputs)?;
-    let plan = with_added_scenarios(load(args.plan.as_deref())?, &args.add_scenario)?;
-    let log = read_log(&plan, args.logged.log.as_deref(), args.logged.as_of)?;
+    let (plan, log) = super::plan_and_logged(args.plan.as_deref(), &args.logged, |p| {
+        with_added_scenarios(p, &args.add_scenario)
+    })?;
     let r = compare_report_logged(&plan, &log, &args.at_week, &args.doses)?;
     let text = match args.format {
         CompareFormat::Table => report::compare::render_table(&r, units),

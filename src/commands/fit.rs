@@ -1,7 +1,7 @@
 //! `fit`: how much of the dose is not reaching the stores, estimated from weigh-ins.
 
 use super::schedule::schedule_report;
-use super::{Printed, check_outputs, deliver, display_units, load, read_log, refuse_display_units};
+use super::{Printed, check_outputs, deliver, display_units, refuse_display_units};
 use crate::cli::{FitArgs, FitParameterArg, GoalFormat};
 use crate::error::Error;
 use crate::report;
@@ -13,18 +13,21 @@ pub fn run(args: &FitArgs) -> Result<Printed, Error> {
     if args.format == GoalFormat::Json {
         refuse_display_units(units, "json")?;
     }
-    check_outputs(
-        args.out.as_deref(),
-        args.chart.as_deref(),
-        &args
-            .plan
-            .iter()
-            .chain(std::iter::once(&args.log))
-            .map(|p| p.as_path())
-            .collect::<Vec<_>>(),
+    let inputs: Vec<&std::path::Path> = args
+        .plan
+        .iter()
+        .chain(&args.log)
+        .chain(&args.from.register)
+        .map(|p| p.as_path())
+        .collect();
+    check_outputs(args.out.as_deref(), args.chart.as_deref(), &inputs)?;
+    let (plan, input) = super::plan_and_log(
+        args.plan.as_deref(),
+        args.log.as_deref(),
+        &args.from,
+        args.as_of,
+        Ok,
     )?;
-    let plan = load(args.plan.as_deref())?;
-    let input = read_log(&plan, Some(&args.log), args.as_of)?;
     let schedule = schedule_report(&plan)?;
     let index = super::scenario_index(&schedule, args.scenario.as_deref())?;
     let param = match args.parameter {

@@ -2,7 +2,7 @@
 
 use super::compare::with_added_scenarios;
 use super::schedule::schedule_report;
-use super::{Printed, check_outputs, deliver, display_units, load, read_log, refuse_display_units};
+use super::{Printed, check_outputs, deliver, display_units, refuse_display_units};
 use crate::cli::{GoalArgs, GoalFormat};
 use crate::error::Error;
 use crate::report;
@@ -16,11 +16,11 @@ pub fn run(args: &GoalArgs) -> Result<Printed, Error> {
     if args.format == GoalFormat::Json {
         refuse_display_units(units, "json")?;
     }
-    let mut inputs: Vec<&std::path::Path> = args.plan.iter().map(|p| p.as_path()).collect();
-    inputs.extend(args.logged.log.as_deref());
+    let inputs = super::log_inputs(args.plan.as_deref(), &args.logged);
     check_outputs(args.out.as_deref(), None, &inputs)?;
-    let plan = with_added_scenarios(load(args.plan.as_deref())?, &args.add_scenario)?;
-    let log = read_log(&plan, args.logged.log.as_deref(), args.logged.as_of)?;
+    let (plan, log) = super::plan_and_logged(args.plan.as_deref(), &args.logged, |p| {
+        with_added_scenarios(p, &args.add_scenario)
+    })?;
     let m0 = plan.participant.subject.mass_kg;
     let lose = match (args.lose_kg, args.lose_percent) {
         (Some(kg), _) => kg,

@@ -1,18 +1,20 @@
 //! `log add`: append one validated row to a participant log.
 
+use super::to_kg;
 use super::{Printed, load, same_file, warning_lines};
 use crate::cli::LogAddArgs;
 use crate::cli::UnitsArg;
 use crate::error::Error;
 use crate::log::{NewEntry, NewRow, append_row_checked};
-use crate::report::units::KG_PER_LB;
 
-/// Run `log add`.
+/// Run `log add`: on a CSV log, or (`--register`) on a participant in a register.
 pub fn run(args: &LogAddArgs) -> Result<Printed, Error> {
-    if same_file(&args.log, &args.plan) {
+    if let (Some(log), Some(plan)) = (&args.log, &args.plan)
+        && same_file(log, plan)
+    {
         return Err(Error::Usage(format!(
             "--log {}: that is the plan file; give the log's CSV file",
-            args.log.display()
+            log.display()
         )));
     }
     // clap lets `requires = "session"` be met by any member of the required
@@ -37,13 +39,24 @@ pub fn run(args: &LogAddArgs) -> Result<Printed, Error> {
                 .to_string(),
         ));
     }
-    let writable = crate::output::check_log(&args.log);
-    if crate::output::is_stdout(&args.log) {
+    if let (Some(register), Some(code)) = (&args.from.register, &args.from.participant) {
+        return super::register::record(args, register, code);
+    }
+    let (Some(log), Some(plan)) = (&args.log, &args.plan) else {
+        unreachable!("clap requires PLAN and --log, or --register")
+    };
+    if args.by.by.is_some() {
+        return Err(Error::Usage(
+            "--by names who records in a register; a CSV log does not keep it. Leave out --by, or record with --register".to_string(),
+        ));
+    }
+    let writable = crate::output::check_log(log);
+    if crate::output::is_stdout(log) {
         writable.map_err(super::option_first("--log"))?;
     } else {
         writable?;
     }
-    let plan = load(Some(&args.plan))?;
+    let plan = load(Some(plan))?;
     let entry = match (args.weigh_in, args.session) {
         (Some(mass), _) => NewEntry::WeighIn {
             mass_kg: to_kg(mass, args.units)?,
@@ -68,7 +81,7 @@ pub fn run(args: &LogAddArgs) -> Result<Printed, Error> {
         note: args.note.clone(),
     };
     let (mut said, warnings) = append_row_checked(
-        &args.log,
+        log,
         &plan,
         &row,
         (!args.accept_jump).then_some(crate::log::JumpAdvice {
@@ -83,20 +96,4 @@ pub fn run(args: &LogAddArgs) -> Result<Printed, Error> {
         stdout: String::new(),
         stderr: format!("{said}\n{}", warning_lines(&warnings)),
     })
-}
-
-/// A weigh-in given in `units`, in kg (the log always holds kg): a pound is
-/// 0.45359237 kg exactly. A value that is not a finite positive number is refused
-/// here, before any conversion could hide it.
-fn to_kg(mass: f64, units: UnitsArg) -> Result<f64, Error> {
-    let unit = match units {
-        UnitsArg::Metric => return Ok(mass),
-        UnitsArg::Us => "lb",
-    };
-    if !(mass.is_finite() && mass > 0.0) {
-        return Err(Error::Usage(format!(
-            "--weigh-in {mass}: give the measured mass in {unit}, a positive number"
-        )));
-    }
-    Ok(mass * KG_PER_LB)
 }

@@ -5,7 +5,7 @@
 //! start of the command, before any work; every file a command writes goes through
 //! `write_output`. Those two are the only places that reach the file writer.
 
-use crate::cli::{Command, DisplayArgs, EnergyArg, LogAction, UnitsArg};
+use crate::cli::{Command, DisplayArgs, EnergyArg, FromRegisterArgs, LogAction, LogArgs, UnitsArg};
 use crate::error::Error;
 use crate::plan::{self, Plan};
 use crate::report::units::{EnergyUnit, UnitSystem, Units};
@@ -28,6 +28,7 @@ pub mod goal;
 pub mod init;
 pub mod log;
 pub mod pilot;
+pub mod register;
 pub mod schedule;
 pub mod sheets;
 
@@ -56,6 +57,7 @@ pub fn run(command: &Command) -> Result<Printed, Error> {
         Command::CohortMerge(args) => cohort_merge::run(args),
         Command::Pilot(args) => pilot::run(args),
         Command::Desk(args) => desk::run(args),
+        Command::Register(args) => register::run(args),
         Command::Check(args) => check::run(args),
         Command::Init(args) => init::run(args),
         Command::Activities(args) => activities::run(args),
@@ -89,6 +91,57 @@ pub fn read_log(
     check_as_of(plan, as_of)?;
     let (log, warnings) = crate::log::load_log(path, plan, as_of)?;
     Ok(LogInput::from_log(plan, &log, warnings, as_of))
+}
+
+/// The plan and the log of a log-reading command (`schedule`, `calendar`, `sheets`,
+/// `compare`, `goal`, `fit`): a plan file (or the demo) with an optional CSV log, or
+/// a participant in a register (`--register FILE --participant CODE`), whose stored
+/// plan and current rows are read exactly as `--log` reads the CSV log the register
+/// exports (docs/register.md). `edit` changes the plan before the log is taken in
+/// (`compare --add-scenario`).
+pub fn plan_and_log(
+    plan: Option<&Path>,
+    log: Option<&Path>,
+    from: &FromRegisterArgs,
+    as_of: Option<NaiveDate>,
+    edit: impl FnOnce(Plan) -> Result<Plan, Error>,
+) -> Result<(Plan, LogInput), Error> {
+    let (Some(register), Some(code)) = (&from.register, &from.participant) else {
+        let plan = edit(load(plan)?)?;
+        let log = read_log(&plan, log, as_of)?;
+        return Ok((plan, log));
+    };
+    let store = crate::register::SqliteStore::open_read_only(register)?;
+    let stored = crate::register::Store::participant(&store, code)?.plan()?;
+    check_as_of(&stored, as_of)?;
+    let p = crate::register::participant_log(&store, code, as_of)?;
+    let plan = edit(p.plan)?;
+    let log = LogInput::from_log(&plan, &p.log, p.warnings, as_of);
+    Ok((plan, log))
+}
+
+/// [`plan_and_log`] for the commands that take [`LogArgs`].
+pub fn plan_and_logged(
+    plan: Option<&Path>,
+    logged: &LogArgs,
+    edit: impl FnOnce(Plan) -> Result<Plan, Error>,
+) -> Result<(Plan, LogInput), Error> {
+    plan_and_log(
+        plan,
+        logged.log.as_deref(),
+        &logged.from,
+        logged.as_of,
+        edit,
+    )
+}
+
+/// The input files of a log-reading command, for [`check_outputs`]: the plan, the
+/// log and the register, whichever are given.
+pub(crate) fn log_inputs<'a>(plan: Option<&'a Path>, logged: &'a LogArgs) -> Vec<&'a Path> {
+    plan.into_iter()
+        .chain(logged.log.as_deref())
+        .chain(logged.from.register.as_deref())
+        .collect()
 }
 
 /// Refuse, before any work, an output path that names one of the command's inputs
@@ -232,4 +285,20 @@ pub(crate) fn warning_lines(warnings: &[Warning]) -> String {
         .iter()
         .map(|w| format!("warning [{}]: {}\n", w.code, w.message))
         .collect()
+}
+
+/// A weigh-in given in `units`, in kg (the log always holds kg): a pound is
+/// 0.45359237 kg exactly. A value that is not a finite positive number is refused
+/// here, before any conversion could hide it.
+pub(crate) fn to_kg(mass: f64, units: UnitsArg) -> Result<f64, Error> {
+    let unit = match units {
+        UnitsArg::Metric => return Ok(mass),
+        UnitsArg::Us => "lb",
+    };
+    if !(mass.is_finite() && mass > 0.0) {
+        return Err(Error::Usage(format!(
+            "--weigh-in {mass}: give the measured mass in {unit}, a positive number"
+        )));
+    }
+    Ok(mass * crate::report::units::KG_PER_LB)
 }

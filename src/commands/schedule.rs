@@ -1,13 +1,9 @@
 //! `schedule`: the week-by-week schedule and projected outcome of a plan.
 
-use super::{
-    Printed, check_outputs, deliver, display_units, load, read_log, refuse_display_units,
-    side_notes,
-};
+use super::{Printed, check_outputs, deliver, display_units, refuse_display_units, side_notes};
 use crate::cli::{FormatArg, ScheduleArgs};
 use crate::error::Error;
 use crate::report::{self};
-use std::path::Path;
 
 pub use crate::planning::{schedule_report, schedule_report_logged, schedule_report_with_band};
 
@@ -19,15 +15,9 @@ pub fn run(args: &ScheduleArgs) -> Result<Printed, Error> {
         FormatArg::Csv => refuse_display_units(units, "csv")?,
         FormatArg::Json => refuse_display_units(units, "json")?,
     }
-    let inputs: Vec<&Path> = args
-        .plan
-        .iter()
-        .chain(args.logged.log.iter())
-        .map(|p| p.as_path())
-        .collect();
+    let inputs = super::log_inputs(args.plan.as_deref(), &args.logged);
     check_outputs(args.out.as_deref(), args.chart.as_deref(), &inputs)?;
-    let plan = load(args.plan.as_deref())?;
-    let log = read_log(&plan, args.logged.log.as_deref(), args.logged.as_of)?;
+    let (plan, log) = super::plan_and_logged(args.plan.as_deref(), &args.logged, Ok)?;
     let r = schedule_report_logged(&plan, &log)?;
     let index = super::scenario_index(&r, args.scenario.as_deref())?;
     let mut printed = Printed::default();

@@ -1,6 +1,6 @@
 //! `sheets`: weekly session sheets for the supervising trainer.
 
-use super::{LogInput, Printed, check_outputs, deliver, display_units, load, read_log};
+use super::{LogInput, Printed, check_outputs, deliver, display_units};
 use crate::cli::{PaperArg, SheetsArgs, SheetsFormat};
 use crate::error::Error;
 use crate::plan::Plan;
@@ -170,13 +170,8 @@ pub fn run(args: &SheetsArgs) -> Result<Printed, Error> {
     {
         return Err(dates_upside_down(f, t));
     }
-    let inputs: Vec<&Path> = args
-        .plan
-        .iter()
-        .chain(args.logged.log.iter())
-        .chain(args.roster.iter())
-        .map(|p| p.as_path())
-        .collect();
+    let mut inputs = super::log_inputs(args.plan.as_deref(), &args.logged);
+    inputs.extend(args.roster.as_deref());
     check_outputs(args.out.as_deref(), None, &inputs)?;
     let scenario = args.scenario.as_deref();
     let (mut inputs, warnings, notes) = match (&args.roster, &args.plan) {
@@ -189,9 +184,8 @@ pub fn run(args: &SheetsArgs) -> Result<Printed, Error> {
             scenario,
         )?,
         _ => {
-            let plan = load(args.plan.as_deref())?;
+            let (plan, log) = super::plan_and_logged(args.plan.as_deref(), &args.logged, Ok)?;
             let weeks = sheet_weeks(&plan, selection)?;
-            let log = read_log(&plan, args.logged.log.as_deref(), args.logged.as_of)?;
             let (input, warnings) = sheet_input(&plan, &log, scenario, weeks)?;
             (vec![input], warnings, String::new())
         }

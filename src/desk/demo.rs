@@ -35,111 +35,199 @@ fn bad(what: &str, e: impl std::fmt::Display) -> Error {
 /// used again and again, codes `DSK-001`, `DSK-002`, ... (invented); otherwise the
 /// roster's own (invented) codes.
 pub fn plans(start: NaiveDate, count: Option<usize>) -> Result<Vec<Enrolment>, Error> {
-    let study: toml::Table = STUDY.parse().map_err(|e| bad(STUDY_NAME, e))?;
+    let demo = Demo { start, count };
+    Ok(build(STUDY_NAME, STUDY, ROSTER_NAME, ROSTER, Some(&demo))?.0)
+}
+
+/// A study file and its roster (with an arm for every participant) as one
+/// enrolment per participant of a dosed arm: the study's protocol, activity,
+/// model and scenarios, the roster row's participant values and screening, the
+/// arm's dose. Participants of an arm without a dose (a control arm: no sessions to
+/// deliver) are not enrolled and are named in the second list.
+pub fn roster_enrolments(
+    study: &Path,
+    roster: &Path,
+) -> Result<(Vec<Enrolment>, Vec<String>), Error> {
+    // The study is validated as a study first, so its errors name its own lines.
+    crate::study::load_study(study)?;
+    let s = crate::input::read(study)?;
+    let r = crate::input::read(roster)?;
+    build(&s.name, &s.raw, &r.name, &r.raw, None)
+}
+
+/// What the demo changes: the protocol's start, the number of participants, and an
+/// invented resting heart rate.
+struct Demo {
+    start: NaiveDate,
+    count: Option<usize>,
+}
+
+/// See [`plans`] (with `demo`) and [`roster_enrolments`] (without).
+fn build(
+    study_name: &str,
+    study_text: &str,
+    roster_name: &str,
+    roster_text: &str,
+    demo: Option<&Demo>,
+) -> Result<(Vec<Enrolment>, Vec<String>), Error> {
+    let fail = |file: &str, e: String| match demo {
+        Some(_) => bad(file, e),
+        None => Error::Usage(format!("{file}: {e}")),
+    };
+    let study: toml::Table = study_text
+        .parse()
+        .map_err(|e: toml::de::Error| fail(study_name, e.to_string()))?;
     let arms: Vec<toml::Table> = study
         .get("arm")
         .and_then(|a| a.as_array())
-        .ok_or_else(|| bad(STUDY_NAME, "no [[arm]]"))?
+        .ok_or_else(|| fail(study_name, "no [[arm]]".into()))?
         .iter()
         .filter_map(|a| a.as_table().cloned())
         .collect();
-    let mut reader = csv::Reader::from_reader(ROSTER.as_bytes());
-    let header = reader.headers().map_err(|e| bad(ROSTER_NAME, e))?.clone();
+    let mut reader = csv::Reader::from_reader(roster_text.as_bytes());
+    let header = reader
+        .headers()
+        .map_err(|e| fail(roster_name, e.to_string()))?
+        .clone();
     let roster: Vec<csv::StringRecord> = reader
         .records()
         .collect::<Result<_, _>>()
-        .map_err(|e| bad(ROSTER_NAME, e))?;
-    let dosed: Vec<(&csv::StringRecord, &toml::Table)> = roster
-        .iter()
-        .filter_map(|r| {
-            let arm = header
-                .iter()
-                .position(|h| h == "arm")
-                .and_then(|i| r.get(i))?;
-            let t = arms
-                .iter()
-                .find(|a| a.get("name").and_then(|n| n.as_str()) == Some(arm))?;
-            t.get("dose").map(|_| (r, t))
-        })
-        .collect();
-    if dosed.is_empty() {
-        return Err(bad(ROSTER_NAME, "no participant in a dosed arm"));
+        .map_err(|e| fail(roster_name, e.to_string()))?;
+    let arm_at = header.iter().position(|h| h == "arm").ok_or_else(|| {
+        fail(
+            roster_name,
+            "the roster has no arm column; give every participant an arm (cohort --randomise can allocate them)".into(),
+        )
+    })?;
+    let mut dosed: Vec<(usize, &csv::StringRecord, &toml::Table)> = Vec::new();
+    let mut skipped = Vec::new();
+    for (i, r) in roster.iter().enumerate() {
+        let arm = r.get(arm_at).unwrap_or("").trim();
+        let t = arms
+            .iter()
+            .find(|a| a.get("name").and_then(|n| n.as_str()) == Some(arm))
+            .ok_or_else(|| {
+                fail(
+                    roster_name,
+                    format!(
+                        "line {}: arm \"{arm}\" is not an arm of {study_name}; give one of its [[arm]] names",
+                        i + 2
+                    ),
+                )
+            })?;
+        if t.get("dose").is_some() {
+            dosed.push((i, r, t));
+        } else {
+            skipped.push(format!(
+                "{} (arm {arm} has no dose: no sessions to deliver)",
+                r.get(header.iter().position(|h| h == "id").unwrap_or(0))
+                    .unwrap_or("")
+            ));
+        }
     }
-    let n = count.unwrap_or(dosed.len());
+    if dosed.is_empty() {
+        return Err(fail(roster_name, "no participant in a dosed arm".into()));
+    }
+    let n = demo.and_then(|d| d.count).unwrap_or(dosed.len());
     let mut out = Vec::with_capacity(n);
     for i in 0..n {
-        let (record, arm) = dosed[i % dosed.len()];
+        let (line, record, arm) = dosed[i % dosed.len()];
         let mut plan = study.clone();
         for key in ["study", "synthetic", "arm"] {
             plan.remove(key);
         }
-        let mut participant = toml::Table::new();
-        let mut screening = toml::Table::new();
-        for (key, value) in header.iter().zip(record.iter()) {
-            let value = value.trim();
-            if value.is_empty() || key == "arm" {
-                continue;
-            }
-            let v = if key == "id" {
-                let code = if count.is_some() {
-                    format!("DSK-{:03}", i + 1)
-                } else {
-                    value.to_string()
-                };
-                toml::Value::String(code)
-            } else if key == "sex" {
-                toml::Value::String(value.to_string())
-            } else if let Ok(b) = value.parse::<bool>() {
-                toml::Value::Boolean(b)
-            } else {
-                toml::Value::Float(value.parse::<f64>().map_err(|e| bad(ROSTER_NAME, e))?)
-            };
-            if SCREENING.contains(&key) {
-                screening.insert(key.to_string(), v);
-            } else {
-                participant.insert(key.to_string(), v);
-            }
+        let mut participant =
+            participant_values(&header, record, i, line, demo).map_err(|e| fail(roster_name, e))?;
+        if demo.is_some() {
+            // An invented resting heart rate (60 to 74 beats/min), so the sheets and
+            // the day view show a target heart-rate range.
+            let mut fitness = toml::Table::new();
+            fitness.insert(
+                "hr_rest_bpm".into(),
+                toml::Value::Float(60.0 + ((i * 5) % 15) as f64),
+            );
+            participant.insert("fitness".into(), toml::Value::Table(fitness));
         }
-        // A roster row with the screening unanswered gets no screening block (the
-        // plan then says screening is not recorded).
-        if !screening.is_empty() {
-            participant.insert("screening".into(), toml::Value::Table(screening));
-        }
-        // An invented resting heart rate (60 to 74 beats/min), so the sheets and the
-        // day view show a target heart-rate range.
-        let mut fitness = toml::Table::new();
-        fitness.insert(
-            "hr_rest_bpm".into(),
-            toml::Value::Float(60.0 + ((i * 5) % 15) as f64),
-        );
-        participant.insert("fitness".into(), toml::Value::Table(fitness));
         plan.insert("participant".into(), toml::Value::Table(participant));
         let protocol = plan
             .get_mut("protocol")
             .and_then(|p| p.as_table_mut())
-            .ok_or_else(|| bad(STUDY_NAME, "no [protocol]"))?;
-        protocol.insert(
-            "start".into(),
-            toml::Value::Datetime(
-                start
-                    .to_string()
-                    .parse()
-                    .map_err(|e| bad("the start date", e))?,
-            ),
-        );
+            .ok_or_else(|| fail(study_name, "no [protocol]".into()))?;
+        if let Some(d) = demo {
+            protocol.insert(
+                "start".into(),
+                toml::Value::Datetime(
+                    d.start
+                        .to_string()
+                        .parse()
+                        .map_err(|e| bad("the start date", e))?,
+                ),
+            );
+        }
         protocol.insert("dose".into(), arm["dose"].clone());
-        let text = toml::to_string(&plan).map_err(|e| bad("a demo plan", e))?;
+        let text = toml::to_string(&plan).map_err(|e| fail(study_name, e.to_string()))?;
         let arm_name = arm.get("name").and_then(|n| n.as_str()).map(String::from);
+        let plan_name = match demo {
+            Some(_) => format!("{study_name} and {roster_name}"),
+            None => format!("{study_name} and {roster_name} line {}", line + 2),
+        };
         let e = Enrolment {
-            plan_name: format!("{STUDY_NAME} and {ROSTER_NAME}"),
+            plan_name,
             plan_text: text,
             arm: arm_name,
         };
-        // Every plan is checked before the register is created.
+        // Every plan is checked before the register is touched.
         crate::plan::parse_plan(&e.plan_name, &e.plan_text)?;
         out.push(e);
     }
-    Ok(out)
+    Ok((out, skipped))
+}
+
+/// A roster row as the plan's `[participant]` table (with its screening block
+/// when answered); an error in words naming the line and column.
+fn participant_values(
+    header: &csv::StringRecord,
+    record: &csv::StringRecord,
+    i: usize,
+    line: usize,
+    demo: Option<&Demo>,
+) -> Result<toml::Table, String> {
+    let mut participant = toml::Table::new();
+    let mut screening = toml::Table::new();
+    for (key, value) in header.iter().zip(record.iter()) {
+        let value = value.trim();
+        if value.is_empty() || key == "arm" {
+            continue;
+        }
+        let v = if key == "id" {
+            let code = match demo {
+                Some(Demo { count: Some(_), .. }) => format!("DSK-{:03}", i + 1),
+                _ => value.to_string(),
+            };
+            toml::Value::String(code)
+        } else if key == "sex" {
+            toml::Value::String(value.to_string())
+        } else if let Ok(b) = value.parse::<bool>() {
+            toml::Value::Boolean(b)
+        } else {
+            toml::Value::Float(
+                value
+                    .parse::<f64>()
+                    .map_err(|e| format!("line {}, column {key}: {value:?}: {e}", line + 2))?,
+            )
+        };
+        if SCREENING.contains(&key) {
+            screening.insert(key.to_string(), v);
+        } else {
+            participant.insert(key.to_string(), v);
+        }
+    }
+    // A roster row with the screening unanswered gets no screening block (the plan
+    // then says screening is not recorded).
+    if !screening.is_empty() {
+        participant.insert("screening".into(), toml::Value::Table(screening));
+    }
+    Ok(participant)
 }
 
 /// The Monday on or before `date`.

@@ -14,6 +14,7 @@
 pub mod accounts;
 pub mod demo;
 mod pages;
+pub mod print;
 pub mod views;
 
 use crate::error::Error;

@@ -11,11 +11,12 @@
 //! process) is seen at once.
 
 use crate::error::Error;
-use crate::planning::{LogInput, schedule_report_logged};
-use crate::register::{self, Participant, Row, Store, Which};
+use crate::planning::{LogInput, schedule_report_logged, schedule_report_logged_without_band};
+use crate::register::{self, Measure, Participant, Row, Store, Which};
 use crate::report::ScheduleReport;
 use crate::report::sessions::{PlannedSession, SessionPlan, session_plan};
 use chrono::NaiveDate;
+use rayon::prelude::*;
 use sha2::{Digest, Sha256};
 use std::collections::HashMap;
 use std::sync::{Arc, Mutex};
@@ -58,10 +59,13 @@ impl Replan {
 type Entries = HashMap<String, ([u8; 32], Arc<Replan>)>;
 
 /// Re-planned participants, keyed by code, each with the digest of the plan text
-/// and current rows it was computed from.
+/// and current rows it was computed from: with the projection band (the
+/// participant page), and without it (the day view, which needs only the sessions,
+/// the screening and the warnings).
 #[derive(Debug, Default)]
 pub struct Cache {
     entries: Mutex<Entries>,
+    without_band: Mutex<Entries>,
 }
 
 /// The log as `schedule --log` reads it (measured data up to the log's last date,
@@ -79,20 +83,45 @@ impl Cache {
         participant: &Participant,
         rows: &[Row],
     ) -> Result<Arc<Replan>, Error> {
+        Self::cached(&self.entries, store.name(), participant, rows, true)
+    }
+
+    /// As [`Cache::replan`] without the projection band (`report.projection_band`
+    /// is `None`): the day view's re-plan.
+    pub fn replan_without_band(
+        &self,
+        register: &str,
+        participant: &Participant,
+        rows: &[Row],
+    ) -> Result<Arc<Replan>, Error> {
+        Self::cached(&self.without_band, register, participant, rows, false)
+    }
+
+    fn cached(
+        map: &Mutex<Entries>,
+        register: &str,
+        participant: &Participant,
+        rows: &[Row],
+        band: bool,
+    ) -> Result<Arc<Replan>, Error> {
         let text = register::log_csv(rows)?;
         let mut h = Sha256::new();
         h.update(participant.plan_text.as_bytes());
         h.update([0u8]);
         h.update(text.as_bytes());
         let key: [u8; 32] = h.finalize().into();
-        if let Some((k, r)) = self.lock().get(&participant.code)
+        if let Some((k, r)) = lock(map).get(&participant.code)
             && *k == key
         {
             return Ok(r.clone());
         }
-        let log = register::participant_log(store, &participant.code, None)?;
+        let log = register::participant_log_of(register, participant.clone(), rows, None)?;
         let input = log_input(&log);
-        let report = schedule_report_logged(&log.plan, &input)?;
+        let report = if band {
+            schedule_report_logged(&log.plan, &input)?
+        } else {
+            schedule_report_logged_without_band(&log.plan, &input)?
+        };
         let sessions = session_plan(&log.plan, &report.scenarios[0]);
         let replan = Arc::new(Replan {
             log,
@@ -100,8 +129,7 @@ impl Cache {
             report,
             sessions,
         });
-        self.lock()
-            .insert(participant.code.clone(), (key, replan.clone()));
+        lock(map).insert(participant.code.clone(), (key, replan.clone()));
         Ok(replan)
     }
 
@@ -111,11 +139,11 @@ impl Cache {
         let rows = store.rows(Some(code), Which::Current)?;
         self.replan(store, &participant, &rows)
     }
+}
 
-    fn lock(&self) -> std::sync::MutexGuard<'_, Entries> {
-        // A panic while holding the lock leaves only a cache behind: use it.
-        self.entries.lock().unwrap_or_else(|p| p.into_inner())
-    }
+fn lock(map: &Mutex<Entries>) -> std::sync::MutexGuard<'_, Entries> {
+    // A panic while holding the lock leaves only a cache behind: use it.
+    map.lock().unwrap_or_else(|p| p.into_inner())
 }
 
 /// One participant's line of the day view.
@@ -133,6 +161,8 @@ pub struct DayLine {
     pub recorded: Vec<Row>,
     /// The screening result in words.
     pub screening: String,
+    /// Medical clearance is needed and not on file.
+    pub clearance_missing: bool,
     /// The number of warnings on the participant's schedule.
     pub warnings: usize,
 }
@@ -160,33 +190,52 @@ pub fn day_view(store: &dyn Store, cache: &Cache, date: NaiveDate) -> Result<Day
             .or_default()
             .push(r.clone());
     }
-    let mut lines = Vec::new();
-    for p in &participants {
-        let mine = by_code.remove(p.code.as_str()).unwrap_or_default();
-        let replan = cache.replan(store, p, &mine)?;
-        let due: Vec<PlannedSession> = replan.sessions_on(date).into_iter().cloned().collect();
-        let recorded: Vec<Row> = mine
-            .into_iter()
-            .filter(|r| r.measure.date() == date)
-            .collect();
-        if due.is_empty() && recorded.is_empty() {
-            continue;
-        }
-        lines.push(DayLine {
-            code: p.code.clone(),
-            arm: p.arm.clone(),
-            week: replan.week_of(date),
-            due,
-            recorded,
-            screening: replan.report.screening.recommendation.clone(),
-            warnings: replan.report.warnings.len(),
-        });
-    }
+    let mine: Vec<(&Participant, Vec<Row>)> = participants
+        .iter()
+        .map(|p| (p, by_code.remove(p.code.as_str()).unwrap_or_default()))
+        .collect();
+    // Each participant is re-planned on its own (rayon), from the rows read above;
+    // `collect` keeps the participants' order.
+    let register = store.name();
+    let lines: Vec<Option<DayLine>> = mine
+        .into_par_iter()
+        .map(|(p, rows)| day_line(cache, register, p, rows, date))
+        .collect::<Result<_, Error>>()?;
+    let lines = lines.into_iter().flatten().collect();
     Ok(DayView {
         date,
         lines,
         enrolled: participants.len(),
     })
+}
+
+/// One participant's line of the day view, if they are due or have a row on `date`.
+fn day_line(
+    cache: &Cache,
+    register: &str,
+    p: &Participant,
+    rows: Vec<Row>,
+    date: NaiveDate,
+) -> Result<Option<DayLine>, Error> {
+    let replan = cache.replan_without_band(register, p, &rows)?;
+    let due: Vec<PlannedSession> = replan.sessions_on(date).into_iter().cloned().collect();
+    let recorded: Vec<Row> = rows
+        .into_iter()
+        .filter(|r| r.measure.date() == date)
+        .collect();
+    if due.is_empty() && recorded.is_empty() {
+        return Ok(None);
+    }
+    Ok(Some(DayLine {
+        code: p.code.clone(),
+        arm: p.arm.clone(),
+        week: replan.week_of(date),
+        due,
+        recorded,
+        screening: replan.report.screening.recommendation.clone(),
+        clearance_missing: replan.report.screening.clearance_missing,
+        warnings: replan.report.warnings.len(),
+    }))
 }
 
 /// The sheet of week `week` of one participant, as the `sheets` command prints it
@@ -203,5 +252,59 @@ pub fn sheet_input(replan: &Replan, weeks: Vec<u32>) -> crate::report::sheets::S
             .observed
             .as_ref()
             .map(crate::report::delivered::DeliveredLog::of),
+    }
+}
+
+/// A row's values in words (`80.2 kg, body fat 31%`, `27 min at target, HR 121`),
+/// as the desk and the command line show them.
+pub fn describe(m: &Measure) -> String {
+    match m {
+        Measure::WeighIn(w) => {
+            let mut s = format!("{} kg", round_text(w.mass_kg, 2));
+            if let Some(bf) = w.body_fat_percent {
+                s.push_str(&format!(", body fat {bf}%"));
+                if let Some(m) = &w.body_fat_method {
+                    s.push_str(&format!(" ({m})"));
+                }
+            }
+            s
+        }
+        Measure::Session(x) => {
+            let mut s = format!("{} min at target", x.minutes);
+            if let Some(c) = &x.compendium_code {
+                s.push_str(&format!(", code {c}"));
+            }
+            if let Some(m) = x.met {
+                s.push_str(&format!(", {m} MET"));
+            }
+            if let Some(w) = x.watts {
+                s.push_str(&format!(", {w} W"));
+            }
+            if let Some(v) = x.speed_kmh {
+                s.push_str(&format!(", {v} km/h"));
+            }
+            if let Some(h) = x.avg_hr_bpm {
+                s.push_str(&format!(", HR {h}"));
+            }
+            if let Some(r) = x.rpe {
+                s.push_str(&format!(", RPE {r}"));
+            }
+            s
+        }
+    }
+}
+
+/// `x` to `decimals` places without trailing zeros.
+pub fn round_text(x: f64, decimals: usize) -> String {
+    let s = format!("{x:.decimals$}");
+    let s = s.trim_end_matches('0').trim_end_matches('.');
+    s.to_string()
+}
+
+/// A session's target heart-rate range in words.
+pub fn hr_text(s: &crate::report::sessions::PlannedSession) -> String {
+    match &s.targets.heart_rate {
+        Some(h) => format!("{}-{} bpm", h.low_bpm, h.high_bpm),
+        None => "no resting HR on file".to_string(),
     }
 }

@@ -156,9 +156,8 @@ fn refuse_a_jump(
     let after = rows[index + 1..]
         .iter()
         .find_map(|r| mass(r).map(|m| (r, m)));
-    let mut others: Vec<(String, chrono::NaiveDate, f64)> = Vec::new();
-    for (r, m) in before.into_iter().chain(after) {
-        others.push((
+    let words = |(r, m): (&LogRow, f64)| {
+        (
             format!(
                 "the weigh-in of {} ({} kg, line {})",
                 r.date,
@@ -167,45 +166,21 @@ fn refuse_a_jump(
             ),
             r.date,
             m,
-        ));
+        )
+    };
+    let base = (plan.protocol.start, plan.participant.subject.mass_kg);
+    match super::plausible::first_jump(row.date, kg, before.map(words), after.map(words), base) {
+        Some(jump) => Err(Error::Usage(format!(
+            "{name}: {}",
+            jump.message(row.date, kg, advice, "The file is unchanged")
+        ))),
+        None => Ok(()),
     }
-    let start = plan.protocol.start;
-    let base = plan.participant.subject.mass_kg;
-    others.push((
-        format!("the plan's baseline ({} kg on {start})", num(base)),
-        start,
-        base,
-    ));
-    for (what, date, m) in others {
-        let days = (row.date - date).num_days();
-        if super::plausible::is_implausible(m, days, kg) {
-            let allowed = super::plausible::allowed_change_kg(m, days);
-            let change = kg - m;
-            return Err(Error::Usage(format!(
-                "{name}: the weigh-in of {} ({} kg) is {} kg {} {what}, more than the {} kg allowed over {} {}; check the entry (a mass in the wrong unit: {}; another scale; a typing slip); if it is right, {}. The file is unchanged",
-                row.date,
-                num(kg),
-                num(change.abs()),
-                if change > 0.0 { "above" } else { "below" },
-                num(allowed),
-                days.abs(),
-                if days.abs() == 1 { "day" } else { "days" },
-                advice.other_unit,
-                advice.accept,
-            )));
-        }
-    }
-    Ok(())
 }
 
-/// A number to two decimals, without trailing zeros; a huge one (never a valid value,
-/// refused by the row's check) in short exponent form rather than hundreds of digits.
+/// A number as the refusals write it ([`super::plausible`]).
 fn num(x: f64) -> String {
-    if x.abs() >= 1e15 {
-        crate::plan::participant::fmt_num(x)
-    } else {
-        format!("{}", (x * 100.0).round() / 100.0)
-    }
+    super::plausible::two(x)
 }
 
 /// The file's line ending: that of its first line, else `\n`.

@@ -9,6 +9,8 @@
 //! the allowance grows by 2% of the earlier mass per week, twice the fastest loss
 //! usually advised (about 1% of body mass a week).
 
+use chrono::NaiveDate;
+
 /// Largest change between weigh-ins, kg, within [`JUMP_DAYS`] days (common practice).
 pub const JUMP_KG: f64 = 3.0;
 /// The short window, days.
@@ -33,6 +35,90 @@ pub fn allowed_change_kg(earlier_kg: f64, days: i64) -> f64 {
 /// [`allowed_change_kg`].
 pub fn is_implausible(earlier_kg: f64, days: i64, later_kg: f64) -> bool {
     (later_kg - earlier_kg).abs() > allowed_change_kg(earlier_kg, days)
+}
+
+/// A new weigh-in found implausibly far from another mass (see [`first_jump`]).
+#[derive(Debug, Clone, PartialEq)]
+pub struct Jump {
+    /// What it was held against, in words (`the weigh-in of ...`, `the plan's baseline ...`).
+    pub against: String,
+    /// The new mass minus the other, kg.
+    pub change_kg: f64,
+    /// The change allowed, kg.
+    pub allowed_kg: f64,
+    /// Days between the two.
+    pub days: i64,
+}
+
+impl Jump {
+    /// The refusal's words after `NAME: `: the new weigh-in, how far it is from what,
+    /// what was allowed, what to check and how to keep it anyway (the caller's
+    /// `advice`), and what was left unchanged (`unchanged`).
+    pub fn message(
+        &self,
+        date: NaiveDate,
+        kg: f64,
+        advice: super::JumpAdvice<'_>,
+        unchanged: &str,
+    ) -> String {
+        let days = self.days.abs();
+        let (other_unit, accept) = (advice.other_unit, advice.accept);
+        format!(
+            "the weigh-in of {date} ({} kg) is {} kg {} {}, more than the {} kg allowed over {days} {}; check the entry (a mass in the wrong unit: {other_unit}; another scale; a typing slip); if it is right, {accept}. {unchanged}",
+            two(kg),
+            two(self.change_kg.abs()),
+            if self.change_kg > 0.0 {
+                "above"
+            } else {
+                "below"
+            },
+            self.against,
+            two(self.allowed_kg),
+            if days == 1 { "day" } else { "days" },
+        )
+    }
+}
+
+/// A number to two decimals, without trailing zeros; a huge one (never a valid value,
+/// refused by the row's check) in short exponent form rather than hundreds of digits.
+pub(super) fn two(x: f64) -> String {
+    if x.abs() >= 1e15 {
+        crate::plan::participant::fmt_num(x)
+    } else {
+        format!("{}", (x * 100.0).round() / 100.0)
+    }
+}
+
+/// The one refusal rule of a new weigh-in of `kg` on `date`: held against the
+/// previous weigh-in, the next one (each `(words, date, kg)`, if any) and the plan's
+/// baseline (`base_kg` on the protocol start `start`), in that order, the first
+/// that [`is_implausible`] gives the [`Jump`]. `log add` on a CSV log and on a
+/// register both call it.
+pub fn first_jump(
+    date: NaiveDate,
+    kg: f64,
+    previous: Option<(String, NaiveDate, f64)>,
+    next: Option<(String, NaiveDate, f64)>,
+    (start, base_kg): (NaiveDate, f64),
+) -> Option<Jump> {
+    let baseline = (
+        format!("the plan's baseline ({} kg on {start})", two(base_kg)),
+        start,
+        base_kg,
+    );
+    previous
+        .into_iter()
+        .chain(next)
+        .chain(std::iter::once(baseline))
+        .find_map(|(against, d, m)| {
+            let days = (date - d).num_days();
+            is_implausible(m, days, kg).then(|| Jump {
+                against,
+                change_kg: kg - m,
+                allowed_kg: allowed_change_kg(m, days),
+                days,
+            })
+        })
 }
 
 #[cfg(test)]

@@ -7,7 +7,7 @@
 //! [`crate::measure::check_rmr`], [`crate::measure::check_tee`]), the same ones
 //! the pilot analysis calls, before anything is written.
 
-use super::sql::{db_error, find_participant, parse_date, parse_time};
+use super::sql::{db_error, find_participant, parse_date, parse_time, supersede, void_row};
 use super::{SqliteStore, Stamp, Status, Store, Which, one_line, reason_text};
 use crate::error::{Error, Location};
 use crate::measure::{RmrMeasure, TeeMeasure, Visit, check_rmr, check_tee, check_visit};
@@ -504,23 +504,25 @@ impl SqliteStore {
             }
             m.check(&old.participant, &old.location(name))?;
             let (pid, _) = find_participant(tx, name, &old.participant)?;
-            let new = insert(tx, pid, m, note, stamp, Some(id)).map_err(|e| db_error(name, e))?;
-            tx.execute(
-                "UPDATE measurements SET superseded_by = ?1 WHERE id = ?2",
-                params![new, id],
-            )
-            .map_err(|e| db_error(name, e))?;
-            change(
+            let new = supersede(
                 tx,
-                stamp,
-                "correct",
-                pid,
-                Some(new),
-                Some(old.measurement.to_json()),
-                Some(m.to_json()),
-                Some(reason),
-            )
-            .map_err(|e| db_error(name, e))?;
+                name,
+                "measurements",
+                id,
+                || insert(tx, pid, m, note, stamp, Some(id)),
+                |new| {
+                    change(
+                        tx,
+                        stamp,
+                        "correct",
+                        pid,
+                        Some(new),
+                        Some(old.measurement.to_json()),
+                        Some(m.to_json()),
+                        Some(reason),
+                    )
+                },
+            )?;
             select_one(tx, new)
                 .map_err(|e| db_error(name, e))?
                 .ok_or_else(|| Error::Internal(format!("measurement {new} not found after insert")))
@@ -533,22 +535,18 @@ impl SqliteStore {
         self.write(|tx, name| {
             let old = current(tx, name, id)?;
             let (pid, _) = find_participant(tx, name, &old.participant)?;
-            let c = change(
-                tx,
-                stamp,
-                "void",
-                pid,
-                Some(id),
-                Some(old.measurement.to_json()),
-                None,
-                Some(reason),
-            )
-            .map_err(|e| db_error(name, e))?;
-            tx.execute(
-                "UPDATE measurements SET voided_by = ?1 WHERE id = ?2",
-                params![c, id],
-            )
-            .map_err(|e| db_error(name, e))?;
+            void_row(tx, name, "measurements", id, || {
+                change(
+                    tx,
+                    stamp,
+                    "void",
+                    pid,
+                    Some(id),
+                    Some(old.measurement.to_json()),
+                    None,
+                    Some(reason),
+                )
+            })?;
             Ok(())
         })
     }

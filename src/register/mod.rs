@@ -13,6 +13,7 @@
 //! The library never reads the clock, the OS user or the environment: every write
 //! takes a [`Stamp`] (who and when, UTC) from the caller.
 
+mod export;
 mod measured;
 mod schema;
 mod sql;
@@ -20,6 +21,9 @@ mod sqlite;
 
 pub use measured::{ImportedMeasurement, Measurement, MeasurementChange, MeasurementRow};
 
+pub use export::{
+    CHANGE_COLUMNS, SESSION_COLUMNS, WEIGH_IN_COLUMNS, changes_csv, sessions_csv, weigh_ins_csv,
+};
 pub use schema::{APPLICATION_ID, SCHEMA_VERSION};
 pub use sqlite::{CheckReport, SqliteStore};
 
@@ -427,11 +431,22 @@ pub fn participant_log(
     as_of: Option<NaiveDate>,
 ) -> Result<ParticipantLog, Error> {
     let participant = store.participant(code)?;
-    let plan = participant.plan()?;
     let rows = store.rows(Some(code), Which::Current)?;
-    let text = log_csv(&rows)?;
-    let (log, warnings) =
-        crate::log::parse_log(&log_name(store.name(), code), &text, &plan, as_of)?;
+    participant_log_of(store.name(), participant, &rows, as_of)
+}
+
+/// [`participant_log`] from a participant and their current rows already read
+/// from the register named `register`.
+pub fn participant_log_of(
+    register: &str,
+    participant: Participant,
+    rows: &[Row],
+    as_of: Option<NaiveDate>,
+) -> Result<ParticipantLog, Error> {
+    let plan = participant.plan()?;
+    let text = log_csv(rows)?;
+    let code = &participant.code;
+    let (log, warnings) = crate::log::parse_log(&log_name(register, code), &text, &plan, as_of)?;
     Ok(ParticipantLog {
         participant,
         plan,
@@ -624,163 +639,6 @@ pub fn validate_rows(
         }
         Err(e) => Err(e),
     }
-}
-
-/// One CSV table as text (`\n` line ends).
-fn table(header: &[&str], rows: impl Iterator<Item = Vec<String>>) -> Result<String, Error> {
-    let mut w = csv::WriterBuilder::new()
-        .terminator(csv::Terminator::Any(b'\n'))
-        .from_writer(Vec::new());
-    let internal = |e: csv::Error| Error::Internal(format!("writing CSV: {e}"));
-    w.write_record(header).map_err(internal)?;
-    for r in rows {
-        w.write_record(&r).map_err(internal)?;
-    }
-    let bytes = w
-        .into_inner()
-        .map_err(|e| Error::Internal(format!("writing CSV: {e}")))?;
-    String::from_utf8(bytes).map_err(|e| Error::Internal(format!("CSV text: {e}")))
-}
-
-fn num(x: f64) -> String {
-    format!("{x}")
-}
-
-fn opt(x: Option<f64>) -> String {
-    x.map(num).unwrap_or_default()
-}
-
-fn opt_id(x: Option<i64>) -> String {
-    x.map(|i| i.to_string()).unwrap_or_default()
-}
-
-/// The header of [`weigh_ins_csv`].
-pub const WEIGH_IN_COLUMNS: [&str; 12] = [
-    "row_id",
-    "participant",
-    "date",
-    "mass_kg",
-    "body_fat_percent",
-    "body_fat_method",
-    "note",
-    "status",
-    "supersedes",
-    "superseded_by",
-    "recorded_at",
-    "recorded_by",
-];
-
-/// The header of [`sessions_csv`].
-pub const SESSION_COLUMNS: [&str; 16] = [
-    "row_id",
-    "participant",
-    "date",
-    "minutes",
-    "compendium_code",
-    "met",
-    "watts",
-    "speed_kmh",
-    "avg_hr_bpm",
-    "rpe",
-    "note",
-    "status",
-    "supersedes",
-    "superseded_by",
-    "recorded_at",
-    "recorded_by",
-];
-
-/// The header of [`changes_csv`].
-pub const CHANGE_COLUMNS: [&str; 9] = [
-    "change_id",
-    "participant",
-    "at",
-    "by",
-    "action",
-    "row_id",
-    "reason",
-    "old_values",
-    "new_values",
-];
-
-fn superseded_by(s: Status) -> String {
-    match s {
-        Status::Superseded(by) => by.to_string(),
-        _ => String::new(),
-    }
-}
-
-/// The weigh-ins among `rows` as one tidy CSV table ([`WEIGH_IN_COLUMNS`]): one
-/// line per row version, its status, and ISO 8601 UTC times.
-pub fn weigh_ins_csv(rows: &[Row]) -> Result<String, Error> {
-    table(
-        &WEIGH_IN_COLUMNS,
-        rows.iter().filter_map(|r| match &r.measure {
-            Measure::WeighIn(w) => Some(vec![
-                r.id.to_string(),
-                r.participant.clone(),
-                w.date.to_string(),
-                num(w.mass_kg),
-                opt(w.body_fat_percent),
-                w.body_fat_method.clone().unwrap_or_default(),
-                w.note.clone(),
-                r.status.name().to_string(),
-                opt_id(r.supersedes),
-                superseded_by(r.status),
-                r.recorded.at_text(),
-                r.recorded.who.clone(),
-            ]),
-            Measure::Session(_) => None,
-        }),
-    )
-}
-
-/// The sessions among `rows` as one tidy CSV table ([`SESSION_COLUMNS`]).
-pub fn sessions_csv(rows: &[Row]) -> Result<String, Error> {
-    table(
-        &SESSION_COLUMNS,
-        rows.iter().filter_map(|r| match &r.measure {
-            Measure::Session(s) => Some(vec![
-                r.id.to_string(),
-                r.participant.clone(),
-                s.date.to_string(),
-                num(s.minutes),
-                s.compendium_code.clone().unwrap_or_default(),
-                opt(s.met),
-                opt(s.watts),
-                opt(s.speed_kmh),
-                opt(s.avg_hr_bpm),
-                opt(s.rpe),
-                s.note.clone(),
-                r.status.name().to_string(),
-                opt_id(r.supersedes),
-                superseded_by(r.status),
-                r.recorded.at_text(),
-                r.recorded.who.clone(),
-            ]),
-            Measure::WeighIn(_) => None,
-        }),
-    )
-}
-
-/// The audit trail as one tidy CSV table ([`CHANGE_COLUMNS`]).
-pub fn changes_csv(changes: &[Change]) -> Result<String, Error> {
-    table(
-        &CHANGE_COLUMNS,
-        changes.iter().map(|c| {
-            vec![
-                c.id.to_string(),
-                c.participant.clone(),
-                c.stamp.at_text(),
-                c.stamp.who.clone(),
-                c.action.name().to_string(),
-                opt_id(c.row),
-                c.reason.clone().unwrap_or_default(),
-                c.old_values.clone().unwrap_or_default(),
-                c.new_values.clone().unwrap_or_default(),
-            ]
-        }),
-    )
 }
 
 /// A register-file problem a person can act on (exit 2).

@@ -306,6 +306,54 @@ pub(super) fn insert_change(
     Ok(tx.last_insert_rowid())
 }
 
+/// The one order of a correction, for weigh-ins and sessions (`entries`) and for
+/// a pilot's measurements (`measurements`) alike: the new version is inserted
+/// (`insert`, superseding row `id`), row `id` of `table` is marked
+/// `superseded_by` it, and the change goes to the audit trail (`audit`, given the
+/// new id). Returns the new row's id. Inside the caller's transaction.
+pub(super) fn supersede(
+    tx: &Transaction,
+    name: &str,
+    table: &str,
+    id: i64,
+    insert: impl FnOnce() -> rusqlite::Result<i64>,
+    audit: impl FnOnce(i64) -> rusqlite::Result<i64>,
+) -> Result<i64, Error> {
+    let e = |e| db_error(name, e);
+    let new = insert().map_err(e)?;
+    mark(tx, table, "superseded_by", id, new).map_err(e)?;
+    audit(new).map_err(e)?;
+    Ok(new)
+}
+
+/// The one order of a void, for both tables: the change goes to the audit trail
+/// (`audit`), then row `id` of `table` is marked `voided_by` it. Returns the
+/// change's id.
+pub(super) fn void_row(
+    tx: &Transaction,
+    name: &str,
+    table: &str,
+    id: i64,
+    audit: impl FnOnce() -> rusqlite::Result<i64>,
+) -> Result<i64, Error> {
+    let e = |e| db_error(name, e);
+    let change = audit().map_err(e)?;
+    mark(tx, table, "voided_by", id, change).map_err(e)?;
+    Ok(change)
+}
+
+/// Set `column` (`superseded_by` or `voided_by`) of row `id` of `table`: the only
+/// update the schema's triggers allow, once, from empty.
+fn mark(tx: &Transaction, table: &str, column: &str, id: i64, value: i64) -> rusqlite::Result<()> {
+    debug_assert!(matches!(table, "entries" | "measurements"));
+    debug_assert!(matches!(column, "superseded_by" | "voided_by"));
+    tx.execute(
+        &format!("UPDATE {table} SET {column} = ?1 WHERE id = ?2"),
+        params![value, id],
+    )?;
+    Ok(())
+}
+
 /// A row that can be corrected or voided: it exists and is current.
 pub(super) fn current_row(tx: &Transaction, name: &str, id: i64) -> Result<Row, Error> {
     let row = select_row(tx, id)

@@ -8,7 +8,8 @@
 use super::schema::{APPLICATION_ID, MIGRATIONS, SCHEMA_VERSION};
 use super::sql::{
     BUSY_TIMEOUT, CHANGE_SELECT, PARTICIPANT_SELECT, current_row, db_error, find_participant,
-    insert_change, insert_entry, read_change, read_participant, select_row, select_rows,
+    insert_change, insert_entry, read_change, read_participant, select_row, select_rows, supersede,
+    void_row,
 };
 use super::{
     Action, Change, Enrolment, Imported, Measure, Participant, Recorded, Row, Stamp, Store, Which,
@@ -602,23 +603,25 @@ impl Store for SqliteStore {
                 .filter(|r| r.id != id)
                 .collect();
             let warnings = validate_rows(name, &code, &plan, &current, std::slice::from_ref(measure))?;
-            let new_id = insert_entry(tx, pid, measure, stamp, Some(id)).map_err(|e| db_error(name, e))?;
-            tx.execute(
-                "UPDATE entries SET superseded_by = ?1 WHERE id = ?2",
-                params![new_id, id],
-            )
-            .map_err(|e| db_error(name, e))?;
-            insert_change(
+            let new_id = supersede(
                 tx,
-                stamp,
-                Action::Correct,
-                pid,
-                Some(new_id),
-                Some(old.measure.to_json()),
-                Some(measure.to_json()),
-                Some(reason),
-            )
-            .map_err(|e| db_error(name, e))?;
+                name,
+                "entries",
+                id,
+                || insert_entry(tx, pid, measure, stamp, Some(id)),
+                |new_id| {
+                    insert_change(
+                        tx,
+                        stamp,
+                        Action::Correct,
+                        pid,
+                        Some(new_id),
+                        Some(old.measure.to_json()),
+                        Some(measure.to_json()),
+                        Some(reason),
+                    )
+                },
+            )?;
             let row = select_row(tx, new_id)
                 .map_err(|e| db_error(name, e))?
                 .ok_or_else(|| Error::Internal(format!("row {new_id} not found after insert")))?;
@@ -631,22 +634,18 @@ impl Store for SqliteStore {
         self.write(|tx, name| {
             let old = current_row(tx, name, id)?;
             let (pid, _) = find_participant(tx, name, &old.participant)?;
-            let change = insert_change(
-                tx,
-                stamp,
-                Action::Void,
-                pid,
-                Some(id),
-                Some(old.measure.to_json()),
-                None,
-                Some(reason),
-            )
-            .map_err(|e| db_error(name, e))?;
-            tx.execute(
-                "UPDATE entries SET voided_by = ?1 WHERE id = ?2",
-                params![change, id],
-            )
-            .map_err(|e| db_error(name, e))?;
+            let change = void_row(tx, name, "entries", id, || {
+                insert_change(
+                    tx,
+                    stamp,
+                    Action::Void,
+                    pid,
+                    Some(id),
+                    Some(old.measure.to_json()),
+                    None,
+                    Some(reason),
+                )
+            })?;
             Ok(Change {
                 id: change,
                 participant: old.participant,

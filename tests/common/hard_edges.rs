@@ -143,7 +143,81 @@ pub type OutputRun = (
 
 /// Every output in every format; charts ride along with the table runs.
 pub fn outputs() -> Vec<OutputRun> {
+    let day = |format: &'static str| -> Vec<&'static str> {
+        vec![
+            "register",
+            "day",
+            PILOT_REGISTER,
+            "--date",
+            "2027-03-22",
+            "--format",
+            format,
+        ]
+    };
+    let listing = |action: &'static str, format: &'static str| -> Vec<&'static str> {
+        let mut v = vec!["register", action, PILOT_REGISTER, "--format", format];
+        if action == "audit" {
+            v.extend(["--participant", "DEMO-017"]);
+        }
+        v
+    };
     vec![
+        (
+            "register day table",
+            &[("register day", "table")],
+            day("table"),
+        ),
+        ("register day csv", &[("register day", "csv")], day("csv")),
+        (
+            "register day html",
+            &[("register day", "html")],
+            day("html"),
+        ),
+        (
+            "register list table",
+            &[("register list", "table")],
+            listing("list", "table"),
+        ),
+        (
+            "register list csv",
+            &[("register list", "csv")],
+            listing("list", "csv"),
+        ),
+        (
+            "register participants table",
+            &[("register participants", "table")],
+            listing("participants", "table"),
+        ),
+        (
+            "register participants csv",
+            &[("register participants", "csv")],
+            listing("participants", "csv"),
+        ),
+        (
+            "register audit table",
+            &[("register audit", "table")],
+            listing("audit", "table"),
+        ),
+        (
+            "register audit csv",
+            &[("register audit", "csv")],
+            listing("audit", "csv"),
+        ),
+        (
+            "register check",
+            &[("register check", "")],
+            vec!["register", "check", PILOT_REGISTER],
+        ),
+        (
+            "register export",
+            &[("register export", "")],
+            vec!["register", "export", PILOT_REGISTER, "--to", "export"],
+        ),
+        (
+            "register backup",
+            &[("register backup", "")],
+            vec!["register", "backup", PILOT_REGISTER, "copy.register"],
+        ),
         (
             "pilot markdown + chart",
             &[("pilot", "markdown"), ("pilot", "chart")],
@@ -729,7 +803,7 @@ pub fn pilot_register_with(dir: &Path, plan_text: &str) {
 
 pub fn outcome(args: &[&str], env: &[(&str, &str)]) -> Outcome {
     let dir = fresh("determinism");
-    if args.first() == Some(&"pilot") {
+    if matches!(args.first(), Some(&"pilot" | &"register")) {
         pilot_register(dir.path());
     }
     if args.first() == Some(&"cohort-merge") {

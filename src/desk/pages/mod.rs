@@ -1,7 +1,7 @@
 //! The desk's pages and forms (docs/desk.md, "Pages").
 
 use super::accounts::{self, Role};
-use super::views::{self, Replan};
+use super::views::{self, Replan, describe, hr_text, round_text};
 use super::{Fault, Fields, Need, State, Who, field, guarded, now, today};
 use crate::register::{self, Measure, Row, Session, Stamp, Status, Store, WeighIn, Which};
 use crate::report::chart::{Series, mass_chart};
@@ -469,49 +469,6 @@ fn fmt1(x: f64) -> String {
     format!("{x:.1}")
 }
 
-fn describe(m: &Measure) -> String {
-    match m {
-        Measure::WeighIn(w) => {
-            let mut s = format!("{} kg", round_text(w.mass_kg, 2));
-            if let Some(bf) = w.body_fat_percent {
-                s.push_str(&format!(", body fat {bf}%"));
-                if let Some(m) = &w.body_fat_method {
-                    s.push_str(&format!(" ({m})"));
-                }
-            }
-            s
-        }
-        Measure::Session(x) => {
-            let mut s = format!("{} min at target", x.minutes);
-            if let Some(c) = &x.compendium_code {
-                s.push_str(&format!(", code {c}"));
-            }
-            if let Some(m) = x.met {
-                s.push_str(&format!(", {m} MET"));
-            }
-            if let Some(w) = x.watts {
-                s.push_str(&format!(", {w} W"));
-            }
-            if let Some(v) = x.speed_kmh {
-                s.push_str(&format!(", {v} km/h"));
-            }
-            if let Some(h) = x.avg_hr_bpm {
-                s.push_str(&format!(", HR {h}"));
-            }
-            if let Some(r) = x.rpe {
-                s.push_str(&format!(", RPE {r}"));
-            }
-            s
-        }
-    }
-}
-
-fn round_text(x: f64, decimals: usize) -> String {
-    let s = format!("{x:.decimals$}");
-    let s = s.trim_end_matches('0').trim_end_matches('.');
-    s.to_string()
-}
-
 fn safety(r: &Replan) -> Markup {
     let s = &r.report.screening;
     html! {
@@ -545,13 +502,6 @@ fn values(json: Option<&str>) -> Markup {
             }
         },
         Err(_) => html! { code { (text) } },
-    }
-}
-
-fn hr_text(s: &crate::report::sessions::PlannedSession) -> String {
-    match &s.targets.heart_rate {
-        Some(h) => format!("{}-{} bpm", h.low_bpm, h.high_bpm),
-        None => "no resting HR on file".to_string(),
     }
 }
 
