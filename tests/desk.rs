@@ -737,3 +737,63 @@ fn the_default_address_is_loopback() {
     let c = dosewright::desk::Config::new("x.db".into());
     assert!(c.listen.ip().is_loopback());
 }
+
+/// The `d` of every series line (stroke-width 2.2) of an SVG chart.
+fn series_lines(svg: &str) -> Vec<String> {
+    svg.split("<path d=\"")
+        .skip(1)
+        .filter(|p| p.contains("stroke-width=\"2.2\""))
+        .map(|p| p[..p.find('"').unwrap()].to_string())
+        .collect()
+}
+
+#[test]
+fn the_participant_page_sets_the_weigh_ins_beside_the_delivered_projection() {
+    // docs/design.md: with a log the mass chart shows the weigh-ins as points beside
+    // one projection from the baseline with the delivered sessions, not re-anchored;
+    // the desk draws the same lines as `schedule --log --chart` on the exported log.
+    let site = Site::new();
+    let server = Server::start(site.config());
+    let c = server.signed_in("trainer1");
+    let store = site.store();
+    let participant = store.participant(P).unwrap();
+    let rows = store.rows(Some(P), Which::Current).unwrap();
+    assert!(
+        rows.iter().any(|r| matches!(r.measure, Measure::WeighIn(_))),
+        "the demo participant has weigh-ins"
+    );
+    let dir = tempfile::tempdir().unwrap();
+    std::fs::write(dir.path().join("plan.toml"), &participant.plan_text).unwrap();
+    std::fs::write(
+        dir.path().join("log.csv"),
+        dosewright::register::log_csv(&rows).unwrap(),
+    )
+    .unwrap();
+    let out = std::process::Command::new(env!("CARGO_BIN_EXE_dosewright"))
+        .current_dir(dir.path())
+        .args(["schedule", "plan.toml", "--log", "log.csv", "--chart", "charts"])
+        .output()
+        .unwrap();
+    assert_eq!(
+        out.status.code(),
+        Some(0),
+        "{}",
+        String::from_utf8_lossy(&out.stderr)
+    );
+    // The stem is the plan's participant id (docs/commands.md, charts).
+    let file = std::fs::read_dir(dir.path().join("charts"))
+        .unwrap()
+        .map(|e| e.unwrap().path())
+        .find(|p| p.to_string_lossy().ends_with("-mass.svg"))
+        .map(|p| std::fs::read_to_string(p).unwrap())
+        .expect("a mass chart");
+    let page = c.get(&format!("/p/{P}")).body;
+    let lines = series_lines(&file);
+    assert!(!lines.is_empty(), "the command's chart has projection lines");
+    assert_eq!(series_lines(&page), lines, "the same projection lines");
+    assert!(page.contains("weigh-ins (log)"), "the weigh-ins as points");
+    assert!(
+        !page.contains("re-planned from the log, and weigh-ins"),
+        "not the re-anchored projection"
+    );
+}

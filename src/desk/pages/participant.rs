@@ -70,38 +70,48 @@ pub(super) async fn day(
 // The participant page
 // ---------------------------------------------------------------------------
 
-pub(super) fn mass_chart_svg(r: &Replan) -> String {
+/// The participant's mass projection to set the weigh-ins beside: every scenario
+/// run from the baseline with the delivered sessions, never re-anchored at the
+/// weigh-ins (as `schedule --log --chart`, docs/design.md); None without a log.
+pub(super) fn delivered_projection(
+    r: &Replan,
+) -> Result<Option<Vec<crate::simulate::ScenarioRun>>, crate::error::Error> {
+    r.input
+        .observed
+        .as_ref()
+        .map(|obs| crate::simulate::simulate_delivered(&r.log.plan, obs).map(|s| s.scenarios))
+        .transpose()
+}
+
+/// The body-mass chart: with a log, the weigh-ins as points beside the projection
+/// with the delivered sessions (no shaded band, no re-anchored zigzag); without one,
+/// the planned projection.
+pub(super) fn mass_chart_svg(
+    r: &Replan,
+    delivered: Option<&[crate::simulate::ScenarioRun]>,
+) -> String {
     let rep = &r.report;
-    let mut chart = mass_chart(&rep.scenarios, rep.protocol.weeks, None, Units::default());
-    let start = r.log.plan.protocol.start;
-    let points: Vec<(f64, f64)> = r
-        .log
-        .log
-        .rows
-        .iter()
-        .filter_map(|row| match row.entry {
-            crate::log::Entry::WeighIn { mass_kg, .. } => {
-                Some(((row.date - start).num_days() as f64 / 7.0, mass_kg))
-            }
-            _ => None,
-        })
-        .collect();
-    if !points.is_empty() {
-        let slot = chart.series.len();
-        chart.series.push(Series {
-            name: "weigh-ins (measured)".to_string(),
-            points,
-            dashed: false,
-            slot,
-            markers_only: true,
-        });
-    }
+    let mut chart = match (delivered, r.input.observed.as_ref()) {
+        (Some(runs), Some(obs)) => {
+            let points: Vec<WeighInPoint> = obs
+                .weigh_ins
+                .iter()
+                .filter(|w| w.day <= obs.as_of_day)
+                .map(|w| WeighInPoint {
+                    day: w.day,
+                    mass_kg: w.mass_kg,
+                })
+                .collect();
+            logged_mass_chart(runs, &points, rep.protocol.weeks, Units::default())
+        }
+        _ => mass_chart(&rep.scenarios, rep.protocol.weeks, None, Units::default()),
+    };
     chart.title = format!(
-        "Body mass: projection re-planned from the log, and weigh-ins ({})",
+        "Body mass: weigh-ins and the projection with the delivered sessions ({})",
         r.report.participant_id
     );
     chart.caption.push_str(&format!(
-        " Points: the recorded weigh-ins. Screening: {}.",
+        " Screening: {}. Stop at once on chest pain, unusual breathlessness, dizziness or palpitations.",
         r.report.screening.recommendation
     ));
     chart.render()
@@ -142,6 +152,7 @@ pub(super) async fn participant(
 ) -> Response {
     guarded(st, h, Need::Read, None, move |desk, who, store, _| {
         let r = desk.cache.replan_code(&*store, &code)?;
+        let delivered = delivered_projection(&r)?;
         let rows = store.rows(Some(&code), Which::Current)?;
         let trainer = who.account.role == Role::Trainer;
         let today = today();
@@ -181,7 +192,7 @@ pub(super) async fn participant(
                     None => { p { "No delivered sessions recorded yet." } }
                 }
                 h2 { "Body mass" }
-                div.chart { (PreEscaped(mass_chart_svg(&r))) }
+                div.chart { (PreEscaped(mass_chart_svg(&r, delivered.as_deref()))) }
                 @if trainer {
                     h2.noprint { "Record" }
                     div.grid.noprint {
