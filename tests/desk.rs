@@ -759,7 +759,8 @@ fn the_participant_page_sets_the_weigh_ins_beside_the_delivered_projection() {
     let participant = store.participant(P).unwrap();
     let rows = store.rows(Some(P), Which::Current).unwrap();
     assert!(
-        rows.iter().any(|r| matches!(r.measure, Measure::WeighIn(_))),
+        rows.iter()
+            .any(|r| matches!(r.measure, Measure::WeighIn(_))),
         "the demo participant has weigh-ins"
     );
     let dir = tempfile::tempdir().unwrap();
@@ -771,7 +772,14 @@ fn the_participant_page_sets_the_weigh_ins_beside_the_delivered_projection() {
     .unwrap();
     let out = std::process::Command::new(env!("CARGO_BIN_EXE_dosewright"))
         .current_dir(dir.path())
-        .args(["schedule", "plan.toml", "--log", "log.csv", "--chart", "charts"])
+        .args([
+            "schedule",
+            "plan.toml",
+            "--log",
+            "log.csv",
+            "--chart",
+            "charts",
+        ])
         .output()
         .unwrap();
     assert_eq!(
@@ -789,7 +797,10 @@ fn the_participant_page_sets_the_weigh_ins_beside_the_delivered_projection() {
         .expect("a mass chart");
     let page = c.get(&format!("/p/{P}")).body;
     let lines = series_lines(&file);
-    assert!(!lines.is_empty(), "the command's chart has projection lines");
+    assert!(
+        !lines.is_empty(),
+        "the command's chart has projection lines"
+    );
     assert_eq!(series_lines(&page), lines, "the same projection lines");
     assert!(page.contains("weigh-ins (log)"), "the weigh-ins as points");
     assert!(

@@ -1095,3 +1095,67 @@ fn compare_and_goal_take_the_log() {
         "{week8}"
     );
 }
+
+#[test]
+fn a_part_week_counts_for_its_planned_sessions_in_the_weekly_dose() {
+    // docs/model.md, Adherence: every session delivered as planned, the weekly dose
+    // is a weighted mean of the covered weeks' doses whatever the as-of date, so it
+    // lies between the smallest and the largest whole week's dose (an invariant).
+    // Counting a part-week by its days (the covered days over 7) broke it: FOLLOW_PLAN
+    // sessions on Monday, Wednesday, Friday and Saturday, a log ending on a Monday
+    // counted one session of four as one seventh of a week.
+    // No ramp, so every whole week prescribes about the same dose.
+    let text = common::edit(FOLLOW_PLAN, &[("[protocol.ramp]\nweeks = 4\n", "")]);
+    let plan = plan_of("follow.toml", &text);
+    let plain = simulate(&plan).unwrap();
+    let weeks = &plain.scenarios[0].weeks;
+    // Whole weeks' doses (as of each week's Sunday).
+    let whole: Vec<f64> = (1..=8u32)
+        .map(|w| {
+            let as_of = 7 * w - 1;
+            let rows: Vec<String> = weeks
+                .iter()
+                .flat_map(|x| x.sessions.iter())
+                .filter(|s| day_of(&plan, s.date) <= as_of)
+                .map(|s| plain_session(s.date, f64::from(s.minutes)))
+                .collect();
+            let obs = observed(&plan, &log_text(&rows), Some(day_date(&plan, as_of)));
+            let sim = simulate_observed(&plan, Some(&obs)).unwrap();
+            sim.scenarios[0].weeks[w as usize - 1]
+                .adherence
+                .as_ref()
+                .unwrap()
+                .dose_prescribed
+        })
+        .collect();
+    for as_of in 14u32..56 {
+        let rows: Vec<String> = weeks
+            .iter()
+            .flat_map(|x| x.sessions.iter())
+            .filter(|s| day_of(&plan, s.date) <= as_of)
+            .map(|s| plain_session(s.date, f64::from(s.minutes)))
+            .collect();
+        let obs = observed(&plan, &log_text(&rows), Some(day_date(&plan, as_of)));
+        let sim = simulate_observed(&plan, Some(&obs)).unwrap();
+        let t = sim.scenarios[0].adherence.as_ref().unwrap();
+        let covered = &whole[..=(as_of / 7) as usize];
+        let lo = covered.iter().cloned().fold(f64::INFINITY, f64::min);
+        let hi = covered.iter().cloned().fold(f64::NEG_INFINITY, f64::max);
+        assert!(
+            t.dose_prescribed_per_week >= lo - 1e-9 && t.dose_prescribed_per_week <= hi + 1e-9,
+            "as of day {as_of}: {} outside [{lo}, {hi}]",
+            t.dose_prescribed_per_week
+        );
+        close(
+            t.dose_delivered_per_week,
+            t.dose_prescribed_per_week,
+            1e-9,
+            "delivered as planned",
+        );
+    }
+    // A whole week's dose is the plan's 1600 kcal (net) to the rounding of the
+    // minutes (at most half a minute a session at the week's rate).
+    for d in &whole {
+        assert!((d - 1600.0).abs() < 0.03 * 1600.0, "{d}");
+    }
+}

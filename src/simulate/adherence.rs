@@ -35,6 +35,11 @@ pub struct WeekAdherence {
     pub mean_rpe: Option<f64>,
     /// Mean of the sessions' average heart rates, beats/min.
     pub mean_hr_bpm: Option<f64>,
+    /// How much of a week this counts for in the weekly dose: the share of the
+    /// week's planned sessions on the covered days (the covered days over 7 when
+    /// the week has none planned); 1 for a whole week (docs/model.md, Adherence).
+    #[serde(skip)]
+    pub share_of_week: f64,
 }
 
 /// Totals over every covered week.
@@ -54,9 +59,10 @@ pub struct AdherenceTotal {
     pub net_kcal_prescribed: f64,
     /// Net energy delivered, kcal.
     pub net_kcal_delivered: f64,
-    /// Mean weekly prescribed dose, plan unit (a partly covered week counts for its days).
+    /// Mean weekly prescribed dose, plan unit (a partly covered week counts for the
+    /// share of its planned sessions on its covered days).
     pub dose_prescribed_per_week: f64,
-    /// Mean weekly delivered dose, plan unit (a partly covered week counts for its days).
+    /// Mean weekly delivered dose, plan unit (as the prescribed one).
     pub dose_delivered_per_week: f64,
     /// Mean RPE over sessions that record one.
     pub mean_rpe: Option<f64>,
@@ -104,6 +110,12 @@ pub fn week(
         .iter()
         .filter(|b| day_of(&b.date) <= last)
         .collect();
+    let days_covered = last + 1 - start_day;
+    let share_of_week = if rx.bouts.is_empty() {
+        f64::from(days_covered) / 7.0
+    } else {
+        planned.len() as f64 / rx.bouts.len() as f64
+    };
     let mut planned_days: Vec<u32> = planned.iter().map(|b| day_of(&b.date)).collect();
     planned_days.dedup();
     let minutes_prescribed: f64 = planned
@@ -145,7 +157,7 @@ pub fn week(
     let hrs: Vec<f64> = delivered.iter().filter_map(|s| s.avg_hr_bpm).collect();
     WeekAdherence {
         week,
-        days_covered: last + 1 - start_day,
+        days_covered,
         sessions_planned: planned_days.len() as u32,
         sessions_delivered: delivered_days.len() as u32,
         minutes_prescribed,
@@ -161,18 +173,19 @@ pub fn week(
         dose_delivered: in_plan_unit(plan, basis_delivered, minutes_delivered, mass_basis),
         mean_rpe: mean(&rpes),
         mean_hr_bpm: mean(&hrs),
+        share_of_week,
     }
 }
 
 /// Totals over the weeks that have adherence; `rpes` and `hrs` are every session's values.
 pub fn total(weeks: &[&WeekAdherence], obs: &Observed) -> AdherenceTotal {
-    // Weeks of coverage: a partly covered last week counts for its days only.
-    let n = (weeks
+    // Weeks of coverage: a partly covered last week counts for the share of its
+    // planned sessions on its covered days (docs/model.md, Adherence).
+    let n = weeks
         .iter()
-        .map(|w| f64::from(w.days_covered))
-        .fold(0.0, |a, b| a + b)
-        / 7.0)
-        .max(1.0 / 7.0);
+        .map(|w| w.share_of_week)
+        .fold(0.0, |a, b| a + b);
+    let per_week = |x: f64| if n > 0.0 { x / n } else { 0.0 };
     // `+ 0.0` turns the -0.0 an empty float sum gives into 0.0.
     let sum = |f: fn(&WeekAdherence) -> f64| weeks.iter().map(|w| f(w)).fold(0.0, |a, b| a + b);
     let rpes: Vec<f64> = obs
@@ -195,8 +208,8 @@ pub fn total(weeks: &[&WeekAdherence], obs: &Observed) -> AdherenceTotal {
         minutes_delivered: sum(|w| w.minutes_delivered),
         net_kcal_prescribed: sum(|w| w.net_kcal_prescribed),
         net_kcal_delivered: sum(|w| w.net_kcal_delivered),
-        dose_prescribed_per_week: sum(|w| w.dose_prescribed) / n,
-        dose_delivered_per_week: sum(|w| w.dose_delivered) / n,
+        dose_prescribed_per_week: per_week(sum(|w| w.dose_prescribed)),
+        dose_delivered_per_week: per_week(sum(|w| w.dose_delivered)),
         mean_rpe: mean(&rpes),
         mean_hr_bpm: mean(&hrs),
     }
