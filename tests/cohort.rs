@@ -219,8 +219,10 @@ fn one_plan_text(study_text: &str) -> String {
         .and_then(|a| a.get("dose"))
         .expect("the arm and its dose")
         .clone();
-    t.remove("study");
-    t.remove("synthetic");
+    // The study-only tables (docs/file-formats.md): not keys of a plan.
+    for key in ["study", "synthetic", "uncertainty", "staffing"] {
+        t.remove(key);
+    }
     t.get_mut("protocol")
         .and_then(toml::Value::as_table_mut)
         .expect("[protocol]")

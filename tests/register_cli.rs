@@ -728,3 +728,71 @@ fn enrolling_a_study_and_roster_gives_each_dosed_participant_their_arm_and_value
         );
     }
 }
+
+#[test]
+fn enrolling_from_a_study_leaves_out_its_study_only_tables() {
+    // docs/file-formats.md: `[uncertainty]` and `[staffing]` belong to the study, not
+    // to a participant's plan; a study that has them enrols its participants with
+    // the same plans as one that has not (they used to be refused as unknown plan
+    // keys).
+    use common::hard_edges::{ROSTER, STUDY};
+    let extra = format!(
+        "{STUDY}\n[uncertainty]\nattendance = 0.9\ndropout_per_week = 0.01\n\n[staffing]\ngroup_size = 4\n"
+    );
+    let dir = Scratch::new("register-study-only-tables");
+    dir.write("plain.toml", STUDY);
+    dir.write("extra.toml", &extra);
+    dir.write("roster.csv", ROSTER);
+    for (db, study) in [("a.db", "plain.toml"), ("b.db", "extra.toml")] {
+        ok(&dir, &["register", "create", db]);
+        ok(
+            &dir,
+            &[
+                "register",
+                "enrol",
+                db,
+                "--study",
+                study,
+                "--roster",
+                "roster.csv",
+            ],
+        );
+    }
+    let listed = |db: &str| ok(&dir, &["register", "participants", db, "--format", "csv"]).stdout;
+    let who = |db: &str| -> Vec<(String, String)> {
+        csv_rows(&listed(db))
+            .iter()
+            .map(|r| (r["participant"].clone(), r["arm"].clone()))
+            .collect()
+    };
+    assert_eq!(who("a.db"), who("b.db"));
+    assert_eq!(who("a.db").len(), 4);
+    let first = who("a.db")[0].0.clone();
+    let schedule = |db: &str| {
+        ok(
+            &dir,
+            &[
+                "schedule",
+                "--register",
+                db,
+                "--participant",
+                &first,
+                "--format",
+                "json",
+            ],
+        )
+        .stdout
+    };
+    // The same JSON but for the plan's name (the study file's) and the register's.
+    let a = schedule("a.db")
+        .replace("plain.toml", "STUDY")
+        .replace("a.db", "DB");
+    let b = schedule("b.db")
+        .replace("extra.toml", "STUDY")
+        .replace("b.db", "DB");
+    let differ: Vec<(&str, &str)> = a.lines().zip(b.lines()).filter(|(x, y)| x != y).collect();
+    assert!(
+        differ.is_empty() && a.lines().count() == b.lines().count(),
+        "{differ:?}"
+    );
+}

@@ -40,7 +40,7 @@ pub fn is_study_text(text: &str) -> bool {
         return false;
     };
     !table.contains_key("participant")
-        && ["arm", "study", "synthetic"]
+        && crate::study::STUDY_ONLY_TABLES
             .iter()
             .any(|k| table.contains_key(*k))
 }

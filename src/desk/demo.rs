@@ -133,8 +133,8 @@ fn build(
     for i in 0..n {
         let (line, record, arm) = dosed[i % dosed.len()];
         let mut plan = study.clone();
-        for key in ["study", "synthetic", "arm"] {
-            plan.remove(key);
+        for key in crate::study::STUDY_ONLY_TABLES {
+            plan.remove(*key);
         }
         let mut participant =
             participant_values(&header, record, i, line, demo).map_err(|e| fail(roster_name, e))?;

@@ -13,6 +13,11 @@ pub mod randomise;
 pub mod raw;
 pub mod roster;
 pub mod staffing;
+
+/// The top-level tables a study file has and a plan file has not (docs/file-formats.md):
+/// what is taken away when a study's shared tables become one participant's plan, and
+/// how a study file is told from a plan.
+pub const STUDY_ONLY_TABLES: &[&str] = &["study", "arm", "synthetic", "uncertainty", "staffing"];
 pub mod synthetic;
 mod validate;
 
