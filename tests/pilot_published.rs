@@ -223,6 +223,36 @@ fn intake_balance_with_the_published_densities() {
     assert_eq!(a.constants, c);
 }
 
+/// The attainable precision of intake by the energy-balance (intake-balance)
+/// method: "a precision of 4-37 % depending on the expenditure and body
+/// composition methods used and the time interval between measures", and accurate
+/// to within 2 % (the abstract of "An objective measure of energy intake using the
+/// principle of energy balance", a review of the method's validations; read here in
+/// the abstract; its authors and journal, Ravelli MN, Schoeller DA 2021, Int J Obes
+/// 45(4):725-732, from memory). At the default precisions (DLW and DXA), the
+/// intake's standard deviation over its value lies in that range for intervals
+/// from two weeks to a year, and it shrinks as the interval grows: the stores'
+/// change is divided by the days, while the TEE's error is not.
+#[test]
+fn the_intake_s_precision_lies_in_the_published_range_and_shrinks_with_the_interval() {
+    let mut last = f64::INFINITY;
+    for days in [14u64, 28, 56, 84, 182, 365] {
+        let mut p = hand_case(None);
+        let start = p.visits[0].date;
+        let end = start + chrono::Days::new(days);
+        p.visits[1].date = end;
+        p.rmr[1].date = end;
+        p.tee[1].last = end - chrono::Days::new(1);
+        p.sessions.retain(|s| s.date < end);
+        let a = analyse_interval(&p, &Constants::default(), 0, 1).unwrap();
+        let ei = a.intake.unwrap();
+        let relative = ei.sd / ei.value;
+        assert!((0.04..=0.37).contains(&relative), "{days} days: {relative}");
+        assert!(relative < last, "{days} days: {relative} after {last}");
+        last = relative;
+    }
+}
+
 #[test]
 fn a_plan_s_constants_change_the_result_as_the_formula_says() {
     let c = published_constants();
