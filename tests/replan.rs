@@ -1109,26 +1109,8 @@ fn a_part_week_counts_for_its_planned_sessions_in_the_weekly_dose() {
     let plan = plan_of("follow.toml", &text);
     let plain = simulate(&plan).unwrap();
     let weeks = &plain.scenarios[0].weeks;
-    // Whole weeks' doses (as of each week's Sunday).
-    let whole: Vec<f64> = (1..=8u32)
-        .map(|w| {
-            let as_of = 7 * w - 1;
-            let rows: Vec<String> = weeks
-                .iter()
-                .flat_map(|x| x.sessions.iter())
-                .filter(|s| day_of(&plan, s.date) <= as_of)
-                .map(|s| plain_session(s.date, f64::from(s.minutes)))
-                .collect();
-            let obs = observed(&plan, &log_text(&rows), Some(day_date(&plan, as_of)));
-            let sim = simulate_observed(&plan, Some(&obs)).unwrap();
-            sim.scenarios[0].weeks[w as usize - 1]
-                .adherence
-                .as_ref()
-                .unwrap()
-                .dose_prescribed
-        })
-        .collect();
-    for as_of in 14u32..56 {
+    // Every planned session delivered as planned up to `as_of`.
+    let logged = |as_of: u32| {
         let rows: Vec<String> = weeks
             .iter()
             .flat_map(|x| x.sessions.iter())
@@ -1136,7 +1118,20 @@ fn a_part_week_counts_for_its_planned_sessions_in_the_weekly_dose() {
             .map(|s| plain_session(s.date, f64::from(s.minutes)))
             .collect();
         let obs = observed(&plan, &log_text(&rows), Some(day_date(&plan, as_of)));
-        let sim = simulate_observed(&plan, Some(&obs)).unwrap();
+        simulate_observed(&plan, Some(&obs)).unwrap()
+    };
+    // Whole weeks' doses (as of each week's Sunday).
+    let whole: Vec<f64> = (1..=8u32)
+        .map(|w| {
+            logged(7 * w - 1).scenarios[0].weeks[w as usize - 1]
+                .adherence
+                .as_ref()
+                .unwrap()
+                .dose_prescribed
+        })
+        .collect();
+    for as_of in 14u32..56 {
+        let sim = logged(as_of);
         let t = sim.scenarios[0].adherence.as_ref().unwrap();
         let covered = &whole[..=(as_of / 7) as usize];
         let lo = covered.iter().cloned().fold(f64::INFINITY, f64::min);

@@ -4,7 +4,7 @@ use crate::error::Error;
 use crate::output::write_charts;
 use crate::plan::Plan;
 use crate::report::ScheduleReport;
-use crate::report::chart::{Band, LineChart, WeighInPoint, logged_charts, standard_charts};
+use crate::report::chart::{Band, LineChart, logged_charts, standard_charts};
 use crate::report::units::Units;
 use crate::simulate::observed::Observed;
 use std::path::Path;
@@ -76,15 +76,7 @@ pub fn write_schedule_charts(
     let mut charts = match observed {
         Some(obs) => {
             let delivered = crate::simulate::simulate_delivered(plan, obs)?;
-            let weigh_ins: Vec<WeighInPoint> = obs
-                .weigh_ins
-                .iter()
-                .filter(|w| w.day <= obs.as_of_day)
-                .map(|w| WeighInPoint {
-                    day: w.day,
-                    mass_kg: w.mass_kg,
-                })
-                .collect();
+            let weigh_ins = crate::report::chart::weigh_in_points(obs);
             logged_charts(
                 &r.scenarios,
                 &delivered.scenarios,

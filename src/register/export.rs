@@ -95,23 +95,35 @@ pub fn weigh_ins_csv(rows: &[Row]) -> Result<String, Error> {
     table(
         &WEIGH_IN_COLUMNS,
         rows.iter().filter_map(|r| match &r.measure {
-            Measure::WeighIn(w) => Some(vec![
-                r.id.to_string(),
-                r.participant.clone(),
-                w.date.to_string(),
-                num(w.mass_kg),
-                opt(w.body_fat_percent),
-                w.body_fat_method.clone().unwrap_or_default(),
-                w.note.clone(),
-                r.status.name().to_string(),
-                opt_id(r.supersedes),
-                superseded_by(r.status),
-                r.recorded.at_text(),
-                r.recorded.who.clone(),
-            ]),
+            Measure::WeighIn(w) => Some(framed(
+                r,
+                w.date,
+                vec![
+                    num(w.mass_kg),
+                    opt(w.body_fat_percent),
+                    w.body_fat_method.clone().unwrap_or_default(),
+                    w.note.clone(),
+                ],
+            )),
             Measure::Session(_) => None,
         }),
     )
+}
+
+/// One row's cells: its id, participant and date, the kind's own `cells`, then
+/// its status, what it supersedes and is superseded by, and when and by whom it
+/// was recorded (the columns every kind's table shares).
+fn framed(r: &Row, date: chrono::NaiveDate, cells: Vec<String>) -> Vec<String> {
+    let mut out = vec![r.id.to_string(), r.participant.clone(), date.to_string()];
+    out.extend(cells);
+    out.extend([
+        r.status.name().to_string(),
+        opt_id(r.supersedes),
+        superseded_by(r.status),
+        r.recorded.at_text(),
+        r.recorded.who.clone(),
+    ]);
+    out
 }
 
 /// The sessions among `rows` as one tidy CSV table ([`SESSION_COLUMNS`]).
@@ -119,24 +131,20 @@ pub fn sessions_csv(rows: &[Row]) -> Result<String, Error> {
     table(
         &SESSION_COLUMNS,
         rows.iter().filter_map(|r| match &r.measure {
-            Measure::Session(s) => Some(vec![
-                r.id.to_string(),
-                r.participant.clone(),
-                s.date.to_string(),
-                num(s.minutes),
-                s.compendium_code.clone().unwrap_or_default(),
-                opt(s.met),
-                opt(s.watts),
-                opt(s.speed_kmh),
-                opt(s.avg_hr_bpm),
-                opt(s.rpe),
-                s.note.clone(),
-                r.status.name().to_string(),
-                opt_id(r.supersedes),
-                superseded_by(r.status),
-                r.recorded.at_text(),
-                r.recorded.who.clone(),
-            ]),
+            Measure::Session(s) => Some(framed(
+                r,
+                s.date,
+                vec![
+                    num(s.minutes),
+                    s.compendium_code.clone().unwrap_or_default(),
+                    opt(s.met),
+                    opt(s.watts),
+                    opt(s.speed_kmh),
+                    opt(s.avg_hr_bpm),
+                    opt(s.rpe),
+                    s.note.clone(),
+                ],
+            )),
             Measure::WeighIn(_) => None,
         }),
     )

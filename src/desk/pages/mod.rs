@@ -4,7 +4,7 @@ use super::accounts::{self, Role};
 use super::views::{self, Replan, describe, hr_text, round_text};
 use super::{Fault, Fields, Need, State, Who, field, guarded, now, today};
 use crate::register::{self, Measure, Row, Session, Stamp, Status, Store, WeighIn, Which};
-use crate::report::chart::{WeighInPoint, logged_mass_chart, mass_chart};
+use crate::report::chart::{logged_mass_chart, mass_chart};
 use crate::report::sheets::{self, Paper};
 use crate::report::units::{KG_PER_LB, Units};
 use axum::Router;

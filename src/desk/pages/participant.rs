@@ -93,15 +93,7 @@ pub(super) fn mass_chart_svg(
     let rep = &r.report;
     let mut chart = match (delivered, r.input.observed.as_ref()) {
         (Some(runs), Some(obs)) => {
-            let points: Vec<WeighInPoint> = obs
-                .weigh_ins
-                .iter()
-                .filter(|w| w.day <= obs.as_of_day)
-                .map(|w| WeighInPoint {
-                    day: w.day,
-                    mass_kg: w.mass_kg,
-                })
-                .collect();
+            let points = crate::report::chart::weigh_in_points(obs);
             logged_mass_chart(runs, &points, rep.protocol.weeks, Units::default())
         }
         _ => mass_chart(&rep.scenarios, rep.protocol.weeks, None, Units::default()),

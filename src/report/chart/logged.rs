@@ -19,6 +19,18 @@ pub struct WeighInPoint {
     pub mass_kg: f64,
 }
 
+/// The log's weigh-ins up to its as-of date, as chart points.
+pub fn weigh_in_points(obs: &crate::simulate::observed::Observed) -> Vec<WeighInPoint> {
+    obs.weigh_ins
+        .iter()
+        .filter(|w| w.day <= obs.as_of_day)
+        .map(|w| WeighInPoint {
+            day: w.day,
+            mass_kg: w.mass_kg,
+        })
+        .collect()
+}
+
 /// The four standard charts with a log. `delivered` holds the runs with the
 /// delivered sessions and no re-anchoring (mass, composition and energy);
 /// `replanned` the schedule's runs, whose minutes are those re-prescribed from the

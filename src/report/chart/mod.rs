@@ -20,7 +20,7 @@ mod svg;
 
 pub use axes::{Ticks, nice_number, nice_ticks};
 pub use cohort::{cohort_mass_chart, cohort_minutes_chart, cohort_power_chart};
-pub use logged::{WeighInPoint, logged_charts, logged_mass_chart};
+pub use logged::{WeighInPoint, logged_charts, logged_mass_chart, weigh_in_points};
 pub use standard::{composition_chart, energy_chart, mass_chart, minutes_chart, standard_charts};
 pub use svg::escape;
 
