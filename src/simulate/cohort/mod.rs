@@ -229,32 +229,45 @@ pub fn run_cohort_streams(
     out.slots.reserve(&per_arm);
     let runs_per_member = (draws as usize * study.arms.len() * study.scenarios.len()).max(1);
     let group = (RUNS_IN_FLIGHT / runs_per_member).max(1);
-    type Part = (Vec<(usize, Result<MemberResult, Error>)>, MinuteTally);
+    type Done = Vec<(usize, Result<MemberResult, Error>)>;
     for chunk in wanted.chunks(group) {
-        let (mut results, tally): Part = chunk
+        let (mut results, tally, _): (Done, MinuteTally, runs::Scratch) = chunk
             .par_iter()
             .fold(
-                || (Vec::new(), MinuteTally::new(study)),
-                |(mut done, mut tally), &i| {
+                || {
+                    (
+                        Vec::new(),
+                        MinuteTally::new(study),
+                        runs::Scratch::default(),
+                    )
+                },
+                |(mut done, mut tally, mut scratch), &i| {
                     let m = &members[i];
-                    let r = simulate_member_draws(study, m, i, req, draws_of(i)).map(|mut r| {
-                        tally.add(m, &r, counts_all);
-                        for run in &mut r.runs {
-                            run.minutes_by_week = Vec::new();
-                            run.session_minutes_by_week = Vec::new();
-                        }
-                        r
-                    });
+                    let r = runs::simulate_member_with(study, m, i, req, draws_of(i), &mut scratch)
+                        .map(|mut r| {
+                            tally.add(m, &r, counts_all);
+                            for run in &mut r.runs {
+                                run.minutes_by_week = Vec::new();
+                                run.session_minutes_by_week = Vec::new();
+                            }
+                            r
+                        });
                     tick();
                     done.push((i, r));
-                    (done, tally)
+                    (done, tally, scratch)
                 },
             )
             .reduce(
-                || (Vec::new(), MinuteTally::new(study)),
-                |(mut a, ta), (b, tb)| {
+                || {
+                    (
+                        Vec::new(),
+                        MinuteTally::new(study),
+                        runs::Scratch::default(),
+                    )
+                },
+                |(mut a, ta, sa), (b, tb, _)| {
                     a.extend(b);
-                    (a, ta.merge(tb))
+                    (a, ta.merge(tb), sa)
                 },
             );
         results.sort_by_key(|(i, _)| *i);

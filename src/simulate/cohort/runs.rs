@@ -3,6 +3,7 @@
 
 use super::draws::{Draw, draw};
 use super::*;
+use crate::simulate::fast::{FastRun, Lane, LaneRun, run_lanes};
 
 /// The arms a member is simulated in.
 pub(super) fn arms_of(study: &Study, m: &Member, all_arms: bool) -> Vec<usize> {
@@ -84,48 +85,30 @@ fn summarise_run(
     }
 }
 
-/// One scenario of one draw in every arm by the fast path; None when a run leaves
-/// the model's range (the full run then reports it).
+/// One scenario of one draw in every arm from its lanes' records `rs` (the
+/// no-exercise run, then one per dosed arm, as [`draw_lanes`] lays them out).
 #[allow(clippy::too_many_arguments)]
 fn fast_row(
     study: &Study,
     arms: &[usize],
-    plans: &[Plan],
     physiology: &crate::model::Physiology,
     baseline: &crate::model::Baseline,
     sc: &crate::plan::Scenario,
     dr: &Draw,
     si: usize,
     req: &CohortRequest,
-) -> Option<Vec<RunSummary>> {
-    use crate::simulate::fast::{Lane, fast_runs};
+    rs: &[FastRun],
+) -> Vec<RunSummary> {
     let comp = &sc.compensation;
-    // Lane 0 is the no-exercise run; then one lane per dosed arm, side by side.
-    let mut lanes = vec![Lane {
-        plan: &plans[0],
-        exercise: false,
-        attendance: None,
-        last_exercise_week: None,
-    }];
-    for (a, plan) in arms.iter().zip(plans) {
-        if !study.arms[*a].is_control() {
-            lanes.push(Lane {
-                plan,
-                exercise: true,
-                attendance: dr.attendance,
-                last_exercise_week: dr.last_exercise_week,
-            });
-        }
-    }
-    let mut results = fast_runs(&lanes, physiology, baseline, comp)?.into_iter();
-    let without = results.next().expect("lane 0 is the no-exercise run");
+    let without = &rs[0];
+    let mut results = rs[1..].iter();
     let weeks = study.protocol.weeks as usize;
     let plan_sessions = study.protocol.session_days.len() as u32;
     let mut row = Vec::with_capacity(arms.len());
     for a in arms {
         let control = study.arms[*a].is_control();
         let r = if control {
-            without.clone()
+            without
         } else {
             results.next().expect("one lane per dosed arm")
         };
@@ -195,7 +178,48 @@ fn fast_row(
             completed: true,
         });
     }
-    Some(row)
+    row
+}
+
+/// The lanes of one scenario of one draw: the no-exercise run (the control arm and
+/// the counterfactual of `dose_share`), then one lane per dosed arm.
+fn draw_lanes<'a>(
+    study: &Study,
+    arms: &[usize],
+    plans: &'a [Plan],
+    (physiology, baseline): (&'a crate::model::Physiology, &'a crate::model::Baseline),
+    comp: &'a crate::model::Compensation,
+    dr: &Draw,
+    lanes: &mut Vec<LaneRun<'a>>,
+) {
+    let run = |plan, exercise: bool| LaneRun {
+        lane: Lane {
+            plan,
+            exercise,
+            attendance: if exercise { dr.attendance } else { None },
+            last_exercise_week: if exercise {
+                dr.last_exercise_week
+            } else {
+                None
+            },
+        },
+        ph: physiology,
+        baseline,
+        comp,
+    };
+    lanes.push(run(&plans[0], false));
+    for (a, plan) in arms.iter().zip(plans) {
+        if !study.arms[*a].is_control() {
+            lanes.push(run(plan, true));
+        }
+    }
+}
+
+/// Buffers of one thread's members, reused from member to member.
+#[derive(Debug, Default)]
+pub struct Scratch {
+    outs: Vec<FastRun>,
+    ok: Vec<bool>,
 }
 
 /// Simulate one member (at position `index`) in its arms, every scenario and every draw.
@@ -218,76 +242,106 @@ pub fn simulate_member_draws(
     req: &CohortRequest,
     draws: std::ops::Range<u32>,
 ) -> Result<MemberResult, Error> {
+    simulate_member_with(study, m, index, req, draws, &mut Scratch::default())
+}
+
+/// A draw with its calibration (or why it cannot be calibrated).
+type Drawn = (
+    u32,
+    Draw,
+    Result<(crate::model::Baseline, crate::model::Physiology), Error>,
+);
+
+/// [`simulate_member_draws`] with a thread's buffers. Every draw's and scenario's
+/// lanes run side by side in the lane loop (full vectors whatever the number of
+/// arms); a draw and scenario any of whose lanes leaves the model's range, and
+/// plans the lane loop does not take, run in the general driver.
+pub(super) fn simulate_member_with(
+    study: &Study,
+    m: &Member,
+    index: usize,
+    req: &CohortRequest,
+    draws: std::ops::Range<u32>,
+    scratch: &mut Scratch,
+) -> Result<MemberResult, Error> {
     let arms = arms_of(study, m, req.all_arms);
     let random = study.has_uncertainty();
-    let mut runs = Vec::with_capacity(arms.len() * study.scenarios.len() * draws.len());
+    let per_draw = arms.len() * study.scenarios.len();
+    let mut runs = Vec::with_capacity(per_draw * draws.len());
     let mut baseline_mass_kg = m.participant.subject.mass_kg;
     // The plans differ between draws only in the participant's calibration and the
     // scenarios, which the runs take from the draw.
-    let base_plans: Vec<Plan> = arms
+    let plans: Vec<Plan> = arms
         .iter()
         .map(|a| study.plan_for(&m.participant, *a))
         .collect();
     let first_draw = draws.start;
-    for d in draws {
-        if d > first_draw && !random {
-            // Nothing varies: every draw is the first.
-            let first: Vec<RunSummary> = runs[..arms.len() * study.scenarios.len()].to_vec();
-            runs.extend(first.into_iter().map(|r| RunSummary { draw: d, ..r }));
-            continue;
+    // Nothing varies without uncertainty: every draw is the first.
+    let simulated = if random {
+        draws.clone()
+    } else {
+        first_draw..draws.end.min(first_draw + 1)
+    };
+    let drawn: Vec<Drawn> = simulated
+        .map(|d| {
+            let dr = draw(study, m, index, d, req.seed);
+            let cal = crate::model::energy::calibrate(&dr.participant.subject, &study.constants)
+                .map_err(|e| Error::Usage(format!("{}: participant {} (draw {}) cannot be calibrated: {e:?}; narrow the [uncertainty] errors", study.source_name, m.participant.id, d + 1)));
+            (d, dr, cal)
+        })
+        .collect();
+    let fast =
+        req.integrator == Integrator::Rk4 && plans.iter().all(crate::simulate::fast::eligible);
+    let per_row = 1 + arms
+        .iter()
+        .filter(|a| !study.arms[**a].is_control())
+        .count();
+    if fast {
+        let mut lanes = Vec::with_capacity(drawn.len() * study.scenarios.len() * per_row);
+        for (_, dr, cal) in &drawn {
+            if let Ok((baseline, physiology)) = cal {
+                for sc in &dr.scenarios {
+                    let ends = (physiology, baseline);
+                    draw_lanes(study, &arms, &plans, ends, &sc.compensation, dr, &mut lanes);
+                }
+            }
         }
-        let dr = draw(study, m, index, d, req.seed);
-        let plans = &base_plans;
-        let (baseline, physiology) = crate::model::energy::calibrate(&dr.participant.subject, &study.constants)
-            .map_err(|e| Error::Usage(format!("{}: participant {} (draw {}) cannot be calibrated: {e:?}; narrow the [uncertainty] errors", study.source_name, m.participant.id, d + 1)))?;
+        run_lanes(&lanes, &mut scratch.outs, &mut scratch.ok);
+    }
+    let mut lane = 0;
+    for (d, dr, cal) in drawn {
+        let (baseline, physiology) = &cal?;
         if d == first_draw {
             baseline_mass_kg = baseline.mass_kg;
         }
-        let mut per_scenario: Vec<Vec<RunSummary>> = Vec::new();
+        let mut per_scenario: Vec<std::vec::IntoIter<RunSummary>> = Vec::new();
         for (si, sc) in dr.scenarios.iter().enumerate() {
-            let fast = (req.integrator == Integrator::Rk4
-                && plans.iter().all(crate::simulate::fast::eligible))
-            .then(|| {
-                fast_row(
-                    study,
-                    &arms,
-                    plans,
-                    &physiology,
-                    &baseline,
-                    sc,
-                    &dr,
-                    si,
-                    req,
-                )
-            })
-            .flatten();
-            let row = match fast {
-                Some(row) => row,
-                None => full_row(
-                    study,
-                    &arms,
-                    plans,
-                    (&physiology, &baseline),
-                    sc,
-                    &dr,
-                    si,
-                    req,
-                )?,
+            let lanes = lane..lane + per_row;
+            let row = if fast && scratch.ok[lanes.clone()].iter().all(|o| *o) {
+                let rs = &scratch.outs[lanes];
+                fast_row(study, &arms, physiology, baseline, sc, &dr, si, req, rs)
+            } else {
+                let ends = (physiology, baseline);
+                full_row(study, &arms, &plans, ends, sc, &dr, si, req)?
             };
-            per_scenario.push(
-                row.into_iter()
-                    .map(|mut s| {
-                        s.draw = d;
-                        s.completed = dr.last_exercise_week.is_none();
-                        s
-                    })
-                    .collect(),
-            );
-        }
-        for ai in 0..arms.len() {
-            for row in &per_scenario {
-                runs.push(row[ai].clone());
+            if fast {
+                lane += per_row;
             }
+            per_scenario.push(row.into_iter());
+        }
+        for _ in 0..arms.len() {
+            for row in &mut per_scenario {
+                let mut s = row.next().expect("one run per arm");
+                s.draw = d;
+                s.completed = dr.last_exercise_week.is_none();
+                runs.push(s);
+            }
+        }
+    }
+    if !random && !draws.is_empty() {
+        for d in first_draw + 1..draws.end {
+            let first: Vec<RunSummary> = runs[..per_draw].to_vec();
+            runs.extend(first.into_iter().map(|r| RunSummary { draw: d, ..r }));
         }
     }
     Ok(MemberResult {
