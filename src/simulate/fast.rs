@@ -184,6 +184,7 @@ impl Setup {
 /// Week `w`'s exercise of one lane at the week's starting mass `m_w` and RMR `rmr_w`:
 /// the MET-minutes and minutes delivered (summed over sessions), recorded in `out`.
 /// None when a session would not fit in a day.
+#[inline(always)]
 fn week_exercise(
     run: &LaneRun,
     set: &mut Setup,

@@ -243,15 +243,20 @@ pub fn run_cohort_streams(
                 },
                 |(mut done, mut tally, mut scratch), &i| {
                     let m = &members[i];
-                    let r = runs::simulate_member_with(study, m, i, req, draws_of(i), &mut scratch)
-                        .map(|mut r| {
-                            tally.add(m, &r, counts_all);
-                            for run in &mut r.runs {
-                                run.minutes_by_week = Vec::new();
-                                run.session_minutes_by_week = Vec::new();
-                            }
-                            r
-                        });
+                    let counting = runs::Counting {
+                        tally: &mut tally,
+                        member: m,
+                        counts_all,
+                    };
+                    let r = runs::simulate_member_with(
+                        study,
+                        m,
+                        i,
+                        req,
+                        draws_of(i),
+                        &mut scratch,
+                        Some(counting),
+                    );
                     tick();
                     done.push((i, r));
                     (done, tally, scratch)

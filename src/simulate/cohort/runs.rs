@@ -98,6 +98,8 @@ fn fast_row(
     si: usize,
     req: &CohortRequest,
     rs: &[FastRun],
+    zeros: &[u32],
+    mut counting: Option<&mut Counting>,
 ) -> Vec<RunSummary> {
     let comp = &sc.compensation;
     let without = &rs[0];
@@ -122,15 +124,18 @@ fn fast_row(
                 0.0
             }
         });
-        let minutes = if control {
-            vec![0; weeks]
+        let (minutes, session): (&[u32], &[u32]) = if control {
+            (&zeros[..weeks], &zeros[..weeks])
         } else {
-            r.minutes.clone()
+            (&r.minutes, &r.session_minutes)
         };
-        let session = if control {
-            vec![0; weeks]
-        } else {
-            r.session_minutes.clone()
+        // The weeks are counted here and not kept, or kept for the caller.
+        let kept = match counting.as_mut() {
+            Some(c) => {
+                c.add_run((*a, si), minutes, session);
+                false
+            }
+            None => true,
         };
         let risks = RunRisks::of(
             &RiskSubject {
@@ -164,9 +169,9 @@ fn fast_row(
             dose_share,
             minutes_week1: minutes[0],
             minutes_last_week: minutes[end],
-            minutes_by_week: minutes,
+            minutes_by_week: if kept { minutes.to_vec() } else { Vec::new() },
             session_minutes_total: session.iter().sum(),
-            session_minutes_by_week: session,
+            session_minutes_by_week: if kept { session.to_vec() } else { Vec::new() },
             over_max: !control && r.over_max,
             risks,
             prescribed_net_kcal: if control {
@@ -220,6 +225,33 @@ fn draw_lanes<'a>(
 pub struct Scratch {
     outs: Vec<FastRun>,
     ok: Vec<bool>,
+    /// A control arm's minutes (none), every week.
+    zeros: Vec<u32>,
+}
+
+/// Where a member's weekly minutes are counted as its runs are made (the runs then
+/// keep no weeks).
+pub(super) struct Counting<'a> {
+    /// The counts.
+    pub(super) tally: &'a mut MinuteTally,
+    /// The member.
+    pub(super) member: &'a Member,
+    /// No member is allocated: every run counts as allocated.
+    pub(super) counts_all: bool,
+}
+
+impl Counting<'_> {
+    fn add_run(&mut self, slot: (usize, usize), minutes: &[u32], session: &[u32]) {
+        let allocated = self.counts_all || self.member.arm == Some(slot.0);
+        self.tally.add_run(slot, allocated, minutes, session);
+    }
+
+    /// Count a run's weeks and drop them.
+    fn take(&mut self, run: &mut RunSummary) {
+        let minutes = std::mem::take(&mut run.minutes_by_week);
+        let session = std::mem::take(&mut run.session_minutes_by_week);
+        self.add_run((run.arm, run.scenario), &minutes, &session);
+    }
 }
 
 /// Simulate one member (at position `index`) in its arms, every scenario and every draw.
@@ -242,7 +274,7 @@ pub fn simulate_member_draws(
     req: &CohortRequest,
     draws: std::ops::Range<u32>,
 ) -> Result<MemberResult, Error> {
-    simulate_member_with(study, m, index, req, draws, &mut Scratch::default())
+    simulate_member_with(study, m, index, req, draws, &mut Scratch::default(), None)
 }
 
 /// A draw with its calibration (or why it cannot be calibrated).
@@ -255,7 +287,8 @@ type Drawn = (
 /// [`simulate_member_draws`] with a thread's buffers. Every draw's and scenario's
 /// lanes run side by side in the lane loop (full vectors whatever the number of
 /// arms); a draw and scenario any of whose lanes leaves the model's range, and
-/// plans the lane loop does not take, run in the general driver.
+/// plans the lane loop does not take, run in the general driver. With `counting`,
+/// the weeks of every run are counted there and not kept.
 pub(super) fn simulate_member_with(
     study: &Study,
     m: &Member,
@@ -263,6 +296,7 @@ pub(super) fn simulate_member_with(
     req: &CohortRequest,
     draws: std::ops::Range<u32>,
     scratch: &mut Scratch,
+    mut counting: Option<Counting>,
 ) -> Result<MemberResult, Error> {
     let arms = arms_of(study, m, req.all_arms);
     let random = study.has_uncertainty();
@@ -308,6 +342,13 @@ pub(super) fn simulate_member_with(
         }
         run_lanes(&lanes, &mut scratch.outs, &mut scratch.ok);
     }
+    let weeks = study.protocol.weeks as usize;
+    if scratch.zeros.len() < weeks {
+        scratch.zeros.resize(weeks, 0);
+    }
+    // Without uncertainty the first draw's runs are copied below, weeks and all, and
+    // counted at the end.
+    let mut inline = if random { counting.as_mut() } else { None };
     let mut lane = 0;
     for (d, dr, cal) in drawn {
         let (baseline, physiology) = &cal?;
@@ -318,11 +359,18 @@ pub(super) fn simulate_member_with(
         for (si, sc) in dr.scenarios.iter().enumerate() {
             let lanes = lane..lane + per_row;
             let row = if fast && scratch.ok[lanes.clone()].iter().all(|o| *o) {
-                let rs = &scratch.outs[lanes];
-                fast_row(study, &arms, physiology, baseline, sc, &dr, si, req, rs)
+                let (rs, zeros) = (&scratch.outs[lanes], &scratch.zeros[..]);
+                let c = inline.as_deref_mut();
+                fast_row(
+                    study, &arms, physiology, baseline, sc, &dr, si, req, rs, zeros, c,
+                )
             } else {
                 let ends = (physiology, baseline);
-                full_row(study, &arms, &plans, ends, sc, &dr, si, req)?
+                let mut row = full_row(study, &arms, &plans, ends, sc, &dr, si, req)?;
+                if let Some(c) = inline.as_deref_mut() {
+                    row.iter_mut().for_each(|r| c.take(r));
+                }
+                row
             };
             if fast {
                 lane += per_row;
@@ -342,6 +390,9 @@ pub(super) fn simulate_member_with(
         for d in first_draw + 1..draws.end {
             let first: Vec<RunSummary> = runs[..per_draw].to_vec();
             runs.extend(first.into_iter().map(|r| RunSummary { draw: d, ..r }));
+        }
+        if let Some(c) = counting.as_mut() {
+            runs.iter_mut().for_each(|r| c.take(r));
         }
     }
     Ok(MemberResult {
