@@ -181,56 +181,70 @@ impl Setup {
     }
 }
 
-/// Week `w`'s exercise of one lane at the week's starting mass `m_w` and RMR `rmr_w`:
-/// the MET-minutes and minutes delivered (summed over sessions), recorded in `out`.
-/// None when a session would not fit in a day.
+/// Week `w`'s minutes per session of one lane at the week's starting mass `m_w` and
+/// RMR `rmr_w` (the dose rule, [`session_dose`]): None when a session would not fit
+/// in a day; `Some(None)` when the lane has no protocol week `w` to exercise in (no
+/// exercise, or follow-up); 0 minutes after a drop-out.
 #[inline(always)]
-fn week_exercise(
+fn week_minutes(
     run: &LaneRun,
-    set: &mut Setup,
+    set: &Setup,
     w: u32,
     m_w: f64,
     rmr_w: f64,
     out: &mut FastRun,
-) -> Option<(f64, f64)> {
+) -> Option<Option<u32>> {
     let lane = &run.lane;
     let plan = lane.plan;
     let p = &plan.protocol;
     if !(lane.exercise && w <= p.weeks) {
-        return Some((0.0, 0.0));
+        return Some(None);
     }
-    let exercising = lane.last_exercise_week.is_none_or(|l| w <= l);
-    let minutes = if exercising {
-        let (ph, baseline) = (run.ph, run.baseline);
-        let r = Reference {
-            mass_kg: m_w,
-            rmr_kcal_per_day: rmr_w,
-        };
-        let dose = session_dose(plan, w, baseline.mass_kg, m_w, set.resume);
-        let e = basis_kcal_per_min(plan, ph, &plan.activity.intensity, &r);
-        let easy = if set.easy_empty || dose.target.is_none() {
-            0.0
-        } else {
-            easy_kcal(plan, ph, &r)
-        };
-        let unrounded = dose.minutes_at_target(dose.share, e, easy, 1.0);
-        let step = p.round_minutes_to;
-        let mut mins = round_up(unrounded, step);
-        if let Some(max) = p.max_session_minutes
-            && f64::from(mins) > max
-        {
-            out.over_max = true;
-            if p.over_max == OverMax::Cap {
-                mins = mins.min(cap_minutes(max, step));
-            }
-        }
-        if f64::from(mins) >= MINUTES_PER_DAY {
-            return None;
-        }
-        mins
-    } else {
-        0
+    if !lane.last_exercise_week.is_none_or(|l| w <= l) {
+        return Some(Some(0));
+    }
+    let (ph, baseline) = (run.ph, run.baseline);
+    let r = Reference {
+        mass_kg: m_w,
+        rmr_kcal_per_day: rmr_w,
     };
+    let dose = session_dose(plan, w, baseline.mass_kg, m_w, set.resume);
+    let e = basis_kcal_per_min(plan, ph, &plan.activity.intensity, &r);
+    let easy = if set.easy_empty || dose.target.is_none() {
+        0.0
+    } else {
+        easy_kcal(plan, ph, &r)
+    };
+    let unrounded = dose.minutes_at_target(dose.share, e, easy, 1.0);
+    let step = p.round_minutes_to;
+    let mut mins = round_up(unrounded, step);
+    if let Some(max) = p.max_session_minutes
+        && f64::from(mins) > max
+    {
+        out.over_max = true;
+        if p.over_max == OverMax::Cap {
+            mins = mins.min(cap_minutes(max, step));
+        }
+    }
+    if f64::from(mins) >= MINUTES_PER_DAY {
+        return None;
+    }
+    Some(Some(mins))
+}
+
+/// Week `w`'s sessions of one lane at `minutes` per session (from [`week_minutes`]):
+/// the MET-minutes and minutes delivered (summed over sessions), recorded in `out`,
+/// and the step-down after an absence carried to the next week.
+#[inline(always)]
+fn week_sessions(
+    run: &LaneRun,
+    set: &mut Setup,
+    w: u32,
+    minutes: u32,
+    out: &mut FastRun,
+) -> (f64, f64) {
+    let lane = &run.lane;
+    let exercising = lane.last_exercise_week.is_none_or(|l| w <= l);
     let (mut a, mut b) = (0.0, 0.0);
     let per = f64::from(minutes);
     let mut planned = 0u32;
@@ -252,7 +266,7 @@ fn week_exercise(
     }
     out.minutes.push(minutes);
     out.session_minutes.push(planned);
-    Some((a, b))
+    (a, b)
 }
 
 /// Run `plan` (fast-path eligible) for one scenario. None when the state leaves the
@@ -402,21 +416,27 @@ fn chunk_run<const W: usize>(runs: &[LaneRun], outs: &mut [FastRun], ok: &mut [b
         }
     };
     for w in 1..=total {
+        // Every lane's minutes first, then its sessions: the minutes are a chain of
+        // divisions in each lane, independent from lane to lane, which the processor
+        // overlaps when no unpredictable branch (attendance) comes between them.
+        let mut minutes = [None; W];
+        for i in 0..n {
+            if ok[i] {
+                let m = y[0][i] + y[1][i];
+                minutes[i] = week_minutes(&runs[i], &setups[i], w, m, rmr[i], &mut outs[i]);
+                if minutes[i].is_none() {
+                    drop(&mut y, ok, i);
+                }
+            }
+        }
         for i in 0..W {
-            if i >= n {
-                (a[i], b[i]) = (a[n - 1], b[n - 1]);
-                continue;
-            }
-            let week = ok[i]
-                .then(|| {
-                    let m = y[0][i] + y[1][i];
-                    week_exercise(&runs[i], &mut setups[i], w, m, rmr[i], &mut outs[i])
-                })
-                .flatten();
-            (a[i], b[i]) = week.unwrap_or((0.0, 0.0));
-            if week.is_none() && ok[i] {
-                drop(&mut y, ok, i);
-            }
+            (a[i], b[i]) = match minutes[i.min(n - 1)] {
+                _ if i >= n => (a[n - 1], b[n - 1]),
+                Some(Some(mins)) if ok[i] => {
+                    week_sessions(&runs[i], &mut setups[i], w, mins, &mut outs[i])
+                }
+                _ => (0.0, 0.0),
+            };
         }
         for _ in 0..steps {
             let k1 = eval(&rhs, &a, &b, &y);

@@ -93,7 +93,7 @@ fn fast_row(
     arms: &[usize],
     physiology: &crate::model::Physiology,
     baseline: &crate::model::Baseline,
-    sc: &crate::plan::Scenario,
+    comp: &crate::model::Compensation,
     dr: &Draw,
     si: usize,
     req: &CohortRequest,
@@ -101,7 +101,6 @@ fn fast_row(
     zeros: &[u32],
     mut counting: Option<&mut Counting>,
 ) -> Vec<RunSummary> {
-    let comp = &sc.compensation;
     let without = &rs[0];
     let mut results = rs[1..].iter();
     let weeks = study.protocol.weeks as usize;
@@ -141,7 +140,7 @@ fn fast_row(
             &RiskSubject {
                 baseline_mass_kg: baseline.mass_kg,
                 height_cm: physiology.height_cm,
-                sex: dr.participant.subject.sex,
+                sex: dr.subject.sex,
                 diet_change_kcal_per_day: comp.diet_change_kcal_per_day,
             },
             r.mass_kg.iter().copied(),
@@ -319,7 +318,7 @@ pub(super) fn simulate_member_with(
     let drawn: Vec<Drawn> = simulated
         .map(|d| {
             let dr = draw(study, m, index, d, req.seed);
-            let cal = crate::model::energy::calibrate(&dr.participant.subject, &study.constants)
+            let cal = crate::model::energy::calibrate(&dr.subject, &study.constants)
                 .map_err(|e| Error::Usage(format!("{}: participant {} (draw {}) cannot be calibrated: {e:?}; narrow the [uncertainty] errors", study.source_name, m.participant.id, d + 1)));
             (d, dr, cal)
         })
@@ -334,9 +333,9 @@ pub(super) fn simulate_member_with(
         let mut lanes = Vec::with_capacity(drawn.len() * study.scenarios.len() * per_row);
         for (_, dr, cal) in &drawn {
             if let Ok((baseline, physiology)) = cal {
-                for sc in &dr.scenarios {
+                for comp in &dr.compensations {
                     let ends = (physiology, baseline);
-                    draw_lanes(study, &arms, &plans, ends, &sc.compensation, dr, &mut lanes);
+                    draw_lanes(study, &arms, &plans, ends, comp, dr, &mut lanes);
                 }
             }
         }
@@ -356,17 +355,21 @@ pub(super) fn simulate_member_with(
             baseline_mass_kg = baseline.mass_kg;
         }
         let mut per_scenario: Vec<std::vec::IntoIter<RunSummary>> = Vec::new();
-        for (si, sc) in dr.scenarios.iter().enumerate() {
+        for (si, comp) in dr.compensations.iter().enumerate() {
             let lanes = lane..lane + per_row;
             let row = if fast && scratch.ok[lanes.clone()].iter().all(|o| *o) {
                 let (rs, zeros) = (&scratch.outs[lanes], &scratch.zeros[..]);
                 let c = inline.as_deref_mut();
                 fast_row(
-                    study, &arms, physiology, baseline, sc, &dr, si, req, rs, zeros, c,
+                    study, &arms, physiology, baseline, comp, &dr, si, req, rs, zeros, c,
                 )
             } else {
                 let ends = (physiology, baseline);
-                let mut row = full_row(study, &arms, &plans, ends, sc, &dr, si, req)?;
+                let sc = crate::plan::Scenario {
+                    compensation: *comp,
+                    ..study.scenarios[si].clone()
+                };
+                let mut row = full_row(study, &arms, &plans, ends, &sc, &dr, si, req)?;
                 if let Some(c) = inline.as_deref_mut() {
                     row.iter_mut().for_each(|r| c.take(r));
                 }
