@@ -200,7 +200,7 @@ fn week_minutes(
     if !(lane.exercise && w <= p.weeks) {
         return Some(None);
     }
-    if !lane.last_exercise_week.is_none_or(|l| w <= l) {
+    if lane.last_exercise_week.is_some_and(|l| w > l) {
         return Some(Some(0));
     }
     let (ph, baseline) = (run.ph, run.baseline);
@@ -486,5 +486,98 @@ fn chunk_run<const W: usize>(runs: &[LaneRun], outs: &mut [FastRun], ok: &mut [b
         if !ok.iter().any(|o| *o) {
             return;
         }
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    /// An invented participant with a ramp, a warm-up, a cap and a lagged intake.
+    const PLAN: &str = r#"
+[participant]
+id = "W-01"
+sex = "female"
+age_years = 41
+height_cm = 166.0
+mass_kg = 91.0
+
+[protocol]
+start = 2027-01-04
+weeks = 26
+follow_up_weeks = 4
+session_days = ["mon", "wed", "fri"]
+max_session_minutes = 55
+over_max = "cap"
+
+[protocol.dose]
+kcal_per_kg_week = 20.0
+mass_basis = "current"
+
+[protocol.ramp]
+weeks = 3
+
+[protocol.warm_up]
+minutes = 5
+
+[activity]
+compendium_code = "17200"
+
+[[scenario]]
+name = "lagged"
+intake_fraction = 0.4
+intake_lag_days = 10.0
+"#;
+
+    /// The baseline width (SSE2) and the AVX2 width give the same bits: the same
+    /// operations in the same order, only more lanes to a vector. On a processor
+    /// without AVX2 only the baseline width runs, and there is nothing to compare.
+    #[test]
+    fn both_widths_give_the_same_bits() {
+        if !has_avx2() {
+            return;
+        }
+        let plan = crate::plan::parse_plan("w.toml", PLAN).unwrap();
+        let (baseline, ph) = crate::simulate::calibrated(&plan).unwrap();
+        let comps: Vec<Compensation> = (0..14)
+            .map(|k| Compensation {
+                intake_fraction: 0.05 * k as f64,
+                ..plan.scenarios[0].compensation
+            })
+            .collect();
+        let runs: Vec<LaneRun> = comps
+            .iter()
+            .enumerate()
+            .map(|(k, comp)| LaneRun {
+                lane: Lane {
+                    plan: &plan,
+                    exercise: k % 3 != 0,
+                    attendance: (k % 2 == 0).then_some(Attendance {
+                        probability: 0.75,
+                        key: k as u64,
+                    }),
+                    last_exercise_week: (k == 5).then_some(11),
+                },
+                ph: &ph,
+                baseline: &baseline,
+                comp,
+            })
+            .collect();
+        let width = |w: usize, avx2: bool| {
+            let mut outs = vec![FastRun::default(); runs.len()];
+            let mut ok = vec![true; runs.len()];
+            for ((r, o), k) in runs.chunks(w).zip(outs.chunks_mut(w)).zip(ok.chunks_mut(w)) {
+                if avx2 {
+                    chunk_avx2(r, o, k);
+                } else {
+                    chunk_run::<W_BASE>(r, o, k);
+                }
+            }
+            assert!(ok.iter().all(|o| *o));
+            outs
+        };
+        let base = width(W_BASE, false);
+        assert_eq!(base, width(W_AVX2, true));
+        assert!(base[1].mass_kg != base[2].mass_kg);
     }
 }
