@@ -276,6 +276,111 @@ pub fn simulate_member_draws(
     simulate_member_with(study, m, index, req, draws, &mut Scratch::default(), None)
 }
 
+/// Draws whose runs go through the lane loop together (their records held at once,
+/// about 3 KB a run): enough to fill the lanes, few enough to stay in the caches.
+const DRAWS_AT_ONCE: u32 = 64;
+
+/// One member, its arms and plans, as [`simulate_member_with`] runs them.
+struct Who<'a> {
+    study: &'a Study,
+    m: &'a Member,
+    index: usize,
+    req: &'a CohortRequest,
+    arms: &'a [usize],
+    plans: &'a [Plan],
+}
+
+impl Who<'_> {
+    /// Simulate the draws `draws` (a batch), adding their runs to `runs` in stream
+    /// order; returns the first draw's calibrated baseline mass.
+    fn draws(
+        &self,
+        draws: std::ops::Range<u32>,
+        scratch: &mut Scratch,
+        mut inline: Option<&mut Counting>,
+        runs: &mut Vec<RunSummary>,
+    ) -> Result<f64, Error> {
+        let Who {
+            study,
+            m,
+            index,
+            req,
+            arms,
+            plans,
+        } = *self;
+        let mut first_mass = m.participant.subject.mass_kg;
+        let first_draw = draws.start;
+        let drawn: Vec<Drawn> = draws
+        .map(|d| {
+            let dr = draw(study, m, index, d, req.seed);
+            let cal = crate::model::energy::calibrate(&dr.subject, &study.constants)
+                .map_err(|e| Error::Usage(format!("{}: participant {} (draw {}) cannot be calibrated: {e:?}; narrow the [uncertainty] errors", study.source_name, m.participant.id, d + 1)));
+            (d, dr, cal)
+        })
+        .collect();
+        let fast =
+            req.integrator == Integrator::Rk4 && plans.iter().all(crate::simulate::fast::eligible);
+        let per_row = 1 + arms
+            .iter()
+            .filter(|a| !study.arms[**a].is_control())
+            .count();
+        if fast {
+            let mut lanes = Vec::with_capacity(drawn.len() * study.scenarios.len() * per_row);
+            for (_, dr, cal) in &drawn {
+                if let Ok((baseline, physiology)) = cal {
+                    for comp in &dr.compensations {
+                        let ends = (physiology, baseline);
+                        draw_lanes(study, arms, plans, ends, comp, dr, &mut lanes);
+                    }
+                }
+            }
+            run_lanes(&lanes, &mut scratch.outs, &mut scratch.ok);
+        }
+        let mut lane = 0;
+        for (d, dr, cal) in drawn {
+            let (baseline, physiology) = &cal?;
+            if d == first_draw {
+                first_mass = baseline.mass_kg;
+            }
+            let mut per_scenario: Vec<std::vec::IntoIter<RunSummary>> = Vec::new();
+            for (si, comp) in dr.compensations.iter().enumerate() {
+                let lanes = lane..lane + per_row;
+                let row = if fast && scratch.ok[lanes.clone()].iter().all(|o| *o) {
+                    let (rs, zeros) = (&scratch.outs[lanes], &scratch.zeros[..]);
+                    let c = inline.as_deref_mut();
+                    fast_row(
+                        study, arms, physiology, baseline, comp, &dr, si, req, rs, zeros, c,
+                    )
+                } else {
+                    let ends = (physiology, baseline);
+                    let sc = crate::plan::Scenario {
+                        compensation: *comp,
+                        ..study.scenarios[si].clone()
+                    };
+                    let mut row = full_row(study, arms, plans, ends, &sc, &dr, si, req)?;
+                    if let Some(c) = inline.as_deref_mut() {
+                        row.iter_mut().for_each(|r| c.take(r));
+                    }
+                    row
+                };
+                if fast {
+                    lane += per_row;
+                }
+                per_scenario.push(row.into_iter());
+            }
+            for _ in 0..arms.len() {
+                for row in &mut per_scenario {
+                    let mut s = row.next().expect("one run per arm");
+                    s.draw = d;
+                    s.completed = dr.last_exercise_week.is_none();
+                    runs.push(s);
+                }
+            }
+        }
+        Ok(first_mass)
+    }
+}
+
 /// A draw with its calibration (or why it cannot be calibrated).
 type Drawn = (
     u32,
@@ -315,32 +420,6 @@ pub(super) fn simulate_member_with(
     } else {
         first_draw..draws.end.min(first_draw + 1)
     };
-    let drawn: Vec<Drawn> = simulated
-        .map(|d| {
-            let dr = draw(study, m, index, d, req.seed);
-            let cal = crate::model::energy::calibrate(&dr.subject, &study.constants)
-                .map_err(|e| Error::Usage(format!("{}: participant {} (draw {}) cannot be calibrated: {e:?}; narrow the [uncertainty] errors", study.source_name, m.participant.id, d + 1)));
-            (d, dr, cal)
-        })
-        .collect();
-    let fast =
-        req.integrator == Integrator::Rk4 && plans.iter().all(crate::simulate::fast::eligible);
-    let per_row = 1 + arms
-        .iter()
-        .filter(|a| !study.arms[**a].is_control())
-        .count();
-    if fast {
-        let mut lanes = Vec::with_capacity(drawn.len() * study.scenarios.len() * per_row);
-        for (_, dr, cal) in &drawn {
-            if let Ok((baseline, physiology)) = cal {
-                for comp in &dr.compensations {
-                    let ends = (physiology, baseline);
-                    draw_lanes(study, &arms, &plans, ends, comp, dr, &mut lanes);
-                }
-            }
-        }
-        run_lanes(&lanes, &mut scratch.outs, &mut scratch.ok);
-    }
     let weeks = study.protocol.weeks as usize;
     if scratch.zeros.len() < weeks {
         scratch.zeros.resize(weeks, 0);
@@ -348,46 +427,23 @@ pub(super) fn simulate_member_with(
     // Without uncertainty the first draw's runs are copied below, weeks and all, and
     // counted at the end.
     let mut inline = if random { counting.as_mut() } else { None };
-    let mut lane = 0;
-    for (d, dr, cal) in drawn {
-        let (baseline, physiology) = &cal?;
-        if d == first_draw {
-            baseline_mass_kg = baseline.mass_kg;
+    let member = Who {
+        study,
+        m,
+        index,
+        req,
+        arms: &arms,
+        plans: &plans,
+    };
+    let mut batch = simulated.start;
+    while batch < simulated.end {
+        let end = simulated.end.min(batch.saturating_add(DRAWS_AT_ONCE));
+        let c = inline.as_deref_mut();
+        let first = member.draws(batch..end, scratch, c, &mut runs)?;
+        if batch == first_draw {
+            baseline_mass_kg = first;
         }
-        let mut per_scenario: Vec<std::vec::IntoIter<RunSummary>> = Vec::new();
-        for (si, comp) in dr.compensations.iter().enumerate() {
-            let lanes = lane..lane + per_row;
-            let row = if fast && scratch.ok[lanes.clone()].iter().all(|o| *o) {
-                let (rs, zeros) = (&scratch.outs[lanes], &scratch.zeros[..]);
-                let c = inline.as_deref_mut();
-                fast_row(
-                    study, &arms, physiology, baseline, comp, &dr, si, req, rs, zeros, c,
-                )
-            } else {
-                let ends = (physiology, baseline);
-                let sc = crate::plan::Scenario {
-                    compensation: *comp,
-                    ..study.scenarios[si].clone()
-                };
-                let mut row = full_row(study, &arms, &plans, ends, &sc, &dr, si, req)?;
-                if let Some(c) = inline.as_deref_mut() {
-                    row.iter_mut().for_each(|r| c.take(r));
-                }
-                row
-            };
-            if fast {
-                lane += per_row;
-            }
-            per_scenario.push(row.into_iter());
-        }
-        for _ in 0..arms.len() {
-            for row in &mut per_scenario {
-                let mut s = row.next().expect("one run per arm");
-                s.draw = d;
-                s.completed = dr.last_exercise_week.is_none();
-                runs.push(s);
-            }
-        }
+        batch = end;
     }
     if !random && !draws.is_empty() {
         for d in first_draw + 1..draws.end {
