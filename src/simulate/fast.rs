@@ -380,7 +380,9 @@ fn chunk_avx2(runs: &[LaneRun], outs: &mut [FastRun], ok: &mut [bool]) {
         unsafe { with_avx2(runs, outs, ok) }
     }
     #[cfg(not(target_arch = "x86_64"))]
-    chunk_run::<W_AVX2>(runs, outs, ok)
+    {
+        chunk_run::<W_AVX2>(runs, outs, ok);
+    }
 }
 
 /// Up to `W` lanes integrated together; a short chunk repeats its last lane in the
