@@ -239,7 +239,7 @@ fn week_minutes(
 fn week_sessions(
     run: &LaneRun,
     set: &mut Setup,
-    w: u32,
+    (w, day_keys): (u32, &[u64; 7]),
     minutes: u32,
     out: &mut FastRun,
 ) -> (f64, f64) {
@@ -249,18 +249,18 @@ fn week_sessions(
     let per = f64::from(minutes);
     let mut planned = 0u32;
     if exercising {
-        let start_day = 7 * (w - 1);
         let mut delivered = 0;
         for off in &set.offsets[..set.sessions] {
             planned += minutes + set.easy_minutes as u32;
-            if lane
+            let done = lane
                 .attendance
-                .is_none_or(|at| at.delivered(start_day + off, 1))
-            {
-                a += per * set.met + set.easy_met_minutes;
-                b += per + set.easy_minutes;
-                delivered += 1;
-            }
+                .is_none_or(|at| at.delivered_on(day_keys[*off as usize]));
+            // Without a branch the processor cannot mispredict: a session not
+            // delivered adds exactly 0 (the sums start at +0 and stay non-negative).
+            let take = if done { 1.0 } else { 0.0 };
+            a += take * (per * set.met + set.easy_met_minutes);
+            b += take * (per + set.easy_minutes);
+            delivered += u32::from(done);
         }
         set.resume.after_week(set.sessions as u32, delivered);
     }
@@ -422,6 +422,9 @@ fn chunk_run<const W: usize>(runs: &[LaneRun], outs: &mut [FastRun], ok: &mut [b
         // divisions in each lane, independent from lane to lane, which the processor
         // overlaps when no unpredictable branch (attendance) comes between them.
         let mut minutes = [None; W];
+        // The attendance hash's part for each day of the week, shared by the lanes.
+        let day_keys: [u64; 7] =
+            std::array::from_fn(|k| Attendance::day_key(7 * (w - 1) + k as u32, 1));
         for i in 0..n {
             if ok[i] {
                 let m = y[0][i] + y[1][i];
@@ -435,7 +438,8 @@ fn chunk_run<const W: usize>(runs: &[LaneRun], outs: &mut [FastRun], ok: &mut [b
             (a[i], b[i]) = match minutes[i.min(n - 1)] {
                 _ if i >= n => (a[n - 1], b[n - 1]),
                 Some(Some(mins)) if ok[i] => {
-                    week_sessions(&runs[i], &mut setups[i], w, mins, &mut outs[i])
+                    let week = (w, &day_keys);
+                    week_sessions(&runs[i], &mut setups[i], week, mins, &mut outs[i])
                 }
                 _ => (0.0, 0.0),
             };
