@@ -77,83 +77,212 @@ impl<'a> Rhs<'a> {
         }
     }
 
-    /// RMR with adaptation of `N` states at once, kcal/day. The linear equations are
-    /// evaluated from their coefficients (the same value as
-    /// [`Physiology::rmr`] up to rounding), which the compiler packs into vector
-    /// instructions; the others call the equation.
+    /// Whether `self` and `other` can run side by side in [`RhsLanes`]: the same
+    /// switches of the model.
+    pub fn side_by_side(&self, other: &Rhs) -> bool {
+        self.linear_rmr.is_some() == other.linear_rmr.is_some()
+            && self.one_met == other.one_met
+            && (self.comp.intake_lag_days > 0.0) == (other.comp.intake_lag_days > 0.0)
+    }
+
+    /// RMR with adaptation at one state, kcal/day ([`RhsLanes::rmr`] of one lane).
     #[inline(always)]
-    pub fn rmr_lanes<const N: usize>(&self, fat: &[f64; N], lean: &[f64; N]) -> [f64; N] {
+    pub fn rmr(&self, fat: f64, lean: f64) -> f64 {
+        RhsLanes::new([*self]).rmr(&[fat], &[lean])[0]
+    }
+
+    /// The balance at fat `fat`, fat-free mass `lean`, lagged exercise state `lagged`
+    /// and RMR `rmr` (from [`Rhs::rmr`]) with the week's MET-minutes `a` and minutes
+    /// `b` per 7 days ([`RhsLanes::point`] of one lane).
+    #[inline(always)]
+    pub fn point(&self, fat: f64, lean: f64, lagged: f64, rmr: f64, a: f64, b: f64) -> Point {
+        let p = RhsLanes::new([*self]).point(&[fat], &[lean], &[lagged], &[rmr], &[a], &[b]);
+        Point {
+            exercise: p.exercise[0],
+            intake: p.intake[0],
+            tef: p.tef[0],
+            activity: p.activity[0],
+            expenditure: p.expenditure[0],
+            dfat: p.dfat[0],
+            dlean: p.dlean[0],
+            dlagged: p.dlagged[0],
+        }
+    }
+}
+
+/// The right-hand side's constants of `N` runs side by side, quantity by quantity
+/// (each lane its own participant, draw and scenario): the one place the balance is
+/// written ([`Rhs::point`] and [`Rhs::rmr`] are its one-lane case). Every line works
+/// lane by lane, so the compiler packs the lanes into vector instructions; each
+/// lane's arithmetic is that of one scalar evaluation, bit for bit. The lanes share
+/// the model's constants' switches (the rest exercise is counted above, whether
+/// intake is lagged, whether the RMR equation is linear); [`RhsLanes::new`] checks it.
+#[derive(Debug, Clone, Copy)]
+pub struct RhsLanes<'a, const N: usize> {
+    /// Each lane's constants.
+    pub lanes: [Rhs<'a>; N],
+    linear: bool,
+    one_met: bool,
+    lagged: bool,
+    cm: [f64; N],
+    cl: [f64; N],
+    c0: [f64; N],
+    rmr_factor: [f64; N],
+    adaptation: [f64; N],
+    mass0: [f64; N],
+    intake0: [f64; N],
+    intake_fraction: [f64; N],
+    inv_lag: [f64; N],
+    tef_fraction: [f64; N],
+    activity_per_kg: [f64; N],
+    activity_fraction: [f64; N],
+    fat_kcal_per_kg: [f64; N],
+    lean_forbes: [f64; N],
+    forbes_constant: [f64; N],
+}
+
+/// One constant of every lane.
+#[inline(always)]
+fn of<const N: usize>(lanes: &[Rhs; N], f: impl Fn(&Rhs) -> f64) -> [f64; N] {
+    std::array::from_fn(|i| f(&lanes[i]))
+}
+
+/// Every term of the energy balance of [`RhsLanes`]' lanes ([`Point`] lane by lane).
+#[derive(Debug, Clone, Copy)]
+pub struct PointLanes<const N: usize> {
+    /// Exercise energy above rest, `X`.
+    pub exercise: [f64; N],
+    /// Intake.
+    pub intake: [f64; N],
+    /// Thermic effect of food.
+    pub tef: [f64; N],
+    /// Non-exercise activity.
+    pub activity: [f64; N],
+    /// Expenditure `RMR + TEF + AE + X`.
+    pub expenditure: [f64; N],
+    /// dF/dt, kg/day.
+    pub dfat: [f64; N],
+    /// dL/dt, kg/day.
+    pub dlean: [f64; N],
+    /// dXbar/dt, kcal/day per day.
+    pub dlagged: [f64; N],
+}
+
+impl<'a, const N: usize> RhsLanes<'a, N> {
+    /// The lanes `lanes`, which must share the switches (see [`RhsLanes`]).
+    #[inline(always)]
+    pub fn new(lanes: [Rhs<'a>; N]) -> RhsLanes<'a, N> {
+        let first = &lanes[0];
+        assert!(
+            lanes.iter().all(|r| r.side_by_side(first)),
+            "lanes side by side share the model's switches"
+        );
+        let lin = |j: usize| of(&lanes, |r| r.linear_rmr.map_or(0.0, |c| [c.0, c.1, c.2][j]));
+        RhsLanes {
+            linear: first.linear_rmr.is_some(),
+            one_met: first.one_met,
+            lagged: first.comp.intake_lag_days > 0.0,
+            cm: lin(0),
+            cl: lin(1),
+            c0: lin(2),
+            rmr_factor: of(&lanes, |r| r.ph.rmr_factor),
+            adaptation: of(&lanes, |r| r.comp.rmr_adaptation_kcal_per_kg),
+            mass0: of(&lanes, |r| r.ph.mass0_kg),
+            intake0: of(&lanes, |r| r.intake0),
+            intake_fraction: of(&lanes, |r| r.comp.intake_fraction),
+            inv_lag: of(&lanes, |r| r.inv_lag),
+            tef_fraction: of(&lanes, |r| r.ph.constants.tef_fraction),
+            activity_per_kg: of(&lanes, |r| r.ph.activity_kcal_per_kg_day),
+            activity_fraction: of(&lanes, |r| r.comp.activity_fraction),
+            fat_kcal_per_kg: of(&lanes, |r| r.ph.constants.fat_kcal_per_kg),
+            lean_forbes: of(&lanes, |r| r.lean_forbes),
+            forbes_constant: of(&lanes, |r| r.ph.constants.forbes_constant_kg),
+            lanes,
+        }
+    }
+
+    /// RMR with adaptation of every lane, kcal/day. The linear equations are
+    /// evaluated from their coefficients (the same value as [`Physiology::rmr`] up
+    /// to rounding); the others call the equation.
+    #[inline(always)]
+    pub fn rmr(&self, fat: &[f64; N], lean: &[f64; N]) -> [f64; N] {
         let mut rmr = [0.0; N];
-        match self.linear_rmr {
-            Some((cm, cl, c0)) => {
-                let (k, ad, m0) = (
-                    self.ph.rmr_factor,
-                    self.comp.rmr_adaptation_kcal_per_kg,
-                    self.ph.mass0_kg,
-                );
-                for i in 0..N {
-                    let m = fat[i] + lean[i];
-                    rmr[i] = k * (cm * m + cl * lean[i] + c0) - ad * (m0 - m).max(0.0);
-                }
+        if self.linear {
+            for i in 0..N {
+                let m = fat[i] + lean[i];
+                rmr[i] = self.rmr_factor[i] * (self.cm[i] * m + self.cl[i] * lean[i] + self.c0[i])
+                    - self.adaptation[i] * (self.mass0[i] - m).max(0.0);
             }
-            None => {
-                for i in 0..N {
-                    rmr[i] = self.ph.rmr(self.comp, fat[i], lean[i]);
-                }
+        } else {
+            for i in 0..N {
+                rmr[i] = self.lanes[i].ph.rmr(self.lanes[i].comp, fat[i], lean[i]);
             }
         }
         rmr
     }
 
-    /// RMR with adaptation at one state, kcal/day.
+    /// The balance of every lane at fat `fat`, fat-free mass `lean`, lagged exercise
+    /// state `lagged` and RMR `rmr` (from [`RhsLanes::rmr`]) with the week's
+    /// MET-minutes `a` and minutes `b` per 7 days.
     #[inline(always)]
-    pub fn rmr(&self, fat: f64, lean: f64) -> f64 {
-        self.rmr_lanes(&[fat], &[lean])[0]
-    }
-
-    /// The balance at fat `fat`, fat-free mass `lean`, lagged exercise state `lagged`
-    /// and RMR `rmr` (from [`Rhs::rmr`]) with the week's MET-minutes `a` and minutes
-    /// `b` per 7 days.
-    #[inline(always)]
-    pub fn point(&self, fat: f64, lean: f64, lagged: f64, rmr: f64, a: f64, b: f64) -> Point {
-        let c = &self.ph.constants;
-        let comp = self.comp;
-        let m = fat + lean;
-        // Multiplications by reciprocals: divisions are the slow part of the lane loop.
-        let per_met_minute = ML_O2_PER_MET * m * (1.0 / 200.0);
-        let rest = if self.one_met {
-            per_met_minute
-        } else {
-            rmr * (1.0 / MINUTES_PER_DAY)
+    #[allow(clippy::too_many_arguments)]
+    pub fn point(
+        &self,
+        fat: &[f64; N],
+        lean: &[f64; N],
+        lagged: &[f64; N],
+        rmr: &[f64; N],
+        a: &[f64; N],
+        b: &[f64; N],
+    ) -> PointLanes<N> {
+        let z = [0.0; N];
+        let mut p = PointLanes {
+            exercise: z,
+            intake: z,
+            tef: z,
+            activity: z,
+            expenditure: z,
+            dfat: z,
+            dlean: z,
+            dlagged: z,
         };
-        let x = (a * per_met_minute - b * rest) * (1.0 / 7.0);
-        let (lagged, dlagged) = if comp.intake_lag_days > 0.0 {
-            (lagged, (x - lagged) * self.inv_lag)
-        } else {
-            (x, 0.0)
-        };
-        let intake = self.intake0 + comp.intake_fraction * lagged;
-        let tef = c.tef_fraction * intake;
-        let activity = self.ph.activity_kcal_per_kg_day * m - comp.activity_fraction * x;
-        let expenditure = rmr + tef + activity + x;
-        // The Forbes partition with one division: with share s = C / F,
-        // dF = E / (rho_F + rho_L s) = E F / (rho_F F + rho_L C) and dL = s dF =
-        // E C / (rho_F F + rho_L C). The reciprocal depends on F alone, so it is under
-        // way while the energy balance is summed. The guard against a non-positive fat
-        // mass never acts in a run: the drivers stop at F < 2 kg.
-        let f = fat.max(1e-6);
-        let r = 1.0 / (c.fat_kcal_per_kg * f + self.lean_forbes);
-        let balance = (intake - expenditure) * r;
-        Point {
-            exercise: x,
-            intake,
-            tef,
-            activity,
-            expenditure,
-            dfat: balance * f,
-            dlean: balance * c.forbes_constant_kg,
-            dlagged,
+        for i in 0..N {
+            let m = fat[i] + lean[i];
+            // Multiplications by reciprocals: divisions are the slow part of the lane loop.
+            let per_met_minute = ML_O2_PER_MET * m * (1.0 / 200.0);
+            let rest = if self.one_met {
+                per_met_minute
+            } else {
+                rmr[i] * (1.0 / MINUTES_PER_DAY)
+            };
+            let x = (a[i] * per_met_minute - b[i] * rest) * (1.0 / 7.0);
+            let (lagged, dlagged) = if self.lagged {
+                (lagged[i], (x - lagged[i]) * self.inv_lag[i])
+            } else {
+                (x, 0.0)
+            };
+            let intake = self.intake0[i] + self.intake_fraction[i] * lagged;
+            let tef = self.tef_fraction[i] * intake;
+            let activity = self.activity_per_kg[i] * m - self.activity_fraction[i] * x;
+            let expenditure = rmr[i] + tef + activity + x;
+            // The Forbes partition with one division: with share s = C / F,
+            // dF = E / (rho_F + rho_L s) = E F / (rho_F F + rho_L C) and dL = s dF =
+            // E C / (rho_F F + rho_L C). The reciprocal depends on F alone, so it is
+            // under way while the energy balance is summed. The guard against a
+            // non-positive fat mass never acts in a run: the drivers stop at F < 2 kg.
+            let f = fat[i].max(1e-6);
+            let r = 1.0 / (self.fat_kcal_per_kg[i] * f + self.lean_forbes[i]);
+            let balance = (intake - expenditure) * r;
+            p.exercise[i] = x;
+            p.intake[i] = intake;
+            p.tef[i] = tef;
+            p.activity[i] = activity;
+            p.expenditure[i] = expenditure;
+            p.dfat[i] = balance * f;
+            p.dlean[i] = balance * self.forbes_constant[i];
+            p.dlagged[i] = dlagged;
         }
+        p
     }
 }
 

@@ -415,7 +415,21 @@ pub struct Attendance {
 impl Attendance {
     /// Whether the bout on `day` (days from the start) with number `bout` is delivered.
     pub fn delivered(&self, day: u32, bout: u32) -> bool {
-        let h = splitmix64(self.key ^ splitmix64(u64::from(day) << 8 | u64::from(bout)));
+        self.delivered_on(Attendance::day_key(day, bout))
+    }
+
+    /// The part of [`Attendance::delivered`]'s hash that depends on the day and the
+    /// bout alone, the same for every draw (the lane loop works it out once a week
+    /// for all its lanes).
+    #[inline(always)]
+    pub fn day_key(day: u32, bout: u32) -> u64 {
+        splitmix64(u64::from(day) << 8 | u64::from(bout))
+    }
+
+    /// Whether the bout whose [`Attendance::day_key`] is `day_key` is delivered.
+    #[inline(always)]
+    pub fn delivered_on(&self, day_key: u64) -> bool {
+        let h = splitmix64(self.key ^ day_key);
         // The top 53 bits as a uniform number in [0, 1).
         ((h >> 11) as f64) / ((1u64 << 53) as f64) < self.probability
     }

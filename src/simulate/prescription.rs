@@ -148,7 +148,12 @@ pub fn easy_bouts(plan: &Plan) -> impl Iterator<Item = Bout> {
 }
 
 /// `ceil(d/step - 1e-9) * step` as whole minutes.
+#[inline(always)]
 pub fn round_up(minutes: f64, step: u32) -> u32 {
+    if step == 1 {
+        // The same value without the division and multiplication by 1, which are exact.
+        return (minutes - 1e-9).ceil().max(0.0) as u32;
+    }
     let s = f64::from(step);
     ((minutes / s - 1e-9).ceil().max(0.0) * s) as u32
 }

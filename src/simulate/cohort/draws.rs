@@ -15,38 +15,39 @@ pub fn draw_rng(seed: u64, index: usize, draw: u32) -> ChaCha8Rng {
 /// synthetic participants (an arbitrary odd constant).
 const DRAW_DOMAIN: u64 = 0x5DEE_CE66_D1A4_F87D;
 
-/// One draw of a member: the participant with the RMR equation's error and the
-/// estimated body fat's error drawn, each scenario's compensation drawn, the
-/// attendance key and the last week with exercise. With no uncertainty it is the
-/// member itself, every draw alike.
+/// One draw of a member: the participant's measures with the RMR equation's error
+/// and the estimated body fat's error drawn, each scenario's compensation drawn, the
+/// attendance key and the last week with exercise (no copy of the participant's or
+/// the scenarios' names). With no uncertainty it is the member itself, every draw
+/// alike.
 pub(super) struct Draw {
-    pub(super) participant: Participant,
-    pub(super) scenarios: Vec<crate::plan::Scenario>,
+    pub(super) subject: crate::model::Subject,
+    pub(super) compensations: Vec<crate::model::Compensation>,
     pub(super) attendance: Option<crate::simulate::Attendance>,
     pub(super) last_exercise_week: Option<u32>,
 }
 
 pub(super) fn draw(study: &Study, m: &Member, index: usize, d: u32, seed: u64) -> Draw {
-    let mut participant = m.participant.clone();
-    let mut scenarios = study.scenarios.clone();
+    let mut subject = m.participant.subject.clone();
+    let mut compensations: Vec<_> = study.scenarios.iter().map(|s| s.compensation).collect();
     let mut rng = draw_rng(seed, index, d);
     // The order of draws is fixed: scenarios, RMR, body fat, attendance, drop-out.
-    for (sc, dists) in scenarios.iter_mut().zip(&study.scenario_dists) {
+    for (comp, dists) in compensations.iter_mut().zip(&study.scenario_dists) {
         for ((key, ..), dist) in SCENARIO_KEYS.iter().zip(dists) {
             if let Some(dist) = dist {
-                sc.compensation.set(key, dist.sample(&mut rng));
+                comp.set(key, dist.sample(&mut rng));
             }
         }
     }
     let Some(u) = study.uncertainty else {
         return Draw {
-            participant,
-            scenarios,
+            subject,
+            compensations,
             attendance: None,
             last_exercise_week: None,
         };
     };
-    let s = &mut participant.subject;
+    let s = &mut subject;
     let b = crate::model::composition::bmi(s.mass_kg, s.height_cm);
     if s.body_fat_percent.is_none() && u.body_fat_error_percent > 0.0 {
         let est = crate::model::composition::deurenberg_percent_fat(b, s.age_years, s.sex);
@@ -103,8 +104,8 @@ pub(super) fn draw(study: &Study, m: &Member, index: usize, d: u32, seed: u64) -
         .flatten()
         .map(|w| w - 1);
     Draw {
-        participant,
-        scenarios,
+        subject,
+        compensations,
         attendance,
         last_exercise_week,
     }

@@ -191,6 +191,12 @@ pub fn run_cohort(
     run_cohort_streams(study, members, req, all, true, tick)
 }
 
+thread_local! {
+    /// The lane loop's buffers of each worker thread, reused from member to member
+    /// (about 3 KB per run of a member).
+    static SCRATCH: std::cell::RefCell<runs::Scratch> = std::cell::RefCell::default();
+}
+
 /// Runs kept in flight at once, at most (members are simulated in groups of about
 /// this many runs, then added in member order and dropped).
 const RUNS_IN_FLIGHT: usize = 40_000;
@@ -237,13 +243,22 @@ pub fn run_cohort_streams(
                 || (Vec::new(), MinuteTally::new(study)),
                 |(mut done, mut tally), &i| {
                     let m = &members[i];
-                    let r = simulate_member_draws(study, m, i, req, draws_of(i)).map(|mut r| {
-                        tally.add(m, &r, counts_all);
-                        for run in &mut r.runs {
-                            run.minutes_by_week = Vec::new();
-                            run.session_minutes_by_week = Vec::new();
-                        }
-                        r
+                    let counting = runs::Counting {
+                        tally: &mut tally,
+                        member: m,
+                        counts_all,
+                    };
+                    // The thread's buffers: one set per thread, however rayon splits.
+                    let r = SCRATCH.with_borrow_mut(|scratch| {
+                        runs::simulate_member_with(
+                            study,
+                            m,
+                            i,
+                            req,
+                            draws_of(i),
+                            scratch,
+                            Some(counting),
+                        )
                     });
                     tick();
                     done.push((i, r));

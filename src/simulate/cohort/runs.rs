@@ -3,6 +3,7 @@
 
 use super::draws::{Draw, draw};
 use super::*;
+use crate::simulate::fast::{FastRun, Lane, LaneRun, run_lanes};
 
 /// The arms a member is simulated in.
 pub(super) fn arms_of(study: &Study, m: &Member, all_arms: bool) -> Vec<usize> {
@@ -84,48 +85,31 @@ fn summarise_run(
     }
 }
 
-/// One scenario of one draw in every arm by the fast path; None when a run leaves
-/// the model's range (the full run then reports it).
+/// One scenario of one draw in every arm from its lanes' records `rs` (the
+/// no-exercise run, then one per dosed arm, as [`draw_lanes`] lays them out).
 #[allow(clippy::too_many_arguments)]
 fn fast_row(
     study: &Study,
     arms: &[usize],
-    plans: &[Plan],
     physiology: &crate::model::Physiology,
     baseline: &crate::model::Baseline,
-    sc: &crate::plan::Scenario,
+    comp: &crate::model::Compensation,
     dr: &Draw,
     si: usize,
     req: &CohortRequest,
-) -> Option<Vec<RunSummary>> {
-    use crate::simulate::fast::{Lane, fast_runs};
-    let comp = &sc.compensation;
-    // Lane 0 is the no-exercise run; then one lane per dosed arm, side by side.
-    let mut lanes = vec![Lane {
-        plan: &plans[0],
-        exercise: false,
-        attendance: None,
-        last_exercise_week: None,
-    }];
-    for (a, plan) in arms.iter().zip(plans) {
-        if !study.arms[*a].is_control() {
-            lanes.push(Lane {
-                plan,
-                exercise: true,
-                attendance: dr.attendance,
-                last_exercise_week: dr.last_exercise_week,
-            });
-        }
-    }
-    let mut results = fast_runs(&lanes, physiology, baseline, comp)?.into_iter();
-    let without = results.next().expect("lane 0 is the no-exercise run");
+    rs: &[FastRun],
+    zeros: &[u32],
+    mut counting: Option<&mut Counting>,
+) -> Vec<RunSummary> {
+    let without = &rs[0];
+    let mut results = rs[1..].iter();
     let weeks = study.protocol.weeks as usize;
     let plan_sessions = study.protocol.session_days.len() as u32;
     let mut row = Vec::with_capacity(arms.len());
     for a in arms {
         let control = study.arms[*a].is_control();
         let r = if control {
-            without.clone()
+            without
         } else {
             results.next().expect("one lane per dosed arm")
         };
@@ -139,21 +123,24 @@ fn fast_row(
                 0.0
             }
         });
-        let minutes = if control {
-            vec![0; weeks]
+        let (minutes, session): (&[u32], &[u32]) = if control {
+            (&zeros[..weeks], &zeros[..weeks])
         } else {
-            r.minutes.clone()
+            (&r.minutes, &r.session_minutes)
         };
-        let session = if control {
-            vec![0; weeks]
-        } else {
-            r.session_minutes.clone()
+        // The weeks are counted here and not kept, or kept for the caller.
+        let kept = match counting.as_mut() {
+            Some(c) => {
+                c.add_run((*a, si), minutes, session);
+                false
+            }
+            None => true,
         };
         let risks = RunRisks::of(
             &RiskSubject {
                 baseline_mass_kg: baseline.mass_kg,
                 height_cm: physiology.height_cm,
-                sex: dr.participant.subject.sex,
+                sex: dr.subject.sex,
                 diet_change_kcal_per_day: comp.diet_change_kcal_per_day,
             },
             r.mass_kg.iter().copied(),
@@ -181,9 +168,9 @@ fn fast_row(
             dose_share,
             minutes_week1: minutes[0],
             minutes_last_week: minutes[end],
-            minutes_by_week: minutes,
+            minutes_by_week: if kept { minutes.to_vec() } else { Vec::new() },
             session_minutes_total: session.iter().sum(),
-            session_minutes_by_week: session,
+            session_minutes_by_week: if kept { session.to_vec() } else { Vec::new() },
             over_max: !control && r.over_max,
             risks,
             prescribed_net_kcal: if control {
@@ -195,7 +182,75 @@ fn fast_row(
             completed: true,
         });
     }
-    Some(row)
+    row
+}
+
+/// The lanes of one scenario of one draw: the no-exercise run (the control arm and
+/// the counterfactual of `dose_share`), then one lane per dosed arm.
+fn draw_lanes<'a>(
+    study: &Study,
+    arms: &[usize],
+    plans: &'a [Plan],
+    (physiology, baseline): (&'a crate::model::Physiology, &'a crate::model::Baseline),
+    comp: &'a crate::model::Compensation,
+    dr: &Draw,
+    lanes: &mut Vec<LaneRun<'a>>,
+) {
+    let run = |plan, exercise: bool| LaneRun {
+        lane: Lane {
+            plan,
+            exercise,
+            attendance: if exercise { dr.attendance } else { None },
+            last_exercise_week: if exercise {
+                dr.last_exercise_week
+            } else {
+                None
+            },
+        },
+        ph: physiology,
+        baseline,
+        comp,
+    };
+    lanes.push(run(&plans[0], false));
+    for (a, plan) in arms.iter().zip(plans) {
+        if !study.arms[*a].is_control() {
+            lanes.push(run(plan, true));
+        }
+    }
+}
+
+/// Buffers of one thread's members, reused from member to member.
+#[derive(Debug, Default)]
+pub struct Scratch {
+    outs: Vec<FastRun>,
+    ok: Vec<bool>,
+    /// A control arm's minutes (none), every week.
+    zeros: Vec<u32>,
+}
+
+/// Where a member's weekly minutes are counted as its runs are made (the runs then
+/// keep no weeks).
+pub(super) struct Counting<'a> {
+    /// The counts.
+    pub(super) tally: &'a mut MinuteTally,
+    /// The member.
+    pub(super) member: &'a Member,
+    /// No member is allocated: every run counts as allocated.
+    pub(super) counts_all: bool,
+}
+
+impl Counting<'_> {
+    fn add_run(&mut self, slot: (usize, usize), minutes: &[u32], session: &[u32]) {
+        let allocated = self.counts_all || self.member.arm == Some(slot.0);
+        self.tally.add_run(slot, allocated, minutes, session);
+    }
+
+    /// Count a run's weeks and drop them.
+    fn take(&mut self, run: &mut RunSummary) {
+        let minutes = std::mem::take(&mut run.minutes_by_week);
+        let session = std::mem::take(&mut run.session_minutes_by_week);
+        self.add_run((run.arm, run.scenario), &minutes, &session);
+    }
 }
 
 /// Simulate one member (at position `index`) in its arms, every scenario and every draw.
@@ -218,76 +273,185 @@ pub fn simulate_member_draws(
     req: &CohortRequest,
     draws: std::ops::Range<u32>,
 ) -> Result<MemberResult, Error> {
+    simulate_member_with(study, m, index, req, draws, &mut Scratch::default(), None)
+}
+
+/// Draws whose runs go through the lane loop together (their records held at once,
+/// about 3 KB a run): enough to fill the lanes, few enough to stay in the caches.
+const DRAWS_AT_ONCE: u32 = 64;
+
+/// One member, its arms and plans, as [`simulate_member_with`] runs them.
+struct Who<'a> {
+    study: &'a Study,
+    m: &'a Member,
+    index: usize,
+    req: &'a CohortRequest,
+    arms: &'a [usize],
+    plans: &'a [Plan],
+}
+
+impl Who<'_> {
+    /// Simulate the draws `draws` (a batch), adding their runs to `runs` in stream
+    /// order; returns the first draw's calibrated baseline mass.
+    fn draws(
+        &self,
+        draws: std::ops::Range<u32>,
+        scratch: &mut Scratch,
+        mut inline: Option<&mut Counting>,
+        runs: &mut Vec<RunSummary>,
+    ) -> Result<f64, Error> {
+        let Who {
+            study,
+            m,
+            index,
+            req,
+            arms,
+            plans,
+        } = *self;
+        let mut first_mass = m.participant.subject.mass_kg;
+        let first_draw = draws.start;
+        let drawn: Vec<Drawn> = draws
+        .map(|d| {
+            let dr = draw(study, m, index, d, req.seed);
+            let cal = crate::model::energy::calibrate(&dr.subject, &study.constants)
+                .map_err(|e| Error::Usage(format!("{}: participant {} (draw {}) cannot be calibrated: {e:?}; narrow the [uncertainty] errors", study.source_name, m.participant.id, d + 1)));
+            (d, dr, cal)
+        })
+        .collect();
+        let fast =
+            req.integrator == Integrator::Rk4 && plans.iter().all(crate::simulate::fast::eligible);
+        let per_row = 1 + arms
+            .iter()
+            .filter(|a| !study.arms[**a].is_control())
+            .count();
+        if fast {
+            let mut lanes = Vec::with_capacity(drawn.len() * study.scenarios.len() * per_row);
+            for (_, dr, cal) in &drawn {
+                if let Ok((baseline, physiology)) = cal {
+                    for comp in &dr.compensations {
+                        let ends = (physiology, baseline);
+                        draw_lanes(study, arms, plans, ends, comp, dr, &mut lanes);
+                    }
+                }
+            }
+            run_lanes(&lanes, &mut scratch.outs, &mut scratch.ok);
+        }
+        let mut lane = 0;
+        for (d, dr, cal) in drawn {
+            let (baseline, physiology) = &cal?;
+            if d == first_draw {
+                first_mass = baseline.mass_kg;
+            }
+            let mut per_scenario: Vec<std::vec::IntoIter<RunSummary>> = Vec::new();
+            for (si, comp) in dr.compensations.iter().enumerate() {
+                let lanes = lane..lane + per_row;
+                let row = if fast && scratch.ok[lanes.clone()].iter().all(|o| *o) {
+                    let (rs, zeros) = (&scratch.outs[lanes], &scratch.zeros[..]);
+                    let c = inline.as_deref_mut();
+                    fast_row(
+                        study, arms, physiology, baseline, comp, &dr, si, req, rs, zeros, c,
+                    )
+                } else {
+                    let ends = (physiology, baseline);
+                    let sc = crate::plan::Scenario {
+                        compensation: *comp,
+                        ..study.scenarios[si].clone()
+                    };
+                    let mut row = full_row(study, arms, plans, ends, &sc, &dr, si, req)?;
+                    if let Some(c) = inline.as_deref_mut() {
+                        row.iter_mut().for_each(|r| c.take(r));
+                    }
+                    row
+                };
+                if fast {
+                    lane += per_row;
+                }
+                per_scenario.push(row.into_iter());
+            }
+            for _ in 0..arms.len() {
+                for row in &mut per_scenario {
+                    let mut s = row.next().expect("one run per arm");
+                    s.draw = d;
+                    s.completed = dr.last_exercise_week.is_none();
+                    runs.push(s);
+                }
+            }
+        }
+        Ok(first_mass)
+    }
+}
+
+/// A draw with its calibration (or why it cannot be calibrated).
+type Drawn = (
+    u32,
+    Draw,
+    Result<(crate::model::Baseline, crate::model::Physiology), Error>,
+);
+
+/// [`simulate_member_draws`] with a thread's buffers. Every draw's and scenario's
+/// lanes run side by side in the lane loop (full vectors whatever the number of
+/// arms); a draw and scenario any of whose lanes leaves the model's range, and
+/// plans the lane loop does not take, run in the general driver. With `counting`,
+/// the weeks of every run are counted there and not kept.
+pub(super) fn simulate_member_with(
+    study: &Study,
+    m: &Member,
+    index: usize,
+    req: &CohortRequest,
+    draws: std::ops::Range<u32>,
+    scratch: &mut Scratch,
+    mut counting: Option<Counting>,
+) -> Result<MemberResult, Error> {
     let arms = arms_of(study, m, req.all_arms);
     let random = study.has_uncertainty();
-    let mut runs = Vec::with_capacity(arms.len() * study.scenarios.len() * draws.len());
+    let per_draw = arms.len() * study.scenarios.len();
+    let mut runs = Vec::with_capacity(per_draw * draws.len());
     let mut baseline_mass_kg = m.participant.subject.mass_kg;
     // The plans differ between draws only in the participant's calibration and the
     // scenarios, which the runs take from the draw.
-    let base_plans: Vec<Plan> = arms
+    let plans: Vec<Plan> = arms
         .iter()
         .map(|a| study.plan_for(&m.participant, *a))
         .collect();
     let first_draw = draws.start;
-    for d in draws {
-        if d > first_draw && !random {
-            // Nothing varies: every draw is the first.
-            let first: Vec<RunSummary> = runs[..arms.len() * study.scenarios.len()].to_vec();
+    // Nothing varies without uncertainty: every draw is the first.
+    let simulated = if random {
+        draws.clone()
+    } else {
+        first_draw..draws.end.min(first_draw + 1)
+    };
+    let weeks = study.protocol.weeks as usize;
+    if scratch.zeros.len() < weeks {
+        scratch.zeros.resize(weeks, 0);
+    }
+    // Without uncertainty the first draw's runs are copied below, weeks and all, and
+    // counted at the end.
+    let mut inline = if random { counting.as_mut() } else { None };
+    let member = Who {
+        study,
+        m,
+        index,
+        req,
+        arms: &arms,
+        plans: &plans,
+    };
+    let mut batch = simulated.start;
+    while batch < simulated.end {
+        let end = simulated.end.min(batch.saturating_add(DRAWS_AT_ONCE));
+        let c = inline.as_deref_mut();
+        let first = member.draws(batch..end, scratch, c, &mut runs)?;
+        if batch == first_draw {
+            baseline_mass_kg = first;
+        }
+        batch = end;
+    }
+    if !random && !draws.is_empty() {
+        for d in first_draw + 1..draws.end {
+            let first: Vec<RunSummary> = runs[..per_draw].to_vec();
             runs.extend(first.into_iter().map(|r| RunSummary { draw: d, ..r }));
-            continue;
         }
-        let dr = draw(study, m, index, d, req.seed);
-        let plans = &base_plans;
-        let (baseline, physiology) = crate::model::energy::calibrate(&dr.participant.subject, &study.constants)
-            .map_err(|e| Error::Usage(format!("{}: participant {} (draw {}) cannot be calibrated: {e:?}; narrow the [uncertainty] errors", study.source_name, m.participant.id, d + 1)))?;
-        if d == first_draw {
-            baseline_mass_kg = baseline.mass_kg;
-        }
-        let mut per_scenario: Vec<Vec<RunSummary>> = Vec::new();
-        for (si, sc) in dr.scenarios.iter().enumerate() {
-            let fast = (req.integrator == Integrator::Rk4
-                && plans.iter().all(crate::simulate::fast::eligible))
-            .then(|| {
-                fast_row(
-                    study,
-                    &arms,
-                    plans,
-                    &physiology,
-                    &baseline,
-                    sc,
-                    &dr,
-                    si,
-                    req,
-                )
-            })
-            .flatten();
-            let row = match fast {
-                Some(row) => row,
-                None => full_row(
-                    study,
-                    &arms,
-                    plans,
-                    (&physiology, &baseline),
-                    sc,
-                    &dr,
-                    si,
-                    req,
-                )?,
-            };
-            per_scenario.push(
-                row.into_iter()
-                    .map(|mut s| {
-                        s.draw = d;
-                        s.completed = dr.last_exercise_week.is_none();
-                        s
-                    })
-                    .collect(),
-            );
-        }
-        for ai in 0..arms.len() {
-            for row in &per_scenario {
-                runs.push(row[ai].clone());
-            }
+        if let Some(c) = counting.as_mut() {
+            runs.iter_mut().for_each(|r| c.take(r));
         }
     }
     Ok(MemberResult {

@@ -62,25 +62,27 @@ impl MinuteTally {
         }
     }
 
-    /// Count the weeks of member `m`'s runs; `counts_all` when no member is allocated.
-    pub(super) fn add(&mut self, m: &Member, r: &MemberResult, counts_all: bool) {
-        for run in &r.runs {
-            for (c, v) in self.minutes[run.arm][run.scenario]
-                .iter_mut()
-                .zip(&run.minutes_by_week)
-            {
-                c.add(*v);
+    /// Count the weeks of one run in arm and scenario `slot`: its minutes per session
+    /// and whole-session minutes of every protocol week; `allocated` when the run is
+    /// its member's allocated arm (or no member is allocated).
+    pub(super) fn add_run(
+        &mut self,
+        (arm, scenario): (usize, usize),
+        allocated: bool,
+        minutes: &[u32],
+        session_minutes: &[u32],
+    ) {
+        for (c, v) in self.minutes[arm][scenario].iter_mut().zip(minutes) {
+            c.add(*v);
+        }
+        if scenario == 0 {
+            if allocated {
+                self.site.add(session_minutes);
             }
-            if run.scenario == 0 {
-                let allocated = counts_all || m.arm == Some(run.arm);
+            for (w, v) in session_minutes.iter().enumerate() {
+                self.staff[arm][w] += u64::from(*v);
                 if allocated {
-                    self.site.add(&run.session_minutes_by_week);
-                }
-                for (w, v) in run.session_minutes_by_week.iter().enumerate() {
-                    self.staff[run.arm][w] += u64::from(*v);
-                    if allocated {
-                        self.staff_allocated[w] += u64::from(*v);
-                    }
+                    self.staff_allocated[w] += u64::from(*v);
                 }
             }
         }
