@@ -443,10 +443,21 @@ pub fn participant_log_of(
     rows: &[Row],
     as_of: Option<NaiveDate>,
 ) -> Result<ParticipantLog, Error> {
-    let plan = participant.plan()?;
     let text = log_csv(rows)?;
+    participant_log_of_text(register, participant, &text, as_of)
+}
+
+/// [`participant_log_of`] from the participant's current rows already rendered
+/// by [`log_csv`] (`text`).
+pub fn participant_log_of_text(
+    register: &str,
+    participant: Participant,
+    text: &str,
+    as_of: Option<NaiveDate>,
+) -> Result<ParticipantLog, Error> {
+    let plan = participant.plan()?;
     let code = &participant.code;
-    let (log, warnings) = crate::log::parse_log(&log_name(register, code), &text, &plan, as_of)?;
+    let (log, warnings) = crate::log::parse_log(&log_name(register, code), text, &plan, as_of)?;
     Ok(ParticipantLog {
         participant,
         plan,
@@ -481,7 +492,9 @@ fn render(items: &[Item<'_>]) -> Result<String, Error> {
     let opt = |x: Option<f64>| x.map(num).unwrap_or_default();
     for (id, m) in items {
         let id = id.map(|i| i.to_string()).unwrap_or_default();
-        let date = m.date().format("%Y-%m-%d").to_string();
+        // ISO 8601 (`%Y-%m-%d`): `Display` of a date writes it without parsing a
+        // format string for every row.
+        let date = m.date().to_string();
         let record: [String; 14] = match m {
             Measure::WeighIn(x) => [
                 date,

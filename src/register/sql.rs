@@ -53,10 +53,11 @@ pub(super) const ROW_SELECT: &str =
 
 /// A row of [`ROW_SELECT`].
 pub(super) fn read_row(r: &rusqlite::Row<'_>) -> rusqlite::Result<Row> {
-    let kind: String = r.get(2)?;
+    // Text read in place (no copy) where only its meaning is kept.
+    let weigh_in = r.get_ref(2)?.as_str()? == "weigh-in";
     let date: NaiveDate = parse_date(r, 3)?;
     let note: String = r.get(4)?;
-    let measure = if kind == "weigh-in" {
+    let measure = if weigh_in {
         Measure::WeighIn(WeighIn {
             date,
             mass_kg: r.get(10)?,
@@ -105,13 +106,13 @@ pub(super) fn conversion(
 }
 
 pub(super) fn parse_date(r: &rusqlite::Row<'_>, i: usize) -> rusqlite::Result<NaiveDate> {
-    let s: String = r.get(i)?;
-    NaiveDate::parse_from_str(&s, "%Y-%m-%d").map_err(|e| conversion(i, e))
+    let s = r.get_ref(i)?.as_str()?;
+    NaiveDate::parse_from_str(s, "%Y-%m-%d").map_err(|e| conversion(i, e))
 }
 
 pub(super) fn parse_time(r: &rusqlite::Row<'_>, i: usize) -> rusqlite::Result<DateTime<Utc>> {
-    let s: String = r.get(i)?;
-    DateTime::parse_from_rfc3339(&s)
+    let s = r.get_ref(i)?.as_str()?;
+    DateTime::parse_from_rfc3339(s)
         .map(|t| t.with_timezone(&Utc))
         .map_err(|e| conversion(i, e))
 }

@@ -16,6 +16,7 @@ use super::{
     file_error, reason_text, validate_rows,
 };
 use crate::error::Error;
+use rusqlite::config::DbConfig;
 use rusqlite::{Connection, OpenFlags, Transaction, TransactionBehavior, params};
 use serde::Serialize;
 use std::io::Read;
@@ -239,6 +240,16 @@ impl SqliteStore {
 
     /// Settings, identity checked again through SQLite, WAL mode, migrations.
     fn ready(conn: Connection, path: &Path, name: String) -> Result<SqliteStore, Error> {
+        // No checkpoint when the connection closes (set first, so that a register
+        // refused below is left as it was): the write-ahead log stays beside the
+        // register (`NAME-wal`, synced at every commit as before) and SQLite's
+        // automatic checkpoint copies it into the main file once it holds 1000
+        // pages. A command that records one row then syncs the disk twice (the
+        // commit and the folder), not six times (the log created, the commit, the
+        // checkpoint, the log removed); durability is the same (docs/register.md,
+        // "Speed").
+        conn.set_db_config(DbConfig::SQLITE_DBCONFIG_NO_CKPT_ON_CLOSE, true)
+            .map_err(|e| db_error(&name, e))?;
         let mut store = SqliteStore {
             conn,
             path: path.to_path_buf(),
@@ -271,6 +282,7 @@ impl SqliteStore {
     /// migrated it meanwhile).
     fn migrate(&mut self) -> Result<(), Error> {
         let name = self.name.clone();
+        let mut migrated = false;
         for (i, script) in MIGRATIONS.iter().enumerate() {
             let target = i as i64 + 1;
             let tx = self
@@ -288,6 +300,14 @@ impl SqliteStore {
             tx.pragma_update(None, "user_version", target)
                 .map_err(|e| db_error(&name, e))?;
             tx.commit().map_err(|e| db_error(&name, e))?;
+            migrated = true;
+        }
+        if migrated {
+            // The schema version into the main file's header at once, where
+            // `inspect_header` reads it before SQLite opens a register.
+            self.conn
+                .execute_batch("PRAGMA wal_checkpoint(TRUNCATE)")
+                .map_err(|e| db_error(&name, e))?;
         }
         Ok(())
     }
