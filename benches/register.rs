@@ -186,7 +186,7 @@ fn stages(register: &Path, reg: &str, day: chrono::NaiveDate) {
     let inputs: Vec<_> = logs.iter().map(views::log_input).collect();
     let sim = median(3, &mut || {
         for (l, i) in logs.iter().zip(&inputs) {
-            dosewright::planning::schedule_report_logged_without_band(&l.plan, i).unwrap();
+            dosewright::simulate::simulate_observed(&l.plan, i.observed.as_ref()).unwrap();
         }
     });
     println!("  simulate 200 participants (every scenario, all weeks) {sim:9.3} ms");
@@ -219,6 +219,12 @@ fn stages(register: &Path, reg: &str, day: chrono::NaiveDate) {
     println!("  the first scenario's projection, all weeks         {first:9.3} ms");
     let upto = median(3, &mut || proj(Some(7), false));
     println!("  the first scenario's projection, up to week 7      {upto:9.3} ms");
+    let days = median(3, &mut || {
+        for (l, i) in logs.iter().zip(&inputs) {
+            dosewright::planning::day_plan(&l.plan, i, day).unwrap();
+        }
+    });
+    println!("  200 participants' day (what the day view runs)     {days:9.3} ms");
     let view = median(3, &mut || {
         views::day_view(&store, &views::Cache::default(), day).unwrap();
     });

@@ -106,8 +106,10 @@ pub(super) fn conversion(
 }
 
 pub(super) fn parse_date(r: &rusqlite::Row<'_>, i: usize) -> rusqlite::Result<NaiveDate> {
+    // Stored as ISO 8601 (`%Y-%m-%d`), which `FromStr` reads without a format
+    // string to parse for every row.
     let s = r.get_ref(i)?.as_str()?;
-    NaiveDate::parse_from_str(s, "%Y-%m-%d").map_err(|e| conversion(i, e))
+    s.parse::<NaiveDate>().map_err(|e| conversion(i, e))
 }
 
 pub(super) fn parse_time(r: &rusqlite::Row<'_>, i: usize) -> rusqlite::Result<DateTime<Utc>> {

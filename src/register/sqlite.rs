@@ -23,6 +23,17 @@ use std::io::Read;
 use std::path::{Path, PathBuf};
 use std::time::Duration;
 
+/// How a register is opened to write. `NO_MUTEX`: a `Connection` is used by one
+/// thread at a time (Rust's `Send` without `Sync`), so SQLite need not lock its
+/// own mutex around every call (as rusqlite's default flags have it).
+const READ_WRITE: OpenFlags =
+    OpenFlags::SQLITE_OPEN_READ_WRITE.union(OpenFlags::SQLITE_OPEN_NO_MUTEX);
+
+/// How a register is opened to read only, without SQLite's per-call mutex (see
+/// [`READ_WRITE`]).
+const READ_ONLY: OpenFlags =
+    OpenFlags::SQLITE_OPEN_READ_ONLY.union(OpenFlags::SQLITE_OPEN_NO_MUTEX);
+
 /// The first 16 bytes of every SQLite database file.
 const SQLITE_MAGIC: &[u8; 16] = b"SQLite format 3\0";
 
@@ -155,8 +166,7 @@ impl SqliteStore {
                 },
             )?;
         }
-        let conn = Connection::open_with_flags(path, OpenFlags::SQLITE_OPEN_READ_WRITE)
-            .map_err(|e| db_error(&name, e))?;
+        let conn = Connection::open_with_flags(path, READ_WRITE).map_err(|e| db_error(&name, e))?;
         // Written straight into the empty file's header before WAL mode starts, so
         // the header read by `open` always carries it.
         conn.pragma_update(None, "application_id", APPLICATION_ID)
@@ -172,8 +182,7 @@ impl SqliteStore {
         let name = path.display().to_string();
         inspect_header(path, &name)?;
         writable(path, &name)?;
-        let conn = Connection::open_with_flags(path, OpenFlags::SQLITE_OPEN_READ_WRITE)
-            .map_err(|e| db_error(&name, e))?;
+        let conn = Connection::open_with_flags(path, READ_WRITE).map_err(|e| db_error(&name, e))?;
         SqliteStore::ready(conn, path, name)
     }
 
@@ -182,8 +191,7 @@ impl SqliteStore {
     pub fn open_read_only(path: &Path) -> Result<SqliteStore, Error> {
         let name = path.display().to_string();
         inspect_header(path, &name)?;
-        let conn = Connection::open_with_flags(path, OpenFlags::SQLITE_OPEN_READ_ONLY)
-            .map_err(|e| db_error(&name, e))?;
+        let conn = Connection::open_with_flags(path, READ_ONLY).map_err(|e| db_error(&name, e))?;
         let store = SqliteStore {
             conn,
             path: path.to_path_buf(),
