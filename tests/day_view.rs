@@ -69,7 +69,8 @@ fn vigorous_question(e: &Enrolment) -> Enrolment {
     }
 }
 
-/// A register of six participants with different histories; their codes.
+/// A register of six participants with different histories and one with none;
+/// their codes.
 fn register(path: &Path) -> Vec<String> {
     let mut store = SqliteStore::create(path).unwrap();
     let mut enrolments = demo::plans(start(), Some(6)).unwrap();
@@ -97,6 +98,9 @@ fn register(path: &Path) -> Vec<String> {
             .unwrap();
         codes.push(p.code);
     }
+    // A seventh participant with no row at all (due from the plan alone).
+    let e = demo::plans(start(), Some(7)).unwrap().remove(6);
+    codes.push(store.enrol(&e, &stamp()).unwrap().code);
     codes
 }
 

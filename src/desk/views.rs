@@ -193,34 +193,55 @@ pub struct DayView {
     pub enrolled: usize,
 }
 
-/// The day view of `date`: one read of the participants and one of the current
-/// rows, then each participant's day (through the cache), in parallel.
+/// The day view of `date`: one read of the participants, then one of the current
+/// rows, participant by participant, while each participant read is already being
+/// planned (through the cache) in parallel: the store is read on this thread and
+/// the days are worked out on rayon's, so the read and the planning overlap.
 pub fn day_view(store: &dyn Store, cache: &Cache, date: NaiveDate) -> Result<DayView, Error> {
     let participants = store.participants()?;
-    let mut by_code: HashMap<String, Vec<Row>> = HashMap::new();
-    for r in store.rows(None, Which::Current)? {
-        match by_code.get_mut(r.participant.as_str()) {
-            Some(rows) => rows.push(r),
-            None => {
-                by_code.insert(r.participant.clone(), vec![r]);
-            }
-        }
-    }
-    let mine: Vec<(&Participant, Vec<Row>)> = participants
+    let index: HashMap<&str, usize> = participants
         .iter()
-        .map(|p| (p, by_code.remove(p.code.as_str()).unwrap_or_default()))
+        .enumerate()
+        .map(|(i, p)| (p.code.as_str(), i))
         .collect();
-    // Each participant on its own (rayon), from the rows read above; `collect`
-    // keeps the participants' order.
     let register = store.name();
-    let lines: Vec<Option<DayLine>> = mine
-        .into_par_iter()
-        .map(|(p, rows)| day_line(cache, register, p, rows, date))
-        .collect::<Result<_, Error>>()?;
-    let lines = lines.into_iter().flatten().collect();
+    let (tx, rx) = std::sync::mpsc::channel::<(usize, Vec<Row>)>();
+    let (read, lines) = std::thread::scope(|s| {
+        let participants = &participants;
+        let worker = s.spawn(move || {
+            rx.into_iter()
+                .par_bridge()
+                .map(|(i, rows)| Ok((i, day_line(cache, register, &participants[i], rows, date)?)))
+                .collect::<Result<Vec<(usize, Option<DayLine>)>, Error>>()
+        });
+        let mut seen = vec![false; participants.len()];
+        let read = store.rows_each_participant(Which::Current, &mut |rows| {
+            let code = rows.first().map(|r| r.participant.as_str()).unwrap_or("");
+            let i = *index.get(code).ok_or_else(|| {
+                Error::Internal(format!("{register}: rows of {code}, who is not enrolled"))
+            })?;
+            seen[i] = true;
+            // A send fails only when the planning stopped on an error, which the
+            // worker reports.
+            let _ = tx.send((i, rows));
+            Ok(())
+        });
+        for (i, _) in seen.iter().enumerate().filter(|(_, s)| !**s) {
+            let _ = tx.send((i, Vec::new()));
+        }
+        drop(tx);
+        let lines = worker
+            .join()
+            .unwrap_or_else(|p| std::panic::resume_unwind(p));
+        (read, lines)
+    });
+    read?;
+    let mut lines = lines?;
+    // The participants' order (by code), whatever order the days were done in.
+    lines.sort_by_key(|(i, _)| *i);
     Ok(DayView {
         date,
-        lines,
+        lines: lines.into_iter().filter_map(|(_, l)| l).collect(),
         enrolled: participants.len(),
     })
 }

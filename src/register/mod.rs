@@ -403,6 +403,15 @@ pub trait Store {
     fn void(&mut self, id: i64, stamp: &Stamp, reason: &str) -> Result<Change, Error>;
     /// Rows of one participant (or all, with `None`), by participant, date and id.
     fn rows(&self, code: Option<&str>, which: Which) -> Result<Vec<Row>, Error>;
+    /// Every participant's rows, as [`Store::rows`] with `None` gives them, handed
+    /// to `each` one participant at a time (by code; participants without rows are
+    /// left out) as soon as they are read, so that the caller can work on one
+    /// participant while the next is read. An error from `each` stops the reading.
+    fn rows_each_participant(
+        &self,
+        which: Which,
+        each: &mut dyn FnMut(Vec<Row>) -> Result<(), Error>,
+    ) -> Result<(), Error>;
     /// The audit trail of one participant (or all, with `None`), in order.
     fn audit(&self, code: Option<&str>) -> Result<Vec<Change>, Error>;
 }

@@ -119,12 +119,39 @@ pub(super) fn parse_time(r: &rusqlite::Row<'_>, i: usize) -> rusqlite::Result<Da
         .map_err(|e| conversion(i, e))
 }
 
-/// Rows of one participant (or all), by participant, date and id.
-pub(super) fn select_rows(
+/// Every participant's rows (as [`select_rows`] reads them with no code), handed to
+/// `each` one participant at a time as soon as the participant's last row is read.
+pub(super) fn select_rows_each(
     conn: &Connection,
-    code: Option<&str>,
+    name: &str,
     which: Which,
-) -> rusqlite::Result<Vec<Row>> {
+    each: &mut dyn FnMut(Vec<Row>) -> Result<(), Error>,
+) -> Result<(), Error> {
+    let mut stmt = conn
+        .prepare_cached(&rows_sql(false, which))
+        .map_err(|e| db_error(name, e))?;
+    let mut rows = stmt
+        .query_map([], read_row)
+        .map_err(|e| db_error(name, e))?;
+    let mut batch: Vec<Row> = Vec::new();
+    loop {
+        let next = rows.next().transpose().map_err(|e| db_error(name, e))?;
+        let same = match (&next, batch.last()) {
+            (Some(r), Some(last)) => r.participant == last.participant,
+            _ => true,
+        };
+        if !same || (next.is_none() && !batch.is_empty()) {
+            each(std::mem::take(&mut batch))?;
+        }
+        match next {
+            Some(r) => batch.push(r),
+            None => return Ok(()),
+        }
+    }
+}
+
+/// The query of [`select_rows`], for one participant (`one`) or all.
+fn rows_sql(one: bool, which: Which) -> String {
     let current = match which {
         // The unary `+` keeps SQLite from searching the (nearly all NULL) unique
         // indexes of these marks instead of the participant's index.
@@ -132,13 +159,22 @@ pub(super) fn select_rows(
         Which::All => "",
     };
     // One participant's rows through the index on (participant_id, date, id).
-    let sql = match code {
-        Some(_) => format!(
+    if one {
+        format!(
             "{ROW_SELECT} WHERE e.participant_id = (SELECT id FROM participants WHERE code = ?1){current} ORDER BY e.date, e.id"
-        ),
-        None => format!("{ROW_SELECT} WHERE 1{current} ORDER BY p.code, e.date, e.id"),
-    };
-    let mut stmt = conn.prepare_cached(&sql)?;
+        )
+    } else {
+        format!("{ROW_SELECT} WHERE 1{current} ORDER BY p.code, e.date, e.id")
+    }
+}
+
+/// Rows of one participant (or all), by participant, date and id.
+pub(super) fn select_rows(
+    conn: &Connection,
+    code: Option<&str>,
+    which: Which,
+) -> rusqlite::Result<Vec<Row>> {
+    let mut stmt = conn.prepare_cached(&rows_sql(code.is_some(), which))?;
     match code {
         Some(code) => stmt.query_map(params![code], read_row)?.collect(),
         None => stmt.query_map([], read_row)?.collect(),

@@ -8,8 +8,8 @@
 use super::schema::{APPLICATION_ID, MIGRATIONS, SCHEMA_VERSION};
 use super::sql::{
     BUSY_TIMEOUT, CHANGE_SELECT, PARTICIPANT_SELECT, current_row, db_error, find_participant,
-    insert_change, insert_entry, read_change, read_participant, select_row, select_rows, supersede,
-    void_row,
+    insert_change, insert_entry, read_change, read_participant, select_row, select_rows,
+    select_rows_each, supersede, void_row,
 };
 use super::{
     Action, Change, Enrolment, Imported, Measure, Participant, Recorded, Row, Stamp, Store, Which,
@@ -692,6 +692,14 @@ impl Store for SqliteStore {
             find_participant(&self.conn, &self.name, code)?;
         }
         select_rows(&self.conn, code, which).map_err(|e| db_error(&self.name, e))
+    }
+
+    fn rows_each_participant(
+        &self,
+        which: Which,
+        each: &mut dyn FnMut(Vec<Row>) -> Result<(), Error>,
+    ) -> Result<(), Error> {
+        select_rows_each(&self.conn, &self.name, which, each)
     }
 
     fn audit(&self, code: Option<&str>) -> Result<Vec<Change>, Error> {
