@@ -4,11 +4,13 @@
 //! rows, recording one weigh-in end to end (the command opens the register, checks
 //! the participant's whole log with the new row, writes and commits with `fsync`,
 //! closes) in under 20 ms; the day view of 200 participants (every participant
-//! re-planned from their rows) in under 200 ms. Each is timed twice: as the
+//! re-planned from their rows up to the date's week) in under 200 ms. Each is timed twice: as the
 //! library call behind the command (`commands::run` on the parsed command line),
 //! and as the real binary started as a process (which adds the start of a process).
 //! The register is built in a temporary folder. A plain timing harness: it prints
-//! the median and the fastest of repeated runs.
+//! the median and the fastest of repeated runs. `REGISTER_BENCH_STAGES=1` also
+//! times each stage of the two commands on its own (docs/register.md, "Speed"), and
+//! `REGISTER_BENCH_KEEP=FILE` keeps a copy of the register to profile them on.
 
 use chrono::{Days, NaiveDate, Utc};
 use clap::Parser;
