@@ -42,14 +42,33 @@ pub(super) fn db_error(name: &str, e: rusqlite::Error) -> Error {
     }
 }
 
-pub(super) const ROW_SELECT: &str =
-    "SELECT e.id, p.code, e.kind, e.date, e.note, e.recorded_at, e.recorded_by,
+/// The columns [`read_row`] reads, then the tables they come from.
+macro_rules! row_select {
+    ($from:literal) => {
+        concat!(
+            "SELECT e.id, p.code, e.kind, e.date, e.note, e.recorded_at, e.recorded_by,
         e.supersedes, e.superseded_by, e.voided_by,
         w.mass_kg, w.body_fat_percent, w.body_fat_method,
         s.minutes, s.compendium_code, s.met, s.watts, s.speed_kmh, s.avg_hr_bpm, s.rpe
- FROM entries e JOIN participants p ON p.id = e.participant_id
+ FROM ",
+            $from,
+            "
  LEFT JOIN weigh_ins w ON w.entry_id = e.id
- LEFT JOIN sessions s ON s.entry_id = e.id";
+ LEFT JOIN sessions s ON s.entry_id = e.id"
+        )
+    };
+}
+
+pub(super) const ROW_SELECT: &str =
+    row_select!("entries e JOIN participants p ON p.id = e.participant_id");
+
+/// [`ROW_SELECT`] for every participant's rows in code order: `CROSS JOIN` makes
+/// SQLite walk the participants by the index on their codes and each one's rows
+/// by the index on (participant, date, id), already in the order asked for,
+/// instead of reading every row and sorting them all (about half the time of the
+/// read for 50,000 rows).
+const ROW_SELECT_ALL: &str =
+    row_select!("participants p CROSS JOIN entries e ON e.participant_id = p.id");
 
 /// A row of [`ROW_SELECT`].
 pub(super) fn read_row(r: &rusqlite::Row<'_>) -> rusqlite::Result<Row> {
@@ -164,7 +183,7 @@ fn rows_sql(one: bool, which: Which) -> String {
             "{ROW_SELECT} WHERE e.participant_id = (SELECT id FROM participants WHERE code = ?1){current} ORDER BY e.date, e.id"
         )
     } else {
-        format!("{ROW_SELECT} WHERE 1{current} ORDER BY p.code, e.date, e.id")
+        format!("{ROW_SELECT_ALL} WHERE 1{current} ORDER BY p.code, e.date, e.id")
     }
 }
 
