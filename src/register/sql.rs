@@ -160,7 +160,9 @@ pub(super) fn select_rows_each(
             _ => true,
         };
         if !same || (next.is_none() && !batch.is_empty()) {
-            each(std::mem::take(&mut batch))?;
+            // The next participant's rows are likely as many: room for them at once.
+            let room = Vec::with_capacity(batch.len());
+            each(std::mem::replace(&mut batch, room))?;
         }
         match next {
             Some(r) => batch.push(r),
