@@ -4,11 +4,13 @@
 //! rows, recording one weigh-in end to end (the command opens the register, checks
 //! the participant's whole log with the new row, writes and commits with `fsync`,
 //! closes) in under 20 ms; the day view of 200 participants (every participant
-//! re-planned from their rows) in under 200 ms. Each is timed twice: as the
+//! re-planned from their rows up to the date's week) in under 200 ms. Each is timed twice: as the
 //! library call behind the command (`commands::run` on the parsed command line),
 //! and as the real binary started as a process (which adds the start of a process).
 //! The register is built in a temporary folder. A plain timing harness: it prints
-//! the median and the fastest of repeated runs.
+//! the median and the fastest of repeated runs. `REGISTER_BENCH_STAGES=1` also
+//! times each stage of the two commands on its own (docs/register.md, "Speed"), and
+//! `REGISTER_BENCH_KEEP=FILE` keeps a copy of the register to profile them on.
 
 use chrono::{Days, NaiveDate, Utc};
 use clap::Parser;
@@ -105,6 +107,137 @@ fn build(path: &Path, start: NaiveDate) -> Vec<(String, f64)> {
     last
 }
 
+/// Where the time of the two commands goes, stage by stage, each stage timed on
+/// its own (serially, one core) with the library's public pieces: the start of a
+/// process, opening the register, reading the participants and rows, parsing the
+/// plans, rendering and parsing the logs, the simulation, the sessions, rendering.
+fn stages(register: &Path, reg: &str, day: chrono::NaiveDate) {
+    use dosewright::desk::views;
+    let ms = |d: Duration| d.as_secs_f64() * 1e3;
+    let median = |runs: usize, f: &mut dyn FnMut()| ms(time(runs, |_| f()).0);
+    println!("stages (medians, one core):");
+    let start = median(9, &mut || {
+        let out = std::process::Command::new(env!("CARGO_BIN_EXE_dosewright"))
+            .arg("--version")
+            .output()
+            .unwrap();
+        assert!(out.status.success());
+    });
+    println!("  start a process (dosewright --version)            {start:9.3} ms");
+    let open = median(9, &mut || {
+        SqliteStore::open_read_only(register).unwrap();
+    });
+    println!("  open the register read-only                        {open:9.3} ms");
+    let open_rw = median(9, &mut || {
+        SqliteStore::open(register).unwrap();
+    });
+    println!("  open the register to write                         {open_rw:9.3} ms");
+    let store = SqliteStore::open_read_only(register).unwrap();
+    let participants = store.participants().unwrap();
+    let read_p = median(9, &mut || {
+        store.participants().unwrap();
+    });
+    println!("  read 200 participants                              {read_p:9.3} ms");
+    let read_rows = median(5, &mut || {
+        store.rows(None, Which::Current).unwrap();
+    });
+    println!("  read 50,000 current rows                           {read_rows:9.3} ms");
+    let code = &participants[0].code;
+    let read_one = median(9, &mut || {
+        store.rows(Some(code), Which::Current).unwrap();
+    });
+    println!("  read one participant's 250 rows                    {read_one:9.3} ms");
+    let plans = median(5, &mut || {
+        for p in &participants {
+            p.plan().unwrap();
+        }
+    });
+    println!("  parse and check 200 plans                          {plans:9.3} ms");
+    let rows = store.rows(None, Which::Current).unwrap();
+    let by: Vec<Vec<dosewright::register::Row>> = participants
+        .iter()
+        .map(|p| {
+            rows.iter()
+                .filter(|r| r.participant == p.code)
+                .cloned()
+                .collect()
+        })
+        .collect();
+    let render = median(5, &mut || {
+        for r in &by {
+            dosewright::register::log_csv(r).unwrap();
+        }
+    });
+    println!("  render 200 logs as CSV text                        {render:9.3} ms");
+    let plan_v: Vec<_> = participants.iter().map(|p| p.plan().unwrap()).collect();
+    let texts: Vec<String> = by
+        .iter()
+        .map(|r| dosewright::register::log_csv(r).unwrap())
+        .collect();
+    let parse = median(5, &mut || {
+        for (t, p) in texts.iter().zip(&plan_v) {
+            dosewright::log::parse_log(reg, t, p, None).unwrap();
+        }
+    });
+    println!("  parse and check 200 logs                           {parse:9.3} ms");
+    let logs: Vec<_> = participants
+        .iter()
+        .zip(&by)
+        .map(|(p, r)| dosewright::register::participant_log_of(reg, p.clone(), r, None).unwrap())
+        .collect();
+    let inputs: Vec<_> = logs.iter().map(views::log_input).collect();
+    let sim = median(3, &mut || {
+        for (l, i) in logs.iter().zip(&inputs) {
+            dosewright::simulate::simulate_observed(&l.plan, i.observed.as_ref()).unwrap();
+        }
+    });
+    println!("  simulate 200 participants (every scenario, all weeks) {sim:9.3} ms");
+    use dosewright::simulate::{RunMode, calibrated, run};
+    let proj = |weeks: Option<u32>, all: bool| {
+        for (l, i) in logs.iter().zip(&inputs) {
+            let plan = &l.plan;
+            let (b, ph) = calibrated(plan).unwrap();
+            let n = if all { plan.scenarios.len() } else { 1 };
+            for sc in &plan.scenarios[..n] {
+                let mode = RunMode {
+                    observed: i.observed.as_ref(),
+                    anchor: true,
+                    weeks: weeks.unwrap_or(plan.protocol.total_weeks()),
+                    ..RunMode::projection(plan)
+                };
+                run(plan, &ph, &b, sc, mode, None).unwrap();
+            }
+        }
+    };
+    let calib = median(3, &mut || {
+        for l in &logs {
+            calibrated(&l.plan).unwrap();
+        }
+    });
+    println!("  calibrate 200 baselines                            {calib:9.3} ms");
+    let all_proj = median(3, &mut || proj(None, true));
+    println!("  every scenario's projection only, all weeks        {all_proj:9.3} ms");
+    let first = median(3, &mut || proj(None, false));
+    println!("  the first scenario's projection, all weeks         {first:9.3} ms");
+    let upto = median(3, &mut || proj(Some(7), false));
+    println!("  the first scenario's projection, up to week 7      {upto:9.3} ms");
+    let days = median(3, &mut || {
+        for (l, i) in logs.iter().zip(&inputs) {
+            dosewright::planning::day_plan(&l.plan, i, day).unwrap();
+        }
+    });
+    println!("  200 participants' day (what the day view runs)     {days:9.3} ms");
+    let view = median(3, &mut || {
+        views::day_view(&store, &views::Cache::default(), day).unwrap();
+    });
+    println!("  the whole day view, library (rayon)                {view:9.3} ms");
+    let v = views::day_view(&store, &views::Cache::default(), day).unwrap();
+    let print = median(5, &mut || {
+        dosewright::desk::print::table(&v, reg);
+    });
+    println!("  print the day view as a table                      {print:9.3} ms");
+}
+
 fn main() {
     let dir = tempfile::tempdir().unwrap();
     let register = dir.path().join("bench.db");
@@ -160,6 +293,17 @@ fn main() {
             process(&s.split('\u{1}').collect::<Vec<_>>());
         }),
     );
+    // A copy of the register to profile the commands on (REGISTER_BENCH_KEEP=FILE).
+    if let Some(keep) = std::env::var_os("REGISTER_BENCH_KEEP") {
+        SqliteStore::open_read_only(&register)
+            .unwrap()
+            .backup_to(Path::new(&keep))
+            .unwrap();
+        println!("register kept in {}", Path::new(&keep).display());
+    }
+    if std::env::var_os("REGISTER_BENCH_STAGES").is_some() {
+        stages(&register, reg, start + Days::new(44));
+    }
     let day = (start + Days::new(44)).to_string();
     let day_args = ["register", "day", reg, "--date", day.as_str()];
     report(

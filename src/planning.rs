@@ -5,11 +5,13 @@
 
 use crate::error::Error;
 use crate::plan::Plan;
+use crate::report::sessions::{PlannedWeek, planned_week};
 use crate::report::{self, ScheduleReport};
 use crate::safety::Warning;
+use crate::safety::screening::ScreeningOutcome;
 use crate::simulate::band::projection_band;
 use crate::simulate::observed::Observed;
-use crate::simulate::{simulate, simulate_observed};
+use crate::simulate::{RunMode, calibrated, run, simulate, simulate_observed};
 use chrono::NaiveDate;
 
 /// What a log contributes: the measured data, its warnings and a summary for reports.
@@ -73,21 +75,67 @@ pub fn schedule_report_logged(plan: &Plan, log: &LogInput) -> Result<ScheduleRep
     Ok(r)
 }
 
-/// [`schedule_report_logged`] without the projection band (which re-runs the plan
-/// for every level of the RMR and body-fat errors): for views that need the
-/// re-planned sessions, the screening and the warnings only, such as the day view.
-pub fn schedule_report_logged_without_band(
-    plan: &Plan,
-    log: &LogInput,
-) -> Result<ScheduleReport, Error> {
-    let sim = simulate_observed(plan, log.observed.as_ref())?;
-    let mut r = ScheduleReport::new(plan, sim);
-    add_log(&mut r, log);
-    Ok(r)
-}
-
 /// The log's warnings and summary on a report.
 fn add_log(r: &mut ScheduleReport, log: &LogInput) {
     r.warnings.extend(log.warnings.iter().cloned());
     r.log = log.summary.clone();
+}
+
+/// What the day view shows of one participant on one date, as the schedule
+/// re-planned from the same log would show it: the protocol week holding the date
+/// with its re-planned sessions, and the screening result.
+#[derive(Debug, Clone, PartialEq)]
+pub struct DayPlan {
+    /// The protocol week holding the date (None before the start or after the last
+    /// protocol week): its sessions under the first scenario, re-planned from the log.
+    pub week: Option<PlannedWeek>,
+    /// The screening result, as on the schedule.
+    pub screening: ScreeningOutcome,
+}
+
+/// The [`DayPlan`] of `plan` with its log on `date`, from the fewest weeks that
+/// decide it (docs/register.md, "Speed"). A week's prescription depends only on the
+/// weeks before it, so the first scenario is run up to the date's week only: its
+/// sessions are those of the schedule's first scenario (the one the sheets print).
+/// The screening needs the whole run only when its result turns on whether any
+/// session of any scenario is vigorous; then every scenario is run as the
+/// schedule runs them.
+pub fn day_plan(plan: &Plan, log: &LogInput, date: NaiveDate) -> Result<DayPlan, Error> {
+    let p = &plan.protocol;
+    let observed = log.observed.as_ref();
+    let day = (date - p.start).num_days();
+    let week = (0..7 * i64::from(p.weeks))
+        .contains(&day)
+        .then(|| (day / 7) as u32 + 1);
+    let week = match (week, plan.scenarios.first()) {
+        (Some(w), Some(first)) => {
+            let (baseline, physiology) = calibrated(plan)?;
+            // As `simulate_observed` runs the projection: re-anchored at the
+            // weigh-ins when there is a log.
+            let mode = RunMode {
+                observed,
+                anchor: observed.is_some(),
+                weeks: w,
+                ..RunMode::projection(plan)
+            };
+            let out = run(plan, &physiology, &baseline, first, mode, None)?;
+            out.weeks.last().map(|r| planned_week(plan, r))
+        }
+        _ => None,
+    };
+    let answers = plan.participant.screening.as_ref();
+    let screening = match (
+        crate::safety::screen(answers, false),
+        crate::safety::screen(answers, true),
+    ) {
+        (a, b) if a == b => a,
+        _ => {
+            let sim = simulate_observed(plan, observed)?;
+            crate::safety::screen(
+                answers,
+                crate::simulate::warnings::reaches_vigorous(plan, &sim),
+            )
+        }
+    };
+    Ok(DayPlan { week, screening })
 }

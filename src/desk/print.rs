@@ -40,15 +40,12 @@ fn screening_text(l: &DayLine) -> String {
     if l.clearance_missing {
         s.push_str("\nMEDICAL CLEARANCE NEEDED, NOT ON FILE");
     }
-    if l.warnings > 0 {
-        s.push_str(&format!("\n{} warning(s) on the schedule", l.warnings));
-    }
     s
 }
 
 fn summary(v: &DayView) -> String {
     format!(
-        "{} of {} enrolled participants are due a session or have a row on this date. Minutes and heart-rate ranges are re-planned from each participant's recorded weigh-ins and sessions.",
+        "{} of {} enrolled participants are due a session or have a row on this date. Minutes and heart-rate ranges are re-planned from each participant's recorded weigh-ins and sessions; each participant's warnings are on their schedule (schedule --register with --participant).",
         v.lines.len(),
         v.enrolled
     )
@@ -246,7 +243,6 @@ pub fn html(v: &DayView, register: &str) -> String {
                                     td {
                                         (l.screening)
                                         @if l.clearance_missing { br; span.warn { "Medical clearance is needed and not on file." } }
-                                        @if l.warnings > 0 { br; span.muted { (l.warnings) " warning(s) on the schedule" } }
                                     }
                                 }
                             }

@@ -5,13 +5,14 @@
 //! A participant is re-planned exactly as `schedule --log` does it: the register's
 //! rows read back as the CSV log ([`crate::register::participant_log`]), the
 //! measured data taken from that log, then
-//! [`crate::planning::schedule_report_logged`]. The result is kept in a cache keyed by
-//! the participant's plan text and current rows, so a page shown again after no
-//! change does not simulate again, and any change (by this server or another
-//! process) is seen at once.
+//! [`crate::planning::schedule_report_logged`]; for the day view only the weeks that
+//! decide the date's sessions ([`crate::planning::day_plan`]). The results are kept
+//! in a cache keyed by the participant's plan text and current rows, so a page shown
+//! again after no change does not simulate again, and any change (by this server or
+//! another process) is seen at once.
 
 use crate::error::Error;
-use crate::planning::{LogInput, schedule_report_logged, schedule_report_logged_without_band};
+use crate::planning::{DayPlan, LogInput, day_plan, schedule_report_logged};
 use crate::register::{self, Measure, Participant, Row, Store, Which};
 use crate::report::ScheduleReport;
 use crate::report::sessions::{PlannedSession, SessionPlan, session_plan};
@@ -58,14 +59,26 @@ impl Replan {
 /// The cache's map: code to (digest, re-planned participant).
 type Entries = HashMap<String, ([u8; 32], Arc<Replan>)>;
 
+/// The day view's map: code to (digest, date, the participant's day).
+type Days = HashMap<String, ([u8; 32], NaiveDate, Arc<DayPlan>)>;
+
 /// Re-planned participants, keyed by code, each with the digest of the plan text
-/// and current rows it was computed from: with the projection band (the
-/// participant page), and without it (the day view, which needs only the sessions,
-/// the screening and the warnings).
+/// and current rows it was computed from: the whole re-plan with the projection
+/// band (the participant page), and the day of the last date the day view showed.
 #[derive(Debug, Default)]
 pub struct Cache {
     entries: Mutex<Entries>,
-    without_band: Mutex<Entries>,
+    days: Mutex<Days>,
+}
+
+/// The digest of a participant's plan text and log text: what a re-plan is
+/// computed from.
+fn digest(participant: &Participant, log_text: &str) -> [u8; 32] {
+    let mut h = Sha256::new();
+    h.update(participant.plan_text.as_bytes());
+    h.update([0u8]);
+    h.update(log_text.as_bytes());
+    h.finalize().into()
 }
 
 /// The log as `schedule --log` reads it (measured data up to the log's last date,
@@ -83,18 +96,7 @@ impl Cache {
         participant: &Participant,
         rows: &[Row],
     ) -> Result<Arc<Replan>, Error> {
-        Self::cached(&self.entries, store.name(), participant, rows, true)
-    }
-
-    /// As [`Cache::replan`] without the projection band (`report.projection_band`
-    /// is `None`): the day view's re-plan.
-    pub fn replan_without_band(
-        &self,
-        register: &str,
-        participant: &Participant,
-        rows: &[Row],
-    ) -> Result<Arc<Replan>, Error> {
-        Self::cached(&self.without_band, register, participant, rows, false)
+        Self::cached(&self.entries, store.name(), participant, rows)
     }
 
     fn cached(
@@ -102,26 +104,17 @@ impl Cache {
         register: &str,
         participant: &Participant,
         rows: &[Row],
-        band: bool,
     ) -> Result<Arc<Replan>, Error> {
         let text = register::log_csv(rows)?;
-        let mut h = Sha256::new();
-        h.update(participant.plan_text.as_bytes());
-        h.update([0u8]);
-        h.update(text.as_bytes());
-        let key: [u8; 32] = h.finalize().into();
+        let key = digest(participant, &text);
         if let Some((k, r)) = lock(map).get(&participant.code)
             && *k == key
         {
             return Ok(r.clone());
         }
-        let log = register::participant_log_of(register, participant.clone(), rows, None)?;
+        let log = register::participant_log_of_text(register, participant.clone(), &text, None)?;
         let input = log_input(&log);
-        let report = if band {
-            schedule_report_logged(&log.plan, &input)?
-        } else {
-            schedule_report_logged_without_band(&log.plan, &input)?
-        };
+        let report = schedule_report_logged(&log.plan, &input)?;
         let sessions = session_plan(&log.plan, &report.scenarios[0]);
         let replan = Arc::new(Replan {
             log,
@@ -133,6 +126,30 @@ impl Cache {
         Ok(replan)
     }
 
+    /// A participant's day on `date` from `rows` (their current rows), from the
+    /// cache when neither the plan nor the rows nor the date changed: the log's
+    /// text rendered once, for the digest and the re-plan.
+    pub fn day(
+        &self,
+        register: &str,
+        participant: &Participant,
+        rows: &[Row],
+        date: NaiveDate,
+    ) -> Result<Arc<DayPlan>, Error> {
+        let text = register::log_csv(rows)?;
+        let key = digest(participant, &text);
+        if let Some((k, d, r)) = lock(&self.days).get(&participant.code)
+            && *k == key
+            && *d == date
+        {
+            return Ok(r.clone());
+        }
+        let log = register::participant_log_of_text(register, participant.clone(), &text, None)?;
+        let day = Arc::new(day_plan(&log.plan, &log_input(&log), date)?);
+        lock(&self.days).insert(participant.code.clone(), (key, date, day.clone()));
+        Ok(day)
+    }
+
     /// One participant re-planned, by code.
     pub fn replan_code(&self, store: &dyn Store, code: &str) -> Result<Arc<Replan>, Error> {
         let participant = store.participant(code)?;
@@ -141,7 +158,7 @@ impl Cache {
     }
 }
 
-fn lock(map: &Mutex<Entries>) -> std::sync::MutexGuard<'_, Entries> {
+fn lock<T>(map: &Mutex<T>) -> std::sync::MutexGuard<'_, T> {
     // A panic while holding the lock leaves only a cache behind: use it.
     map.lock().unwrap_or_else(|p| p.into_inner())
 }
@@ -163,8 +180,6 @@ pub struct DayLine {
     pub screening: String,
     /// Medical clearance is needed and not on file.
     pub clearance_missing: bool,
-    /// The number of warnings on the participant's schedule.
-    pub warnings: usize,
 }
 
 /// The day view: every participant due a session on `date` or with a row on it.
@@ -178,33 +193,55 @@ pub struct DayView {
     pub enrolled: usize,
 }
 
-/// The day view of `date`: one read of the participants and one of the current
-/// rows, then each participant re-planned (through the cache).
+/// The day view of `date`: one read of the participants, then one of the current
+/// rows, participant by participant, while each participant read is already being
+/// planned (through the cache) in parallel: the store is read on this thread and
+/// the days are worked out on rayon's, so the read and the planning overlap.
 pub fn day_view(store: &dyn Store, cache: &Cache, date: NaiveDate) -> Result<DayView, Error> {
     let participants = store.participants()?;
-    let rows = store.rows(None, Which::Current)?;
-    let mut by_code: HashMap<&str, Vec<Row>> = HashMap::new();
-    for r in &rows {
-        by_code
-            .entry(r.participant.as_str())
-            .or_default()
-            .push(r.clone());
-    }
-    let mine: Vec<(&Participant, Vec<Row>)> = participants
+    let index: HashMap<&str, usize> = participants
         .iter()
-        .map(|p| (p, by_code.remove(p.code.as_str()).unwrap_or_default()))
+        .enumerate()
+        .map(|(i, p)| (p.code.as_str(), i))
         .collect();
-    // Each participant is re-planned on its own (rayon), from the rows read above;
-    // `collect` keeps the participants' order.
     let register = store.name();
-    let lines: Vec<Option<DayLine>> = mine
-        .into_par_iter()
-        .map(|(p, rows)| day_line(cache, register, p, rows, date))
-        .collect::<Result<_, Error>>()?;
-    let lines = lines.into_iter().flatten().collect();
+    let (tx, rx) = std::sync::mpsc::channel::<(usize, Vec<Row>)>();
+    let (read, lines) = std::thread::scope(|s| {
+        let participants = &participants;
+        let worker = s.spawn(move || {
+            rx.into_iter()
+                .par_bridge()
+                .map(|(i, rows)| Ok((i, day_line(cache, register, &participants[i], rows, date)?)))
+                .collect::<Result<Vec<(usize, Option<DayLine>)>, Error>>()
+        });
+        let mut seen = vec![false; participants.len()];
+        let read = store.rows_each_participant(Which::Current, &mut |rows| {
+            let code = rows.first().map(|r| r.participant.as_str()).unwrap_or("");
+            let i = *index.get(code).ok_or_else(|| {
+                Error::Internal(format!("{register}: rows of {code}, who is not enrolled"))
+            })?;
+            seen[i] = true;
+            // A send fails only when the planning stopped on an error, which the
+            // worker reports.
+            let _ = tx.send((i, rows));
+            Ok(())
+        });
+        for (i, _) in seen.iter().enumerate().filter(|(_, s)| !**s) {
+            let _ = tx.send((i, Vec::new()));
+        }
+        drop(tx);
+        let lines = worker
+            .join()
+            .unwrap_or_else(|p| std::panic::resume_unwind(p));
+        (read, lines)
+    });
+    read?;
+    let mut lines = lines?;
+    // The participants' order (by code), whatever order the days were done in.
+    lines.sort_by_key(|(i, _)| *i);
     Ok(DayView {
         date,
-        lines,
+        lines: lines.into_iter().filter_map(|(_, l)| l).collect(),
         enrolled: participants.len(),
     })
 }
@@ -217,8 +254,13 @@ fn day_line(
     rows: Vec<Row>,
     date: NaiveDate,
 ) -> Result<Option<DayLine>, Error> {
-    let replan = cache.replan_without_band(register, p, &rows)?;
-    let due: Vec<PlannedSession> = replan.sessions_on(date).into_iter().cloned().collect();
+    let day = cache.day(register, p, &rows, date)?;
+    let due: Vec<PlannedSession> = day
+        .week
+        .iter()
+        .flat_map(|w| w.sessions.iter().filter(|s| s.date == date))
+        .cloned()
+        .collect();
     let recorded: Vec<Row> = rows
         .into_iter()
         .filter(|r| r.measure.date() == date)
@@ -229,12 +271,11 @@ fn day_line(
     Ok(Some(DayLine {
         code: p.code.clone(),
         arm: p.arm.clone(),
-        week: replan.week_of(date),
+        week: day.week.as_ref().map(|w| w.week),
         due,
         recorded,
-        screening: replan.report.screening.recommendation.clone(),
-        clearance_missing: replan.report.screening.clearance_missing,
-        warnings: replan.report.warnings.len(),
+        screening: day.screening.recommendation.clone(),
+        clearance_missing: day.screening.clearance_missing,
     }))
 }
 

@@ -403,6 +403,15 @@ pub trait Store {
     fn void(&mut self, id: i64, stamp: &Stamp, reason: &str) -> Result<Change, Error>;
     /// Rows of one participant (or all, with `None`), by participant, date and id.
     fn rows(&self, code: Option<&str>, which: Which) -> Result<Vec<Row>, Error>;
+    /// Every participant's rows, as [`Store::rows`] with `None` gives them, handed
+    /// to `each` one participant at a time (by code; participants without rows are
+    /// left out) as soon as they are read, so that the caller can work on one
+    /// participant while the next is read. An error from `each` stops the reading.
+    fn rows_each_participant(
+        &self,
+        which: Which,
+        each: &mut dyn FnMut(Vec<Row>) -> Result<(), Error>,
+    ) -> Result<(), Error>;
     /// The audit trail of one participant (or all, with `None`), in order.
     fn audit(&self, code: Option<&str>) -> Result<Vec<Change>, Error>;
 }
@@ -443,10 +452,21 @@ pub fn participant_log_of(
     rows: &[Row],
     as_of: Option<NaiveDate>,
 ) -> Result<ParticipantLog, Error> {
-    let plan = participant.plan()?;
     let text = log_csv(rows)?;
+    participant_log_of_text(register, participant, &text, as_of)
+}
+
+/// [`participant_log_of`] from the participant's current rows already rendered
+/// by [`log_csv`] (`text`).
+pub fn participant_log_of_text(
+    register: &str,
+    participant: Participant,
+    text: &str,
+    as_of: Option<NaiveDate>,
+) -> Result<ParticipantLog, Error> {
+    let plan = participant.plan()?;
     let code = &participant.code;
-    let (log, warnings) = crate::log::parse_log(&log_name(register, code), &text, &plan, as_of)?;
+    let (log, warnings) = crate::log::parse_log(&log_name(register, code), text, &plan, as_of)?;
     Ok(ParticipantLog {
         participant,
         plan,
@@ -481,7 +501,9 @@ fn render(items: &[Item<'_>]) -> Result<String, Error> {
     let opt = |x: Option<f64>| x.map(num).unwrap_or_default();
     for (id, m) in items {
         let id = id.map(|i| i.to_string()).unwrap_or_default();
-        let date = m.date().format("%Y-%m-%d").to_string();
+        // ISO 8601 (`%Y-%m-%d`): `Display` of a date writes it without parsing a
+        // format string for every row.
+        let date = m.date().to_string();
         let record: [String; 14] = match m {
             Measure::WeighIn(x) => [
                 date,

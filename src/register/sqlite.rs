@@ -8,19 +8,31 @@
 use super::schema::{APPLICATION_ID, MIGRATIONS, SCHEMA_VERSION};
 use super::sql::{
     BUSY_TIMEOUT, CHANGE_SELECT, PARTICIPANT_SELECT, current_row, db_error, find_participant,
-    insert_change, insert_entry, read_change, read_participant, select_row, select_rows, supersede,
-    void_row,
+    insert_change, insert_entry, read_change, read_participant, select_row, select_rows,
+    select_rows_each, supersede, void_row,
 };
 use super::{
     Action, Change, Enrolment, Imported, Measure, Participant, Recorded, Row, Stamp, Store, Which,
     file_error, reason_text, validate_rows,
 };
 use crate::error::Error;
+use rusqlite::config::DbConfig;
 use rusqlite::{Connection, OpenFlags, Transaction, TransactionBehavior, params};
 use serde::Serialize;
 use std::io::Read;
 use std::path::{Path, PathBuf};
 use std::time::Duration;
+
+/// How a register is opened to write. `NO_MUTEX`: a `Connection` is used by one
+/// thread at a time (Rust's `Send` without `Sync`), so SQLite need not lock its
+/// own mutex around every call (as rusqlite's default flags have it).
+const READ_WRITE: OpenFlags =
+    OpenFlags::SQLITE_OPEN_READ_WRITE.union(OpenFlags::SQLITE_OPEN_NO_MUTEX);
+
+/// How a register is opened to read only, without SQLite's per-call mutex (see
+/// [`READ_WRITE`]).
+const READ_ONLY: OpenFlags =
+    OpenFlags::SQLITE_OPEN_READ_ONLY.union(OpenFlags::SQLITE_OPEN_NO_MUTEX);
 
 /// The first 16 bytes of every SQLite database file.
 const SQLITE_MAGIC: &[u8; 16] = b"SQLite format 3\0";
@@ -154,8 +166,7 @@ impl SqliteStore {
                 },
             )?;
         }
-        let conn = Connection::open_with_flags(path, OpenFlags::SQLITE_OPEN_READ_WRITE)
-            .map_err(|e| db_error(&name, e))?;
+        let conn = Connection::open_with_flags(path, READ_WRITE).map_err(|e| db_error(&name, e))?;
         // Written straight into the empty file's header before WAL mode starts, so
         // the header read by `open` always carries it.
         conn.pragma_update(None, "application_id", APPLICATION_ID)
@@ -171,8 +182,7 @@ impl SqliteStore {
         let name = path.display().to_string();
         inspect_header(path, &name)?;
         writable(path, &name)?;
-        let conn = Connection::open_with_flags(path, OpenFlags::SQLITE_OPEN_READ_WRITE)
-            .map_err(|e| db_error(&name, e))?;
+        let conn = Connection::open_with_flags(path, READ_WRITE).map_err(|e| db_error(&name, e))?;
         SqliteStore::ready(conn, path, name)
     }
 
@@ -181,8 +191,7 @@ impl SqliteStore {
     pub fn open_read_only(path: &Path) -> Result<SqliteStore, Error> {
         let name = path.display().to_string();
         inspect_header(path, &name)?;
-        let conn = Connection::open_with_flags(path, OpenFlags::SQLITE_OPEN_READ_ONLY)
-            .map_err(|e| db_error(&name, e))?;
+        let conn = Connection::open_with_flags(path, READ_ONLY).map_err(|e| db_error(&name, e))?;
         let store = SqliteStore {
             conn,
             path: path.to_path_buf(),
@@ -239,6 +248,16 @@ impl SqliteStore {
 
     /// Settings, identity checked again through SQLite, WAL mode, migrations.
     fn ready(conn: Connection, path: &Path, name: String) -> Result<SqliteStore, Error> {
+        // No checkpoint when the connection closes (set first, so that a register
+        // refused below is left as it was): the write-ahead log stays beside the
+        // register (`NAME-wal`, synced at every commit as before) and SQLite's
+        // automatic checkpoint copies it into the main file once it holds 1000
+        // pages. A command that records one row then syncs the disk twice (the
+        // commit and the folder), not six times (the log created, the commit, the
+        // checkpoint, the log removed); durability is the same (docs/register.md,
+        // "Speed").
+        conn.set_db_config(DbConfig::SQLITE_DBCONFIG_NO_CKPT_ON_CLOSE, true)
+            .map_err(|e| db_error(&name, e))?;
         let mut store = SqliteStore {
             conn,
             path: path.to_path_buf(),
@@ -271,6 +290,7 @@ impl SqliteStore {
     /// migrated it meanwhile).
     fn migrate(&mut self) -> Result<(), Error> {
         let name = self.name.clone();
+        let mut migrated = false;
         for (i, script) in MIGRATIONS.iter().enumerate() {
             let target = i as i64 + 1;
             let tx = self
@@ -288,6 +308,14 @@ impl SqliteStore {
             tx.pragma_update(None, "user_version", target)
                 .map_err(|e| db_error(&name, e))?;
             tx.commit().map_err(|e| db_error(&name, e))?;
+            migrated = true;
+        }
+        if migrated {
+            // The schema version into the main file's header at once, where
+            // `inspect_header` reads it before SQLite opens a register.
+            self.conn
+                .execute_batch("PRAGMA wal_checkpoint(TRUNCATE)")
+                .map_err(|e| db_error(&name, e))?;
         }
         Ok(())
     }
@@ -664,6 +692,14 @@ impl Store for SqliteStore {
             find_participant(&self.conn, &self.name, code)?;
         }
         select_rows(&self.conn, code, which).map_err(|e| db_error(&self.name, e))
+    }
+
+    fn rows_each_participant(
+        &self,
+        which: Which,
+        each: &mut dyn FnMut(Vec<Row>) -> Result<(), Error>,
+    ) -> Result<(), Error> {
+        select_rows_each(&self.conn, &self.name, which, each)
     }
 
     fn audit(&self, code: Option<&str>) -> Result<Vec<Change>, Error> {

@@ -9,7 +9,7 @@
 use crate::activity::Intensity;
 use crate::activity::targets::{RelativeTargets, relative_targets};
 use crate::plan::{EnergyBasis, Plan, weekday_name};
-use crate::simulate::{MassSource, Phase, ScenarioRun};
+use crate::simulate::{MassSource, Phase, ScenarioRun, WeekRecord};
 use chrono::{Datelike, NaiveDate};
 use serde::Serialize;
 
@@ -93,80 +93,11 @@ pub struct SessionPlan {
 /// The planned sessions of `run` (one scenario of a simulated `plan`).
 pub fn session_plan(plan: &Plan, run: &ScenarioRun) -> SessionPlan {
     let p = &plan.protocol;
-    let age = plan.participant.subject.age_years;
-    let fitness = plan.participant.fitness.as_ref();
     let weeks = run
         .weeks
         .iter()
         .filter(|w| w.phase == Phase::Protocol)
-        .map(|w| {
-            let mut sessions: Vec<PlannedSession> = Vec::with_capacity(w.sessions.len());
-            for s in &w.sessions {
-                let index_on_date = sessions.iter().filter(|o| o.date == s.date).count() as u32 + 1;
-                let activity = plan.activity_at(s.activity_index);
-                sessions.push(PlannedSession {
-                    date: s.date,
-                    weekday: weekday_name(s.date.weekday()),
-                    index_on_date,
-                    bout: s.bout,
-                    activity: activity.label.clone(),
-                    intensity: activity.intensity.clone(),
-                    intensity_text: activity.intensity.describe(),
-                    met: s.met,
-                    warm_up: p.warm_up.map(|e| (e.minutes, e.met)),
-                    cool_down: p.cool_down.map(|e| (e.minutes, e.met)),
-                    minutes: s.minutes,
-                    session_minutes: s.session_minutes,
-                    energy_kcal: match p.dose.basis {
-                        EnergyBasis::Gross => s.gross_kcal,
-                        EnergyBasis::Net => s.net_kcal,
-                    },
-                    gross_kcal: s.gross_kcal,
-                    net_kcal: s.net_kcal,
-                    targets: relative_targets(s.met, w.reference_mass_kg, age, fitness),
-                });
-            }
-            PlannedWeek {
-                week: w.week,
-                start: w.start,
-                end: w.start + chrono::Days::new(6),
-                reference_mass_kg: w.reference_mass_kg,
-                mass_source: w.mass_source,
-                sessions,
-                closed: w.closed.clone(),
-                make_up: w.make_up.as_ref().map(|m| {
-                    let n = m.sessions_lost;
-                    let lost = format!("{:.0} {}", m.lost, m.unit);
-                    match m.rule {
-                        crate::plan::MakeUp::None => format!(
-                            "{n} session(s) closed; {lost} not made up (make_up = \"none\")"
-                        ),
-                        crate::plan::MakeUp::Spread => format!(
-                            "{n} session(s) closed; {:.0} of {lost} spread over the week's other sessions (make_up = \"spread\", within the maximum)",
-                            m.made_up
-                        ),
-                    }
-                }),
-                over_max: w.over_max.as_ref().map(|o| {
-                    let mut t = format!(
-                        "sessions of {} min are over the maximum; policy \"{}\"",
-                        o.minutes_before,
-                        o.policy.name()
-                    );
-                    if o.added_sessions > 0 {
-                        t.push_str(&format!(", {} session(s) added", o.added_sessions));
-                    }
-                    if o.shortfall_kcal > 0.0 {
-                        t.push_str(&format!(", {:.0} kcal short", o.shortfall_kcal));
-                    }
-                    if o.still_over {
-                        t.push_str(", still over");
-                    }
-                    t
-                }),
-                step_down: w.step_down.map(|n| n.to_string()),
-            }
-        })
+        .map(|w| planned_week(plan, w))
         .collect();
     SessionPlan {
         participant_id: plan.participant.id.clone(),
@@ -174,6 +105,81 @@ pub fn session_plan(plan: &Plan, run: &ScenarioRun) -> SessionPlan {
         scenario: run.name.clone(),
         basis: p.dose.basis,
         weeks,
+    }
+}
+
+/// The planned sessions of one simulated protocol week `w` of `plan`: what
+/// [`session_plan`] gives for each protocol week, and the day view for the week
+/// holding its date.
+pub fn planned_week(plan: &Plan, w: &WeekRecord) -> PlannedWeek {
+    let p = &plan.protocol;
+    let age = plan.participant.subject.age_years;
+    let fitness = plan.participant.fitness.as_ref();
+    let mut sessions: Vec<PlannedSession> = Vec::with_capacity(w.sessions.len());
+    for s in &w.sessions {
+        let index_on_date = sessions.iter().filter(|o| o.date == s.date).count() as u32 + 1;
+        let activity = plan.activity_at(s.activity_index);
+        sessions.push(PlannedSession {
+            date: s.date,
+            weekday: weekday_name(s.date.weekday()),
+            index_on_date,
+            bout: s.bout,
+            activity: activity.label.clone(),
+            intensity: activity.intensity.clone(),
+            intensity_text: activity.intensity.describe(),
+            met: s.met,
+            warm_up: p.warm_up.map(|e| (e.minutes, e.met)),
+            cool_down: p.cool_down.map(|e| (e.minutes, e.met)),
+            minutes: s.minutes,
+            session_minutes: s.session_minutes,
+            energy_kcal: match p.dose.basis {
+                EnergyBasis::Gross => s.gross_kcal,
+                EnergyBasis::Net => s.net_kcal,
+            },
+            gross_kcal: s.gross_kcal,
+            net_kcal: s.net_kcal,
+            targets: relative_targets(s.met, w.reference_mass_kg, age, fitness),
+        });
+    }
+    PlannedWeek {
+        week: w.week,
+        start: w.start,
+        end: w.start + chrono::Days::new(6),
+        reference_mass_kg: w.reference_mass_kg,
+        mass_source: w.mass_source,
+        sessions,
+        closed: w.closed.clone(),
+        make_up: w.make_up.as_ref().map(|m| {
+            let n = m.sessions_lost;
+            let lost = format!("{:.0} {}", m.lost, m.unit);
+            match m.rule {
+                crate::plan::MakeUp::None => format!(
+                    "{n} session(s) closed; {lost} not made up (make_up = \"none\")"
+                ),
+                crate::plan::MakeUp::Spread => format!(
+                    "{n} session(s) closed; {:.0} of {lost} spread over the week's other sessions (make_up = \"spread\", within the maximum)",
+                    m.made_up
+                ),
+            }
+        }),
+        over_max: w.over_max.as_ref().map(|o| {
+            let mut t = format!(
+                "sessions of {} min are over the maximum; policy \"{}\"",
+                o.minutes_before,
+                o.policy.name()
+            );
+            if o.added_sessions > 0 {
+                t.push_str(&format!(", {} session(s) added", o.added_sessions));
+            }
+            if o.shortfall_kcal > 0.0 {
+                t.push_str(&format!(", {:.0} kcal short", o.shortfall_kcal));
+            }
+            if o.still_over {
+                t.push_str(", still over");
+            }
+            t
+        }),
+        step_down: w.step_down.map(|n| n.to_string()),
     }
 }
 

@@ -29,7 +29,7 @@ pub(super) async fn day(
                     button type="submit" style="margin-top:0" { "Show" }
                     a href={ "/day?date=" (next) } { (next) " →" }
                 }
-                p.muted { (v.lines.len()) " of " (v.enrolled) " enrolled participants are due a session or have a row on this date. Minutes and heart-rate ranges are re-planned from each participant's recorded weigh-ins and sessions." }
+                p.muted { (v.lines.len()) " of " (v.enrolled) " enrolled participants are due a session or have a row on this date. Minutes and heart-rate ranges are re-planned from each participant's recorded weigh-ins and sessions; each participant's warnings are on their page." }
                 @if v.lines.is_empty() {
                     p.ok { "No one is due a session on this date." }
                 } @else {
@@ -54,7 +54,7 @@ pub(super) async fn day(
                                         @if l.recorded.is_empty() { span.tag { "nothing yet" } }
                                         @for r in &l.recorded { div { span.tag.done { (r.measure.kind()) } " " (describe(&r.measure)) @if !r.measure.note().is_empty() { " · " span.muted { (r.measure.note()) } } } }
                                     }
-                                    td.screen { (l.screening) @if l.warnings > 0 { br; span.muted { (l.warnings) " warning(s) on the participant page" } } }
+                                    td.screen { (l.screening) @if l.clearance_missing { br; strong { "Medical clearance is needed and not on file." } } }
                                 }
                             }
                         }
