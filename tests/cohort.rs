@@ -487,7 +487,7 @@ fn one_participant_equals_the_single_plan_on_the_command_line() {
 }
 
 // ---------------------------------------------------------------------------
-// docs/model.md section 6: RK4 with one-day steps against Dopri5 over 10 years
+// docs/model.md section 6: RK4 with steps set by the intake lag against Dopri5 over 10 years
 // ---------------------------------------------------------------------------
 
 /// An invented participant with a 10-year (520-week) horizon, a dose that follows

@@ -51,7 +51,7 @@ pub enum MultiplicityArg {
 /// The integrator of `cohort` (docs/model.md section 6).
 #[derive(Debug, Clone, Copy, PartialEq, Eq, ValueEnum)]
 pub enum IntegratorArg {
-    /// Classic Runge-Kutta 4 with one-day steps (fast; within 1e-4 kg of dopri5 over 10 years).
+    /// Classic Runge-Kutta 4, 1 to 7 steps a week set by the intake lag (fast; within 1e-4 kg of dopri5 over 10 years).
     Rk4,
     /// Dormand-Prince 5(4) with tight tolerances (what `schedule` uses).
     Dopri5,

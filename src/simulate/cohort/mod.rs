@@ -351,9 +351,10 @@ pub fn estimate(
     }
 }
 
-/// Processor time per run and week with RK4 in the lane loop, microseconds: about
-/// 0.12 measured on this project's machine (docs/speed.md), doubled for slower
-/// processors and the general driver's plans.
+/// Processor time per run and week with RK4, microseconds: about 0.05 measured in
+/// the lane loop on this project's machine (docs/speed.md), kept at 0.25 so the
+/// up-front refusal also holds for slower processors without AVX2 and for the
+/// general driver's plans (a shard split that is too fine costs little).
 const RK4_US_PER_RUN_WEEK: f64 = 0.25;
 /// Processor time per run and week with Dormand-Prince (the general driver),
 /// microseconds (measured on this project's machine, docs/speed.md, rounded up).
