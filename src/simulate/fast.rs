@@ -318,8 +318,8 @@ pub fn fast_runs(
     ok.iter().all(|o| *o).then_some(outs)
 }
 
-/// Run `runs` side by side, [`W_BASE`] or [`W_AVX2`] lanes at a time (consecutive runs that fit
-/// together, [`LaneRun::fits_with`]), each exactly as it runs alone: `outs[i]` gets
+/// Run `runs` side by side, 4 lanes at a time, or 12 with AVX2 (consecutive runs that fit
+/// together: the same weeks, step and switches of the model), each exactly as it runs alone: `outs[i]` gets
 /// run `i`'s record and `ok[i]` whether it stayed in the model's range (else its
 /// record is incomplete and the caller runs `run`, which reports where). The lanes'
 /// RK4 stages are interleaved: one lane's stages depend on each other, so a single
