@@ -80,6 +80,67 @@ fn precision_defaults_are_the_cited_figures() {
     }
 }
 
+/// The two defaults that could be checked against figures read in published
+/// abstracts, by an independent calculation from the printed summary statistics.
+/// Each default must not be narrower than the read figure by more than half a
+/// percentage point (an optimistic precision would make every interval too narrow)
+/// nor wider by more than one.
+#[test]
+fn precision_defaults_agree_with_figures_read_in_published_abstracts() {
+    let agrees = |default: f64, read: f64| {
+        assert!(
+            default >= read - 0.005 && default <= read + 0.01,
+            "default {default} against the published {read}"
+        )
+    };
+
+    // RMR by ventilated hood on two mornings in 37 adults: 1508.0 +/- 31.5 and
+    // 1511.4 +/- 35.9 kcal/day (mean +/- SE), correlation 0.93 (Haugen HA, Melanson
+    // EL, Tran ZV, Kearney JT, Hill JO 2003, "Variability of measured resting
+    // metabolic rate", Am J Clin Nutr 78(6); abstract read, pages from memory). The
+    // SDs are SE x sqrt(n); the difference of two days has variance s1^2 + s2^2 -
+    // 2 r s1 s2, and one day's error is that over 2.
+    let n = 37.0f64;
+    let (s1, s2) = (31.5 * n.sqrt(), 35.9 * n.sqrt());
+    let var_diff = s1 * s1 + s2 * s2 - 2.0 * 0.93 * s1 * s2;
+    let rmr_cv = (var_diff / 2.0).sqrt() / ((1508.0 + 1511.4) / 2.0);
+    close(rmr_cv, 0.038, 0.0005);
+    agrees(precision::RMR_INDIRECT_CALORIMETRY.cv, rmr_cv);
+    assert!(
+        precision::RMR_INDIRECT_CALORIMETRY
+            .source
+            .contains("Haugen HA")
+    );
+
+    // TEE by doubly labelled water in 217 weight-stable adults over two consecutive
+    // 14-day periods: 2422 +/- 404 and 2465 +/- 408 kcal/day (mean +/- SD), mean
+    // 2443, intraclass correlation 0.90 (Redman LM, Kraus WE, Bhapkar M, et al.,
+    // "Energy requirements in nonobese men and women: results from CALERIE", Am J
+    // Clin Nutr; abstract read, 2014;99(1):71-78 from memory). The within-person
+    // variance is (1 - ICC) of the pooled variance; it also holds true change
+    // between the periods, so the method's own error is at most this.
+    let pooled = (404.0f64.powi(2) + 408.0f64.powi(2)) / 2.0;
+    let tee_cv = ((1.0 - 0.90) * pooled).sqrt() / 2443.0;
+    close(tee_cv, 0.0526, 0.0005);
+    agrees(precision::TEE_DOUBLY_LABELLED_WATER.cv, tee_cv);
+    // Against a measured diet plus the change in body composition, four adults over
+    // 13 days: mean difference 2 %, CV 6 % (Schoeller DA, van Santen E 1982,
+    // "Measurement of energy expenditure in humans by doubly labeled water method";
+    // abstract read, J Appl Physiol 53(4):955-959 and the authors from memory). That
+    // CV holds the diet's and the composition's errors too: the default is at it.
+    agrees(precision::TEE_DOUBLY_LABELLED_WATER.cv, 0.06);
+    assert!(
+        precision::TEE_DOUBLY_LABELLED_WATER
+            .source
+            .contains("van Santen E 1982")
+    );
+    assert!(
+        precision::TEE_DOUBLY_LABELLED_WATER
+            .source
+            .contains("Redman LM")
+    );
+}
+
 // ---------------------------------------------------------------------------
 // The intake-balance method with its published densities, and a plan's [model].
 // ---------------------------------------------------------------------------
