@@ -177,6 +177,9 @@ pub struct LogAddArgs {
         value_parser = values::number
     )]
     pub body_fat: Option<f64>,
+    /// With --body-fat: how it was measured (DXA, bioimpedance, ...).
+    #[arg(long = "body-fat-method", value_name = "TEXT", requires = "body_fat")]
+    pub body_fat_method: Option<String>,
     /// A delivered session: its minutes (0 for a missed session).
     #[arg(
         long,
@@ -220,6 +223,24 @@ pub struct LogAddArgs {
         value_parser = values::number
     )]
     pub rpe: Option<f64>,
+    /// With --session: the ergometer power actually used, W.
+    #[arg(
+        long,
+        value_name = "W",
+        requires = "session",
+        allow_negative_numbers = true,
+        value_parser = values::number
+    )]
+    pub watts: Option<f64>,
+    /// With --session: the speed actually used (treadmill, track), km/h.
+    #[arg(
+        long,
+        value_name = "KMH",
+        requires = "session",
+        allow_negative_numbers = true,
+        value_parser = values::number
+    )]
+    pub speed: Option<f64>,
     /// A note (one line).
     #[arg(long, value_name = "TEXT")]
     pub note: Option<String>,

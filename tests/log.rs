@@ -648,6 +648,7 @@ fn weigh_in(d: &str, mass_kg: f64) -> NewRow {
             body_fat_percent: None,
         },
         note: None,
+        recorded: Default::default(),
     }
 }
 
@@ -662,6 +663,7 @@ fn session(d: &str, minutes: f64) -> NewRow {
             rpe: None,
         },
         note: None,
+        recorded: Default::default(),
     }
 }
 
@@ -706,6 +708,7 @@ fn append_keeps_earlier_bytes_identical_and_uses_the_files_line_ending() {
             rpe: Some(13.0),
         },
         note: Some("bike, \"easy\" day".to_string()),
+        recorded: Default::default(),
     };
     let (message, warnings) = append_row(&path, &plan(), &row).unwrap();
     assert!(warnings.is_empty());

@@ -21,6 +21,15 @@ pub const RUNNING_VALID_ABOVE_M_PER_MIN: f64 = 134.0;
 /// Valid work-rate range of the leg-cycling equation, kg*m/min (ACSM teaching slides).
 pub const CYCLING_VALID_KGM_PER_MIN: (f64, f64) = (300.0, 1200.0);
 
+/// The speeds a plan's `walking` may prescribe, km/h (the input range, wider than
+/// the equation's valid range: outside that range a plan gets a warning; common
+/// practice, no source).
+pub const WALKING_KMH: (f64, f64) = (1.0, 12.0);
+/// The speeds a plan's `running` may prescribe, km/h (as [`WALKING_KMH`]).
+pub const RUNNING_KMH: (f64, f64) = (4.0, 30.0);
+/// The power a plan's `cycling_watts` may prescribe, W (as [`WALKING_KMH`]).
+pub const CYCLING_WATTS: (f64, f64) = (10.0, 600.0);
+
 /// Speed in m/min from km/h.
 pub fn m_per_min(speed_kmh: f64) -> f64 {
     speed_kmh * 1000.0 / 60.0

@@ -215,6 +215,15 @@ pub struct CorrectArgs {
     /// A session's Borg RPE, 6-20.
     #[arg(long, value_name = "RPE", allow_negative_numbers = true)]
     pub rpe: Option<f64>,
+    /// A session's ergometer power actually used, W.
+    #[arg(long, value_name = "W", allow_negative_numbers = true)]
+    pub watts: Option<f64>,
+    /// A session's speed actually used, km/h.
+    #[arg(long, value_name = "KMH", allow_negative_numbers = true)]
+    pub speed: Option<f64>,
+    /// A weigh-in's body-fat method (DXA, bioimpedance, ...).
+    #[arg(long = "body-fat-method", value_name = "TEXT")]
+    pub body_fat_method: Option<String>,
     /// A new note (one line).
     #[arg(long, value_name = "TEXT")]
     pub note: Option<String>,

@@ -79,6 +79,7 @@ pub fn run(args: &LogAddArgs) -> Result<Printed, Error> {
         date,
         entry,
         note: args.note.clone(),
+        recorded: super::recorded_of(args),
     };
     let (mut said, warnings) = append_row_checked(
         log,

@@ -302,3 +302,13 @@ pub(crate) fn to_kg(mass: f64, units: UnitsArg) -> Result<f64, Error> {
     }
     Ok(mass * crate::report::units::KG_PER_LB)
 }
+
+/// The values of `log add`'s options for the log's optional named columns (the
+/// same for a CSV log and a register).
+pub(crate) fn recorded_of(args: &crate::cli::LogAddArgs) -> crate::log::recorded::Recorded {
+    crate::log::recorded::Recorded {
+        body_fat_method: args.body_fat_method.clone(),
+        watts: args.watts,
+        speed_kmh: args.speed,
+    }
+}

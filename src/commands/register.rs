@@ -200,12 +200,13 @@ fn enrol(
 /// The measure `log add` describes, on `date`.
 fn measure_of(args: &LogAddArgs, date: chrono::NaiveDate) -> Result<Measure, Error> {
     let note = args.note.clone().unwrap_or_default();
+    let recorded = super::recorded_of(args);
     Ok(match (args.weigh_in, args.session) {
         (Some(mass), _) => Measure::WeighIn(WeighIn {
             date,
             mass_kg: super::to_kg(mass, args.units)?,
             body_fat_percent: args.body_fat,
-            body_fat_method: None,
+            body_fat_method: recorded.body_fat_method,
             note,
         }),
         (None, Some(minutes)) => Measure::Session(Session {
@@ -213,8 +214,8 @@ fn measure_of(args: &LogAddArgs, date: chrono::NaiveDate) -> Result<Measure, Err
             minutes,
             compendium_code: args.code.clone(),
             met: args.met,
-            watts: None,
-            speed_kmh: None,
+            watts: recorded.watts,
+            speed_kmh: recorded.speed_kmh,
             avg_hr_bpm: args.hr,
             rpe: args.rpe,
             note,
@@ -329,6 +330,8 @@ fn correct(c: &CorrectArgs) -> Result<Printed, Error> {
                 ("--session", c.session.is_some()),
                 ("--hr", c.hr.is_some()),
                 ("--rpe", c.rpe.is_some()),
+                ("--watts", c.watts.is_some()),
+                ("--speed", c.speed.is_some()),
             ] {
                 if given {
                     return wrong(flag, "weigh-in");
@@ -338,11 +341,13 @@ fn correct(c: &CorrectArgs) -> Result<Printed, Error> {
                 w.mass_kg = super::to_kg(mass, c.units)?;
             }
             w.body_fat_percent = c.body_fat.or(w.body_fat_percent);
+            w.body_fat_method = c.body_fat_method.clone().or(w.body_fat_method.take());
         }
         Measure::Session(s) => {
             for (flag, given) in [
                 ("--weigh-in", c.weigh_in.is_some()),
                 ("--body-fat", c.body_fat.is_some()),
+                ("--body-fat-method", c.body_fat_method.is_some()),
             ] {
                 if given {
                     return wrong(flag, "session");
@@ -351,6 +356,8 @@ fn correct(c: &CorrectArgs) -> Result<Printed, Error> {
             s.minutes = c.session.unwrap_or(s.minutes);
             s.avg_hr_bpm = c.hr.or(s.avg_hr_bpm);
             s.rpe = c.rpe.or(s.rpe);
+            s.watts = c.watts.or(s.watts);
+            s.speed_kmh = c.speed.or(s.speed_kmh);
         }
     }
     set_date_and_note(&mut m, c.date, c.note.as_deref());

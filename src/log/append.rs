@@ -1,11 +1,15 @@
 //! Adding one row to a log: the new row is written as CSV in its place by date (after
 //! the file's own bytes when it is the latest), the whole new text is validated as a
 //! log, and only then is it written, to a temporary file that is renamed over the log.
-//! Every other byte is kept as it was.
+//! Every other byte is kept as it was, except that a value for an optional named
+//! column the log lacks ([`super::recorded::RECORDED_COLUMNS`]) adds that column to
+//! the header and an empty cell for it to every other row; the other rows are then
+//! checked to read back unchanged.
 
 use super::parse::{
     self, BODY_FAT, CODE, DATE, HEART_RATE, KIND, MASS, MET, MINUTES, NOTE, Parsed, RPE,
 };
+use super::recorded::RECORDED_COLUMNS;
 use super::{COLUMNS, Entry, LogRow, NewEntry, NewRow};
 use crate::error::Error;
 use crate::plan::Plan;
@@ -34,8 +38,9 @@ pub(super) fn append(
     // An empty file (or one holding only a byte-order mark or blank lines) gets the
     // header, like a new one.
     let needs_header = body.trim().is_empty();
-    let (old_rows, columns, place) = if needs_header {
-        (0, COLUMNS.len(), None)
+    let unterminated = !body.is_empty() && !body.ends_with(['\n', '\r']);
+    let (old_rows, header, place) = if needs_header {
+        (Vec::new(), COLUMNS.map(str::to_string).to_vec(), None)
     } else {
         let parsed = parse::parse(&name, &old, plan, None)?;
         // The new row goes before the first row of a later date (after the rows of
@@ -46,10 +51,24 @@ pub(super) fn append(
             .iter()
             .find(|r| r.date > row.date)
             .map(|r| r.line);
-        (parsed.log.rows.len(), parsed.columns, place)
+        (parsed.log.rows, parsed.header, place)
     };
+    // A value for an optional named column the log lacks adds the column.
+    let missing: Vec<&str> = RECORDED_COLUMNS
+        .into_iter()
+        .filter(|c| row.recorded.has(c) && !header.iter().any(|h| h == c))
+        .collect();
+    let old = if needs_header || missing.is_empty() {
+        old
+    } else {
+        widen(&old, &missing)
+    };
+    let header: Vec<String> = header
+        .into_iter()
+        .chain(missing.iter().map(|c| c.to_string()))
+        .collect();
     let eol = line_ending(&old);
-    let rendered = render(row, columns)?;
+    let rendered = render(row, &header)?;
     let text = match place {
         Some(line) => {
             let at = line_start(&old, line);
@@ -57,11 +76,11 @@ pub(super) fn append(
         }
         None => {
             let mut text = old.clone();
-            if !body.is_empty() && !body.ends_with(['\n', '\r']) {
+            if unterminated {
                 text.push_str(eol);
             }
             if needs_header {
-                text.push_str(&COLUMNS.join(","));
+                text.push_str(&header.join(","));
                 text.push_str(eol);
             }
             text.push_str(&rendered);
@@ -75,9 +94,11 @@ pub(super) fn append(
         Some(line) => log.rows.iter().position(|r| r.line == line),
         None => log.rows.len().checked_sub(1),
     };
-    let Some(index) =
-        found.filter(|&i| log.rows.len() == old_rows + 1 && log.rows[i].date == row.date)
-    else {
+    let Some(index) = found.filter(|&i| {
+        log.rows.len() == old_rows.len() + 1
+            && log.rows[i].date == row.date
+            && unchanged(&old_rows, &log.rows, i)
+    }) else {
         return Err(Error::Usage(format!(
             "{name}: the new row did not read back in its place by date; the file is unchanged"
         )));
@@ -99,6 +120,15 @@ pub(super) fn append(
             added.line
         ),
         (true, false) => format!("{name}: added line {}: {what}", added.line),
+    };
+    let confirmation = if missing.is_empty() || needs_header {
+        confirmation
+    } else {
+        format!(
+            "{name}: added the column(s) {} to the header, empty on the other rows; {}",
+            missing.join(", "),
+            confirmation.trim_start_matches(&format!("{name}: "))
+        )
     };
     let line = added.line;
     let warnings = warnings
@@ -192,11 +222,12 @@ fn line_ending(text: &str) -> &'static str {
     }
 }
 
-/// The row as one CSV line of `columns` cells (no line ending).
-fn render(row: &NewRow, columns: usize) -> Result<String, Error> {
+/// The row as one CSV line with a cell for each of `header`'s columns (no line
+/// ending).
+fn render(row: &NewRow, header: &[String]) -> Result<String, Error> {
     let number = |x: f64| format!("{x}");
     let optional = |x: Option<f64>| x.map(number).unwrap_or_default();
-    let mut cells = vec![String::new(); columns.max(COLUMNS.len())];
+    let mut cells = vec![String::new(); header.len().max(COLUMNS.len())];
     cells[DATE] = row.date.format("%Y-%m-%d").to_string();
     match &row.entry {
         NewEntry::WeighIn {
@@ -223,7 +254,56 @@ fn render(row: &NewRow, columns: usize) -> Result<String, Error> {
         }
     }
     cells[NOTE] = one_line("note", row.note.as_deref())?;
+    for (i, column) in header.iter().enumerate().skip(COLUMNS.len()) {
+        if RECORDED_COLUMNS.contains(&column.as_str()) {
+            cells[i] = row.recorded.cell(column);
+        }
+    }
     Ok(cells.iter().map(|c| quote(c)).collect::<Vec<_>>().join(","))
+}
+
+/// `text` with the `missing` columns added at the end of its header line, and an
+/// empty cell for each at the end of every later line that holds anything (blank
+/// lines stay blank). Line endings and every other byte are kept.
+fn widen(text: &str, missing: &[&str]) -> String {
+    let mut out = String::with_capacity(text.len() + 64);
+    let mut header_seen = false;
+    let mut rest = text;
+    while !rest.is_empty() {
+        let end = rest.find(['\n', '\r']).unwrap_or(rest.len());
+        let (line, tail) = rest.split_at(end);
+        let eol = if tail.starts_with("\r\n") {
+            2
+        } else {
+            usize::from(!tail.is_empty())
+        };
+        out.push_str(line);
+        if !line.trim_start_matches('\u{feff}').trim().is_empty() {
+            for column in missing {
+                out.push(',');
+                if !header_seen {
+                    out.push_str(column);
+                }
+            }
+            header_seen = true;
+        }
+        out.push_str(&tail[..eol]);
+        rest = &tail[eol..];
+    }
+    out
+}
+
+/// Whether `new` (with the added row at `added`) holds every row of `old` as it
+/// was, in order.
+fn unchanged(old: &[LogRow], new: &[LogRow], added: usize) -> bool {
+    let others = new
+        .iter()
+        .enumerate()
+        .filter(|(i, _)| *i != added)
+        .map(|(_, r)| r);
+    old.iter().zip(others).all(|(a, b)| {
+        a.date == b.date && a.entry == b.entry && a.note == b.note && a.recorded == b.recorded
+    })
 }
 
 /// Text for a cell, which must fit on one line.
@@ -287,6 +367,15 @@ fn describe(row: &LogRow, plan: &Plan) -> String {
             t
         }
     };
+    if let Some(m) = &row.recorded.body_fat_method {
+        text.push_str(&format!(" by {m}"));
+    }
+    if let Some(w) = row.recorded.watts {
+        text.push_str(&format!(", {} W used", num(w)));
+    }
+    if let Some(v) = row.recorded.speed_kmh {
+        text.push_str(&format!(", {} km/h used", num(v)));
+    }
     if !row.note.is_empty() {
         text.push_str(&format!(" (note: {})", row.note));
     }

@@ -2,7 +2,8 @@
 //! participant log"), read into a validated [`Log`] and appended to one row at a time.
 //!
 //! One header row `date,kind,mass_kg,body_fat_percent,minutes,compendium_code,met,
-//! avg_hr_bpm,rpe,note` (more columns may follow), then one row per weigh-in or
+//! avg_hr_bpm,rpe,note` (more columns may follow: the optional named columns of
+//! [`recorded`] are read, others ignored), then one row per weigh-in or
 //! session in date order, dated from the protocol start through
 //! [`Protocol::end_date`](crate::plan::Protocol::end_date) inclusive. A weigh-in
 //! dated D is the state at 00:00 of day D (docs/model.md section 7).
@@ -19,8 +20,10 @@
 //! Exerc 43:1575 (activity codes).
 
 mod append;
+mod cells;
 mod parse;
 pub mod plausible;
+pub mod recorded;
 
 use crate::activity::Intensity;
 use crate::error::Error;
@@ -83,6 +86,9 @@ pub struct LogRow {
     pub entry: Entry,
     /// The note cell, trimmed (empty when there is none).
     pub note: String,
+    /// The optional named columns' values ([`recorded::RECORDED_COLUMNS`]).
+    #[serde(skip_serializing_if = "recorded::Recorded::is_empty")]
+    pub recorded: recorded::Recorded,
 }
 
 /// A validated log.
@@ -124,6 +130,9 @@ pub struct NewRow {
     pub entry: NewEntry,
     /// A note (one line), if any.
     pub note: Option<String>,
+    /// Values for the optional named columns; a log without such a column gains it
+    /// (and its empty cells) when a value is given.
+    pub recorded: recorded::Recorded,
 }
 
 /// What a new row records; checked by the same rules as a row read from a file.

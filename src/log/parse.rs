@@ -2,6 +2,8 @@
 //! numbers and ranges, the order of the rows; every error names the file, the line,
 //! the cell (1-based) and its column, the value and what is allowed.
 
+use super::cells::parse_number;
+use super::recorded::{RECORDED_COLUMNS, Recorded};
 use super::{COLUMNS, Entry, Log, LogRow};
 use crate::activity::{Intensity, compendium};
 use crate::error::{Error, InputError, Location};
@@ -112,8 +114,8 @@ pub(super) struct Parsed {
     pub log: Log,
     /// Its warnings, in line order.
     pub warnings: Vec<LineWarning>,
-    /// Cells in the header (at least [`COLUMNS`]' length).
-    pub columns: usize,
+    /// The header's cells, trimmed (at least [`COLUMNS`]).
+    pub header: Vec<String>,
 }
 
 /// The header as it must be, for messages.
@@ -177,7 +179,7 @@ pub(super) fn parse(
     }
     let warnings = jumps(file, &cx.rows);
     Ok(Parsed {
-        columns: cx.header.len(),
+        header: cx.header,
         log: Log {
             path: file.to_string(),
             rows: cx.rows,
@@ -317,6 +319,20 @@ impl Cx<'_> {
                 }
             }
         }
+        if let Some(i) = (COLUMNS.len()..cells.len()).find(|&i| {
+            RECORDED_COLUMNS.contains(&cells[i].as_str()) && cells[..i].contains(&cells[i])
+        }) {
+            return Err(self.error(
+                line,
+                Some(i),
+                None,
+                format!(
+                    "header column {} repeats \"{}\"; give it once",
+                    i + 1,
+                    cells[i]
+                ),
+            ));
+        }
         Ok(cells)
     }
 
@@ -329,12 +345,25 @@ impl Cx<'_> {
             Kind::WeighIn => self.weigh_in(line, cells)?,
             Kind::Session => self.session(line, cells, date)?,
         };
+        let recorded = self.recorded(line, cells, &entry)?;
         Ok(LogRow {
             line,
             date,
             entry,
             note: cells[NOTE].trim().to_string(),
+            recorded,
         })
+    }
+
+    /// The row's values in the optional named columns, by their one rule.
+    fn recorded(&self, line: usize, cells: &[&str], entry: &Entry) -> Result<Recorded, Error> {
+        let (weigh_in, fat) = match entry {
+            Entry::WeighIn {
+                body_fat_percent, ..
+            } => (true, *body_fat_percent),
+            Entry::Session { .. } => (false, None),
+        };
+        Recorded::read(&self.header, cells, weigh_in, fat).map_err(|(i, m)| self.at(line, i, m))
     }
 
     fn check_field_count(&self, line: usize, cells: &[&str]) -> Result<(), Error> {
@@ -669,34 +698,6 @@ enum Kind {
 /// Whether a first cell looks like a data row's date rather than a column name.
 fn looks_like_data(cell: &str) -> bool {
     cell.chars().next().is_some_and(|c| c.is_ascii_digit())
-}
-
-/// A finite number, or what is wrong with the text.
-fn parse_number(s: &str) -> Result<f64, String> {
-    if let Ok(x) = s.parse::<f64>() {
-        return if x.is_finite() {
-            Ok(x)
-        } else {
-            Err(format!("value \"{s}\" is not a finite number"))
-        };
-    }
-    if s.contains(',') {
-        let dotted = s.replace(',', ".");
-        if dotted.parse::<f64>().is_ok_and(f64::is_finite) {
-            return Err(format!(
-                "value \"{s}\" uses a comma as the decimal separator; write {dotted}"
-            ));
-        }
-    }
-    let head = s
-        .trim_end_matches(|c: char| c.is_alphabetic() || c == ' ' || c == '%' || c == '/')
-        .trim_end();
-    if !head.is_empty() && head != s && head.parse::<f64>().is_ok_and(f64::is_finite) {
-        return Err(format!(
-            "value \"{s}\" is not a number; write the number alone ({head}), the unit is in the column name"
-        ));
-    }
-    Err(format!("value \"{s}\" is not a number"))
 }
 
 /// An ISO date (YYYY-MM-DD), or what is wrong with the text and how to write it;

@@ -3,6 +3,7 @@
 use super::fields::{Cx, fmt_num};
 use super::raw::*;
 use super::*;
+use crate::activity::acsm::{CYCLING_WATTS, RUNNING_KMH, WALKING_KMH};
 use crate::activity::{Activity, Intensity, compendium};
 use crate::error::Error;
 use crate::model::{Compensation, Constants, RestForNet, RmrEquation};
@@ -96,7 +97,8 @@ impl Cx<'_> {
             let met = self.number_above(m, &format!("{tn}.met"), 1.0, 25.0, " MET")?;
             (Intensity::Met { met }, format!("activity at {met} MET"))
         } else if let Some(g) = &a.walking {
-            let (speed_kmh, grade_percent) = self.gait(g, &format!("{tn}.walking"), 1.0, 12.0)?;
+            let (speed_kmh, grade_percent) =
+                self.gait(g, &format!("{tn}.walking"), WALKING_KMH.0, WALKING_KMH.1)?;
             (
                 Intensity::Walking {
                     speed_kmh,
@@ -105,7 +107,8 @@ impl Cx<'_> {
                 format!("walking {speed_kmh} km/h, {grade_percent}% grade"),
             )
         } else if let Some(g) = &a.running {
-            let (speed_kmh, grade_percent) = self.gait(g, &format!("{tn}.running"), 4.0, 30.0)?;
+            let (speed_kmh, grade_percent) =
+                self.gait(g, &format!("{tn}.running"), RUNNING_KMH.0, RUNNING_KMH.1)?;
             (
                 Intensity::Running {
                     speed_kmh,
@@ -114,7 +117,13 @@ impl Cx<'_> {
                 format!("running {speed_kmh} km/h, {grade_percent}% grade"),
             )
         } else if let Some(w) = &a.cycling_watts {
-            let watts = self.number(w, &format!("{tn}.cycling_watts"), 10.0, 600.0, " W")?;
+            let watts = self.number(
+                w,
+                &format!("{tn}.cycling_watts"),
+                CYCLING_WATTS.0,
+                CYCLING_WATTS.1,
+                " W",
+            )?;
             (
                 Intensity::CyclingWatts { watts },
                 format!("cycle ergometer {watts} W"),

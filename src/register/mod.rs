@@ -190,8 +190,8 @@ impl Measure {
         serde_json::to_string(self).unwrap_or_default()
     }
 
-    /// The measure of a validated log row (the log has no body-fat method, watts
-    /// or speed).
+    /// The measure of a validated log row, with the values of its optional named
+    /// columns (body-fat method, watts, speed).
     pub fn from_log_row(row: &LogRow) -> Measure {
         match &row.entry {
             Entry::WeighIn {
@@ -201,7 +201,7 @@ impl Measure {
                 date: row.date,
                 mass_kg: *mass_kg,
                 body_fat_percent: *body_fat_percent,
-                body_fat_method: None,
+                body_fat_method: row.recorded.body_fat_method.clone(),
                 note: row.note.clone(),
             }),
             Entry::Session {
@@ -216,8 +216,8 @@ impl Measure {
                 minutes: *minutes,
                 compendium_code: compendium_code.clone(),
                 met: *met,
-                watts: None,
-                speed_kmh: None,
+                watts: row.recorded.watts,
+                speed_kmh: row.recorded.speed_kmh,
                 avg_hr_bpm: *avg_hr_bpm,
                 rpe: *rpe,
                 note: row.note.clone(),
@@ -553,36 +553,38 @@ pub fn log_csv(rows: &[Row]) -> Result<String, Error> {
     render(&items)
 }
 
-/// Check the values the log does not know: text on one line, a body-fat method
-/// only with a body-fat percent, watts and speed positive and finite.
+/// Check the values the log's ten columns do not hold: text on one line, and the
+/// body-fat method, watts and speed by their one rule
+/// ([`crate::log::recorded::Recorded::check`]).
 fn check_extras(m: &Measure) -> Result<(), Error> {
     one_line("note", m.note())?;
-    let positive = |key: &str, x: Option<f64>| match x {
-        Some(v) if !(v.is_finite() && v > 0.0) => Err(Error::Usage(format!(
-            "{key}: {v} is not allowed; give a number above 0, or leave it out"
-        ))),
-        _ => Ok(()),
-    };
-    match m {
-        Measure::WeighIn(w) => {
-            if let Some(method) = &w.body_fat_method {
-                one_line("body_fat_method", method)?;
-                if w.body_fat_percent.is_none() {
-                    return Err(Error::Usage(
-                        "body_fat_method is given without body_fat_percent; give the percent too, or leave the method out".to_string(),
-                    ));
-                }
-            }
-        }
+    let (recorded, weigh_in, fat) = match m {
+        Measure::WeighIn(w) => (
+            crate::log::recorded::Recorded {
+                body_fat_method: w.body_fat_method.clone(),
+                ..Default::default()
+            },
+            true,
+            w.body_fat_percent,
+        ),
         Measure::Session(s) => {
             if let Some(code) = &s.compendium_code {
                 one_line("compendium_code", code)?;
             }
-            positive("watts", s.watts)?;
-            positive("speed_kmh", s.speed_kmh)?;
+            (
+                crate::log::recorded::Recorded {
+                    watts: s.watts,
+                    speed_kmh: s.speed_kmh,
+                    ..Default::default()
+                },
+                false,
+                None,
+            )
         }
-    }
-    Ok(())
+    };
+    recorded
+        .check(weigh_in, fat)
+        .map_err(|(key, message)| Error::Usage(format!("{key}: {message}")))
 }
 
 /// Text that must fit on one line.
