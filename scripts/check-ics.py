@@ -10,10 +10,15 @@ Checks (RFC 5545): VERSION 2.0 and PRODID once each (3.6); every VEVENT has UID,
 DTSTAMP (in UTC, 3.8.7.2), DTSTART and DTEND (3.6.1) and reads without errors; UIDs
 are unique (3.8.4.7); one event per planned session, in date order; a timed event
 lasts the whole session, an all-day event one day (DTEND exclusive, 3.8.2.2).
+Events with STATUS:CANCELLED (3.8.1.11) are not planned sessions: the others are
+matched one for one with the schedule's sessions.
 With --previous OLD.ics (the calendar written before a re-plan, at the same --out):
-the same UIDs in both; an event whose content (SUMMARY, DESCRIPTION, DTSTART, DTEND,
-LOCATION) is unchanged keeps its SEQUENCE, a changed one has the old SEQUENCE plus
-one (3.8.7.4; no SEQUENCE reads as 0); DTSTAMP not earlier than before.
+every UID of OLD is in the new calendar; an event whose content (SUMMARY,
+DESCRIPTION, DTSTART, DTEND, LOCATION) is unchanged keeps its SEQUENCE, a changed
+one has the old SEQUENCE plus one (3.8.7.4; no SEQUENCE reads as 0); an event of
+OLD that the re-plan no longer has is cancelled (STATUS:CANCELLED) with its
+SEQUENCE one higher, or kept as it was if it was cancelled already; an event new to
+the re-plan has SEQUENCE 0; DTSTAMP not earlier than before.
 Prints "check-ics: ... ok" and exits 0, or lists the problems and exits 1.
 """
 
@@ -48,6 +53,10 @@ def sequence(ev):
     return int(ev.get("SEQUENCE", 0))
 
 
+def cancelled(ev):
+    return str(ev.get("STATUS", "")).upper() == "CANCELLED"
+
+
 def content(ev):
     return tuple(
         ev.decoded(k) if k in ("DTSTART", "DTEND") and k in ev else str(ev.get(k, ""))
@@ -56,19 +65,24 @@ def content(ev):
 
 
 def compare_previous(path, events, problems):
-    """The re-plan checks of --previous against the events of the new calendar."""
+    """The re-plan checks of --previous against every event of the new calendar.
+    Returns (changed, cancelled now, new)."""
     with open(path, "rb") as f:
         old = {str(e["UID"]): e for e in icalendar.Calendar.from_ical(f.read()).walk("VEVENT")}
     new = {str(e["UID"]): e for e in events}
-    if set(old) != set(new):
+    if not set(old) <= set(new):
         problems.append(
-            "UIDs differ from %s: %d only before, %d only after"
-            % (path, len(set(old) - set(new)), len(set(new) - set(old)))
+            "%d UID(s) of %s missing from the new calendar (neither kept nor cancelled)"
+            % (len(set(old) - set(new)), path)
         )
     changed = 0
+    cancelled_now = 0
     for uid in sorted(set(old) & set(new)):
         o, n = old[uid], new[uid]
-        if content(o) == content(n):
+        if cancelled(n) and not cancelled(o):
+            want = sequence(o) + 1
+            cancelled_now += 1
+        elif content(o) == content(n) and cancelled(o) == cancelled(n):
             want = sequence(o)
         else:
             want = sequence(o) + 1
@@ -80,7 +94,13 @@ def compare_previous(path, events, problems):
             )
         if "DTSTAMP" in o and "DTSTAMP" in n and n.decoded("DTSTAMP") < o.decoded("DTSTAMP"):
             problems.append("%s: DTSTAMP earlier than before" % uid)
-    return changed
+    added = sorted(set(new) - set(old))
+    for uid in added:
+        if cancelled(new[uid]):
+            problems.append("%s: cancelled, but %s did not have it" % (uid, path))
+        if sequence(new[uid]) != 0:
+            problems.append("%s: new, with SEQUENCE %d, want 0" % (uid, sequence(new[uid])))
+    return changed, cancelled_now, len(added)
 
 
 def main(argv):
@@ -107,10 +127,10 @@ def main(argv):
             problems.append("%s is not there exactly once" % key)
     if str(cal.get("VERSION")) != "2.0":
         problems.append("VERSION is %r, not 2.0" % cal.get("VERSION"))
-    events = cal.walk("VEVENT")
+    every = cal.walk("VEVENT")
     uids = set()
     stamps = set()
-    for i, ev in enumerate(events):
+    for i, ev in enumerate(every):
         uid = str(ev.get("UID", ""))
         label = uid or "event %d" % (i + 1)
         if getattr(ev, "errors", None):
@@ -128,6 +148,7 @@ def main(argv):
             stamps.add(stamp)
     if len(stamps) > 1:
         problems.append("more than one DTSTAMP: %s" % sorted(stamps))
+    events = [ev for ev in every if not cancelled(ev)]
 
     if len(events) != len(sessions):
         problems.append(
@@ -155,11 +176,13 @@ def main(argv):
 
     replan = ""
     if previous is not None:
-        changed = compare_previous(previous, events, problems)
+        changed, cancelled_now, added = compare_previous(previous, every, problems)
         replan = ", against %s: same UIDs, SEQUENCE raised on %d changed event(s) and kept on the others" % (
             previous,
             changed,
         )
+        if cancelled_now or added:
+            replan += ", %d cancelled, %d new" % (cancelled_now, added)
 
     if problems:
         print("check-ics: %s: %d problem(s)" % (argv[1], len(problems)))

@@ -34,8 +34,11 @@ pub struct CalendarRequest {
 pub struct CalendarFile {
     /// The iCalendar text (CRLF line ends).
     pub text: String,
-    /// Events in it.
+    /// Events in it for planned sessions.
     pub events: usize,
+    /// Events of the calendar written before that it cancels (sessions no longer
+    /// in the plan).
+    pub cancelled: usize,
     /// First and last session date.
     pub span: (NaiveDate, NaiveDate),
     /// The plan's and the log's warnings.
@@ -93,10 +96,14 @@ pub fn calendar_file(
     };
     let span = (*first, *last);
     report::calendar::check_times(&chosen, &plan.calendar)?;
-    let text = report::calendar::render(
+    let (text, cancelled) = report::calendar::render(
         &chosen,
         &plan.calendar,
-        (request.stamp, &request.previous),
+        report::calendar::Against {
+            stamp: request.stamp,
+            previous: &request.previous,
+            span: (request.from, request.to),
+        },
         &r.screening,
         &r.warnings,
         request.units,
@@ -104,6 +111,7 @@ pub fn calendar_file(
     Ok(CalendarFile {
         text,
         events: dates.len(),
+        cancelled,
         span,
         warnings: r.warnings,
     })
@@ -139,7 +147,7 @@ pub fn run(args: &CalendarArgs) -> Result<Printed, Error> {
         String::new()
     };
     let mut stderr = format!(
-        "wrote {}: {} events from {} to {}\n",
+        "wrote {}: {} events from {} to {}{}\n",
         if to_stdout {
             "standard output".to_string()
         } else {
@@ -147,7 +155,13 @@ pub fn run(args: &CalendarArgs) -> Result<Printed, Error> {
         },
         cal.events,
         cal.span.0,
-        cal.span.1
+        cal.span.1,
+        match cal.cancelled {
+            0 => String::new(),
+            n => format!(
+                ", and {n} event(s) of the calendar there cancelled (sessions no longer in the plan)"
+            ),
+        }
     );
     stderr.push_str(&note.unwrap_or_default());
     stderr.push_str(&warning_lines(&cal.warnings));

@@ -17,7 +17,13 @@
 //! DTSTAMP is the time of writing (passed in; the command reads the clock or
 //! `--stamp`), and SEQUENCE (3.8.7.4) starts at 0 and grows by one each time the
 //! calendar is written again over an earlier one whose event of the same UID had
-//! other content ([`sequences`]), so calendar programs replace changed events.
+//! other content ([`sequences`]), so calendar programs replace changed events. An
+//! event of that earlier calendar, for the same participant and within the span
+//! written, that the re-plan no longer has (a bout that is no longer needed, a
+//! session the protocol lost) is written again as cancelled ([`cancellations`]:
+//! STATUS:CANCELLED, 3.8.1.11, with its SEQUENCE raised), so a calendar program
+//! that imports the file removes it rather than keeping a session that will not
+//! happen.
 //!
 //! Reference: RFC 5545, Internet Calendaring and Scheduling Core Object Specification
 //! (iCalendar), B. Desruisseaux (ed.), IETF 2009: 3.1 content lines and folding,
@@ -73,6 +79,13 @@ pub fn fnv1a_32(bytes: &[u8]) -> u32 {
 /// participant and the session only: a renamed or re-planned plan keeps every
 /// session's UID, so a calendar program updates the events instead of adding copies.
 pub fn uid(participant_id: &str, date: NaiveDate, index: u32) -> String {
+    let (prefix, suffix) = uid_ends(participant_id);
+    format!("{prefix}{}-{index}{suffix}", date.format("%Y%m%d"))
+}
+
+/// What every UID of a participant starts and ends with: `CODE-` and
+/// `-HASH@dosewright` (see [`uid`]).
+fn uid_ends(participant_id: &str) -> (String, String) {
     let code: String = participant_id
         .chars()
         .map(|c| {
@@ -84,10 +97,7 @@ pub fn uid(participant_id: &str, date: NaiveDate, index: u32) -> String {
         })
         .collect();
     let hash = fnv1a_32(participant_id.as_bytes());
-    format!(
-        "{code}-{}-{index}-{hash:08x}@{UID_DOMAIN}",
-        date.format("%Y%m%d")
-    )
+    (format!("{code}-"), format!("-{hash:08x}@{UID_DOMAIN}"))
 }
 
 /// The sessions of `plan` dated from `from` through `to` (either open), weeks left
@@ -377,6 +387,9 @@ pub struct PreviousEvent {
     /// Every property but DTSTAMP and SEQUENCE, one `NAME;PARAMS:VALUE` a line, in
     /// file order, as the icalendar crate's parser reads them.
     pub content: String,
+    /// The event's content lines as the file has them (unfolded, still escaped),
+    /// but BEGIN, END, DTSTAMP and SEQUENCE: what a cancellation writes again.
+    pub raw: Vec<String>,
 }
 
 /// The events of a calendar written before, by UID.
@@ -393,6 +406,7 @@ pub fn previous_events(text: &str) -> Result<Previous, String> {
     if !has_calendar {
         return Err("not an iCalendar file (no VCALENDAR with a VERSION)".to_string());
     }
+    let mut raw_lines = raw_events(&unfolded);
     let mut out = Previous::new();
     for c in cal
         .components
@@ -431,9 +445,46 @@ pub fn previous_events(text: &str) -> Result<Previous, String> {
             content.push_str(p.val.as_str());
             content.push('\n');
         }
-        out.insert(uid, PreviousEvent { sequence, content });
+        let raw = raw_lines.remove(&uid).unwrap_or_default();
+        out.insert(
+            uid,
+            PreviousEvent {
+                sequence,
+                content,
+                raw,
+            },
+        );
     }
     Ok(out)
+}
+
+/// Each VEVENT's content lines in the unfolded text, by UID, as written (escaped),
+/// but BEGIN, END, DTSTAMP and SEQUENCE. Read after the icalendar crate's parser has
+/// accepted the text, so the blocks are well formed.
+fn raw_events(unfolded: &str) -> BTreeMap<String, Vec<String>> {
+    let mut out = BTreeMap::new();
+    let mut block: Option<Vec<String>> = None;
+    for line in unfolded.lines() {
+        match line {
+            "BEGIN:VEVENT" => block = Some(Vec::new()),
+            "END:VEVENT" => {
+                if let Some(b) = block.take()
+                    && let Some(uid) = b.iter().find_map(|l| l.strip_prefix("UID:"))
+                {
+                    out.insert(uid.to_string(), b);
+                }
+            }
+            _ => {
+                let stamp = ["DTSTAMP:", "DTSTAMP;", "SEQUENCE:", "SEQUENCE;"];
+                if let Some(b) = &mut block
+                    && !stamp.iter().any(|p| line.starts_with(p))
+                {
+                    b.push(line.to_string());
+                }
+            }
+        }
+    }
+    out
 }
 
 /// The SEQUENCE of each event of the new calendar `fresh` (as written without one):
@@ -455,22 +506,103 @@ pub fn sequences(fresh: &Previous, previous: &Previous) -> BTreeMap<String, u32>
         .collect()
 }
 
-/// The iCalendar file of `plan`: one VEVENT per session, stamped `stamp`, each with
-/// the SEQUENCE that [`sequences`] gives against the `previous` calendar's events
-/// (an empty map: every SEQUENCE 0).
+/// What a calendar is written against: its DTSTAMP, the events of the calendar
+/// written before at the same place (an empty map: none), and the span asked for
+/// (either end open).
+#[derive(Debug, Clone, Copy)]
+pub struct Against<'a> {
+    /// DTSTAMP of every event (the time of writing).
+    pub stamp: DateTime<Utc>,
+    /// The calendar written before.
+    pub previous: &'a Previous,
+    /// The first and last date asked for.
+    pub span: (Option<NaiveDate>, Option<NaiveDate>),
+}
+
+/// The iCalendar file of `plan`: one VEVENT per session, stamped `against.stamp`,
+/// each with the SEQUENCE that [`sequences`] gives against the previous calendar's
+/// events, then that calendar's events that [`cancellations`] cancels; and how many
+/// those are.
 pub fn render(
     plan: &SessionPlan,
     settings: &CalendarSettings,
-    (stamp, previous): (DateTime<Utc>, &Previous),
+    against: Against<'_>,
     screening: &ScreeningOutcome,
     warnings: &[Warning],
     u: Units,
-) -> String {
+) -> (String, usize) {
     let write = |seqs: Option<&BTreeMap<String, u32>>| {
-        render_with(plan, settings, stamp, (screening, warnings), u, seqs)
+        render_with(
+            plan,
+            settings,
+            against.stamp,
+            (screening, warnings),
+            u,
+            seqs,
+        )
     };
     let fresh = previous_events(&write(None)).expect("the calendar written here reads back");
-    write(Some(&sequences(&fresh, previous)))
+    let text = write(Some(&sequences(&fresh, against.previous)));
+    let cancelled = cancellations(&fresh, against, &plan.participant_id);
+    if cancelled.is_empty() {
+        return (text, 0);
+    }
+    let end = "END:VCALENDAR";
+    let at = text.rfind(end).expect("a calendar ends with END:VCALENDAR");
+    let mut out = text[..at].to_string();
+    for event in &cancelled {
+        out.push_str(event);
+    }
+    out.push_str(&text[at..]);
+    (refold(&out), cancelled.len())
+}
+
+/// The events of the previous calendar to write again as cancelled, in UID order,
+/// each as VEVENT text (CRLF, unfolded): those of this participant (the code and
+/// hash of [`uid`]) dated within the span that `fresh` (the new calendar's events)
+/// does not have. A newly cancelled event keeps its content, with STATUS:CANCELLED,
+/// "Cancelled: " before its title and a line before its description, and its
+/// SEQUENCE plus one; one cancelled before is written again as it was.
+pub fn cancellations(fresh: &Previous, against: Against<'_>, participant_id: &str) -> Vec<String> {
+    let stamp = against.stamp.format("%Y%m%dT%H%M%SZ");
+    let (from, to) = against.span;
+    let (prefix, suffix) = uid_ends(participant_id);
+    against
+        .previous
+        .iter()
+        .filter(|(id, _)| !fresh.contains_key(*id))
+        .filter_map(|(id, old)| {
+            let middle = id.strip_prefix(&prefix)?.strip_suffix(&suffix)?;
+            let date = NaiveDate::parse_from_str(middle.get(..8)?, "%Y%m%d").ok()?;
+            let inside = from.is_none_or(|f| date >= f) && to.is_none_or(|t| date <= t);
+            inside.then_some(old)
+        })
+        .map(|old| {
+            let before = old.raw.iter().any(|l| l == "STATUS:CANCELLED");
+            let sequence = if before {
+                old.sequence
+            } else {
+                old.sequence.saturating_add(1)
+            };
+            let mut e = format!("BEGIN:VEVENT\r\nDTSTAMP:{stamp}\r\nSEQUENCE:{sequence}\r\n");
+            for line in &old.raw {
+                let line = match line.split_once(':') {
+                    Some(("SUMMARY", v)) if !before => format!("SUMMARY:Cancelled: {v}"),
+                    Some(("DESCRIPTION", v)) if !before => format!(
+                        "DESCRIPTION:Cancelled: this session is no longer in the plan after a re-plan\\n\\n{v}"
+                    ),
+                    _ => line.to_string(),
+                };
+                e.push_str(&line);
+                e.push_str("\r\n");
+            }
+            if !before {
+                e.push_str("STATUS:CANCELLED\r\n");
+            }
+            e.push_str("END:VEVENT\r\n");
+            e
+        })
+        .collect()
 }
 
 /// The calendar's text, with each event's SEQUENCE from `seqs` (None: no SEQUENCE).
