@@ -850,17 +850,7 @@ fn the_reader_here_catches_what_it_checks() {
 /// `/usr/bin/python3` nor `python3` can import it.
 #[test]
 fn python_icalendar_reads_the_calendars() {
-    let python = ["/usr/bin/python3", "python3"].into_iter().find(|p| {
-        std::process::Command::new(p)
-            .args(["-c", "import icalendar"])
-            .output()
-            .is_ok_and(|o| o.status.success())
-    });
-    let Some(python) = python else {
-        eprintln!(
-            "skipped: python_icalendar_reads_the_calendars: no Python with the icalendar \
-             package (apt-get install python3-icalendar; CI installs it)"
-        );
+    let Some(python) = common::python_with_icalendar("python_icalendar_reads_the_calendars") else {
         return;
     };
     let script = manifest_dir().join("scripts/check-ics.py");

@@ -207,17 +207,8 @@ fn dropped_sessions_in_the_span_are_cancelled_and_stay_cancelled() {
 /// scripts/check-ics.py --previous.
 #[test]
 fn python_icalendar_sees_the_cancelled_events() {
-    let python = ["/usr/bin/python3", "python3"].into_iter().find(|p| {
-        std::process::Command::new(p)
-            .args(["-c", "import icalendar"])
-            .output()
-            .is_ok_and(|o| o.status.success())
-    });
-    let Some(python) = python else {
-        eprintln!(
-            "skipped: python_icalendar_sees_the_cancelled_events: no Python with the \
-             icalendar package (apt-get install python3-icalendar; CI installs it)"
-        );
+    let Some(python) = common::python_with_icalendar("python_icalendar_sees_the_cancelled_events")
+    else {
         return;
     };
     let dir = Scratch::new("cal-cancel-py");

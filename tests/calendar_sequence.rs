@@ -252,17 +252,9 @@ fn a_file_at_out_that_is_not_a_calendar_is_written_over_with_a_note() {
 /// The same re-plan read by Python icalendar through scripts/check-ics.py --previous.
 #[test]
 fn python_icalendar_sees_the_same_uids_and_raised_sequences() {
-    let python = ["/usr/bin/python3", "python3"].into_iter().find(|p| {
-        std::process::Command::new(p)
-            .args(["-c", "import icalendar"])
-            .output()
-            .is_ok_and(|o| o.status.success())
-    });
-    let Some(python) = python else {
-        eprintln!(
-            "skipped: python_icalendar_sees_the_same_uids_and_raised_sequences: no Python with \
-             the icalendar package (apt-get install python3-icalendar; CI installs it)"
-        );
+    let Some(python) =
+        common::python_with_icalendar("python_icalendar_sees_the_same_uids_and_raised_sequences")
+    else {
         return;
     };
     let dir = scratch();

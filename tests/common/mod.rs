@@ -288,3 +288,23 @@ pub fn commands() -> Vec<String> {
     assert!(out.len() >= 8, "commands found: {out:?}");
     out
 }
+
+/// A Python that can import the `icalendar` package (Debian python3-icalendar),
+/// for `scripts/check-ics.py`: `/usr/bin/python3` first, then `python3` on the
+/// path. None, with a note on standard error naming `test`, when neither can: the
+/// test then skips that check (CI installs the package).
+pub fn python_with_icalendar(test: &str) -> Option<&'static str> {
+    let found = ["/usr/bin/python3", "python3"].into_iter().find(|p| {
+        std::process::Command::new(p)
+            .args(["-c", "import icalendar"])
+            .output()
+            .is_ok_and(|o| o.status.success())
+    });
+    if found.is_none() {
+        eprintln!(
+            "skipped: {test}: no Python with the icalendar package (apt-get install \
+             python3-icalendar; CI installs it)"
+        );
+    }
+    found
+}
