@@ -9,7 +9,7 @@
 //! The participant is invented.
 
 mod common;
-use common::{BASE, Scratch, edit, manifest_dir, run};
+use common::{BASE, Scratch, edit, run};
 use std::collections::BTreeMap;
 
 /// One event as read back.
@@ -244,24 +244,8 @@ fn python_icalendar_sees_the_cancelled_events() {
         "s.json",
     ]));
     assert_eq!(r.code, Some(0), "{}", r.stderr);
-    let script = manifest_dir().join("scripts/check-ics.py");
-    let check = |cal: &str, previous: &str| {
-        std::process::Command::new(python)
-            .arg(&script)
-            .arg(dir.path().join(cal))
-            .arg(dir.path().join("s.json"))
-            .args(["--previous", previous])
-            .current_dir(dir.path())
-            .output()
-            .expect("python runs")
-    };
-    let out = check("cal.ics", "before.ics");
-    let said = String::from_utf8_lossy(&out.stdout).into_owned();
-    assert!(
-        out.status.success(),
-        "{said}{}",
-        String::from_utf8_lossy(&out.stderr)
-    );
+    let (passed, said) = common::check_ics_previous(python, &dir, "cal.ics", "before.ics");
+    assert!(passed, "{said}");
     // 16 planned sessions (Monday and Thursday of 8 weeks); Wednesday and Friday
     // cancelled (16); Thursday new (8).
     assert!(said.contains("16 events for 16 planned sessions"), "{said}");
@@ -278,8 +262,7 @@ fn python_icalendar_sees_the_cancelled_events() {
             "fresh.ics",
         ],
     );
-    let out = check("fresh.ics", "before.ics");
-    let said = String::from_utf8_lossy(&out.stdout).into_owned();
-    assert!(!out.status.success(), "{said}");
+    let (passed, said) = common::check_ics_previous(python, &dir, "fresh.ics", "before.ics");
+    assert!(!passed, "{said}");
     assert!(said.contains("missing from the new calendar"), "{said}");
 }

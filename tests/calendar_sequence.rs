@@ -7,7 +7,7 @@
 //! it is missing).
 
 mod common;
-use common::{BASE, Scratch, manifest_dir, run};
+use common::{BASE, Scratch, run};
 use std::collections::BTreeMap;
 
 /// One event as read back: SEQUENCE, DTSTAMP and the content lines (every
@@ -258,7 +258,6 @@ fn python_icalendar_sees_the_same_uids_and_raised_sequences() {
         return;
     };
     let dir = scratch();
-    let script = manifest_dir().join("scripts/check-ics.py");
     calendar(
         &dir,
         &[
@@ -293,23 +292,8 @@ fn python_icalendar_sees_the_same_uids_and_raised_sequences() {
         "s.json",
     ]));
     assert_eq!(r.code, Some(0), "{}", r.stderr);
-    let check = |cal: &str, previous: &str| {
-        std::process::Command::new(python)
-            .arg(&script)
-            .arg(dir.path().join(cal))
-            .arg(dir.path().join("s.json"))
-            .args(["--previous", previous])
-            .current_dir(dir.path())
-            .output()
-            .expect("python runs")
-    };
-    let out = check("cal.ics", "before.ics");
-    let said = String::from_utf8_lossy(&out.stdout).into_owned();
-    assert!(
-        out.status.success(),
-        "{said}{}",
-        String::from_utf8_lossy(&out.stderr)
-    );
+    let (passed, said) = common::check_ics_previous(python, &dir, "cal.ics", "before.ics");
+    assert!(passed, "{said}");
     assert!(said.contains("same UIDs, SEQUENCE raised on"), "{said}");
     let raised: u32 = said
         .split("SEQUENCE raised on ")
@@ -320,10 +304,6 @@ fn python_icalendar_sees_the_same_uids_and_raised_sequences() {
     assert!(raised >= 18, "{said}");
     // The checker itself fails on a calendar whose SEQUENCE was not raised: the old
     // file read against the new one has every changed event one too low.
-    let wrong = check("before.ics", "cal.ics");
-    assert!(
-        !wrong.status.success(),
-        "{}",
-        String::from_utf8_lossy(&wrong.stdout)
-    );
+    let (passed, wrong) = common::check_ics_previous(python, &dir, "before.ics", "cal.ics");
+    assert!(!passed, "{wrong}");
 }

@@ -308,3 +308,30 @@ pub fn python_with_icalendar(test: &str) -> Option<&'static str> {
     }
     found
 }
+
+/// Run `scripts/check-ics.py` with `python` on the calendar `cal` of `dir` against
+/// its `s.json` schedule and the earlier calendar `previous`: whether it passed,
+/// and what it printed.
+pub fn check_ics_previous(
+    python: &str,
+    dir: &Scratch,
+    cal: &str,
+    previous: &str,
+) -> (bool, String) {
+    let out = std::process::Command::new(python)
+        .arg(manifest_dir().join("scripts/check-ics.py"))
+        .arg(dir.path().join(cal))
+        .arg(dir.path().join("s.json"))
+        .args(["--previous", previous])
+        .current_dir(dir.path())
+        .output()
+        .expect("python runs");
+    (
+        out.status.success(),
+        format!(
+            "{}{}",
+            String::from_utf8_lossy(&out.stdout),
+            String::from_utf8_lossy(&out.stderr)
+        ),
+    )
+}
