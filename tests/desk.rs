@@ -420,6 +420,26 @@ fn bad_values_get_a_400_naming_the_field() {
             ],
             "watts",
         ),
+        // The log's one rule for the values it does not model (docs/file-formats.md
+        // section 3): what a plan may prescribe, 10 to 600 W and 1 to 30 km/h.
+        (
+            "/p/PIL-008/session",
+            vec![
+                ("date", day_of(0)),
+                ("minutes", "30".into()),
+                ("watts", "900".into()),
+            ],
+            "allowed 10 to 600 W",
+        ),
+        (
+            "/p/PIL-008/session",
+            vec![
+                ("date", day_of(0)),
+                ("minutes", "30".into()),
+                ("speed_kmh", "45".into()),
+            ],
+            "allowed 1 to 30 km/h",
+        ),
     ];
     for (path, form, key) in cases {
         let f: Vec<(&str, &str)> = form.iter().map(|(k, v)| (*k, v.as_str())).collect();
