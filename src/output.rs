@@ -148,6 +148,69 @@ pub fn check_log(path: &Path) -> Result<(), Error> {
     Ok(())
 }
 
+/// How many times [`lock_folder_of`] tries for the lock, [`LOCK_PAUSE`] apart:
+/// about 10 s in all, far longer than one `log add` holds it (milliseconds).
+pub const LOCK_ATTEMPTS: u32 = 2000;
+/// The pause between two tries for the lock.
+pub const LOCK_PAUSE: std::time::Duration = std::time::Duration::from_millis(5);
+
+/// An exclusive advisory lock on a folder, held until dropped.
+#[derive(Debug)]
+pub struct FolderLock {
+    _folder: std::fs::File,
+}
+
+/// Take an exclusive advisory lock (`flock(2)`) on the folder of `path`, waiting
+/// while another process holds it. `log add` holds it from reading the log until
+/// the new log is renamed into place, so adds to a log serialise instead of one
+/// replacing the log with a copy that misses the other's row. The folder, not the
+/// log, is locked: the log is replaced by a rename (a lock on the old file would
+/// not stop a writer that opened the new one) and may not exist yet. A folder that
+/// stays locked for [`LOCK_ATTEMPTS`] tries, or a file system without locks, is an
+/// error (exit 2) with nothing written.
+#[cfg(unix)]
+pub fn lock_folder_of(path: &Path) -> Result<FolderLock, Error> {
+    use rustix::fs::{FlockOperation, flock};
+    use rustix::io::Errno;
+    let folder = match path.parent() {
+        Some(p) if !p.as_os_str().is_empty() => p,
+        _ => Path::new("."),
+    };
+    let refuse =
+        |why: String| Error::Usage(format!("{}: {why}; nothing was written", path.display()));
+    let dir = std::fs::File::open(folder).map_err(|e| {
+        refuse(format!(
+            "cannot open its folder {} to lock it against other writers: {e}",
+            folder.display()
+        ))
+    })?;
+    for _ in 0..LOCK_ATTEMPTS {
+        match flock(&dir, FlockOperation::NonBlockingLockExclusive) {
+            Ok(()) => return Ok(FolderLock { _folder: dir }),
+            Err(Errno::WOULDBLOCK | Errno::INTR) => std::thread::sleep(LOCK_PAUSE),
+            Err(e) => {
+                return Err(refuse(format!(
+                    "its folder {} cannot be locked against other writers ({e}); keep the log on a local disk, or record in a register (docs/register.md)",
+                    folder.display()
+                )));
+            }
+        }
+    }
+    Err(refuse(format!(
+        "another writer has held the lock on its folder {} for more than {} s; try again",
+        folder.display(),
+        (LOCK_PAUSE * LOCK_ATTEMPTS).as_secs()
+    )))
+}
+
+/// Without `flock(2)` there is no lock: adds to one log must not overlap.
+#[cfg(not(unix))]
+pub fn lock_folder_of(_path: &Path) -> Result<FolderLock, Error> {
+    Err(Error::Usage(
+        "log add needs a file lock, which this system does not offer here; record in a register (docs/register.md)".to_string(),
+    ))
+}
+
 /// Whether the permission bits let this process's user write the file.
 #[cfg(unix)]
 fn writable_by_bits(m: &std::fs::Metadata) -> bool {

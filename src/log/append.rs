@@ -1,6 +1,7 @@
 //! Adding one row to a log: the new row is written as CSV in its place by date (after
 //! the file's own bytes when it is the latest), the whole new text is validated as a
-//! log, and only then is it written, to a temporary file that is renamed over the log.
+//! log, and only then is it written, to a temporary file that is renamed over the log,
+//! all under an exclusive lock on the log's folder, so concurrent adds keep every row.
 //! Every other byte is kept as it was, except that a value for an optional named
 //! column the log lacks ([`super::recorded::RECORDED_COLUMNS`]) adds that column to
 //! the header and an empty cell for it to every other row; the other rows are then
@@ -27,6 +28,9 @@ pub(super) fn append(
 ) -> Result<(String, Vec<Warning>), Error> {
     let name = path.display().to_string();
     crate::output::check_log(path)?;
+    // Held until the new log is in place (the end of this function): a second
+    // `log add` reads the log only after this one has replaced it.
+    let _lock = crate::output::lock_folder_of(path)?;
     let existed =
         !matches!(std::fs::metadata(path), Err(e) if e.kind() == std::io::ErrorKind::NotFound);
     let old = if existed {
