@@ -113,26 +113,15 @@ pub(super) fn append(
     }
     // The temporary file gets the log's own permissions before it replaces the log.
     crate::output::write_atomic(path, text.as_bytes(), false)?;
-    let what = describe(added, plan);
-    let confirmation = match (existed, needs_header) {
-        (false, _) => format!(
-            "{name}: created with its header; added line {}: {what}",
-            added.line
+    let what = format!("added line {}: {}", added.line, describe(added, plan));
+    let confirmation = match (existed, needs_header, missing.is_empty()) {
+        (false, _, _) => format!("{name}: created with its header; {what}"),
+        (true, true, _) => format!("{name}: wrote the header; {what}"),
+        (true, false, true) => format!("{name}: {what}"),
+        (true, false, false) => format!(
+            "{name}: added the column(s) {} to the header, empty on the other rows; {what}",
+            missing.join(", ")
         ),
-        (true, true) => format!(
-            "{name}: wrote the header; added line {}: {what}",
-            added.line
-        ),
-        (true, false) => format!("{name}: added line {}: {what}", added.line),
-    };
-    let confirmation = if missing.is_empty() || needs_header {
-        confirmation
-    } else {
-        format!(
-            "{name}: added the column(s) {} to the header, empty on the other rows; {}",
-            missing.join(", "),
-            confirmation.trim_start_matches(&format!("{name}: "))
-        )
     };
     let line = added.line;
     let warnings = warnings
