@@ -9,8 +9,8 @@ pub mod values;
 
 mod cohort;
 pub use cohort::{
-    BasisArg, CohortArgs, CohortCsvTable, CohortFormat, CohortMergeArgs, DEFAULT_SEED,
-    IntegratorArg, MultiplicityArg, Shard,
+    BasisArg, CohortArgs, CohortCsvTable, CohortFormat, CohortMergeArgs, CohortOutputArgs,
+    DEFAULT_SEED, IntegratorArg, MultiplicityArg, Shard,
 };
 
 mod register;

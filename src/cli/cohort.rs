@@ -86,18 +86,9 @@ pub struct CohortMergeArgs {
     /// The shard files written by `cohort --shard K/N` (every K of one N, in any order).
     #[arg(required = true, value_name = "SHARD")]
     pub shards: Vec<PathBuf>,
-    /// Output format.
-    #[arg(long, value_enum, default_value_t = CohortFormat::Table)]
-    pub format: CohortFormat,
-    /// With --format csv: which table (participants, comparisons or staffing; as `cohort`).
-    #[arg(long = "csv-table", value_enum, default_value_t = CohortCsvTable::Participants)]
-    pub csv_table: CohortCsvTable,
-    /// Write the output to FILE instead of standard output.
-    #[arg(long, value_name = "FILE")]
-    pub out: Option<PathBuf>,
-    /// Write the cohort's SVG charts into DIR.
-    #[arg(long, value_name = "DIR")]
-    pub chart: Option<PathBuf>,
+    /// The report's format and where it goes.
+    #[command(flatten)]
+    pub output: CohortOutputArgs,
     /// Worker threads for the summaries, 1 to 256.
     #[arg(long, value_name = "N", value_parser = RangedU64ValueParser::<usize>::new().range(1..=256))]
     pub threads: Option<usize>,
@@ -108,6 +99,23 @@ pub struct CohortMergeArgs {
 
 /// The seed `cohort` uses when none is given.
 pub const DEFAULT_SEED: u64 = 20_270_101;
+
+/// The report's format and where it goes: the same for `cohort` and `cohort-merge`.
+#[derive(Debug, Clone, Args)]
+pub struct CohortOutputArgs {
+    /// Output format.
+    #[arg(long, value_enum, default_value_t = CohortFormat::Table)]
+    pub format: CohortFormat,
+    /// With --format csv: which table (participants: one row per run; comparisons: one row per pair of arms, scenario and week; staffing: one row per arm and the trial's site need).
+    #[arg(long = "csv-table", value_enum, default_value_t = CohortCsvTable::Participants)]
+    pub csv_table: CohortCsvTable,
+    /// Write the output to this file (atomically) instead of standard output.
+    #[arg(long, value_name = "FILE")]
+    pub out: Option<PathBuf>,
+    /// Also write SVG charts into this folder.
+    #[arg(long, value_name = "DIR")]
+    pub chart: Option<PathBuf>,
+}
 
 /// The options of `cohort`.
 #[derive(Debug, Clone, Args)]
@@ -147,18 +155,9 @@ pub struct CohortArgs {
     /// Adjust the significance level for several comparisons (Holm 1979 or Bonferroni).
     #[arg(long, value_enum, default_value_t = MultiplicityArg::None)]
     pub multiplicity: MultiplicityArg,
-    /// Output format.
-    #[arg(long, value_enum, default_value_t = CohortFormat::Table)]
-    pub format: CohortFormat,
-    /// With --format csv: which table (participants: one row per run; comparisons: one row per pair of arms, scenario and week; staffing: one row per arm and the trial's site need).
-    #[arg(long = "csv-table", value_enum, default_value_t = CohortCsvTable::Participants)]
-    pub csv_table: CohortCsvTable,
-    /// Write the output to this file (atomically) instead of standard output.
-    #[arg(long, value_name = "FILE")]
-    pub out: Option<PathBuf>,
-    /// Also write SVG charts into this folder.
-    #[arg(long, value_name = "DIR")]
-    pub chart: Option<PathBuf>,
+    /// The report's format and where it goes.
+    #[command(flatten)]
+    pub output: CohortOutputArgs,
     /// No progress bar.
     #[arg(long)]
     pub quiet: bool,

@@ -201,6 +201,22 @@ pub(crate) struct Outputs<'a> {
     pub units: crate::report::units::Units,
 }
 
+impl<'a> Outputs<'a> {
+    /// The outputs the command line asks for.
+    pub(crate) fn new(
+        args: &'a crate::cli::CohortOutputArgs,
+        units: crate::report::units::Units,
+    ) -> Outputs<'a> {
+        Outputs {
+            format: args.format,
+            csv_table: args.csv_table,
+            out: args.out.as_deref(),
+            chart: args.chart.as_deref(),
+            units,
+        }
+    }
+}
+
 /// Refuse display units with a machine-readable format, and `--csv-table` without
 /// `--format csv`.
 pub(crate) fn check_format(
@@ -226,19 +242,27 @@ pub(crate) fn check_format(
 /// `--shard K/N` simulate only that part of the streams and write a shard file.
 pub fn run(args: &CohortArgs) -> Result<Printed, Error> {
     let units = display_units(&args.display);
-    check_format(args.format, args.csv_table, units)?;
-    if args.shard.is_some() && args.chart.is_some() {
+    check_format(args.output.format, args.output.csv_table, units)?;
+    if args.shard.is_some() && args.output.chart.is_some() {
         return Err(Error::Usage(
             "--chart: a shard writes no charts; give --chart to cohort-merge".to_string(),
         ));
     }
     let mut inputs = vec![args.study.as_path()];
     inputs.extend(args.roster.as_deref());
-    check_outputs(args.out.as_deref(), args.chart.as_deref(), &inputs)?;
+    check_outputs(
+        args.output.out.as_deref(),
+        args.output.chart.as_deref(),
+        &inputs,
+    )?;
     let study_file = crate::input::read_text(&args.study)?;
     let roster = |_: &Study| args.roster.as_deref().map(crate::input::read).transpose();
     let (l, roster_file) = load(&CohortOptions::of(args), &study_file, &roster)?;
-    super::cohort_shard::check_size((&l.study, &l.members, &l.req), args.shard, args.format)?;
+    super::cohort_shard::check_size(
+        (&l.study, &l.members, &l.req),
+        args.shard,
+        args.output.format,
+    )?;
     let pool = pool(args.threads)?;
     let (streams, touched) = match args.shard {
         Some(s) => super::cohort_shard::streams_of(l.members.len(), l.req.draws, s),
@@ -259,7 +283,7 @@ pub fn run(args: &CohortArgs) -> Result<Printed, Error> {
         b
     };
     // Every run's scalars are kept for the per-participant CSV and for a shard file.
-    let keep = args.format == CohortFormat::Csv || args.shard.is_some();
+    let keep = args.output.format == CohortFormat::Csv || args.shard.is_some();
     let runs = pool.install(|| {
         crate::simulate::cohort::run_cohort_streams(
             &l.study,
@@ -281,15 +305,9 @@ pub fn run(args: &CohortArgs) -> Result<Printed, Error> {
             streams,
             &runs,
         );
-        return deliver(Printed::default(), text, args.out.as_deref());
+        return deliver(Printed::default(), text, args.output.out.as_deref());
     }
-    let outputs = Outputs {
-        format: args.format,
-        csv_table: args.csv_table,
-        out: args.out.as_deref(),
-        chart: args.chart.as_deref(),
-        units,
-    };
+    let outputs = Outputs::new(&args.output, units);
     report_cohort(&l, &runs, &pool, &outputs)
 }
 

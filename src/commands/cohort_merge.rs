@@ -16,9 +16,13 @@ use std::ops::Range;
 /// a complete set, then report the cohort exactly as the unsharded run does.
 pub fn run(args: &CohortMergeArgs) -> Result<Printed, Error> {
     let units = display_units(&args.display);
-    check_format(args.format, args.csv_table, units)?;
+    check_format(args.output.format, args.output.csv_table, units)?;
     let inputs: Vec<&std::path::Path> = args.shards.iter().map(|p| p.as_path()).collect();
-    check_outputs(args.out.as_deref(), args.chart.as_deref(), &inputs)?;
+    check_outputs(
+        args.output.out.as_deref(),
+        args.output.chart.as_deref(),
+        &inputs,
+    )?;
     // First pass: every file's header and checksum (the runs are dropped again).
     let mut seen: Vec<(Part, String)> = Vec::new();
     let mut first: Option<(ShardFile, String)> = None;
@@ -63,7 +67,7 @@ pub fn run(args: &CohortMergeArgs) -> Result<Printed, Error> {
     drop(head);
     // Second pass: the runs, shard by shard in stream order.
     seen.sort_by_key(|(p, _)| p.k);
-    let mut runs = CohortRuns::empty(&l.study, &l.req, args.format == CohortFormat::Csv);
+    let mut runs = CohortRuns::empty(&l.study, &l.req, args.output.format == CohortFormat::Csv);
     let total = stream_count(l.members.len(), l.req.draws);
     for (part, path) in &seen {
         let (f, name) = read_shard(std::path::Path::new(path))?;
@@ -82,13 +86,7 @@ pub fn run(args: &CohortMergeArgs) -> Result<Printed, Error> {
         runs.push_table(table, l.req.checkpoints.len());
     }
     let pool = pool(args.threads)?;
-    let outputs = Outputs {
-        format: args.format,
-        csv_table: args.csv_table,
-        out: args.out.as_deref(),
-        chart: args.chart.as_deref(),
-        units,
-    };
+    let outputs = Outputs::new(&args.output, units);
     report_cohort(&l, &runs, &pool, &outputs)
 }
 
