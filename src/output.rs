@@ -172,10 +172,11 @@ pub struct FolderLock {
 pub fn lock_folder_of(path: &Path) -> Result<FolderLock, Error> {
     use rustix::fs::{FlockOperation, flock};
     use rustix::io::Errno;
-    let folder = match path.parent() {
-        Some(p) if !p.as_os_str().is_empty() => p,
-        _ => Path::new("."),
-    };
+    // A log reached through a symbolic link is written in its target's folder
+    // (`write_atomic`): lock that one, whichever link a writer came through. The
+    // lock is on the folder's inode, however the path to it is spelled.
+    let folder = folder_of(&resolve(path));
+    let folder = folder.as_path();
     let refuse =
         |why: String| Error::Usage(format!("{}: {why}; nothing was written", path.display()));
     let dir = std::fs::File::open(folder).map_err(|e| {

@@ -11,13 +11,18 @@ mod common;
 use common::hard_edges::DEMO_PLAN;
 use common::*;
 
-fn concurrent_log_adds(procs: usize, each: usize) {
+/// `procs` writers adding `each` rows to one log at once, writer `p` through the
+/// path `logs[p % logs.len()]` (the log, or a symbolic link to it).
+fn concurrent_log_adds(procs: usize, each: usize, logs: &[&str]) {
     let dir = Scratch::new("log-concurrent");
     dir.write("plan.toml", DEMO_PLAN);
+    std::fs::create_dir(dir.path().join("a")).unwrap();
+    std::fs::create_dir(dir.path().join("b")).unwrap();
     dir.write(
-        "log.csv",
+        "a/log.csv",
         "date,kind,mass_kg,body_fat_percent,minutes,compendium_code,met,avg_hr_bpm,rpe,note\n",
     );
+    std::os::unix::fs::symlink("../a/log.csv", dir.path().join("b/link.csv")).unwrap();
     let bin = env!("CARGO_BIN_EXE_dosewright");
     let start = chrono::NaiveDate::from_ymd_opt(2027, 1, 11).unwrap();
     let mut wanted = Vec::new();
@@ -30,7 +35,8 @@ fn concurrent_log_adds(procs: usize, each: usize) {
             let day = start + chrono::Days::new(((i * procs + p) % 120) as u64);
             let note = format!("writer {p} row {i}");
             script.push_str(&format!(
-                "\"$BIN\" log add plan.toml --log log.csv --date {day} --session 30 --note \"{note}\"\n"
+                "\"$BIN\" log add plan.toml --log {} --date {day} --session 30 --note \"{note}\"\n",
+                logs[p % logs.len()]
             ));
             wanted.push(note);
         }
@@ -54,7 +60,9 @@ fn concurrent_log_adds(procs: usize, each: usize) {
             String::from_utf8_lossy(&out.stderr)
         );
     }
-    let text = std::fs::read_to_string(dir.path().join("log.csv")).unwrap();
+    let text = std::fs::read_to_string(dir.path().join("a/log.csv")).unwrap();
+    let link = std::fs::symlink_metadata(dir.path().join("b/link.csv")).unwrap();
+    assert!(link.file_type().is_symlink(), "the link stays a link");
     let mut r = csv::Reader::from_reader(text.as_bytes());
     let mut notes: Vec<String> = r.records().map(|x| x.unwrap()[9].to_string()).collect();
     notes.sort();
@@ -63,18 +71,25 @@ fn concurrent_log_adds(procs: usize, each: usize) {
     // And the log is still a valid log, in date order.
     let r = run(dir
         .cmd()
-        .args(["schedule", "plan.toml", "--log", "log.csv"]));
+        .args(["schedule", "plan.toml", "--log", "a/log.csv"]));
     assert_eq!(r.code, Some(0), "{}", r.stderr);
 }
 
 #[test]
 fn two_trainers_adding_to_one_log_at_once_keep_every_row_once() {
-    concurrent_log_adds(2, 30);
+    concurrent_log_adds(2, 30, &["a/log.csv"]);
 }
 
 #[test]
 fn four_trainers_adding_to_one_log_at_once_keep_every_row_once() {
-    concurrent_log_adds(4, 15);
+    concurrent_log_adds(4, 15, &["a/log.csv"]);
+}
+
+/// One writer through the log's own path, the other through a symbolic link to it
+/// from another folder: the lock is on the target's folder, so both keep their rows.
+#[test]
+fn writers_through_a_symbolic_link_and_the_log_keep_every_row_once() {
+    concurrent_log_adds(2, 30, &["a/log.csv", "b/link.csv"]);
 }
 
 /// A `log add` waits while the log's folder is locked, and adds its row once the
