@@ -23,12 +23,11 @@ fn concurrent_log_adds(procs: usize, each: usize, logs: &[&str]) {
         "date,kind,mass_kg,body_fat_percent,minutes,compendium_code,met,avg_hr_bpm,rpe,note\n",
     );
     std::os::unix::fs::symlink("../a/log.csv", dir.path().join("b/link.csv")).unwrap();
-    let bin = env!("CARGO_BIN_EXE_dosewright");
     let start = chrono::NaiveDate::from_ymd_opt(2027, 1, 11).unwrap();
     let mut wanted = Vec::new();
-    let mut children = Vec::new();
+    let mut scripts = Vec::new();
     for p in 0..procs {
-        let mut script = String::from("set -e\n");
+        let mut script = String::new();
         for i in 0..each {
             // Spread over the weeks, interleaved between writers, so rows go in
             // the middle of the file as well as at its end.
@@ -40,26 +39,9 @@ fn concurrent_log_adds(procs: usize, each: usize, logs: &[&str]) {
             ));
             wanted.push(note);
         }
-        children.push(
-            std::process::Command::new("sh")
-                .arg("-c")
-                .arg(script)
-                .env("BIN", bin)
-                .current_dir(dir.path())
-                .stdout(std::process::Stdio::null())
-                .stderr(std::process::Stdio::piped())
-                .spawn()
-                .unwrap(),
-        );
+        scripts.push(script);
     }
-    for c in children {
-        let out = c.wait_with_output().unwrap();
-        assert!(
-            out.status.success(),
-            "a writer failed: {}",
-            String::from_utf8_lossy(&out.stderr)
-        );
-    }
+    run_scripts_at_once(&dir, scripts);
     let text = std::fs::read_to_string(dir.path().join("a/log.csv")).unwrap();
     let link = std::fs::symlink_metadata(dir.path().join("b/link.csv")).unwrap();
     assert!(link.file_type().is_symlink(), "the link stays a link");

@@ -603,12 +603,11 @@ fn concurrent_writers(procs: usize, each: usize) {
     dir.write("plan.toml", DEMO_PLAN);
     ok(&dir, &["register", "create", "site.db"]);
     ok(&dir, &["register", "enrol", "site.db", "plan.toml"]);
-    let bin = env!("CARGO_BIN_EXE_dosewright");
     let start = chrono::NaiveDate::from_ymd_opt(2027, 1, 12).unwrap();
     let mut wanted = Vec::new();
-    let mut children = Vec::new();
+    let mut scripts = Vec::new();
     for p in 0..procs {
-        let mut script = String::from("set -e\n");
+        let mut script = String::new();
         for i in 0..each {
             let day = start + chrono::Days::new((p * each + i) as u64);
             wanted.push(day.to_string());
@@ -616,26 +615,9 @@ fn concurrent_writers(procs: usize, each: usize) {
                 "\"$BIN\" log add --register site.db --participant {CODE} --date {day} --weigh-in 104 --by writer-{p}\n"
             ));
         }
-        children.push(
-            std::process::Command::new("sh")
-                .arg("-c")
-                .arg(script)
-                .env("BIN", bin)
-                .current_dir(dir.path())
-                .stdout(std::process::Stdio::null())
-                .stderr(std::process::Stdio::piped())
-                .spawn()
-                .unwrap(),
-        );
+        scripts.push(script);
     }
-    for c in children {
-        let out = c.wait_with_output().unwrap();
-        assert!(
-            out.status.success(),
-            "a writer failed: {}",
-            String::from_utf8_lossy(&out.stderr)
-        );
-    }
+    run_scripts_at_once(&dir, scripts);
     let rows = csv_rows(
         &ok(
             &dir,

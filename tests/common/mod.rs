@@ -335,3 +335,31 @@ pub fn check_ics_previous(
         ),
     )
 }
+
+/// Run every shell script of `scripts` at once in `dir`, with `$BIN` the program
+/// under test (the concurrent-writer tests: each script one writer's commands),
+/// wait for all of them, and require each to succeed.
+pub fn run_scripts_at_once(dir: &Scratch, scripts: Vec<String>) {
+    let children: Vec<_> = scripts
+        .into_iter()
+        .map(|script| {
+            std::process::Command::new("sh")
+                .arg("-c")
+                .arg(format!("set -e\n{script}"))
+                .env("BIN", env!("CARGO_BIN_EXE_dosewright"))
+                .current_dir(dir.path())
+                .stdout(std::process::Stdio::null())
+                .stderr(std::process::Stdio::piped())
+                .spawn()
+                .unwrap()
+        })
+        .collect();
+    for c in children {
+        let out = c.wait_with_output().unwrap();
+        assert!(
+            out.status.success(),
+            "a writer failed: {}",
+            String::from_utf8_lossy(&out.stderr)
+        );
+    }
+}
